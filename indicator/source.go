@@ -1,0 +1,39 @@
+// Package indicator computes Bayes-optimal phase-transition indicators from a
+// density source p(x|λ): the log-likelihood matrix ℓ[m][k] = log p(x_m|λ_k),
+// the indicators built from it (sl, lbc, pbm, local, fisher), their bootstrap
+// errors and peaks, 2-D boundaries, and the pictures and files of a scan.
+//
+// Every indicator takes a Source and never asks what it is: exact
+// enumerations, the histogram of the data and trained models all implement it.
+package indicator
+
+import "math/rand/v2"
+
+// Source is a conditional distribution p(x|λ) over snapshots of N sites with
+// q states each.
+type Source interface {
+	// Sites returns N.
+	Sites() int
+	// Alphabet returns q.
+	Alphabet() int
+	// ParamDim returns d, the length of λ.
+	ParamDim() int
+	// LogProb writes log p(x_m|λ) in nats for each snapshot row of xs
+	// (len(xs) = len(dst)·N) into dst.
+	LogProb(dst []float64, xs []uint8, lambda []float64) error
+}
+
+// Sampler is a Source that can also draw independent snapshots at any λ.
+type Sampler interface {
+	Source
+	// Sample writes n snapshots (n·N values) drawn from p(·|λ) into dst.
+	Sample(dst []uint8, n int, lambda []float64, rng *rand.Rand) error
+}
+
+// Enumerable is a Source small enough that all q^N states can be listed;
+// exact-sum indicators use it.
+type Enumerable interface {
+	Source
+	// Enumerable reports whether all q^N states may be listed.
+	Enumerable() bool
+}
