@@ -2,6 +2,7 @@ package data
 
 import (
 	"fmt"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -50,7 +51,14 @@ func NewGrid(ds *Dataset) *Grid {
 		}
 		return 0
 	}
-	sort.SliceStable(order, func(i, j int) bool { return less(order[i], order[j]) < 0 })
+	// An unstable sort with the sample index as tie-break gives the stable
+	// order; it is several times faster than sort.SliceStable here.
+	slices.SortFunc(order, func(a, b int) int {
+		if c := less(a, b); c != 0 {
+			return c
+		}
+		return a - b
+	})
 	g.PointOf = make([]int, ds.M)
 	for i, m := range order {
 		if i == 0 || less(order[i-1], m) != 0 {
@@ -60,9 +68,6 @@ func NewGrid(ds *Dataset) *Grid {
 		k := len(g.Points) - 1
 		g.Index[k] = append(g.Index[k], m)
 		g.PointOf[m] = k
-	}
-	for _, idx := range g.Index {
-		sort.Ints(idx)
 	}
 	g.Axes = make([][]float64, d)
 	for a := 0; a < d; a++ {
