@@ -230,7 +230,7 @@ func describe(h *npy.Header) string {
 	if h.Descr.Fortran {
 		order = ", Fortran order"
 	}
-	return fmt.Sprintf("dtype %s, shape %v%s", h.Descr.Type, h.Descr.Shape, order)
+	return fmt.Sprintf("dtype %s, shape %v%s", strings.Trim(h.Descr.Type, "'\""), h.Descr.Shape, order)
 }
 
 // Encode writes ds as an .npz archive to w: a zip of states.npy, params.npy
