@@ -1,0 +1,320 @@
+package checkpoints
+
+import (
+	"bytes"
+	"crypto/sha256"
+	"encoding/binary"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"slices"
+
+	"tidemark/data"
+	"tidemark/data/safefile"
+	"tidemark/model"
+)
+
+// Magic is the first 8 bytes of every checkpoint file.
+const Magic = "TDMKCKPT"
+
+// Version is the format version this package writes and the newest it reads.
+const Version uint32 = 1
+
+// preambleLen is the size of magic, version and the two lengths.
+const preambleLen = 8 + 4 + 8 + 8
+
+// maxHeaderLen bounds the JSON header so a corrupt length cannot make Load
+// allocate without limit.
+const maxHeaderLen = 1 << 28
+
+// Errors wrapped by Load and Decode, one per check, so callers and tests can
+// tell which check failed with errors.Is.
+var (
+	ErrMagic    = errors.New("not a tidemark checkpoint (bad magic bytes)")
+	ErrVersion  = errors.New("unsupported checkpoint format version")
+	ErrLength   = errors.New("checkpoint length is wrong (truncated or extended file)")
+	ErrChecksum = errors.New("checkpoint checksum mismatch (the file is corrupt)")
+	ErrHeader   = errors.New("checkpoint header is invalid")
+)
+
+// Checkpoint is a trained model with its header and optimiser state.
+type Checkpoint struct {
+	// Header is the JSON header.
+	Header Header
+	// Best holds the weights with the lowest validation NLL.
+	Best []model.Tensor
+	// Last holds the weights after the last completed epoch.
+	Last []model.Tensor
+	// AdamM and AdamV are Adam's moment estimates for Last, with the same
+	// names and shapes; they may be nil in a checkpoint made only for scoring.
+	AdamM, AdamV []model.Tensor
+}
+
+// Model returns the model with the best weights.
+func (c *Checkpoint) Model() (*model.Model, error) {
+	m, err := model.FromWeights(c.Header.Model, cloneTensors(c.Best))
+	if err != nil {
+		return nil, fmt.Errorf("checkpoint best weights: %w", err)
+	}
+	return m, nil
+}
+
+// LastModel returns the model with the weights of the last completed epoch.
+func (c *Checkpoint) LastModel() (*model.Model, error) {
+	m, err := model.FromWeights(c.Header.Model, cloneTensors(c.Last))
+	if err != nil {
+		return nil, fmt.Errorf("checkpoint last weights: %w", err)
+	}
+	return m, nil
+}
+
+// NumParams returns the number of trainable values.
+func (c *Checkpoint) NumParams() int {
+	n := 0
+	for _, t := range c.Best {
+		n += len(t.Data)
+	}
+	return n
+}
+
+func cloneTensors(ts []model.Tensor) []model.Tensor {
+	out := make([]model.Tensor, len(ts))
+	for i, t := range ts {
+		out[i] = model.Tensor{Name: t.Name, Shape: slices.Clone(t.Shape), Data: slices.Clone(t.Data)}
+	}
+	return out
+}
+
+// Fingerprint returns the hex SHA-256 of a dataset's states bytes followed
+// by its params as float64 little-endian.
+func Fingerprint(ds *data.Dataset) string {
+	h := sha256.New()
+	h.Write(ds.States)
+	buf := make([]byte, 0, 8*4096)
+	for i, v := range ds.Params {
+		buf = binary.LittleEndian.AppendUint64(buf, math.Float64bits(v))
+		if len(buf) == cap(buf) || i == len(ds.Params)-1 {
+			h.Write(buf)
+			buf = buf[:0]
+		}
+	}
+	return hex.EncodeToString(h.Sum(nil))
+}
+
+// CheckDataset reports whether ds can be scored by the model: the same
+// number of sites, alphabet, lattice shape and parameter names in the same
+// order. The error says which differs, with both values.
+func (c *Checkpoint) CheckDataset(ds *data.Dataset) error {
+	h := &c.Header
+	if ds.N != h.Model.Sites {
+		return fmt.Errorf("dataset does not match the model: the model has %d sites, the dataset %d", h.Model.Sites, ds.N)
+	}
+	if ds.Meta.Alphabet != h.Model.Alphabet {
+		return fmt.Errorf("dataset does not match the model: the model's alphabet is %d values per site, the dataset's %d", h.Model.Alphabet, ds.Meta.Alphabet)
+	}
+	if len(h.Lattice) > 0 && len(ds.Meta.Lattice) > 0 && !slices.Equal(h.Lattice, ds.Meta.Lattice) {
+		return fmt.Errorf("dataset does not match the model: the model's lattice is %v, the dataset's %v", h.Lattice, ds.Meta.Lattice)
+	}
+	if !slices.Equal(h.ParamNames, ds.Meta.ParamNames) {
+		return fmt.Errorf("dataset does not match the model: the model's parameter names are %q, the dataset's %q", h.ParamNames, ds.Meta.ParamNames)
+	}
+	return nil
+}
+
+// sections returns the payload sections in file order.
+func (c *Checkpoint) sections() []struct {
+	name string
+	ts   []model.Tensor
+} {
+	s := []struct {
+		name string
+		ts   []model.Tensor
+	}{{SectionBest, c.Best}, {SectionLast, c.Last}}
+	if c.AdamM != nil || c.AdamV != nil {
+		s = append(s, struct {
+			name string
+			ts   []model.Tensor
+		}{SectionAdamM, c.AdamM}, struct {
+			name string
+			ts   []model.Tensor
+		}{SectionAdamV, c.AdamV})
+	}
+	return s
+}
+
+// Encode writes the checkpoint in format Version to w. It fills
+// Header.Sections from the tensors.
+func (c *Checkpoint) Encode(w io.Writer) error {
+	b, err := c.Bytes()
+	if err != nil {
+		return err
+	}
+	_, err = w.Write(b)
+	return err
+}
+
+// Bytes returns the encoded checkpoint.
+func (c *Checkpoint) Bytes() ([]byte, error) {
+	if len(c.Best) == 0 {
+		return nil, errors.New("checkpoint has no weights")
+	}
+	c.Header.Sections = c.Header.Sections[:0]
+	payload := 0
+	for _, s := range c.sections() {
+		sec := Section{Name: s.name}
+		if len(s.ts) != len(c.Best) {
+			return nil, fmt.Errorf("checkpoint section %q has %d tensors, expected %d like %q", s.name, len(s.ts), len(c.Best), SectionBest)
+		}
+		for i, t := range s.ts {
+			if t.Name != c.Best[i].Name || !slices.Equal(t.Shape, c.Best[i].Shape) {
+				return nil, fmt.Errorf("checkpoint section %q tensor %d is %s%v, expected %s%v", s.name, i, t.Name, t.Shape, c.Best[i].Name, c.Best[i].Shape)
+			}
+			if n := shapeLen(t.Shape); n != len(t.Data) {
+				return nil, fmt.Errorf("checkpoint section %q tensor %s: shape %v needs %d values, found %d", s.name, t.Name, t.Shape, n, len(t.Data))
+			}
+			sec.Tensors = append(sec.Tensors, TensorInfo{Name: t.Name, Shape: slices.Clone(t.Shape)})
+			payload += 8 * len(t.Data)
+		}
+		c.Header.Sections = append(c.Header.Sections, sec)
+	}
+	hdr, err := json.Marshal(&c.Header)
+	if err != nil {
+		return nil, fmt.Errorf("encoding checkpoint header: %w", err)
+	}
+	out := make([]byte, 0, preambleLen+len(hdr)+payload+sha256.Size)
+	out = append(out, Magic...)
+	out = binary.LittleEndian.AppendUint32(out, Version)
+	out = binary.LittleEndian.AppendUint64(out, uint64(len(hdr)))
+	out = binary.LittleEndian.AppendUint64(out, uint64(payload))
+	out = append(out, hdr...)
+	for _, s := range c.sections() {
+		for _, t := range s.ts {
+			for _, v := range t.Data {
+				out = binary.LittleEndian.AppendUint64(out, math.Float64bits(v))
+			}
+		}
+	}
+	sum := sha256.Sum256(out)
+	return append(out, sum[:]...), nil
+}
+
+func shapeLen(shape []int) int {
+	n := 1
+	for _, s := range shape {
+		if s < 0 {
+			return -1
+		}
+		n *= s
+	}
+	return n
+}
+
+// Save writes the checkpoint atomically to path; an existing file is
+// replaced only when force is true.
+func (c *Checkpoint) Save(path string, force bool) error {
+	b, err := c.Bytes()
+	if err != nil {
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	return safefile.WriteBytes(path, force, b)
+}
+
+// Load reads and checks a checkpoint file.
+func Load(path string) (*Checkpoint, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		var pe *os.PathError
+		if errors.As(err, &pe) {
+			err = pe.Err
+		}
+		return nil, fmt.Errorf("%s: cannot read checkpoint: %w", path, err)
+	}
+	return Decode(b, path)
+}
+
+// Decode parses an encoded checkpoint; name is used in messages. The error
+// wraps ErrMagic, ErrVersion, ErrLength, ErrChecksum or ErrHeader.
+func Decode(b []byte, name string) (*Checkpoint, error) {
+	fail := func(kind error, format string, args ...any) error {
+		return fmt.Errorf("%s: %w: %s", name, kind, fmt.Sprintf(format, args...))
+	}
+	if len(b) < len(Magic) || !bytes.Equal(b[:len(Magic)], []byte(Magic)) {
+		n := min(len(b), len(Magic))
+		return nil, fail(ErrMagic, "expected the file to start with %q, found %q", Magic, b[:n])
+	}
+	if len(b) < preambleLen+sha256.Size {
+		return nil, fail(ErrLength, "expected at least %d bytes, found %d", preambleLen+sha256.Size, len(b))
+	}
+	ver := binary.LittleEndian.Uint32(b[8:12])
+	if ver > Version {
+		return nil, fail(ErrVersion, "the file has format version %d, this tidemark reads versions up to %d (the file was written by a newer tidemark; upgrade to read it)", ver, Version)
+	}
+	if ver == 0 {
+		return nil, fail(ErrVersion, "expected a format version from 1 to %d, found 0", Version)
+	}
+	hlen := binary.LittleEndian.Uint64(b[12:20])
+	plen := binary.LittleEndian.Uint64(b[20:28])
+	if hlen > maxHeaderLen || plen > uint64(len(b)) || plen%8 != 0 {
+		return nil, fail(ErrLength, "the recorded header length %d and payload length %d do not fit a file of %d bytes", hlen, plen, len(b))
+	}
+	want := uint64(preambleLen) + hlen + plen + sha256.Size
+	if want != uint64(len(b)) {
+		return nil, fail(ErrLength, "expected %d bytes (header %d, payload %d), found %d", want, hlen, plen, len(b))
+	}
+	body := b[:len(b)-sha256.Size]
+	sum := sha256.Sum256(body)
+	if !bytes.Equal(sum[:], b[len(body):]) {
+		return nil, fail(ErrChecksum, "expected SHA-256 %x, found %x recorded", b[len(body):], sum)
+	}
+	c := &Checkpoint{}
+	hdr := b[preambleLen : preambleLen+hlen]
+	if err := json.Unmarshal(hdr, &c.Header); err != nil {
+		return nil, fail(ErrHeader, "expected a JSON object: %v", err)
+	}
+	if err := c.Header.Model.Validate(); err != nil {
+		return nil, fail(ErrHeader, "%v", err)
+	}
+	pay := b[preambleLen+hlen : len(body)]
+	off := 0
+	if len(c.Header.Sections) < 2 {
+		return nil, fail(ErrHeader, "expected at least the sections %q and %q, found %d sections", SectionBest, SectionLast, len(c.Header.Sections))
+	}
+	for _, s := range c.Header.Sections {
+		var ts []model.Tensor
+		for _, ti := range s.Tensors {
+			n := shapeLen(ti.Shape)
+			if n < 0 || off+8*n > len(pay) {
+				return nil, fail(ErrHeader, "section %q tensor %s with shape %v does not fit in the %d-byte payload", s.Name, ti.Name, ti.Shape, len(pay))
+			}
+			d := make([]float64, n)
+			for i := range d {
+				d[i] = math.Float64frombits(binary.LittleEndian.Uint64(pay[off:]))
+				off += 8
+			}
+			ts = append(ts, model.Tensor{Name: ti.Name, Shape: slices.Clone(ti.Shape), Data: d})
+		}
+		switch s.Name {
+		case SectionBest:
+			c.Best = ts
+		case SectionLast:
+			c.Last = ts
+		case SectionAdamM:
+			c.AdamM = ts
+		case SectionAdamV:
+			c.AdamV = ts
+		default:
+			return nil, fail(ErrHeader, "unknown payload section %q", s.Name)
+		}
+	}
+	if off != len(pay) {
+		return nil, fail(ErrHeader, "the sections describe %d payload bytes, the file holds %d", off, len(pay))
+	}
+	if len(c.Best) == 0 || len(c.Last) != len(c.Best) {
+		return nil, fail(ErrHeader, "expected sections %q and %q with the same tensors, found %d and %d tensors", SectionBest, SectionLast, len(c.Best), len(c.Last))
+	}
+	return c, nil
+}
