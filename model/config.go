@@ -1,0 +1,199 @@
+package model
+
+import (
+	"fmt"
+	"math"
+)
+
+// Config is the architecture of a model and the normalisation of its
+// control parameters. It is a plain value and JSON-serialisable.
+type Config struct {
+	Sites      int       `json:"sites"`       // N
+	Alphabet   int       `json:"alphabet"`    // q ≥ 2
+	ParamDim   int       `json:"param_dim"`   // d ≥ 1
+	Hidden     []int     `json:"hidden"`      // masked hidden widths, e.g. [256, 256]
+	CondHidden []int     `json:"cond_hidden"` // conditioning net hidden widths, e.g. [64]; may be empty
+	Fourier    int       `json:"fourier"`     // F: features t, sin(πft), cos(πft), f=1..F
+	Activation string    `json:"activation"`  // "relu" or "tanh"
+	Direct     bool      `json:"direct"`      // direct masked input→output connection
+	Order      []int     `json:"order"`       // Order[i] = site at autoregressive position i (a permutation of 0..N-1)
+	Symmetric  bool      `json:"symmetric"`   // q=2 only: log p_sym(x) = log((p(x)+p(1-x))/2)
+	ParamLo    []float64 `json:"param_lo"`    // per-axis range of the training data, mapped to [-1, 1]
+	ParamHi    []float64 `json:"param_hi"`
+}
+
+// Activations lists the supported activation names.
+var Activations = []string{"relu", "tanh"}
+
+// DefaultHiddenWidth returns the default masked hidden width for n sites:
+// the smallest multiple of 32 that is at least n, clamped to [32, 256].
+// A width of at least N−1 lets every autoregressive degree own a hidden unit
+// (Germain et al. 2015 assign degrees 1..N−1); beyond 256 the cost grows
+// faster than the gain on the lattice sizes tidemark targets, and the
+// direct input→output connection still lets every output see every earlier
+// site.
+func DefaultHiddenWidth(n int) int {
+	w := (n + 31) / 32 * 32
+	return min(max(w, 32), 256)
+}
+
+// DefaultConfig fills defaults for n sites, alphabet q, d params and the
+// given per-axis parameter ranges: two masked hidden layers of
+// DefaultHiddenWidth(n) units, a conditioning net with one hidden layer of
+// 64 units, F = 2 Fourier frequencies, relu, a direct connection, row-major
+// order and no flip symmetry. lo and hi are copied.
+func DefaultConfig(n, q, d int, lo, hi []float64) Config {
+	w := DefaultHiddenWidth(n)
+	return Config{
+		Sites:      n,
+		Alphabet:   q,
+		ParamDim:   d,
+		Hidden:     []int{w, w},
+		CondHidden: []int{64},
+		Fourier:    2,
+		Activation: "relu",
+		Direct:     true,
+		Order:      RowMajorOrder(n),
+		ParamLo:    append([]float64(nil), lo...),
+		ParamHi:    append([]float64(nil), hi...),
+	}
+}
+
+// RowMajorOrder returns the identity ordering 0, 1, …, n−1 (row-major sites).
+func RowMajorOrder(n int) []int {
+	if n < 0 {
+		n = 0
+	}
+	o := make([]int, n)
+	for i := range o {
+		o[i] = i
+	}
+	return o
+}
+
+// SnakeOrder returns the boustrophedon ordering of an ly×lx lattice stored
+// row-major: row 0 left to right, row 1 right to left, and so on, so that
+// consecutive positions are always lattice neighbours.
+func SnakeOrder(ly, lx int) []int {
+	if ly < 0 || lx < 0 {
+		return nil
+	}
+	o := make([]int, 0, ly*lx)
+	for y := 0; y < ly; y++ {
+		for j := 0; j < lx; j++ {
+			x := j
+			if y%2 == 1 {
+				x = lx - 1 - j
+			}
+			o = append(o, y*lx+x)
+		}
+	}
+	return o
+}
+
+// Validate reports the first inconsistency in c, or nil.
+func (c Config) Validate() error {
+	if c.Sites < 1 {
+		return fmt.Errorf("model config: sites must be ≥ 1, found %d", c.Sites)
+	}
+	if c.Alphabet < 2 || c.Alphabet > 256 {
+		return fmt.Errorf("model config: alphabet must be in 2..256, found %d", c.Alphabet)
+	}
+	if c.ParamDim < 1 {
+		return fmt.Errorf("model config: param_dim must be ≥ 1, found %d", c.ParamDim)
+	}
+	if len(c.Hidden) < 1 {
+		return fmt.Errorf("model config: hidden must list at least one width, found none")
+	}
+	for i, h := range c.Hidden {
+		if h < 1 {
+			return fmt.Errorf("model config: hidden[%d] must be ≥ 1, found %d", i, h)
+		}
+	}
+	for i, h := range c.CondHidden {
+		if h < 1 {
+			return fmt.Errorf("model config: cond_hidden[%d] must be ≥ 1, found %d", i, h)
+		}
+	}
+	if c.Fourier < 0 {
+		return fmt.Errorf("model config: fourier must be ≥ 0, found %d", c.Fourier)
+	}
+	if actIndex(c.Activation) < 0 {
+		return fmt.Errorf("model config: activation must be one of %v, found %q", Activations, c.Activation)
+	}
+	if len(c.Order) != c.Sites {
+		return fmt.Errorf("model config: order must have %d entries (one per site), found %d", c.Sites, len(c.Order))
+	}
+	seen := make([]bool, c.Sites)
+	for i, s := range c.Order {
+		if s < 0 || s >= c.Sites || seen[s] {
+			return fmt.Errorf("model config: order must be a permutation of 0..%d, found %d at position %d", c.Sites-1, s, i)
+		}
+		seen[s] = true
+	}
+	if c.Symmetric && c.Alphabet != 2 {
+		return fmt.Errorf("model config: symmetric needs alphabet 2, found %d", c.Alphabet)
+	}
+	if len(c.ParamLo) != c.ParamDim || len(c.ParamHi) != c.ParamDim {
+		return fmt.Errorf("model config: param_lo and param_hi must have %d entries, found %d and %d", c.ParamDim, len(c.ParamLo), len(c.ParamHi))
+	}
+	for i := range c.ParamLo {
+		lo, hi := c.ParamLo[i], c.ParamHi[i]
+		if math.IsNaN(lo) || math.IsInf(lo, 0) || math.IsNaN(hi) || math.IsInf(hi, 0) || hi < lo {
+			return fmt.Errorf("model config: parameter axis %d needs finite param_lo ≤ param_hi, found [%v, %v]", i, lo, hi)
+		}
+	}
+	return nil
+}
+
+func actIndex(name string) int {
+	for i, a := range Activations {
+		if a == name {
+			return i
+		}
+	}
+	return -1
+}
+
+// inDim is the number of input units: N for q = 2, N·q otherwise.
+func (c Config) inDim() int {
+	if c.Alphabet == 2 {
+		return c.Sites
+	}
+	return c.Sites * c.Alphabet
+}
+
+// outPer is the number of logits per site: 1 for q = 2, q otherwise.
+func (c Config) outPer() int {
+	if c.Alphabet == 2 {
+		return 1
+	}
+	return c.Alphabet
+}
+
+// featDim is the number of conditioning features d·(1+2F).
+func (c Config) featDim() int { return c.ParamDim * (1 + 2*c.Fourier) }
+
+// features writes the conditioning features of lambda into dst (len
+// featDim): per axis t = 2(λ−lo)/(hi−lo) − 1 (t = λ−lo for a degenerate
+// axis), then sin(πft) and cos(πft) for f = 1..F.
+func (c Config) features(dst, lambda []float64) {
+	k := 0
+	for a, l := range lambda {
+		lo, hi := c.ParamLo[a], c.ParamHi[a]
+		var t float64
+		if hi > lo {
+			t = 2*(l-lo)/(hi-lo) - 1
+		} else {
+			t = l - lo
+		}
+		dst[k] = t
+		k++
+		for f := 1; f <= c.Fourier; f++ {
+			s, co := math.Sincos(math.Pi * float64(f) * t)
+			dst[k] = s
+			dst[k+1] = co
+			k += 2
+		}
+	}
+}

@@ -1,0 +1,303 @@
+package model
+
+import (
+	"fmt"
+	"math"
+
+	G "gorgonia.org/gorgonia"
+	"gorgonia.org/tensor"
+)
+
+// Graph is a gorgonia expression graph of a model's training loss for a
+// fixed maximum batch size. Its weight nodes share their backing arrays with
+// Model.Weights[i].Data, so in-place updates by a trainer are seen by the
+// next call; replacing a Data slice is detected and reported. A Graph is not
+// safe for concurrent use.
+type Graph struct {
+	m     *Model
+	batch int
+	g     *G.ExprGraph
+	vm    G.VM
+	loss  *G.Node
+	grads []*G.Node
+	back  []*float64 // first element of each weight's backing array
+
+	x, xf, phi, wr []float64 // input backing arrays
+}
+
+// NewGraph builds the training graph of m for batches of at most batch
+// snapshots: the mean negative log-likelihood in nats per snapshot and its
+// symbolic gradient with respect to every weight.
+func NewGraph(m *Model, batch int) (gr *Graph, err error) {
+	defer recoverTo(&err)
+	if m == nil {
+		return nil, fmt.Errorf("model: NewGraph needs a model, found nil")
+	}
+	if batch < 1 {
+		return nil, fmt.Errorf("model: NewGraph needs a batch size ≥ 1, found %d", batch)
+	}
+	c := m.Cfg
+	l := m.lay
+	B := batch
+	gr = &Graph{m: m, batch: B, g: G.NewGraph()}
+	g := gr.g
+	must := func(n *G.Node, e error) *G.Node {
+		if e != nil {
+			panic(e)
+		}
+		return n
+	}
+	matrix := func(name string, data []float64, r, cols int) *G.Node {
+		return G.NewMatrix(g, tensor.Float64, G.WithShape(r, cols), G.WithName(name),
+			G.WithValue(tensor.New(tensor.WithShape(r, cols), tensor.WithBacking(data))))
+	}
+	vector := func(name string, data []float64) *G.Node {
+		return G.NewVector(g, tensor.Float64, G.WithShape(len(data)), G.WithName(name),
+			G.WithValue(tensor.New(tensor.WithShape(len(data)), tensor.WithBacking(data))))
+	}
+	// Weights, sharing backing arrays with m.Weights.
+	wn := make([]*G.Node, len(m.Weights))
+	gr.back = make([]*float64, len(m.Weights))
+	for i, t := range m.Weights {
+		gr.back[i] = &t.Data[0]
+		if len(t.Shape) == 1 {
+			wn[i] = vector(t.Name, t.Data)
+		} else {
+			wn[i] = matrix(t.Name, t.Data, t.Shape[0], t.Shape[1])
+		}
+	}
+	masked := func(w int, mask Tensor) *G.Node {
+		mn := matrix(mask.Name, append([]float64(nil), mask.Data...), mask.Shape[0], mask.Shape[1])
+		return must(G.HadamardProd(wn[w], mn))
+	}
+	eff := make([]*G.Node, len(l.madeW))
+	for i, w := range l.madeW {
+		eff[i] = masked(w, m.masks[i])
+	}
+	var effD *G.Node
+	if l.direct >= 0 {
+		effD = masked(l.direct, m.masks[len(m.masks)-1])
+	}
+	act := func(n *G.Node) *G.Node {
+		if c.Activation == "tanh" {
+			return must(G.Tanh(n))
+		}
+		return must(G.Rectify(n))
+	}
+	addBias := func(n, b *G.Node) *G.Node { return must(G.BroadcastAdd(n, b, nil, []byte{0})) }
+
+	// Inputs.
+	gr.x = make([]float64, B*l.din)
+	gr.phi = make([]float64, B*c.featDim())
+	gr.wr = make([]float64, B)
+	X := matrix("x", gr.x, B, l.din)
+	Phi := matrix("phi", gr.phi, B, c.featDim())
+	Wr := vector("rowweight", gr.wr)
+
+	// Conditioning net and its additive bias for every masked layer.
+	u := Phi
+	for i, w := range l.condW {
+		u = act(addBias(must(G.Mul(u, wn[w])), wn[l.condB[i]]))
+	}
+	heads := make([]*G.Node, len(l.madeW))
+	for i := range l.madeW {
+		heads[i] = addBias(must(G.Mul(u, wn[l.condV[i]])), wn[l.madeB[i]])
+	}
+	L := len(c.Hidden)
+	logp := func(x *G.Node) *G.Node {
+		h := x
+		for i := 0; i < L; i++ {
+			h = act(must(G.Add(must(G.Mul(h, eff[i])), heads[i])))
+		}
+		z := must(G.Add(must(G.Mul(h, eff[L])), heads[L]))
+		if effD != nil {
+			z = must(G.Add(z, must(G.Mul(x, effD))))
+		}
+		if c.Alphabet == 2 {
+			// log p = x·z − log(1+e^z) per site (Bernoulli with logit z).
+			t := must(G.Sub(must(G.HadamardProd(x, z)), must(G.Softplus(z))))
+			return must(G.Sum(t, 1))
+		}
+		r := must(G.Reshape(z, tensor.Shape{B * c.Sites, c.Alphabet}))
+		ls := must(G.LogSoftMax(r, 1))
+		ls = must(G.Reshape(ls, tensor.Shape{B, l.dout}))
+		return must(G.Sum(must(G.HadamardProd(ls, x)), 1))
+	}
+	lp := logp(X)
+	if c.Symmetric {
+		// log((p(x)+p(1−x))/2) = a + softplus(b−a) − log 2; the constant is
+		// added outside the graph.
+		gr.xf = make([]float64, B*l.din)
+		Xf := matrix("xflip", gr.xf, B, l.din)
+		b := logp(Xf)
+		lp = must(G.Add(lp, must(G.Softplus(must(G.Sub(b, lp))))))
+	}
+	gr.loss = must(G.Neg(must(G.Sum(must(G.HadamardProd(lp, Wr))))))
+	if gr.grads, err = G.Grad(gr.loss, wn...); err != nil {
+		return nil, fmt.Errorf("model: building the gradient graph: %w", err)
+	}
+	gr.vm = G.NewTapeMachine(g)
+	return gr, nil
+}
+
+// Batch returns the maximum number of snapshots per call.
+func (gr *Graph) Batch() int { return gr.batch }
+
+// check validates a batch and fills the graph's inputs.
+func (gr *Graph) fill(xs []uint8, params []float64, n int) error {
+	m := gr.m
+	c := m.Cfg
+	N, d := c.Sites, c.ParamDim
+	if n < 1 || n > gr.batch {
+		return fmt.Errorf("model: batch must hold 1..%d snapshots, found %d", gr.batch, n)
+	}
+	if len(xs) != n*N {
+		return fmt.Errorf("model: batch needs %d·%d site values, found %d", n, N, len(xs))
+	}
+	if len(params) != n*d {
+		return fmt.Errorf("model: batch needs %d·%d parameter values, found %d", n, d, len(params))
+	}
+	for i := range m.Weights {
+		if len(m.Weights[i].Data) == 0 || &m.Weights[i].Data[0] != gr.back[i] {
+			return fmt.Errorf("model: weight %q no longer shares its array with the graph (update Data in place, or build a new Graph)", m.Weights[i].Name)
+		}
+	}
+	if err := m.checkStates(xs, n); err != nil {
+		return err
+	}
+	for i := 0; i < n; i++ {
+		if err := m.checkLambda(params[i*d : (i+1)*d]); err != nil {
+			return fmt.Errorf("snapshot %d: %w", i, err)
+		}
+	}
+	clear(gr.x)
+	din := m.lay.din
+	for i := 0; i < n; i++ {
+		for s, v := range xs[i*N : (i+1)*N] {
+			if c.Alphabet == 2 {
+				gr.x[i*din+s] = float64(v)
+			} else {
+				gr.x[i*din+s*c.Alphabet+int(v)] = 1
+			}
+		}
+	}
+	if gr.xf != nil {
+		for i := range gr.xf {
+			gr.xf[i] = 0
+			if i < n*din {
+				gr.xf[i] = 1 - gr.x[i]
+			}
+		}
+	}
+	clear(gr.phi)
+	fd := c.featDim()
+	for i := 0; i < n; i++ {
+		c.features(gr.phi[i*fd:(i+1)*fd], params[i*d:(i+1)*d])
+	}
+	for i := range gr.wr {
+		gr.wr[i] = 0
+		if i < n {
+			gr.wr[i] = 1 / float64(n)
+		}
+	}
+	return nil
+}
+
+// LossGrad computes the mean negative log-likelihood (nats per snapshot) of
+// the n ≤ Batch() snapshots xs (n·N values) at their parameters params (n·d
+// values) and writes its gradient with respect to m.Weights[i].Data into
+// grads[i] (same lengths). Rows beyond n contribute nothing.
+func (gr *Graph) LossGrad(xs []uint8, params []float64, n int, grads [][]float64) (loss float64, err error) {
+	defer recoverTo(&err)
+	if len(grads) != len(gr.m.Weights) {
+		return 0, fmt.Errorf("model: LossGrad needs %d gradient slices, found %d", len(gr.m.Weights), len(grads))
+	}
+	for i, t := range gr.m.Weights {
+		if len(grads[i]) != len(t.Data) {
+			return 0, fmt.Errorf("model: gradient slice %d (%q) must have length %d, found %d", i, t.Name, len(t.Data), len(grads[i]))
+		}
+	}
+	if err := gr.fill(xs, params, n); err != nil {
+		return 0, err
+	}
+	gr.vm.Reset()
+	if err := gr.vm.RunAll(); err != nil {
+		return 0, fmt.Errorf("model: running the training graph: %w", err)
+	}
+	loss, err = scalarOf(gr.loss)
+	if err != nil {
+		return 0, err
+	}
+	for i, gn := range gr.grads {
+		v := gn.Value()
+		if v == nil {
+			return 0, fmt.Errorf("model: no gradient value for %q", gr.m.Weights[i].Name)
+		}
+		data, ok := v.Data().([]float64)
+		if !ok || len(data) != len(grads[i]) {
+			return 0, fmt.Errorf("model: gradient of %q has an unexpected form", gr.m.Weights[i].Name)
+		}
+		copy(grads[i], data)
+	}
+	if gr.m.Cfg.Symmetric {
+		loss += math.Ln2
+	}
+	return loss, nil
+}
+
+// ForwardLoss computes the same loss as LossGrad by running the gorgonia
+// graph, without copying gradients out. It exists to check the graph
+// against the scoring kernel.
+func (gr *Graph) ForwardLoss(xs []uint8, params []float64, n int) (loss float64, err error) {
+	defer recoverTo(&err)
+	if err := gr.fill(xs, params, n); err != nil {
+		return 0, err
+	}
+	gr.vm.Reset()
+	if err := gr.vm.RunAll(); err != nil {
+		return 0, fmt.Errorf("model: running the training graph: %w", err)
+	}
+	loss, err = scalarOf(gr.loss)
+	if err == nil && gr.m.Cfg.Symmetric {
+		loss += math.Ln2
+	}
+	return loss, err
+}
+
+func scalarOf(n *G.Node) (float64, error) {
+	v := n.Value()
+	if v == nil {
+		return 0, fmt.Errorf("model: the loss node has no value")
+	}
+	switch d := v.Data().(type) {
+	case float64:
+		return d, nil
+	case []float64:
+		if len(d) == 1 {
+			return d[0], nil
+		}
+	}
+	return 0, fmt.Errorf("model: the loss is not a scalar (%T)", v.Data())
+}
+
+// Loss computes the mean negative log-likelihood (nats per snapshot) of the
+// n ≤ Batch() snapshots with the scoring kernel, without gradients.
+func (gr *Graph) Loss(xs []uint8, params []float64, n int) (loss float64, err error) {
+	defer recoverTo(&err)
+	if err := gr.fill(xs, params, n); err != nil {
+		return 0, err
+	}
+	return gr.m.meanNLL(xs, params, n), nil
+}
+
+// meanNLL is the mean negative log-likelihood of n snapshots at their own λ
+// by the scoring kernel.
+func (m *Model) meanNLL(xs []uint8, params []float64, n int) float64 {
+	lp := make([]float64, n)
+	m.logProbRows(lp, xs, params, n)
+	s := 0.0
+	for _, v := range lp {
+		s -= v
+	}
+	return s / float64(n)
+}

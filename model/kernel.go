@@ -1,0 +1,544 @@
+package model
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"sync"
+	"sync/atomic"
+
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+)
+
+// blockRows is the number of snapshots the scoring kernel handles at once.
+// It is fixed, so results never depend on the number of threads.
+const blockRows = 64
+
+// prep holds the masked weights of one scoring call.
+type prep struct {
+	eff  [][]float64 // W⊙M per masked layer
+	effD []float64   // direct weights ⊙ mask, or nil
+}
+
+// prepare multiplies the current weights by their masks. The kernel applies
+// the masks itself, so the autoregressive property never depends on how a
+// trainer treated the entries outside the masks.
+func (m *Model) prepare() *prep {
+	p, _ := m.pool.Get().(*prep)
+	l := m.lay
+	if p == nil {
+		p = &prep{eff: make([][]float64, len(l.madeW))}
+		for i, w := range l.madeW {
+			p.eff[i] = make([]float64, len(m.Weights[w].Data))
+		}
+		if l.direct >= 0 {
+			p.effD = make([]float64, len(m.Weights[l.direct].Data))
+		}
+	}
+	for i, w := range l.madeW {
+		mul(p.eff[i], m.Weights[w].Data, m.masks[i].Data)
+	}
+	if l.direct >= 0 {
+		mul(p.effD, m.Weights[l.direct].Data, m.masks[len(m.masks)-1].Data)
+	}
+	return p
+}
+
+func mul(dst, a, b []float64) {
+	for i := range dst {
+		dst[i] = a[i] * b[i]
+	}
+}
+
+// condBias returns, for each masked layer, its bias plus the conditioning
+// net's contribution at lambda.
+func (m *Model) condBias(lambda []float64) [][]float64 {
+	c := m.Cfg
+	l := m.lay
+	u := make([]float64, c.featDim())
+	c.features(u, lambda)
+	act := actFunc(c.Activation)
+	for i, w := range l.condW {
+		W := m.Weights[w]
+		out := append([]float64(nil), m.Weights[l.condB[i]].Data...)
+		blas64.Gemv(blas.Trans, 1, gen(W), vec(u), 1, vec(out))
+		for k := range out {
+			out[k] = act(out[k])
+		}
+		u = out
+	}
+	cb := make([][]float64, len(l.madeW))
+	for i := range l.madeW {
+		b := append([]float64(nil), m.Weights[l.madeB[i]].Data...)
+		blas64.Gemv(blas.Trans, 1, gen(m.Weights[l.condV[i]]), vec(u), 1, vec(b))
+		cb[i] = b
+	}
+	return cb
+}
+
+func gen(t Tensor) blas64.General {
+	return blas64.General{Rows: t.Shape[0], Cols: t.Shape[1], Stride: t.Shape[1], Data: t.Data}
+}
+
+func vec(x []float64) blas64.Vector { return blas64.Vector{N: len(x), Inc: 1, Data: x} }
+
+func actFunc(name string) func(float64) float64 {
+	if name == "tanh" {
+		return math.Tanh
+	}
+	return func(x float64) float64 { return math.Max(x, 0) }
+}
+
+// softplus is log(1+e^z), computed without overflow.
+func softplus(z float64) float64 { return math.Max(z, 0) + math.Log1p(math.Exp(-math.Abs(z))) }
+
+// workspace is the scratch of one goroutine for blocks of up to rows snapshots.
+type workspace struct {
+	rows     int
+	a0, dx   []float64 // λ-independent first-layer and direct products
+	a0f, dxf []float64 // the same for flipped snapshots (Symmetric)
+	h        [][]float64
+	z        []float64
+}
+
+func (m *Model) newWorkspace(rows int) *workspace {
+	c := m.Cfg
+	w := &workspace{rows: rows}
+	w.a0 = make([]float64, rows*c.Hidden[0])
+	w.dx = make([]float64, rows*m.lay.dout)
+	if c.Symmetric {
+		w.a0f = make([]float64, rows*c.Hidden[0])
+		w.dxf = make([]float64, rows*m.lay.dout)
+	}
+	for _, h := range c.Hidden {
+		w.h = append(w.h, make([]float64, rows*h))
+	}
+	w.z = make([]float64, rows*m.lay.dout)
+	return w
+}
+
+// gather computes the first-layer product x·(W0⊙M0) and the direct product
+// x·(D⊙MD) of r snapshots from the rows of the one-hot encoding, flipping
+// every spin when flip is set (q = 2 only).
+func (m *Model) gather(p *prep, xs []uint8, r int, flip bool, a0, dx []float64) {
+	c := m.Cfg
+	n, h0, dout := c.Sites, c.Hidden[0], m.lay.dout
+	clear(a0[:r*h0])
+	if p.effD != nil {
+		clear(dx[:r*dout])
+	}
+	for i := 0; i < r; i++ {
+		x := xs[i*n : (i+1)*n]
+		ar := a0[i*h0 : (i+1)*h0]
+		var dr []float64
+		if p.effD != nil {
+			dr = dx[i*dout : (i+1)*dout]
+		}
+		for s, v := range x {
+			var j int
+			if c.Alphabet == 2 {
+				if (v == 1) == flip {
+					continue
+				}
+				j = s
+			} else {
+				j = s*c.Alphabet + int(v)
+			}
+			addTo(ar, p.eff[0][j*h0:(j+1)*h0])
+			if dr != nil {
+				addTo(dr, p.effD[j*dout:(j+1)*dout])
+			}
+		}
+	}
+}
+
+func addTo(dst, src []float64) {
+	src = src[:len(dst)]
+	for k := range dst {
+		dst[k] += src[k]
+	}
+}
+
+// hidden runs the hidden layers of r snapshots from their first-layer
+// product a0, leaving the last hidden activations in w.h[L-1].
+// cb holds the per-layer biases shared by all rows (len 1) or one set per row.
+func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r int) {
+	c := m.Cfg
+	relu := c.Activation == "relu"
+	act := actFunc(c.Activation)
+	for l, hw := range c.Hidden {
+		h := w.h[l][:r*hw]
+		if l == 0 {
+			copy(h, a0[:r*hw])
+		} else {
+			prev := c.Hidden[l-1]
+			blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
+				blas64.General{Rows: r, Cols: prev, Stride: prev, Data: w.h[l-1]},
+				blas64.General{Rows: prev, Cols: hw, Stride: hw, Data: p.eff[l]},
+				0, blas64.General{Rows: r, Cols: hw, Stride: hw, Data: h})
+		}
+		for i := 0; i < r; i++ {
+			b := cb[min(i, len(cb)-1)][l]
+			row := h[i*hw : (i+1)*hw]
+			for k := range row {
+				v := row[k] + b[k]
+				if relu {
+					row[k] = math.Max(v, 0)
+				} else {
+					row[k] = act(v)
+				}
+			}
+		}
+	}
+}
+
+// logits computes all output logits of r snapshots into w.z.
+func (m *Model) logits(p *prep, cb [][][]float64, w *workspace, dx []float64, r int) {
+	c := m.Cfg
+	L := len(c.Hidden)
+	hl, dout := c.Hidden[L-1], m.lay.dout
+	z := w.z[:r*dout]
+	if p.effD != nil {
+		copy(z, dx[:r*dout])
+	} else {
+		clear(z)
+	}
+	blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
+		blas64.General{Rows: r, Cols: hl, Stride: hl, Data: w.h[L-1]},
+		blas64.General{Rows: hl, Cols: dout, Stride: dout, Data: p.eff[L]},
+		1, blas64.General{Rows: r, Cols: dout, Stride: dout, Data: z})
+	for i := 0; i < r; i++ {
+		addTo(z[i*dout:(i+1)*dout], cb[min(i, len(cb)-1)][L])
+	}
+}
+
+// rowLogProbs writes log p(x_i) of r snapshots from the logits in w.z,
+// summing the per-site terms in float64.
+func (m *Model) rowLogProbs(dst []float64, xs []uint8, w *workspace, r int, flip bool) {
+	c := m.Cfg
+	n, q, dout := c.Sites, c.Alphabet, m.lay.dout
+	for i := 0; i < r; i++ {
+		x := xs[i*n : (i+1)*n]
+		z := w.z[i*dout : (i+1)*dout]
+		s := 0.0
+		if q == 2 {
+			for j, v := range x {
+				t := -softplus(z[j])
+				if (v == 1) != flip {
+					t += z[j]
+				}
+				s += t
+			}
+		} else {
+			for j, v := range x {
+				zs := z[j*q : (j+1)*q]
+				mx := zs[0]
+				for _, t := range zs[1:] {
+					mx = math.Max(mx, t)
+				}
+				e := 0.0
+				for _, t := range zs {
+					e += math.Exp(t - mx)
+				}
+				s += zs[v] - mx - math.Log(e)
+			}
+		}
+		dst[i] = s
+	}
+}
+
+// scoreBlock writes log p(x_i|λ) of r snapshots whose λ-independent products
+// are already in w.
+func (m *Model) scoreBlock(dst []float64, xs []uint8, p *prep, cb [][][]float64, w *workspace, r int) {
+	m.hidden(p, cb, w, w.a0, r)
+	m.logits(p, cb, w, w.dx, r)
+	m.rowLogProbs(dst, xs, w, r, false)
+	if !m.Cfg.Symmetric {
+		return
+	}
+	var buf [blockRows]float64
+	f := buf[:r]
+	m.hidden(p, cb, w, w.a0f, r)
+	m.logits(p, cb, w, w.dxf, r)
+	m.rowLogProbs(f, xs, w, r, true)
+	for i := range f {
+		a, b := dst[i], f[i]
+		hi, lo := math.Max(a, b), math.Min(a, b)
+		dst[i] = hi + math.Log1p(math.Exp(lo-hi)) - math.Ln2
+	}
+}
+
+func (m *Model) gatherAll(p *prep, xs []uint8, r int, w *workspace) {
+	m.gather(p, xs, r, false, w.a0, w.dx)
+	if m.Cfg.Symmetric {
+		m.gather(p, xs, r, true, w.a0f, w.dxf)
+	}
+}
+
+func (m *Model) checkStates(xs []uint8, n int) error {
+	q := m.Cfg.Alphabet
+	for k, v := range xs[:n*m.Cfg.Sites] {
+		if int(v) >= q {
+			return fmt.Errorf("model: site values must be below the alphabet size %d, found %d at snapshot %d site %d", q, v, k/m.Cfg.Sites, k%m.Cfg.Sites)
+		}
+	}
+	return nil
+}
+
+func (m *Model) checkLambda(lambda []float64) error {
+	if len(lambda) != m.Cfg.ParamDim {
+		return fmt.Errorf("model: λ must have %d components, found %d", m.Cfg.ParamDim, len(lambda))
+	}
+	for i, v := range lambda {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return fmt.Errorf("model: λ must be finite, found %v in component %d", v, i)
+		}
+	}
+	return nil
+}
+
+// LogProb writes log p(x_m|λ) in nats for each snapshot row of xs
+// (len(xs) = len(dst)·N) into dst. It is safe for concurrent use.
+func (m *Model) LogProb(dst []float64, xs []uint8, lambda []float64) (err error) {
+	defer recoverTo(&err)
+	n := len(dst)
+	if len(xs) != n*m.Cfg.Sites {
+		return fmt.Errorf("model: LogProb needs %d·%d = %d site values for %d snapshots, found %d", n, m.Cfg.Sites, n*m.Cfg.Sites, n, len(xs))
+	}
+	if err := m.checkLambda(lambda); err != nil {
+		return err
+	}
+	if err := m.checkStates(xs, n); err != nil {
+		return err
+	}
+	if n == 0 {
+		return nil
+	}
+	p := m.prepare()
+	defer m.pool.Put(p)
+	cb := [][][]float64{m.condBias(lambda)}
+	w := m.newWorkspace(min(n, blockRows))
+	N := m.Cfg.Sites
+	for i := 0; i < n; i += blockRows {
+		r := min(blockRows, n-i)
+		x := xs[i*N : (i+r)*N]
+		m.gatherAll(p, x, r, w)
+		m.scoreBlock(dst[i:i+r], x, p, cb, w, r)
+	}
+	return nil
+}
+
+// LogProbMatrix returns out[i*K+k] = log p(x_i|λ_k) in nats for n snapshots
+// xs (n·N values) and K lambdas (each of length d). The λ-independent masked
+// first-layer product of each snapshot is computed once and reused for
+// every λ. Work is spread over threads goroutines (threads ≤ 0 means
+// runtime.NumCPU()) by blocks of snapshots; the result does not depend on
+// threads.
+func (m *Model) LogProbMatrix(xs []uint8, n int, lambdas [][]float64, threads int) (out []float64, err error) {
+	defer recoverTo(&err)
+	N := m.Cfg.Sites
+	if n < 0 || len(xs) != n*N {
+		return nil, fmt.Errorf("model: LogProbMatrix needs %d·%d site values for %d snapshots, found %d", n, N, n, len(xs))
+	}
+	for k, l := range lambdas {
+		if err := m.checkLambda(l); err != nil {
+			return nil, fmt.Errorf("λ #%d: %w", k, err)
+		}
+	}
+	if err := m.checkStates(xs, n); err != nil {
+		return nil, err
+	}
+	K := len(lambdas)
+	out = make([]float64, n*K)
+	if n == 0 || K == 0 {
+		return out, nil
+	}
+	if threads <= 0 {
+		threads = runtime.NumCPU()
+	}
+	p := m.prepare()
+	defer m.pool.Put(p)
+	cbs := make([][][][]float64, K)
+	for k, l := range lambdas {
+		cbs[k] = [][][]float64{m.condBias(l)}
+	}
+	blocks := (n + blockRows - 1) / blockRows
+	threads = min(threads, blocks)
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	var once sync.Once
+	for t := 0; t < threads; t++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			defer func() {
+				if r := recover(); r != nil {
+					once.Do(func() { err = fmt.Errorf("model: LogProbMatrix failed: %v", r) })
+				}
+			}()
+			w := m.newWorkspace(blockRows)
+			col := make([]float64, blockRows)
+			for {
+				b := int(next.Add(1)) - 1
+				if b >= blocks {
+					return
+				}
+				i := b * blockRows
+				r := min(blockRows, n-i)
+				x := xs[i*N : (i+r)*N]
+				m.gatherAll(p, x, r, w)
+				for k := range K {
+					m.scoreBlock(col[:r], x, p, cbs[k], w, r)
+					for j := 0; j < r; j++ {
+						out[(i+j)*K+k] = col[j]
+					}
+				}
+			}
+		}()
+	}
+	wg.Wait()
+	if err != nil {
+		return nil, err
+	}
+	return out, nil
+}
+
+// sampleRows is the number of snapshots Sample draws together.
+const sampleRows = 256
+
+// Sample writes n snapshots (n·N values) drawn exactly from p(·|λ) into dst
+// by ancestral sampling along the site ordering. The draws depend only on
+// the state of rng (and on n); with Symmetric each snapshot is flipped with
+// probability 1/2.
+func (m *Model) Sample(dst []uint8, n int, lambda []float64, rng *rand.Rand) (err error) {
+	defer recoverTo(&err)
+	c := m.Cfg
+	N, q, per := c.Sites, c.Alphabet, m.lay.per
+	if n < 0 || len(dst) != n*N {
+		return fmt.Errorf("model: Sample needs room for %d·%d site values, found %d", n, N, len(dst))
+	}
+	if rng == nil {
+		return fmt.Errorf("model: Sample needs a random source, found nil")
+	}
+	if err := m.checkLambda(lambda); err != nil {
+		return err
+	}
+	if n == 0 {
+		return nil
+	}
+	p := m.prepare()
+	defer m.pool.Put(p)
+	cb := [][][]float64{m.condBias(lambda)}
+	rows := min(n, sampleRows)
+	w := m.newWorkspace(rows)
+	L := len(c.Hidden)
+	hl, h0, dout := c.Hidden[L-1], c.Hidden[0], m.lay.dout
+	zs := make([]float64, rows*per)
+	probs := make([]float64, q)
+	for i0 := 0; i0 < n; i0 += rows {
+		r := min(rows, n-i0)
+		x := dst[i0*N : (i0+r)*N]
+		clear(x)
+		clear(w.a0[:r*h0])
+		clear(w.dx[:r*dout])
+		for _, s := range c.Order {
+			m.hidden(p, cb, w, w.a0, r)
+			// Logits of site s only: the columns s·per … s·per+per−1.
+			z := zs[:r*per]
+			for i := 0; i < r; i++ {
+				for v := 0; v < per; v++ {
+					o := s*per + v
+					z[i*per+v] = cb[0][L][o]
+					if p.effD != nil {
+						z[i*per+v] += w.dx[i*dout+o]
+					}
+				}
+			}
+			blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
+				blas64.General{Rows: r, Cols: hl, Stride: hl, Data: w.h[L-1]},
+				blas64.General{Rows: hl, Cols: per, Stride: dout, Data: p.eff[L][s*per:]},
+				1, blas64.General{Rows: r, Cols: per, Stride: per, Data: z})
+			for i := 0; i < r; i++ {
+				var v int
+				u := rng.Float64()
+				if q == 2 {
+					if u < 1/(1+math.Exp(-z[i])) {
+						v = 1
+					}
+				} else {
+					zi := z[i*q : (i+1)*q]
+					mx := zi[0]
+					for _, t := range zi[1:] {
+						mx = math.Max(mx, t)
+					}
+					tot := 0.0
+					for k, t := range zi {
+						probs[k] = math.Exp(t - mx)
+						tot += probs[k]
+					}
+					u *= tot
+					v = q - 1
+					acc := 0.0
+					for k := 0; k < q-1; k++ {
+						acc += probs[k]
+						if u < acc {
+							v = k
+							break
+						}
+					}
+				}
+				x[i*N+s] = uint8(v)
+				if q == 2 && v == 0 {
+					continue
+				}
+				j := s
+				if q > 2 {
+					j = s*q + v
+				}
+				addTo(w.a0[i*h0:(i+1)*h0], p.eff[0][j*h0:(j+1)*h0])
+				if p.effD != nil {
+					addTo(w.dx[i*dout:(i+1)*dout], p.effD[j*dout:(j+1)*dout])
+				}
+			}
+		}
+		if c.Symmetric {
+			for i := 0; i < r; i++ {
+				if rng.IntN(2) == 1 {
+					row := x[i*N : (i+1)*N]
+					for k := range row {
+						row[k] = 1 - row[k]
+					}
+				}
+			}
+		}
+	}
+	return nil
+}
+
+// recoverTo turns a panic into an error so none escapes a public function.
+func recoverTo(err *error) {
+	if r := recover(); r != nil {
+		*err = fmt.Errorf("model: internal error: %v", r)
+	}
+}
+
+// logProbRows writes log p(x_i|λ_i) for n snapshots, each with its own λ
+// (params holds n·d values). Inputs are assumed valid.
+func (m *Model) logProbRows(dst []float64, xs []uint8, params []float64, n int) {
+	p := m.prepare()
+	defer m.pool.Put(p)
+	N, d := m.Cfg.Sites, m.Cfg.ParamDim
+	w := m.newWorkspace(min(n, blockRows))
+	cb := make([][][]float64, blockRows)
+	for i := 0; i < n; i += blockRows {
+		r := min(blockRows, n-i)
+		for j := 0; j < r; j++ {
+			cb[j] = m.condBias(params[(i+j)*d : (i+j+1)*d])
+		}
+		x := xs[i*N : (i+r)*N]
+		m.gatherAll(p, x, r, w)
+		m.scoreBlock(dst[i:i+r], x, p, cb[:r], w, r)
+	}
+}
