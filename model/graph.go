@@ -118,10 +118,16 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 			t := must(G.Sub(must(G.HadamardProd(x, z)), must(G.Softplus(z))))
 			return must(G.Sum(t, 1))
 		}
+		// log p = Σ_s (z[s, x_s] − logΣ_v exp z[s, v]). The log-sum-exp is
+		// shifted by the per-site maximum for stability; the shift's
+		// gradient cancels exactly. (gorgonia's LogSoftMax is not used: its
+		// gradient failed the finite-difference test in v0.9.18.)
 		r := must(G.Reshape(z, tensor.Shape{B * c.Sites, c.Alphabet}))
-		ls := must(G.LogSoftMax(r, 1))
-		ls = must(G.Reshape(ls, tensor.Shape{B, l.dout}))
-		return must(G.Sum(must(G.HadamardProd(ls, x)), 1))
+		mx := must(G.Max(r, 1))
+		e := must(G.Exp(must(G.BroadcastSub(r, mx, nil, []byte{1}))))
+		lse := must(G.Add(mx, must(G.Log(must(G.Sum(e, 1))))))
+		lse = must(G.Reshape(lse, tensor.Shape{B, c.Sites}))
+		return must(G.Sub(must(G.Sum(must(G.HadamardProd(z, x)), 1)), must(G.Sum(lse, 1))))
 	}
 	lp := logp(X)
 	if c.Symmetric {
