@@ -10,6 +10,13 @@ type PointInfo struct {
 	// energy and of |m|, in sweeps, measured during burn-in (0 for exact).
 	TauEnergy float64 `json:"tau_energy"`
 	TauAbsM   float64 `json:"tau_absm"`
+	// ClustersPerSweep is the number of Wolff clusters in one sweep (0 for
+	// Metropolis and exact sampling).
+	ClustersPerSweep int `json:"clusters_per_sweep,omitempty"`
+	// TauConverged is false when the burn-in series was cut before it
+	// spanned TauRuns autocorrelation times: the τ (and the spacing) may
+	// then be underestimated.
+	TauConverged bool `json:"tau_converged"`
 	// SpacingSweeps is the number of sweeps between kept samples.
 	SpacingSweeps int `json:"spacing_sweeps"`
 	// BurnIn is the number of sweeps before the first kept sample.
