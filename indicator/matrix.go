@@ -1,0 +1,173 @@
+package indicator
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"sync"
+)
+
+// MatrixSource is an optional interface of a Source that scores many
+// snapshots at many parameter points at once, faster than repeated LogProb
+// calls (a trained model batches its conditioning this way). The result holds
+// log p(x_m|λ_k) at index m·len(lambdas)+k, n rows of xs.
+type MatrixSource interface {
+	Source
+	LogProbMatrix(xs []uint8, n int, lambdas [][]float64, threads int) ([]float64, error)
+}
+
+// Matrix is the log-likelihood matrix ℓ[m][k] = log p(x_m|λ_k) over M
+// evaluation samples and K parameter points, the one object every indicator
+// and every bootstrap replicate is computed from.
+type Matrix struct {
+	// M and K are the numbers of evaluation samples and points.
+	M, K int
+	// L holds ℓ row-major: ℓ[m][k] = L[m*K+k], in nats.
+	L []float64
+	// Points are the K parameter points.
+	Points [][]float64
+}
+
+// At returns ℓ[m][k].
+func (mx *Matrix) At(m, k int) float64 { return mx.L[m*mx.K+k] }
+
+// Row returns ℓ[m][·] (a view).
+func (mx *Matrix) Row(m int) []float64 { return mx.L[m*mx.K : (m+1)*mx.K] }
+
+// MatrixOptions controls ComputeMatrix.
+type MatrixOptions struct {
+	// Threads is the number of goroutines (≤ 0 means 1).
+	Threads int
+	// Block is the number of snapshots scored per call (≤ 0 means 1024).
+	Block int
+	// Progress, if not nil, is called with the number of (sample, point)
+	// entries finished after each block; it may be called concurrently.
+	Progress func(n int)
+}
+
+// ComputeMatrix scores the n snapshots xs (n·N values) at every point of
+// points. It splits the work into blocks of snapshots × one point, computed
+// in parallel; a MatrixSource is asked for whole blocks at all points at
+// once. NaN log-probabilities are an error; −Inf is allowed (a state the
+// source deems impossible).
+func ComputeMatrix(src Source, xs []uint8, n int, points [][]float64, opt MatrixOptions) (*Matrix, error) {
+	N := src.Sites()
+	if len(xs) != n*N {
+		return nil, fmt.Errorf("log-likelihood matrix: expected %d snapshot values (%d×%d), found %d", n*N, n, N, len(xs))
+	}
+	K := len(points)
+	for k, p := range points {
+		if len(p) != src.ParamDim() {
+			return nil, fmt.Errorf("log-likelihood matrix: point %d has %d parameters, the source expects %d", k, len(p), src.ParamDim())
+		}
+	}
+	mx := &Matrix{M: n, K: K, L: make([]float64, n*K), Points: points}
+	if n == 0 || K == 0 {
+		return mx, nil
+	}
+	threads := opt.Threads
+	if threads <= 0 {
+		threads = 1
+	}
+	block := opt.Block
+	if block <= 0 {
+		block = 1024
+	}
+	if ms, ok := src.(MatrixSource); ok {
+		for lo := 0; lo < n; lo += block {
+			hi := min(lo+block, n)
+			out, err := ms.LogProbMatrix(xs[lo*N:hi*N], hi-lo, points, threads)
+			if err != nil {
+				return nil, fmt.Errorf("log-likelihood matrix: %w", err)
+			}
+			if len(out) != (hi-lo)*K {
+				return nil, fmt.Errorf("log-likelihood matrix: source returned %d values, expected %d", len(out), (hi-lo)*K)
+			}
+			copy(mx.L[lo*K:hi*K], out)
+			if opt.Progress != nil {
+				opt.Progress((hi - lo) * K)
+			}
+		}
+		return mx, checkNaN(mx)
+	}
+	type job struct{ lo, hi, k int }
+	jobs := make(chan job)
+	var wg sync.WaitGroup
+	var once sync.Once
+	var firstErr error
+	for w := 0; w < threads; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			buf := make([]float64, block)
+			for j := range jobs {
+				if firstErr != nil {
+					continue
+				}
+				d := buf[:j.hi-j.lo]
+				if err := src.LogProb(d, xs[j.lo*N:j.hi*N], points[j.k]); err != nil {
+					once.Do(func() { firstErr = fmt.Errorf("log-likelihood matrix at point %d: %w", j.k, err) })
+					continue
+				}
+				for i, v := range d {
+					mx.L[(j.lo+i)*K+j.k] = v
+				}
+				if opt.Progress != nil {
+					opt.Progress(len(d))
+				}
+			}
+		}()
+	}
+	for lo := 0; lo < n; lo += block {
+		hi := min(lo+block, n)
+		for k := 0; k < K; k++ {
+			jobs <- job{lo, hi, k}
+		}
+	}
+	close(jobs)
+	wg.Wait()
+	if firstErr != nil {
+		return nil, firstErr
+	}
+	return mx, checkNaN(mx)
+}
+
+var errNaN = errors.New("the source returned NaN")
+
+func checkNaN(mx *Matrix) error {
+	for i, v := range mx.L {
+		if math.IsNaN(v) || math.IsInf(v, 1) {
+			return fmt.Errorf("log-likelihood matrix: %w or +Inf for sample %d at point %d", errNaN, i/mx.K, i%mx.K)
+		}
+	}
+	return nil
+}
+
+// logSumExp returns log Σ exp(v), robust to −Inf entries (all −Inf gives −Inf).
+func logSumExp(v []float64) float64 {
+	mx := math.Inf(-1)
+	for _, x := range v {
+		if x > mx {
+			mx = x
+		}
+	}
+	if math.IsInf(mx, -1) {
+		return mx
+	}
+	s := 0.0
+	for _, x := range v {
+		s += math.Exp(x - mx)
+	}
+	return mx + math.Log(s)
+}
+
+// logAddExp returns log(exp a + exp b).
+func logAddExp(a, b float64) float64 {
+	if a < b {
+		a, b = b, a
+	}
+	if math.IsInf(a, -1) {
+		return a
+	}
+	return a + math.Log1p(math.Exp(b-a))
+}

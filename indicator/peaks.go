@@ -1,0 +1,216 @@
+package indicator
+
+import (
+	"math"
+	"sort"
+)
+
+// Peak is a local maximum of a curve along one of its lines.
+type Peak struct {
+	// At is the parabola-refined position (one entry per axis; only the
+	// line's axis is refined, the others are the line's fixed values).
+	At []float64
+	// Err is the standard error of At (bootstrap and spread across sources
+	// in quadrature); 0 on the fixed axes.
+	Err []float64
+	// Height is the refined height, HeightErr its standard error.
+	Height, HeightErr float64
+	// Prominence is the height above the higher of the two neighbouring
+	// minima.
+	Prominence float64
+	// Line is the index of the line in Curve.Lines; Index the position
+	// index of the highest sample point.
+	Line, Index int
+	// Noise is false when no error estimate was available to test the peak
+	// against (no bootstrap): every local maximum is then kept.
+	Tested bool
+}
+
+// ParabolaVertex returns the vertex of the parabola through (x0,y0),
+// (x1,y1), (x2,y2) with x0 < x1 < x2 and y1 ≥ y0, y2, clamped to [x0, x2],
+// and its height.
+func ParabolaVertex(x0, y0, x1, y1, x2, y2 float64) (x, y float64) {
+	// Newton divided differences: y = y0 + a(x−x0) + b(x−x0)(x−x1)
+	a := (y1 - y0) / (x1 - x0)
+	b := ((y2-y1)/(x2-x1) - a) / (x2 - x0)
+	if b >= 0 || math.IsNaN(b) {
+		return x1, y1
+	}
+	x = (x0+x1)/2 - a/(2*b)
+	x = math.Max(x0, math.Min(x2, x))
+	y = y0 + a*(x-x0) + b*(x-x0)*(x-x1)
+	return x, y
+}
+
+// localMaxima returns the interior indices i (0 < i < n−1) of v with
+// v[i] > v[i−1] and v[i] ≥ v[i+1], with their prominence. NaN never peaks.
+func localMaxima(v []float64) (idx []int, prom []float64) {
+	n := len(v)
+	for i := 1; i < n-1; i++ {
+		if !(v[i] > v[i-1] && v[i] >= v[i+1]) {
+			continue
+		}
+		lmin, rmin := v[i], v[i]
+		for j := i - 1; j >= 0 && !(v[j] > v[i]); j-- {
+			lmin = math.Min(lmin, v[j])
+		}
+		for j := i + 1; j < n && !(v[j] > v[i]); j++ {
+			rmin = math.Min(rmin, v[j])
+		}
+		idx = append(idx, i)
+		prom = append(prom, v[i]-math.Max(lmin, rmin))
+	}
+	return idx, prom
+}
+
+// refineAt returns the parabola-refined (x, y) of the maximum at index i of
+// (x, v) along a line.
+func refineAt(x, v []float64, i int) (float64, float64) {
+	return ParabolaVertex(x[i-1], v[i-1], x[i], v[i], x[i+1], v[i+1])
+}
+
+// nearestMax returns the parabola-refined maximum of v nearest to index i0
+// within ±reach positions (the highest sample in that range, refined if it is
+// interior), for matching a peak in a bootstrap replicate.
+func nearestMax(x, v []float64, i0, reach int) (float64, float64) {
+	lo, hi := max(0, i0-reach), min(len(v)-1, i0+reach)
+	best := lo
+	for i := lo; i <= hi; i++ {
+		if v[i] > v[best] {
+			best = i
+		}
+	}
+	if best == 0 || best == len(v)-1 {
+		return x[best], v[best]
+	}
+	return refineAt(x, v, best)
+}
+
+// findPeaks finds the peaks of c along each line: local maxima whose
+// prominence exceeds 2 standard errors of the curve at the maximum (every
+// local maximum when no errors are known), refined by a parabola through the
+// top three points. reps are the bootstrap replicates of the curve (each the
+// same length as c.Val) and srcVals the curves of the individual sources;
+// their peak spreads become the peak errors.
+func findPeaks(c *Curve, reps [][]float64, srcVals [][]float64, tested bool) {
+	c.Peaks = nil
+	for li, ln := range c.Lines {
+		if len(ln.Idx) < 3 {
+			continue
+		}
+		x := make([]float64, len(ln.Idx))
+		v := make([]float64, len(ln.Idx))
+		for j, p := range ln.Idx {
+			x[j] = c.Pos[p][ln.Axis]
+			v[j] = c.Val[p]
+		}
+		idx, prom := localMaxima(v)
+		for n, i := range idx {
+			e := c.Err[ln.Idx[i]]
+			if tested && !(prom[n] > 2*e) {
+				continue
+			}
+			xp, yp := refineAt(x, v, i)
+			pk := Peak{At: append([]float64(nil), c.Pos[ln.Idx[i]]...), Err: make([]float64, len(c.Pos[0])),
+				Height: yp, Prominence: prom[n], Line: li, Index: ln.Idx[i], Tested: tested}
+			pk.At[ln.Axis] = xp
+			var xs, ys []float64
+			for _, r := range reps {
+				rv := make([]float64, len(ln.Idx))
+				for j, p := range ln.Idx {
+					rv[j] = r[p]
+				}
+				a, b := nearestMax(x, rv, i, 2)
+				xs = append(xs, a)
+				ys = append(ys, b)
+			}
+			ex, ey := stdDev(xs), stdDev(ys)
+			var sx, sy []float64
+			for _, r := range srcVals {
+				rv := make([]float64, len(ln.Idx))
+				for j, p := range ln.Idx {
+					rv[j] = r[p]
+				}
+				a, b := nearestMax(x, rv, i, 2)
+				sx = append(sx, a)
+				sy = append(sy, b)
+			}
+			if len(sx) > 1 {
+				ex = math.Hypot(ex, stdDev(sx))
+				ey = math.Hypot(ey, stdDev(sy))
+			}
+			pk.Err[ln.Axis] = ex
+			pk.HeightErr = ey
+			c.Peaks = append(c.Peaks, pk)
+		}
+	}
+	sort.SliceStable(c.Peaks, func(i, j int) bool { return c.Peaks[i].Line < c.Peaks[j].Line })
+}
+
+// stdDev returns the sample standard deviation (n−1), or 0 for fewer than
+// two values.
+func stdDev(v []float64) float64 {
+	if len(v) < 2 {
+		return 0
+	}
+	m := 0.0
+	for _, x := range v {
+		m += x
+	}
+	m /= float64(len(v))
+	s := 0.0
+	for _, x := range v {
+		s += (x - m) * (x - m)
+	}
+	return math.Sqrt(s / float64(len(v)-1))
+}
+
+// Boundary is a polyline through the ridge of a 2-D map.
+type Boundary struct {
+	// Indicator is the curve's name ("local_T", "fisher_deriv", …).
+	Indicator string `json:"indicator"`
+	// Axis is the axis along which each ridge maximum was sought.
+	Axis string `json:"along"`
+	// Points are the ridge points, ordered along the other axis.
+	Points [][]float64 `json:"points"`
+	// Err are their standard errors (per axis).
+	Err [][]float64 `json:"err"`
+}
+
+// boundaries joins, for each orientation of a curve's lines, the highest
+// peak of each line into polylines; a line without a peak above the noise
+// breaks the polyline. Polylines of fewer than 2 points are dropped.
+func boundaries(c *Curve, names []string) []Boundary {
+	var out []Boundary
+	for a := range names {
+		var cur *Boundary
+		flush := func() {
+			if cur != nil && len(cur.Points) >= 2 {
+				out = append(out, *cur)
+			}
+			cur = nil
+		}
+		for li, ln := range c.Lines {
+			if ln.Axis != a {
+				continue
+			}
+			best := -1
+			for i, p := range c.Peaks {
+				if p.Line == li && (best < 0 || p.Height > c.Peaks[best].Height) {
+					best = i
+				}
+			}
+			if best < 0 {
+				flush()
+				continue
+			}
+			if cur == nil {
+				cur = &Boundary{Indicator: c.Name, Axis: names[a]}
+			}
+			cur.Points = append(cur.Points, c.Peaks[best].At)
+			cur.Err = append(cur.Err, c.Peaks[best].Err)
+		}
+		flush()
+	}
+	return out
+}

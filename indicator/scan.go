@@ -1,0 +1,550 @@
+package indicator
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"sort"
+	"sync"
+
+	"tidemark/data"
+)
+
+// Caution is printed with every scan's results (design: indicators.md).
+const Caution = "An indicator peak marks where the snapshot distribution changes fastest. In a finite system that can be a crossover rather than a transition; compare several system sizes before calling it a transition, and check the model's fit at each point (held-out likelihood, `check`) before trusting model-based indicators."
+
+// GridOnly is an optional interface of a Source defined only at the grid
+// points of its data (the histogram): derivatives in λ and refinement are
+// not available for it.
+type GridOnly interface {
+	GridOnly() bool
+}
+
+// Config controls a scan.
+type Config struct {
+	// Indicators names the indicators to compute (nil: all).
+	Indicators []string
+	// Refine R > 1 inserts R−1 points between neighbours on every axis, with
+	// ModelSamples snapshots drawn from the source at each inserted point.
+	Refine int
+	// ModelSamples is the number of snapshots drawn per point from a Sampler
+	// (refined and zoom points); ≤ 0 means 1000.
+	ModelSamples int
+	// Zoom re-scans a finer grid around each peak (1-D grids, Sampler
+	// sources only): 2R+1 points (R = max(Refine, 2)) over ±1 grid step.
+	Zoom bool
+	// Bootstrap is the number of bootstrap replicates B (0: no errors).
+	Bootstrap int
+	// ExactSums replaces sample means by exact sums over all q^N states
+	// (Enumerable sources only).
+	ExactSums bool
+	// Window is the local indicator's window w (≤ 0 means 1).
+	Window int
+	// SLRegions overrides sl's default end regions (1-D only).
+	SLRegions *SLRegions
+	// Threads is the number of goroutines for the log-likelihood matrix.
+	Threads int
+	// Seed seeds model sampling and bootstrap resampling.
+	Seed uint64
+	// Progress, if not nil, is called before each long stage with its name
+	// and number of steps and returns the callback that counts them.
+	Progress func(stage string, total int) func(n int)
+}
+
+// Result is the outcome of a scan.
+type Result struct {
+	// Names are the parameter names.
+	Names []string
+	// Data is the dataset grid's layout, Layout the (refined) layout scanned.
+	Data, Layout Layout
+	// Curves are the indicator curves, combined over sources.
+	Curves []*Curve
+	// Boundaries are ridge polylines of the local and fisher maps (2-D).
+	Boundaries []Boundary
+	// Zoom holds the results of the finer second pass around peaks.
+	Zoom []ZoomResult
+	// Sources is the number of sources combined.
+	Sources int
+	// Bootstrap is the number of replicates used (0 when errors are not
+	// from the bootstrap).
+	Bootstrap int
+	// ExactSums reports exact expectations.
+	ExactSums bool
+	// Notes are warnings about how to read the results.
+	Notes []string
+}
+
+// ZoomResult is the second pass around one peak.
+type ZoomResult struct {
+	// Around is the first-pass peak position; Layout the zoom grid.
+	Around []float64
+	Layout Layout
+	// Curves are the zoom-pass curves.
+	Curves []*Curve
+}
+
+// Run scans the dataset ds with one or more sources (several sources, e.g.
+// models trained with different seeds, are averaged and their spread joins
+// the errors in quadrature). ds must have a 1-D grid or a 2-D product grid.
+func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
+	if len(sources) == 0 {
+		return nil, errors.New("scan: no density source")
+	}
+	g := data.NewGrid(ds)
+	if g.K() < 2 {
+		return nil, fmt.Errorf("scan: expected at least 2 grid points, found %d", g.K())
+	}
+	if g.Dim() > 2 {
+		return nil, fmt.Errorf("scan: expected 1 or 2 parameters, found %d (%v)", g.Dim(), g.Names)
+	}
+	if !g.Product {
+		return nil, fmt.Errorf("scan: expected a product grid (every combination of %v), found %d points for %v values per axis", g.Names, g.K(), g.Shape())
+	}
+	for _, s := range sources {
+		if s.Sites() != ds.N || s.Alphabet() != ds.Meta.Alphabet || s.ParamDim() != ds.D {
+			return nil, fmt.Errorf("scan: source has %d sites, alphabet %d and %d parameters, the data %d, %d and %d", s.Sites(), s.Alphabet(), s.ParamDim(), ds.N, ds.Meta.Alphabet, ds.D)
+		}
+	}
+	ind := map[string]bool{}
+	if len(cfg.Indicators) == 0 {
+		cfg.Indicators = AllIndicators
+	}
+	for _, n := range cfg.Indicators {
+		ok := false
+		for _, a := range AllIndicators {
+			ok = ok || a == n
+		}
+		if !ok {
+			return nil, fmt.Errorf("scan: unknown indicator %q, expected one of %v", n, AllIndicators)
+		}
+		ind[n] = true
+	}
+	if cfg.SLRegions != nil && g.Dim() != 1 {
+		return nil, fmt.Errorf("scan: sl regions are for 1-D grids, the grid has %d axes", g.Dim())
+	}
+	if cfg.ModelSamples <= 0 {
+		cfg.ModelSamples = 1000
+	}
+	if cfg.Refine < 1 {
+		cfg.Refine = 1
+	}
+	res := &Result{Names: g.Names, Data: Layout{Names: g.Names, Axes: g.Axes}, Sources: len(sources), ExactSums: cfg.ExactSums}
+	res.Layout = refineLayout(res.Data, cfg.Refine)
+	if cfg.ExactSums {
+		for _, s := range sources {
+			e, ok := s.(Enumerable)
+			if !ok || !e.Enumerable() {
+				return nil, errors.New("scan: exact sums need a source whose q^N states can all be listed (an exact source of a small system)")
+			}
+		}
+	}
+	needSampler := cfg.Refine > 1 && !cfg.ExactSums
+	for _, s := range sources {
+		if _, ok := s.(Sampler); needSampler && !ok {
+			return nil, fmt.Errorf("scan: refinement needs samples between grid points, and this source cannot draw them (use a model or an exact source, or --refine 1)")
+		}
+		if gOnly(s) && cfg.Refine > 1 {
+			return nil, errors.New("scan: the histogram is defined only at the grid points; refinement needs a model (train a model)")
+		}
+	}
+	curves, err := runPass(sources, ds, g, res.Data, res.Layout, cfg, ind, 0)
+	if err != nil {
+		return nil, err
+	}
+	res.Curves = curves
+	if cfg.ExactSums {
+		res.Notes = append(res.Notes, "exact sums over all states: the curves carry no sampling error; peak errors are 0 and every local maximum is kept")
+		if cfg.Bootstrap > 0 {
+			res.Notes = append(res.Notes, "bootstrap ignored: exact sums have no samples to resample")
+		}
+	} else {
+		res.Bootstrap = cfg.Bootstrap
+		if cfg.Bootstrap == 0 {
+			res.Notes = append(res.Notes, "no bootstrap: errors are not estimated and every local maximum is listed as a peak, whether or not it stands above the noise")
+		}
+	}
+	if gOnly(sources[0]) {
+		res.Notes = append(res.Notes, "histogram source: the densities are estimated from the same samples they are evaluated on, which biases indicators upwards, and the bootstrap does not re-estimate the histogram, so errors are too small")
+	}
+	if len(sources) > 1 {
+		res.Notes = append(res.Notes, fmt.Sprintf("%d sources averaged; errors combine the bootstrap error of the average and the standard deviation across sources in quadrature", len(sources)))
+	}
+	if cfg.Refine > 1 && !cfg.ExactSums {
+		res.Notes = append(res.Notes, fmt.Sprintf("refined grid: expectations at the %d inserted points use %d snapshots drawn from the source, at the data's grid points the data snapshots", res.Layout.K()-res.Data.K(), cfg.ModelSamples))
+	}
+	if g.Dim() == 2 {
+		for _, c := range res.Curves {
+			if c.Indicator == Local || c.Indicator == Fisher {
+				if c.Name == "fisher_deriv" || c.Axis >= 0 {
+					res.Boundaries = append(res.Boundaries, boundaries(c, g.Names)...)
+				}
+			}
+		}
+	}
+	if cfg.Zoom {
+		if err := zoomPass(res, sources, ds, g, cfg, ind); err != nil {
+			return nil, err
+		}
+	}
+	return res, nil
+}
+
+func gOnly(s Source) bool {
+	gs, ok := s.(GridOnly)
+	return ok && gs.GridOnly()
+}
+
+// refineLayout inserts r−1 evenly spaced values between neighbours of every
+// axis.
+func refineLayout(lo Layout, r int) Layout {
+	out := Layout{Names: lo.Names}
+	for _, ax := range lo.Axes {
+		var na []float64
+		for i := 0; i < len(ax)-1; i++ {
+			for j := 0; j < r; j++ {
+				na = append(na, ax[i]+(ax[i+1]-ax[i])*float64(j)/float64(r))
+			}
+		}
+		na = append(na, ax[len(ax)-1])
+		out.Axes = append(out.Axes, na)
+	}
+	return out
+}
+
+// runPass scans layout lo with every source. dataLo is the dataset grid:
+// layout points that are data points use the data samples (unless exact
+// sums); others use samples drawn from the source. pass separates the
+// sampling streams of zoom passes from the first pass.
+func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout, cfg Config, ind map[string]bool, pass int) ([]*Curve, error) {
+	S := len(sources)
+	B := cfg.Bootstrap
+	if cfg.ExactSums {
+		B = 0
+	}
+	var specs []*curveSpec
+	vals := make([][][]float64, S)   // [s][c][t]
+	reps := make([][][][]float64, S) // [s][c][b][t]
+	for s, src := range sources {
+		ev, err := buildEvalSet(src, ds, g, lo, cfg, pass, fmt.Sprintf("source %d/%d", s+1, S))
+		if err != nil {
+			return nil, err
+		}
+		sp, err := buildCurves(&lo, ev, buildOptions{indicators: ind, window: cfg.Window, slRegions: cfg.SLRegions, deriv: ev.Grad != nil})
+		if err != nil {
+			return nil, fmt.Errorf("scan: %w", err)
+		}
+		if s == 0 {
+			specs = sp
+		}
+		var cps []*compiled
+		for _, c := range sp {
+			vals[s] = append(vals[s], c.st.direct(ev.W))
+			if B > 0 {
+				cps = append(cps, c.st.compile(ev.W))
+			}
+		}
+		if B > 0 {
+			var tick func(int)
+			if cfg.Progress != nil {
+				tick = cfg.Progress(fmt.Sprintf("bootstrap %d/%d", s+1, S), B)
+			}
+			reps[s] = make([][][]float64, len(sp))
+			for c := range sp {
+				reps[s][c] = make([][]float64, B)
+			}
+			for b := 0; b < B; b++ {
+				w := BootstrapWeights(ev.Idx, cfg.Seed+uint64(pass)<<40, b)
+				for c, cp := range cps {
+					reps[s][c][b] = cp.eval(w)
+				}
+				if tick != nil {
+					tick(1)
+				}
+			}
+		}
+	}
+	out := make([]*Curve, len(specs))
+	for c, sp := range specs {
+		cv := sp.Curve
+		T := len(cv.Pos)
+		cv.Val = make([]float64, T)
+		cv.Err = make([]float64, T)
+		for s := 0; s < S; s++ {
+			for t := 0; t < T; t++ {
+				cv.Val[t] += vals[s][c][t] / float64(S)
+			}
+		}
+		if B > 0 {
+			cv.reps = make([][]float64, B)
+			for b := 0; b < B; b++ {
+				r := make([]float64, T)
+				for s := 0; s < S; s++ {
+					for t := 0; t < T; t++ {
+						r[t] += reps[s][c][b][t] / float64(S)
+					}
+				}
+				cv.reps[b] = r
+			}
+		}
+		col := make([]float64, max(B, S))
+		for t := 0; t < T; t++ {
+			e2 := 0.0
+			if B > 0 {
+				for b := 0; b < B; b++ {
+					col[b] = cv.reps[b][t]
+				}
+				e := stdDev(col[:B])
+				e2 += e * e
+			}
+			if S > 1 {
+				for s := 0; s < S; s++ {
+					col[s] = vals[s][c][t]
+				}
+				e := stdDev(col[:S])
+				e2 += e * e
+			}
+			cv.Err[t] = math.Sqrt(e2)
+		}
+		var srcVals [][]float64
+		if S > 1 {
+			for s := 0; s < S; s++ {
+				srcVals = append(srcVals, vals[s][c])
+			}
+		}
+		findPeaks(&cv, cv.reps, srcVals, B > 0 || cfg.ExactSums || S > 1)
+		out[c] = &cv
+	}
+	return out, nil
+}
+
+// buildEvalSet computes the matrix and weights of one source on layout lo.
+func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Config, pass int, label string) (*EvalSet, error) {
+	N := ds.N
+	K := lo.K()
+	pts := lo.Points()
+	ev := &EvalSet{}
+	var xs []uint8
+	if cfg.ExactSums {
+		q := src.Alphabet()
+		M := 1
+		for i := 0; i < N; i++ {
+			M *= q
+		}
+		xs = make([]uint8, M*N)
+		for m := 0; m < M; m++ {
+			v := m
+			for j := N - 1; j >= 0; j-- {
+				xs[m*N+j] = uint8(v % q)
+				v /= q
+			}
+		}
+		mx, err := computeWithProgress(src, xs, M, pts, cfg, label)
+		if err != nil {
+			return nil, err
+		}
+		ev.Mx = mx
+		ev.Idx, ev.W = ExactWeights(mx)
+		ev.Exact = true
+	} else {
+		xs = append(xs, ds.States...)
+		ev.Idx = make([][]int, K)
+		rows := ds.M
+		sampler, _ := src.(Sampler)
+		for k := 0; k < K; k++ {
+			if dk := g.Find(pts[k]); dk >= 0 {
+				ev.Idx[k] = g.Index[dk]
+				continue
+			}
+			if sampler == nil {
+				return nil, fmt.Errorf("scan: point %s has no data and the source cannot draw samples", data.FormatPoint(lo.Names, pts[k]))
+			}
+			n := cfg.ModelSamples
+			buf := make([]uint8, n*N)
+			rng := rand.New(rand.NewPCG(cfg.Seed, uint64(pass)<<32|uint64(k)))
+			if err := sampler.Sample(buf, n, pts[k], rng); err != nil {
+				return nil, fmt.Errorf("scan: drawing samples at %s: %w", data.FormatPoint(lo.Names, pts[k]), err)
+			}
+			xs = append(xs, buf...)
+			for i := 0; i < n; i++ {
+				ev.Idx[k] = append(ev.Idx[k], rows+i)
+			}
+			rows += n
+		}
+		mx, err := computeWithProgress(src, xs, rows, pts, cfg, label)
+		if err != nil {
+			return nil, err
+		}
+		ev.Mx = mx
+		ev.W = SampleWeights(ev.Idx)
+	}
+	if ind := cfg.Indicators; contains(ind, Fisher) && !gOnly(src) {
+		grad, err := gradients(src, xs, ev, lo, cfg)
+		if err != nil {
+			return nil, err
+		}
+		ev.Grad = grad
+	}
+	return ev, nil
+}
+
+func contains(s []string, x string) bool {
+	for _, v := range s {
+		if v == x {
+			return true
+		}
+	}
+	return false
+}
+
+func computeWithProgress(src Source, xs []uint8, n int, pts [][]float64, cfg Config, label string) (*Matrix, error) {
+	opt := MatrixOptions{Threads: cfg.Threads}
+	if cfg.Progress != nil {
+		opt.Progress = cfg.Progress("log-likelihoods, "+label, n*len(pts))
+	}
+	mx, err := ComputeMatrix(src, xs, n, pts, opt)
+	if err != nil {
+		return nil, fmt.Errorf("scan: %w", err)
+	}
+	return mx, nil
+}
+
+// gradients computes ∂_a log p(x|λ_k) for the slots of every point by a
+// central difference with step h_a = Δ_a/100 (Δ_a the smallest spacing of
+// axis a; error O(h²)).
+func gradients(src Source, xs []uint8, ev *EvalSet, lo Layout, cfg Config) ([][]float64, error) {
+	N := src.Sites()
+	d := lo.Dim()
+	K := lo.K()
+	h := make([]float64, d)
+	for a, ax := range lo.Axes {
+		dm := math.Inf(1)
+		for i := 1; i < len(ax); i++ {
+			dm = math.Min(dm, ax[i]-ax[i-1])
+		}
+		h[a] = dm / 100
+	}
+	grad := make([][]float64, K)
+	threads := max(1, cfg.Threads)
+	var wg sync.WaitGroup
+	var mu sync.Mutex
+	var firstErr error
+	var tick func(int)
+	if cfg.Progress != nil {
+		tick = cfg.Progress("derivatives in λ", K)
+	}
+	jobs := make(chan int)
+	for w := 0; w < threads; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for k := range jobs {
+				idx := ev.Idx[k]
+				n := len(idx)
+				var sub []uint8
+				if ev.Exact {
+					sub = xs[:n*N]
+				} else {
+					sub = make([]uint8, n*N)
+					for i, m := range idx {
+						copy(sub[i*N:(i+1)*N], xs[m*N:(m+1)*N])
+					}
+				}
+				g := make([]float64, n*d)
+				up := make([]float64, n)
+				dn := make([]float64, n)
+				p := lo.Point(k)
+				for a := 0; a < d; a++ {
+					pu := append([]float64(nil), p...)
+					pd := append([]float64(nil), p...)
+					pu[a] += h[a]
+					pd[a] -= h[a]
+					err := src.LogProb(up, sub, pu)
+					if err == nil {
+						err = src.LogProb(dn, sub, pd)
+					}
+					if err != nil {
+						mu.Lock()
+						if firstErr == nil {
+							firstErr = fmt.Errorf("scan: derivative at %s: %w", data.FormatPoint(lo.Names, p), err)
+						}
+						mu.Unlock()
+						break
+					}
+					for i := 0; i < n; i++ {
+						v := (up[i] - dn[i]) / (2 * h[a])
+						if math.IsNaN(v) || math.IsInf(v, 0) {
+							v = 0 // a state impossible at λ±h carries no weight at λ
+						}
+						g[i*d+a] = v
+					}
+				}
+				grad[k] = g
+				if tick != nil {
+					tick(1)
+				}
+			}
+		}()
+	}
+	for k := 0; k < K; k++ {
+		jobs <- k
+	}
+	close(jobs)
+	wg.Wait()
+	if firstErr != nil {
+		return nil, firstErr
+	}
+	return grad, nil
+}
+
+// zoomPass runs the finer second pass around every first-pass peak of a
+// 1-D scan.
+func zoomPass(res *Result, sources []Source, ds *data.Dataset, g *data.Grid, cfg Config, ind map[string]bool) error {
+	if g.Dim() != 1 {
+		res.Notes = append(res.Notes, "zoom skipped: it is available for 1-D grids only")
+		return nil
+	}
+	for _, s := range sources {
+		if _, ok := s.(Sampler); (!ok && !cfg.ExactSums) || gOnly(s) {
+			res.Notes = append(res.Notes, "zoom skipped: it needs a source that can draw samples between grid points (a model or an exact source)")
+			return nil
+		}
+	}
+	var xs []float64
+	for _, c := range res.Curves {
+		for _, p := range c.Peaks {
+			xs = append(xs, p.At[0])
+		}
+	}
+	sort.Float64s(xs)
+	ax := g.Axes[0]
+	step := func(x float64) float64 {
+		i := sort.SearchFloat64s(ax, x)
+		i = max(1, min(len(ax)-1, i))
+		return ax[i] - ax[i-1]
+	}
+	var centres []float64
+	for _, x := range xs {
+		if len(centres) > 0 && x-centres[len(centres)-1] < 0.5*step(x) {
+			continue
+		}
+		centres = append(centres, x)
+	}
+	R := max(cfg.Refine, 2)
+	zc := cfg
+	zc.Refine = 1
+	for z, x := range centres {
+		dx := step(x)
+		var axis []float64
+		for j := -R; j <= R; j++ {
+			axis = append(axis, x+dx*float64(j)/float64(R))
+		}
+		lo := Layout{Names: res.Names, Axes: [][]float64{axis}}
+		curves, err := runPass(sources, ds, g, res.Data, lo, zc, ind, z+1)
+		if err != nil {
+			return fmt.Errorf("zoom around %s: %w", data.FormatPoint(res.Names, []float64{x}), err)
+		}
+		res.Zoom = append(res.Zoom, ZoomResult{Around: []float64{x}, Layout: lo, Curves: curves})
+	}
+	return nil
+}
