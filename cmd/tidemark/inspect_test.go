@@ -91,7 +91,10 @@ func TestInspectDispatch(t *testing.T) {
 	defer func() { inspectHooks = saved }()
 	var seen []string
 	inspectHooks = []func(string, bool, io.Writer) (bool, error){
-		func(p string, asJSON bool, w io.Writer) (bool, error) { seen = append(seen, "first"); return false, nil },
+		func(p string, asJSON bool, w io.Writer) (bool, error) {
+			seen = append(seen, "first")
+			return false, nil
+		},
 		func(p string, asJSON bool, w io.Writer) (bool, error) {
 			seen = append(seen, "second")
 			io.WriteString(w, "a checkpoint\n")
