@@ -1,0 +1,87 @@
+package train
+
+import "math"
+
+// Adam is the Adam optimiser of Kingma & Ba (ICLR 2015, Algorithm 1) over a
+// list of weight slices, with optional decoupled weight decay as in AdamW
+// (Loshchilov & Hutter, ICLR 2019). Its whole state is plain slices and
+// numbers so a checkpoint can store it.
+type Adam struct {
+	// Beta1 and Beta2 are the exponential decay rates of the moment
+	// estimates; Eps is the ε added to the denominator.
+	Beta1, Beta2, Eps float64
+	// WeightDecay is the decoupled decay rate λ: each step multiplies a
+	// decayed weight by (1 − lr·λ) besides the Adam update. Zero disables it.
+	WeightDecay float64
+	// Decay marks which weight slices are decayed (common practice: the
+	// matrices, not the biases). Nil means all.
+	Decay []bool
+	// Step is the number of updates done so far (t in Kingma & Ba).
+	Step int
+	// M and V are the first- and second-moment estimates, one slice per
+	// weight slice.
+	M, V [][]float64
+}
+
+// NewAdam returns an optimiser for weight slices of the given lengths with
+// zero moments.
+func NewAdam(sizes []int, beta1, beta2, eps, weightDecay float64) *Adam {
+	a := &Adam{Beta1: beta1, Beta2: beta2, Eps: eps, WeightDecay: weightDecay}
+	a.M = make([][]float64, len(sizes))
+	a.V = make([][]float64, len(sizes))
+	for i, n := range sizes {
+		a.M[i] = make([]float64, n)
+		a.V[i] = make([]float64, n)
+	}
+	return a
+}
+
+// Update applies one step with learning rate lr to the weights w given the
+// gradient g (same shapes as M):
+//
+//	m ← β1 m + (1−β1) g,  v ← β2 v + (1−β2) g²,
+//	w ← w − lr·( m/(1−β1^t) / (√(v/(1−β2^t)) + ε) + λ w ).
+func (a *Adam) Update(w, g [][]float64, lr float64) {
+	a.Step++
+	t := float64(a.Step)
+	bc1 := 1 - math.Pow(a.Beta1, t)
+	bc2 := 1 - math.Pow(a.Beta2, t)
+	b1, b2 := a.Beta1, a.Beta2
+	for i := range w {
+		wi, gi, mi, vi := w[i], g[i], a.M[i], a.V[i]
+		decay := a.WeightDecay != 0 && (a.Decay == nil || a.Decay[i])
+		wd := lr * a.WeightDecay
+		for j, gj := range gi {
+			mj := b1*mi[j] + (1-b1)*gj
+			vj := b2*vi[j] + (1-b2)*gj*gj
+			mi[j], vi[j] = mj, vj
+			step := lr * (mj / bc1) / (math.Sqrt(vj/bc2) + a.Eps)
+			if decay {
+				step += wd * wi[j]
+			}
+			wi[j] -= step
+		}
+	}
+}
+
+// ClipGlobalNorm scales g so that its global L2 norm (over all slices) is
+// at most maxNorm, and returns the norm before scaling. maxNorm ≤ 0 only
+// measures.
+func ClipGlobalNorm(g [][]float64, maxNorm float64) float64 {
+	s := 0.0
+	for _, gi := range g {
+		for _, v := range gi {
+			s += v * v
+		}
+	}
+	norm := math.Sqrt(s)
+	if maxNorm > 0 && norm > maxNorm {
+		f := maxNorm / norm
+		for _, gi := range g {
+			for j := range gi {
+				gi[j] *= f
+			}
+		}
+	}
+	return norm
+}

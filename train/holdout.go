@@ -1,0 +1,121 @@
+package train
+
+import (
+	"fmt"
+	"math"
+	"slices"
+	"strconv"
+	"strings"
+
+	"tidemark/data"
+)
+
+// ParseHoldout selects the grid points of g that a --holdout text names and
+// returns their indices, ascending. The text is comma-separated conditions,
+// one per axis, each "name=v1;v2;…" (listed values, each of which must be a
+// grid value of that axis) or "name=start:stop" (every grid value in the
+// closed range). A point is held out when it meets every condition; axes
+// without a condition match anything. Values are compared with a relative
+// tolerance of 1e-9 so that "T=2.2" finds 2.2000000000000002.
+func ParseHoldout(spec string, g *data.Grid) ([]int, error) {
+	spec = strings.TrimSpace(spec)
+	if spec == "" {
+		return nil, nil
+	}
+	type cond struct {
+		axis   int
+		values []float64
+		lo, hi float64
+		isRng  bool
+	}
+	var conds []cond
+	seen := map[string]bool{}
+	for _, part := range strings.Split(spec, ",") {
+		eq := strings.IndexByte(part, '=')
+		if eq < 0 {
+			return nil, fmt.Errorf("holdout %q: expected name=v1;v2 or name=start:stop, found %q with no '='", spec, part)
+		}
+		name := strings.TrimSpace(part[:eq])
+		axis := slices.Index(g.Names, name)
+		if axis < 0 {
+			return nil, fmt.Errorf("holdout %q: expected a parameter name of the dataset %q, found %q", spec, g.Names, name)
+		}
+		if seen[name] {
+			return nil, fmt.Errorf("holdout %q: parameter %q appears twice", spec, name)
+		}
+		seen[name] = true
+		rhs := strings.TrimSpace(part[eq+1:])
+		c := cond{axis: axis}
+		if strings.Contains(rhs, ":") {
+			f := strings.Split(rhs, ":")
+			if len(f) != 2 {
+				return nil, fmt.Errorf("holdout %q: expected a range start:stop for %s, found %q", spec, name, rhs)
+			}
+			lo, err1 := parseNum(f[0])
+			hi, err2 := parseNum(f[1])
+			if err1 != nil || err2 != nil || hi < lo {
+				return nil, fmt.Errorf("holdout %q: expected a range start:stop of two numbers with start ≤ stop for %s, found %q", spec, name, rhs)
+			}
+			c.isRng, c.lo, c.hi = true, lo, hi
+		} else {
+			for _, s := range strings.Split(rhs, ";") {
+				v, err := parseNum(s)
+				if err != nil {
+					return nil, fmt.Errorf("holdout %q: expected a number for %s, found %q", spec, name, s)
+				}
+				if !slices.ContainsFunc(g.Axes[axis], func(a float64) bool { return near(a, v) }) {
+					return nil, fmt.Errorf("holdout %q: %s=%s is not a grid value; the dataset's values of %s are %s", spec, name, strings.TrimSpace(s), name, formatList(g.Axes[axis]))
+				}
+				c.values = append(c.values, v)
+			}
+		}
+		conds = append(conds, c)
+	}
+	var held []int
+	for k, p := range g.Points {
+		ok := true
+		for _, c := range conds {
+			v := p[c.axis]
+			if c.isRng {
+				ok = ok && (v >= c.lo || near(v, c.lo)) && (v <= c.hi || near(v, c.hi))
+			} else {
+				ok = ok && slices.ContainsFunc(c.values, func(a float64) bool { return near(a, v) })
+			}
+		}
+		if ok {
+			held = append(held, k)
+		}
+	}
+	if len(held) == 0 {
+		return nil, fmt.Errorf("holdout %q: selects no grid point", spec)
+	}
+	if g.K()-len(held) < 2 {
+		return nil, fmt.Errorf("holdout %q: holds out %d of the %d grid points, expected at least 2 left for training", spec, len(held), g.K())
+	}
+	return held, nil
+}
+
+func near(a, b float64) bool {
+	return math.Abs(a-b) <= 1e-9*math.Max(1, math.Max(math.Abs(a), math.Abs(b)))
+}
+
+func parseNum(s string) (float64, error) {
+	v, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
+	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0, fmt.Errorf("not a finite number: %q", s)
+	}
+	return v, nil
+}
+
+func formatList(v []float64) string {
+	const most = 12
+	var parts []string
+	for i, x := range v {
+		if i == most {
+			parts = append(parts, fmt.Sprintf("… (%d in all)", len(v)))
+			break
+		}
+		parts = append(parts, strconv.FormatFloat(x, 'g', 6, 64))
+	}
+	return strings.Join(parts, ", ")
+}

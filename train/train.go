@@ -1,0 +1,772 @@
+package train
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"slices"
+	"sync"
+	"time"
+
+	"tidemark/checkpoints"
+	"tidemark/data"
+	"tidemark/model"
+)
+
+// Arch is the architecture a new run builds.
+type Arch struct {
+	// Hidden lists the masked hidden widths; nil means two layers of
+	// model.DefaultHiddenWidth(N).
+	Hidden []int
+	// CondHidden lists the conditioning net's hidden widths; nil means the
+	// model's default, an empty non-nil slice means none.
+	CondHidden []int
+	// Fourier is the number of Fourier frequencies of the λ features.
+	Fourier int
+	// Activation is "relu" or "tanh".
+	Activation string
+	// Direct adds the masked direct input→output connection.
+	Direct bool
+	// Order is "rowmajor" or "snake" (boustrophedon on a 2-D lattice).
+	Order string
+	// Symmetric makes a q = 2 model invariant under flipping every site.
+	Symmetric bool
+}
+
+// Settings are the settings of a new run.
+type Settings struct {
+	// Arch is the architecture.
+	Arch Arch
+	// Epochs is the maximum number of passes over the training samples.
+	Epochs int
+	// Batch is the minibatch size in snapshots.
+	Batch int
+	// LR is the initial learning rate; MinLR the floor of the schedule.
+	LR, MinLR float64
+	// Seed seeds every random choice.
+	Seed uint64
+	// ValFrac is the fraction of each grid point's samples kept for
+	// validation (at least one sample per point).
+	ValFrac float64
+	// Patience is the number of epochs without a validation improvement
+	// after which training stops.
+	Patience int
+	// Schedule is "plateau" (multiply the rate by PlateauFactor after
+	// PlateauPatience epochs without improvement), "cosine" (cosine decay
+	// from LR to MinLR over Epochs) or "constant".
+	Schedule        string
+	PlateauPatience int
+	PlateauFactor   float64
+	// WeightDecay is the decoupled (AdamW) weight decay per unit learning
+	// rate, applied to weight matrices, not biases.
+	WeightDecay float64
+	// Clip is the maximum global L2 norm of the gradient of the mean NLL per
+	// site; ≤ 0 disables clipping.
+	Clip float64
+	// Beta1, Beta2 and Eps are Adam's constants.
+	Beta1, Beta2, Eps float64
+	// Threads is the number of gorgonia graphs each minibatch is split
+	// across (≥ 1).
+	Threads int
+}
+
+// DefaultSettings returns settings that train the demo-sized systems
+// (4×4 to 16×16 Ising, 10–20 grid points, 500–2000 samples each) without
+// tuning.
+func DefaultSettings() Settings {
+	return Settings{
+		Arch:            Arch{Fourier: 2, Activation: "relu", Direct: true, Order: "rowmajor"},
+		Epochs:          60,
+		Batch:           128,
+		LR:              2e-3,
+		MinLR:           1e-5,
+		Seed:            1,
+		ValFrac:         0.1,
+		Patience:        10,
+		Schedule:        "plateau",
+		PlateauPatience: 3,
+		PlateauFactor:   0.5,
+		Clip:            1,
+		Beta1:           0.9,
+		Beta2:           0.999,
+		Eps:             1e-8,
+		Threads:         1,
+	}
+}
+
+// Validate reports the first bad setting.
+func (s Settings) Validate() error {
+	switch {
+	case s.Epochs < 1:
+		return fmt.Errorf("epochs: expected at least 1, found %d", s.Epochs)
+	case s.Batch < 1:
+		return fmt.Errorf("batch: expected at least 1 snapshot, found %d", s.Batch)
+	case !(s.LR > 0) || math.IsInf(s.LR, 0):
+		return fmt.Errorf("lr: expected a positive learning rate, found %v", s.LR)
+	case s.MinLR < 0 || s.MinLR > s.LR:
+		return fmt.Errorf("min-lr: expected 0 ≤ min-lr ≤ lr = %v, found %v", s.LR, s.MinLR)
+	case !(s.ValFrac > 0 && s.ValFrac < 1):
+		return fmt.Errorf("val-frac: expected a fraction strictly between 0 and 1, found %v", s.ValFrac)
+	case s.Patience < 1:
+		return fmt.Errorf("patience: expected at least 1 epoch, found %d", s.Patience)
+	case s.Schedule != "plateau" && s.Schedule != "cosine" && s.Schedule != "constant":
+		return fmt.Errorf("schedule: expected plateau, cosine or constant, found %q", s.Schedule)
+	case s.Schedule == "plateau" && (s.PlateauPatience < 1 || !(s.PlateauFactor > 0 && s.PlateauFactor < 1)):
+		return fmt.Errorf("plateau schedule: expected patience ≥ 1 and a factor in (0, 1), found %d and %v", s.PlateauPatience, s.PlateauFactor)
+	case s.WeightDecay < 0 || math.IsNaN(s.WeightDecay):
+		return fmt.Errorf("weight-decay: expected a rate ≥ 0, found %v", s.WeightDecay)
+	case math.IsNaN(s.Clip):
+		return fmt.Errorf("clip: expected a gradient norm (≤ 0 for none), found %v", s.Clip)
+	case !(s.Beta1 >= 0 && s.Beta1 < 1 && s.Beta2 >= 0 && s.Beta2 < 1 && s.Eps > 0):
+		return fmt.Errorf("adam: expected 0 ≤ β1, β2 < 1 and ε > 0, found %v, %v, %v", s.Beta1, s.Beta2, s.Eps)
+	case s.Threads < 1:
+		return fmt.Errorf("threads: expected at least 1, found %d", s.Threads)
+	case s.Arch.Order != "rowmajor" && s.Arch.Order != "snake":
+		return fmt.Errorf("order: expected rowmajor or snake, found %q", s.Arch.Order)
+	}
+	return nil
+}
+
+// Resume continues a run from a checkpoint. Settings come from the
+// checkpoint; the fields set here (non-zero) replace them.
+type Resume struct {
+	// From is the checkpoint to continue.
+	From *checkpoints.Checkpoint
+	// Epochs, Patience and Threads, when > 0, replace the recorded values.
+	Epochs, Patience, Threads int
+}
+
+// Options configure Run.
+type Options struct {
+	// Settings of a new run (ignored when resuming).
+	Settings Settings
+	// Holdout is the --holdout text of a new run (see ParseHoldout).
+	Holdout string
+	// Resume, if non-nil, continues a previous run instead.
+	Resume *Resume
+	// StopAfter, when > 0, stops after this many epochs of this call
+	// (for tests and staged runs); the result can be resumed.
+	StopAfter int
+	// DataPath and Software are recorded in the checkpoint.
+	DataPath, Software string
+	// Progress, if set, is called with the number of training snapshots
+	// processed after each minibatch.
+	Progress func(n int)
+	// OnEpoch, if set, is called after every completed epoch with its
+	// metrics and the checkpoint of that moment; an error stops training.
+	OnEpoch func(m checkpoints.EpochMetrics, ck *checkpoints.Checkpoint) error
+	// Warn, if set, receives messages about recoveries (a non-finite loss).
+	Warn func(msg string)
+}
+
+// ErrInterrupted is returned (wrapped) when the context is cancelled; the
+// checkpoint returned with it holds the state after the last completed
+// epoch (the interrupted epoch is discarded and is repeated on resume).
+var ErrInterrupted = errors.New("training interrupted")
+
+// maxNonFinite is the number of consecutive non-finite epochs after which
+// training gives up.
+const maxNonFinite = 3
+
+// faultHook, set only by tests, makes the first minibatch loss of an epoch
+// non-finite when it returns true.
+var faultHook func(epoch int) bool
+
+// shuffleSalt separates the epoch-shuffle streams from the per-point split
+// streams drawn from the same seed.
+const shuffleSalt = 0x7464_6d6b_7368_7566
+
+type run struct {
+	ds       *data.Dataset
+	grid     *data.Grid
+	st       Settings
+	opt      Options
+	m        *model.Model
+	graphs   []*model.Graph
+	adam     *Adam
+	w        [][]float64 // views of m.Weights[i].Data
+	best     [][]float64
+	grads    [][][]float64 // per thread
+	gsum     [][]float64
+	trainIdx []int
+	valIdx   [][]int // per grid point
+	heldIdx  [][]int // per held-out point
+	held     []int
+	hdr      checkpoints.Header
+	lr       float64
+	bestVal  float64 // nats per site
+}
+
+// Run trains a model on ds and returns its checkpoint. On cancellation of
+// ctx it returns the checkpoint of the last completed epoch together with an
+// error wrapping ErrInterrupted.
+func Run(ctx context.Context, ds *data.Dataset, opt Options) (*checkpoints.Checkpoint, error) {
+	if err := ds.Validate(opt.DataPath); err != nil {
+		return nil, err
+	}
+	r := &run{ds: ds, grid: data.NewGrid(ds), opt: opt}
+	fp := checkpoints.Fingerprint(ds)
+	var err error
+	if opt.Resume != nil {
+		err = r.resume(fp)
+	} else {
+		err = r.start(fp)
+	}
+	if err != nil {
+		return nil, err
+	}
+	return r.loop(ctx)
+}
+
+// split makes the per-point validation split, deterministic in (seed, k).
+func (r *run) split() {
+	g := r.grid
+	isHeld := map[int]bool{}
+	for _, k := range r.held {
+		isHeld[k] = true
+		r.heldIdx = append(r.heldIdx, g.Index[k])
+	}
+	r.valIdx = make([][]int, g.K())
+	r.trainIdx = r.trainIdx[:0]
+	for k, idx := range g.Index {
+		if isHeld[k] {
+			continue
+		}
+		idx = slices.Clone(idx)
+		rng := rand.New(rand.NewPCG(r.st.Seed, uint64(k)))
+		rng.Shuffle(len(idx), func(i, j int) { idx[i], idx[j] = idx[j], idx[i] })
+		nv := int(math.Round(r.st.ValFrac * float64(len(idx))))
+		nv = min(max(nv, 1), len(idx)-1)
+		val := slices.Clone(idx[:nv])
+		slices.Sort(val)
+		r.valIdx[k] = val
+		r.trainIdx = append(r.trainIdx, idx[nv:]...)
+	}
+	slices.Sort(r.trainIdx)
+}
+
+func (r *run) start(fp string) error {
+	st := r.opt.Settings
+	if err := st.Validate(); err != nil {
+		return err
+	}
+	r.st = st
+	held, err := ParseHoldout(r.opt.Holdout, r.grid)
+	if err != nil {
+		return err
+	}
+	r.held = held
+	ds := r.ds
+	lo, hi := make([]float64, ds.D), make([]float64, ds.D)
+	for a, ax := range r.grid.Axes {
+		lo[a], hi[a] = ax[0], ax[len(ax)-1]
+	}
+	cfg := model.DefaultConfig(ds.N, ds.Meta.Alphabet, ds.D, lo, hi)
+	a := st.Arch
+	if a.Hidden != nil {
+		cfg.Hidden = slices.Clone(a.Hidden)
+	}
+	if a.CondHidden != nil {
+		cfg.CondHidden = slices.Clone(a.CondHidden)
+	}
+	cfg.Fourier = a.Fourier
+	if a.Activation != "" {
+		cfg.Activation = a.Activation
+	}
+	cfg.Direct = a.Direct
+	cfg.Symmetric = a.Symmetric
+	if a.Order == "snake" {
+		lat := ds.Meta.Lattice
+		if len(lat) != 2 {
+			return fmt.Errorf("order snake: expected a 2-D lattice, found lattice %v", lat)
+		}
+		cfg.Order = model.SnakeOrder(lat[0], lat[1])
+	}
+	if err := cfg.Validate(); err != nil {
+		return err
+	}
+	m, err := model.New(cfg, st.Seed)
+	if err != nil {
+		return err
+	}
+	r.m = m
+	r.split()
+	r.adam = NewAdam(r.sizes(), st.Beta1, st.Beta2, st.Eps, st.WeightDecay)
+	r.lr = st.LR
+	r.bestVal = math.Inf(1)
+	r.hdr = checkpoints.Header{
+		Software:    r.opt.Software,
+		Model:       cfg,
+		ParamNames:  slices.Clone(ds.Meta.ParamNames),
+		Alphabet:    ds.Meta.Alphabet,
+		Lattice:     slices.Clone(ds.Meta.Lattice),
+		Dataset:     checkpoints.DatasetInfo{Fingerprint: fp, Path: r.opt.DataPath, Snapshots: ds.M, Sites: ds.N, Points: r.grid.K(), Source: ds.Meta.Source},
+		HoldoutSpec: r.opt.Holdout,
+		HeldOut:     [][]float64{},
+		Metrics:     []checkpoints.EpochMetrics{},
+		Training:    r.trainingRecord(),
+		Optimizer:   checkpoints.OptimizerState{Method: r.method()},
+	}
+	for _, k := range held {
+		r.hdr.HeldOut = append(r.hdr.HeldOut, slices.Clone(r.grid.Points[k]))
+	}
+	return r.finishSetup(nil)
+}
+
+func (r *run) method() string {
+	if r.st.WeightDecay > 0 {
+		return "adamw"
+	}
+	return "adam"
+}
+
+func (r *run) sizes() []int {
+	s := make([]int, len(r.m.Weights))
+	for i, t := range r.m.Weights {
+		s[i] = len(t.Data)
+	}
+	return s
+}
+
+func (r *run) trainingRecord() checkpoints.Training {
+	st := r.st
+	nv, nh := 0, 0
+	for _, v := range r.valIdx {
+		nv += len(v)
+	}
+	for _, v := range r.heldIdx {
+		nh += len(v)
+	}
+	return checkpoints.Training{
+		Epochs: st.Epochs, Batch: st.Batch, LR: st.LR, MinLR: st.MinLR, Seed: st.Seed,
+		ValFrac: st.ValFrac, Patience: st.Patience, Schedule: st.Schedule,
+		PlateauPatience: st.PlateauPatience, PlateauFactor: st.PlateauFactor,
+		WeightDecay: st.WeightDecay, Clip: st.Clip, Beta1: st.Beta1, Beta2: st.Beta2, Eps: st.Eps,
+		Threads: st.Threads, OrderName: st.Arch.Order,
+		TrainSnapshots: len(r.trainIdx), ValSnapshots: nv, HeldSnapshots: nh,
+	}
+}
+
+func (r *run) resume(fp string) error {
+	res := r.opt.Resume
+	ck := res.From
+	h := ck.Header
+	if h.Dataset.Fingerprint != fp {
+		return fmt.Errorf("resume: the checkpoint was trained on a different dataset (fingerprint %.12s…, file %q), this one's fingerprint is %.12s…; resuming needs exactly the same data", h.Dataset.Fingerprint, h.Dataset.Path, fp)
+	}
+	if err := ck.CheckDataset(r.ds); err != nil {
+		return fmt.Errorf("resume: %w", err)
+	}
+	if ck.AdamM == nil || ck.AdamV == nil {
+		return errors.New("resume: the checkpoint holds no optimiser state")
+	}
+	t := h.Training
+	r.st = Settings{
+		Arch:   Arch{Order: t.OrderName},
+		Epochs: t.Epochs, Batch: t.Batch, LR: t.LR, MinLR: t.MinLR, Seed: t.Seed, ValFrac: t.ValFrac,
+		Patience: t.Patience, Schedule: t.Schedule, PlateauPatience: t.PlateauPatience, PlateauFactor: t.PlateauFactor,
+		WeightDecay: t.WeightDecay, Clip: t.Clip, Beta1: t.Beta1, Beta2: t.Beta2, Eps: t.Eps, Threads: t.Threads,
+	}
+	if res.Epochs > 0 {
+		r.st.Epochs = res.Epochs
+	}
+	if res.Patience > 0 {
+		r.st.Patience = res.Patience
+	}
+	if res.Threads > 0 {
+		r.st.Threads = res.Threads
+	}
+	if err := r.st.Validate(); err != nil {
+		return fmt.Errorf("resume: %w", err)
+	}
+	for _, p := range h.HeldOut {
+		k := r.grid.Find(p)
+		if k < 0 {
+			return fmt.Errorf("resume: held-out point %s is not a grid point of the dataset", data.FormatPoint(h.ParamNames, p))
+		}
+		r.held = append(r.held, k)
+	}
+	m, err := ck.LastModel()
+	if err != nil {
+		return fmt.Errorf("resume: %w", err)
+	}
+	r.m = m
+	r.split()
+	r.adam = NewAdam(r.sizes(), r.st.Beta1, r.st.Beta2, r.st.Eps, r.st.WeightDecay)
+	for i := range r.adam.M {
+		if len(ck.AdamM[i].Data) != len(r.adam.M[i]) || len(ck.AdamV[i].Data) != len(r.adam.V[i]) {
+			return fmt.Errorf("resume: optimiser state of %q has the wrong size", ck.AdamM[i].Name)
+		}
+		copy(r.adam.M[i], ck.AdamM[i].Data)
+		copy(r.adam.V[i], ck.AdamV[i].Data)
+	}
+	o := h.Optimizer
+	r.adam.Step = o.Step
+	r.lr = o.LR
+	r.bestVal = o.BestVal
+	if h.BestEpoch == 0 {
+		r.bestVal = math.Inf(1)
+	}
+	r.hdr = h
+	r.hdr.Software = r.opt.Software
+	r.hdr.Stopped = ""
+	r.hdr.Training = r.trainingRecord()
+	r.hdr.Metrics = slices.Clone(h.Metrics)
+	best := make([][]float64, len(ck.Best))
+	for i, t := range ck.Best {
+		best[i] = slices.Clone(t.Data)
+	}
+	return r.finishSetup(best)
+}
+
+// finishSetup builds the graphs and buffers; best, if non-nil, are the
+// best weights so far.
+func (r *run) finishSetup(best [][]float64) error {
+	for _, t := range r.m.Weights {
+		r.w = append(r.w, t.Data)
+	}
+	r.adam.Decay = make([]bool, len(r.m.Weights))
+	for i, t := range r.m.Weights {
+		r.adam.Decay[i] = len(t.Shape) >= 2
+	}
+	if best == nil {
+		best = make([][]float64, len(r.w))
+		for i, w := range r.w {
+			best[i] = slices.Clone(w)
+		}
+	}
+	r.best = best
+	T := min(r.st.Threads, r.st.Batch)
+	per := (r.st.Batch + T - 1) / T
+	for t := 0; t < T; t++ {
+		g, err := model.NewGraph(r.m, per)
+		if err != nil {
+			return err
+		}
+		r.graphs = append(r.graphs, g)
+		gr := make([][]float64, len(r.w))
+		for i, w := range r.w {
+			gr[i] = make([]float64, len(w))
+		}
+		r.grads = append(r.grads, gr)
+	}
+	r.gsum = make([][]float64, len(r.w))
+	for i, w := range r.w {
+		r.gsum[i] = make([]float64, len(w))
+	}
+	if len(r.trainIdx) == 0 {
+		return errors.New("no training samples left after the validation split and holdout")
+	}
+	return nil
+}
+
+type saved struct {
+	w, m, v [][]float64
+	step    int
+}
+
+func clone2(a [][]float64) [][]float64 {
+	out := make([][]float64, len(a))
+	for i, x := range a {
+		out[i] = slices.Clone(x)
+	}
+	return out
+}
+
+func copy2(dst, src [][]float64) {
+	for i := range dst {
+		copy(dst[i], src[i])
+	}
+}
+
+func (r *run) save() saved {
+	return saved{w: clone2(r.w), m: clone2(r.adam.M), v: clone2(r.adam.V), step: r.adam.Step}
+}
+
+func (r *run) restore(s saved) {
+	copy2(r.w, s.w)
+	copy2(r.adam.M, s.m)
+	copy2(r.adam.V, s.v)
+	r.adam.Step = s.step
+}
+
+func (r *run) warn(format string, args ...any) {
+	if r.opt.Warn != nil {
+		r.opt.Warn(fmt.Sprintf(format, args...))
+	}
+}
+
+func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
+	N := float64(r.ds.N)
+	nonFinite := 0
+	done := 0
+	for {
+		epoch := r.hdr.Optimizer.Epoch + 1
+		switch {
+		case epoch > r.st.Epochs:
+			r.hdr.Stopped = "max epochs"
+		case r.hdr.Optimizer.SinceBest >= r.st.Patience:
+			r.hdr.Stopped = "early stopping"
+		case r.opt.StopAfter > 0 && done >= r.opt.StopAfter:
+			r.hdr.Stopped = "stop after"
+		}
+		if r.hdr.Stopped != "" {
+			break
+		}
+		if r.st.Schedule == "cosine" {
+			r.lr = r.st.MinLR + 0.5*(r.st.LR-r.st.MinLR)*(1+math.Cos(math.Pi*float64(epoch-1)/float64(r.st.Epochs)))
+		}
+		before := r.save()
+		t0 := time.Now()
+		trainNLL, err := r.epoch(ctx, epoch)
+		if errors.Is(err, ErrInterrupted) {
+			r.restore(before)
+			r.hdr.Stopped = "interrupted"
+			ck, cerr := r.checkpoint()
+			if cerr != nil {
+				return nil, cerr
+			}
+			return ck, err
+		}
+		if err != nil {
+			return nil, err
+		}
+		trainSec := time.Since(t0).Seconds()
+		val := math.NaN()
+		if !math.IsNaN(trainNLL) {
+			val, err = r.nll(r.valIdx, r.grid.Points, r.m)
+			if err != nil {
+				return nil, err
+			}
+		}
+		if math.IsNaN(trainNLL) || math.IsInf(trainNLL, 0) || math.IsNaN(val) || math.IsInf(val, 0) {
+			r.restore(before)
+			nonFinite++
+			if nonFinite >= maxNonFinite {
+				return nil, fmt.Errorf("training diverged: the loss was not finite in %d epochs in a row (at epoch %d, learning rate %.3g); try a smaller --lr or --clip", nonFinite, epoch, r.lr)
+			}
+			r.lr /= 2
+			r.warn("epoch %d: the loss became non-finite; restored the weights of the last good epoch and halved the learning rate to %.3g", epoch, r.lr)
+			continue
+		}
+		nonFinite = 0
+		sec := time.Since(t0).Seconds()
+		met := checkpoints.EpochMetrics{
+			Epoch:            epoch,
+			TrainBitsPerSite: trainNLL / N / math.Ln2,
+			ValBitsPerSite:   val / math.Ln2,
+			SamplesPerS:      float64(len(r.trainIdx)) / math.Max(trainSec, 1e-9),
+			Seconds:          sec,
+			LR:               r.lr,
+		}
+		r.hdr.Metrics = append(r.hdr.Metrics, met)
+		o := &r.hdr.Optimizer
+		o.Epoch = epoch
+		if val < r.bestVal-1e-4*math.Abs(r.bestVal) || r.hdr.BestEpoch == 0 {
+			r.bestVal = val
+			copy2(r.best, r.w)
+			r.hdr.BestEpoch = epoch
+			r.hdr.BestValBitsPerSite = val / math.Ln2
+			o.SinceBest, o.SincePlateau = 0, 0
+		} else {
+			o.SinceBest++
+			o.SincePlateau++
+			if r.st.Schedule == "plateau" && o.SincePlateau >= r.st.PlateauPatience && r.lr > r.st.MinLR {
+				r.lr = math.Max(r.lr*r.st.PlateauFactor, r.st.MinLR)
+				o.SincePlateau = 0
+			}
+		}
+		done++
+		if r.opt.OnEpoch != nil {
+			ck, err := r.checkpoint()
+			if err != nil {
+				return nil, err
+			}
+			if err := r.opt.OnEpoch(met, ck); err != nil {
+				return nil, err
+			}
+		}
+	}
+	return r.checkpoint()
+}
+
+// epoch runs one pass over the shuffled training samples and returns the
+// mean training NLL in nats per snapshot, NaN if a loss or gradient was not
+// finite.
+func (r *run) epoch(ctx context.Context, epoch int) (float64, error) {
+	ds := r.ds
+	N, D := ds.N, ds.D
+	order := slices.Clone(r.trainIdx)
+	rng := rand.New(rand.NewPCG(r.st.Seed^shuffleSalt, uint64(epoch)))
+	rng.Shuffle(len(order), func(i, j int) { order[i], order[j] = order[j], order[i] })
+	B := r.st.Batch
+	T := len(r.graphs)
+	xs := make([]uint8, B*N)
+	ps := make([]float64, B*D)
+	losses := make([]float64, T)
+	errs := make([]error, T)
+	sum := 0.0
+	for b := 0; b < len(order); b += B {
+		if ctx.Err() != nil {
+			return 0, fmt.Errorf("%w at epoch %d", ErrInterrupted, epoch)
+		}
+		idx := order[b:min(b+B, len(order))]
+		n := len(idx)
+		for i, m := range idx {
+			copy(xs[i*N:(i+1)*N], ds.States[m*N:(m+1)*N])
+			copy(ps[i*D:(i+1)*D], ds.Params[m*D:(m+1)*D])
+		}
+		var wg sync.WaitGroup
+		for t := 0; t < T; t++ {
+			lo, hi := t*n/T, (t+1)*n/T
+			losses[t], errs[t] = 0, nil
+			if hi == lo {
+				continue
+			}
+			run := func() {
+				losses[t], errs[t] = r.graphs[t].LossGrad(xs[lo*N:hi*N], ps[lo*D:hi*D], hi-lo, r.grads[t])
+			}
+			if T == 1 {
+				run()
+				continue
+			}
+			wg.Add(1)
+			go func() { defer wg.Done(); run() }()
+		}
+		wg.Wait()
+		loss := 0.0
+		for i := range r.gsum {
+			clear(r.gsum[i])
+		}
+		for t := 0; t < T; t++ {
+			if errs[t] != nil {
+				return 0, errs[t]
+			}
+			lo, hi := t*n/T, (t+1)*n/T
+			if hi == lo {
+				continue
+			}
+			f := float64(hi-lo) / float64(n)
+			loss += f * losses[t]
+			// The gradient of the mean NLL per site: each chunk's mean
+			// per-snapshot gradient weighted by its share, divided by N.
+			f /= float64(N)
+			for i, g := range r.grads[t] {
+				s := r.gsum[i]
+				for j, v := range g {
+					s[j] += f * v
+				}
+			}
+		}
+		if b == 0 && faultHook != nil && faultHook(epoch) {
+			loss = math.NaN()
+		}
+		norm := ClipGlobalNorm(r.gsum, r.st.Clip)
+		if math.IsNaN(loss) || math.IsInf(loss, 0) || math.IsNaN(norm) || math.IsInf(norm, 0) {
+			return math.NaN(), nil
+		}
+		r.adam.Update(r.w, r.gsum, r.lr)
+		sum += loss * float64(n)
+		if r.opt.Progress != nil {
+			r.opt.Progress(n)
+		}
+	}
+	return sum / float64(len(order)), nil
+}
+
+// nll returns the mean negative log-likelihood in nats per site of the
+// samples in groups (group k at point pts[k]), computed with the scoring
+// kernel, one goroutine per thread over groups; the sum runs in group order,
+// so the result does not depend on the thread count.
+func (r *run) nll(groups [][]int, pts [][]float64, m *model.Model) (float64, error) {
+	N := r.ds.N
+	sums := make([]float64, len(groups))
+	errs := make([]error, len(groups))
+	next := make(chan int)
+	var wg sync.WaitGroup
+	for t := 0; t < r.st.Threads; t++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for k := range next {
+				idx := groups[k]
+				xs := make([]uint8, len(idx)*N)
+				for i, s := range idx {
+					copy(xs[i*N:(i+1)*N], r.ds.States[s*N:(s+1)*N])
+				}
+				lp := make([]float64, len(idx))
+				if err := m.LogProb(lp, xs, pts[k]); err != nil {
+					errs[k] = err
+					continue
+				}
+				for _, v := range lp {
+					sums[k] -= v
+				}
+			}
+		}()
+	}
+	for k, g := range groups {
+		if len(g) > 0 {
+			next <- k
+		}
+	}
+	close(next)
+	wg.Wait()
+	total, n := 0.0, 0
+	for k, g := range groups {
+		if errs[k] != nil {
+			return 0, errs[k]
+		}
+		total += sums[k]
+		n += len(g)
+	}
+	if n == 0 {
+		return math.NaN(), nil
+	}
+	return total / float64(n) / float64(N), nil
+}
+
+// checkpoint builds the checkpoint of the current state.
+func (r *run) checkpoint() (*checkpoints.Checkpoint, error) {
+	mk := func(src [][]float64) []model.Tensor {
+		out := make([]model.Tensor, len(src))
+		for i, t := range r.m.Weights {
+			out[i] = model.Tensor{Name: t.Name, Shape: slices.Clone(t.Shape), Data: slices.Clone(src[i])}
+		}
+		return out
+	}
+	ck := &checkpoints.Checkpoint{Best: mk(r.best), Last: mk(r.w), AdamM: mk(r.adam.M), AdamV: mk(r.adam.V)}
+	h := r.hdr
+	h.Created = time.Now().UTC().Format(time.RFC3339)
+	h.Metrics = slices.Clone(r.hdr.Metrics)
+	h.Optimizer.Step = r.adam.Step
+	h.Optimizer.LR = r.lr
+	h.Optimizer.Method = r.method()
+	h.Optimizer.BestVal = 0
+	if r.hdr.BestEpoch > 0 {
+		h.Optimizer.BestVal = r.bestVal
+	}
+	h.Optimizer.RNG = "derived: validation split of grid point k from PCG(seed, k); shuffle of epoch e from PCG(seed^0x74646d6b73687566, e); initial weights from the seed"
+	h.HeldOutBitsPerSite = nil
+	if len(r.held) > 0 && r.hdr.BestEpoch > 0 {
+		bm, err := model.FromWeights(r.m.Cfg, ck.Best)
+		if err != nil {
+			return nil, err
+		}
+		pts := make([][]float64, len(r.held))
+		for i, k := range r.held {
+			pts[i] = r.grid.Points[k]
+		}
+		v, err := r.nll(r.heldIdx, pts, bm)
+		if err != nil {
+			return nil, err
+		}
+		if !math.IsNaN(v) && !math.IsInf(v, 0) {
+			b := v / math.Ln2
+			h.HeldOutBitsPerSite = &b
+		}
+	}
+	return &checkpoints.Checkpoint{Header: h, Best: ck.Best, Last: ck.Last, AdamM: ck.AdamM, AdamV: ck.AdamV}, nil
+}
