@@ -151,8 +151,13 @@ func TestInterrupt(t *testing.T) {
 	epochs := 0
 	batches := 0
 	ck, err := Run(ctx, ds, Options{Settings: st,
-		OnEpoch:  func(checkpoints.EpochMetrics, *checkpoints.Checkpoint) error { epochs++; return nil },
-		Progress: func(int) { batches++; if epochs == 1 && batches > 12 { cancel() } },
+		OnEpoch: func(checkpoints.EpochMetrics, *checkpoints.Checkpoint) error { epochs++; return nil },
+		Progress: func(int) {
+			batches++
+			if epochs == 1 && batches > 12 {
+				cancel()
+			}
+		},
 	})
 	if !errors.Is(err, ErrInterrupted) {
 		t.Fatalf("error %v, want ErrInterrupted", err)
