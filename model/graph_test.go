@@ -90,9 +90,25 @@ func TestGradientFiniteDifference(t *testing.T) {
 		name string
 		cfg  Config
 	}{
-		{"q2-tanh-direct", smallConfig(5, 2, 1, func(c *Config) { c.Activation = "tanh"; c.Direct = true; c.Hidden = []int{6, 4}; c.CondHidden = []int{3} })},
-		{"q2-tanh-sym", smallConfig(5, 2, 2, func(c *Config) { c.Activation = "tanh"; c.Symmetric = true; c.Hidden = []int{6}; c.CondHidden = []int{3, 2} })},
-		{"q3-tanh-snake", smallConfig(4, 3, 1, func(c *Config) { c.Activation = "tanh"; c.Direct = true; c.Hidden = []int{5, 5}; c.CondHidden = nil; c.Order = SnakeOrder(2, 2) })},
+		{"q2-tanh-direct", smallConfig(5, 2, 1, func(c *Config) {
+			c.Activation = "tanh"
+			c.Direct = true
+			c.Hidden = []int{6, 4}
+			c.CondHidden = []int{3}
+		})},
+		{"q2-tanh-sym", smallConfig(5, 2, 2, func(c *Config) {
+			c.Activation = "tanh"
+			c.Symmetric = true
+			c.Hidden = []int{6}
+			c.CondHidden = []int{3, 2}
+		})},
+		{"q3-tanh-snake", smallConfig(4, 3, 1, func(c *Config) {
+			c.Activation = "tanh"
+			c.Direct = true
+			c.Hidden = []int{5, 5}
+			c.CondHidden = nil
+			c.Order = SnakeOrder(2, 2)
+		})},
 		{"q2-relu", smallConfig(5, 2, 1, func(c *Config) { c.Hidden = []int{6, 5}; c.CondHidden = []int{3} })},
 		{"q4-relu-direct", smallConfig(3, 4, 1, func(c *Config) { c.Direct = true; c.Hidden = []int{5}; c.CondHidden = []int{3} })},
 	}

@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"runtime"
+	"sort"
 	"sync"
 	"sync/atomic"
 
@@ -154,7 +155,12 @@ func (m *Model) gather(p *prep, xs []uint8, r int, flip bool, a0, dx []float64) 
 	}
 }
 
+// addTo adds src[:len(dst)] to dst.
 func addTo(dst, src []float64) {
+	if len(dst) >= 16 {
+		blas64.Implementation().Daxpy(len(dst), 1, src, 1, dst, 1)
+		return
+	}
 	src = src[:len(dst)]
 	for k := range dst {
 		dst[k] += src[k]
@@ -162,26 +168,40 @@ func addTo(dst, src []float64) {
 }
 
 // hidden runs the hidden layers of r snapshots from their first-layer
-// product a0, leaving the last hidden activations in w.h[L-1].
-// cb holds the per-layer biases shared by all rows (len 1) or one set per row.
-func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r int) {
+// product a0, leaving the last hidden activations in w.h[L-1]. With cnt
+// non-nil only the first cnt[l] units of layer l are computed: the units are
+// sorted by degree, and units of degree above cnt's position cannot reach
+// units below it, so the prefix is exact.
+func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r int, cnt []int) {
 	c := m.Cfg
 	relu := c.Activation == "relu"
 	act := actFunc(c.Activation)
 	for l, hw := range c.Hidden {
+		cols := hw
+		if cnt != nil {
+			cols = cnt[l]
+		}
 		h := w.h[l][:r*hw]
 		if l == 0 {
 			copy(h, a0[:r*hw])
 		} else {
 			prev := c.Hidden[l-1]
-			blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
-				blas64.General{Rows: r, Cols: prev, Stride: prev, Data: w.h[l-1]},
-				blas64.General{Rows: prev, Cols: hw, Stride: hw, Data: p.eff[l]},
-				0, blas64.General{Rows: r, Cols: hw, Stride: hw, Data: h})
+			k := prev
+			if cnt != nil {
+				k = cnt[l-1]
+			}
+			if k == 0 || cols == 0 {
+				clear(h)
+			} else {
+				blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
+					blas64.General{Rows: r, Cols: k, Stride: prev, Data: w.h[l-1]},
+					blas64.General{Rows: k, Cols: cols, Stride: hw, Data: p.eff[l]},
+					0, blas64.General{Rows: r, Cols: cols, Stride: hw, Data: h})
+			}
 		}
 		for i := 0; i < r; i++ {
 			b := cb[min(i, len(cb)-1)][l]
-			row := h[i*hw : (i+1)*hw]
+			row := h[i*hw : i*hw+cols]
 			for k := range row {
 				v := row[k] + b[k]
 				if relu {
@@ -252,7 +272,7 @@ func (m *Model) rowLogProbs(dst []float64, xs []uint8, w *workspace, r int, flip
 // scoreBlock writes log p(x_i|λ) of r snapshots whose λ-independent products
 // are already in w.
 func (m *Model) scoreBlock(dst []float64, xs []uint8, p *prep, cb [][][]float64, w *workspace, r int) {
-	m.hidden(p, cb, w, w.a0, r)
+	m.hidden(p, cb, w, w.a0, r, nil)
 	m.logits(p, cb, w, w.dx, r)
 	m.rowLogProbs(dst, xs, w, r, false)
 	if !m.Cfg.Symmetric {
@@ -260,7 +280,7 @@ func (m *Model) scoreBlock(dst []float64, xs []uint8, p *prep, cb [][][]float64,
 	}
 	var buf [blockRows]float64
 	f := buf[:r]
-	m.hidden(p, cb, w, w.a0f, r)
+	m.hidden(p, cb, w, w.a0f, r, nil)
 	m.logits(p, cb, w, w.dxf, r)
 	m.rowLogProbs(f, xs, w, r, true)
 	for i := range f {
@@ -437,14 +457,20 @@ func (m *Model) Sample(dst []uint8, n int, lambda []float64, rng *rand.Rand) (er
 	hl, h0, dout := c.Hidden[L-1], c.Hidden[0], m.lay.dout
 	zs := make([]float64, rows*per)
 	probs := make([]float64, q)
+	cnt := make([]int, L)
 	for i0 := 0; i0 < n; i0 += rows {
 		r := min(rows, n-i0)
 		x := dst[i0*N : (i0+r)*N]
 		clear(x)
 		clear(w.a0[:r*h0])
 		clear(w.dx[:r*dout])
-		for _, s := range c.Order {
-			m.hidden(p, cb, w, w.a0, r)
+		for pos, s := range c.Order {
+			// Only hidden units of degree ≤ pos reach the output at pos.
+			for l := range cnt {
+				cnt[l] = sort.SearchInts(m.hdeg[l], pos+1)
+			}
+			kl := cnt[L-1]
+			m.hidden(p, cb, w, w.a0, r, cnt)
 			// Logits of site s only: the columns s·per … s·per+per−1.
 			z := zs[:r*per]
 			for i := 0; i < r; i++ {
@@ -456,10 +482,12 @@ func (m *Model) Sample(dst []uint8, n int, lambda []float64, rng *rand.Rand) (er
 					}
 				}
 			}
-			blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
-				blas64.General{Rows: r, Cols: hl, Stride: hl, Data: w.h[L-1]},
-				blas64.General{Rows: hl, Cols: per, Stride: dout, Data: p.eff[L][s*per:]},
-				1, blas64.General{Rows: r, Cols: per, Stride: per, Data: z})
+			if kl > 0 {
+				blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
+					blas64.General{Rows: r, Cols: kl, Stride: hl, Data: w.h[L-1]},
+					blas64.General{Rows: kl, Cols: per, Stride: dout, Data: p.eff[L][s*per:]},
+					1, blas64.General{Rows: r, Cols: per, Stride: per, Data: z})
+			}
 			for i := 0; i < r; i++ {
 				var v int
 				u := rng.Float64()

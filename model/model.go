@@ -36,19 +36,20 @@ type Model struct {
 	lay   layout
 	masks []Tensor // one per masked layer, then the direct mask if any
 	deg   []int    // autoregressive position of each site
+	hdeg  [][]int  // degrees of the hidden units of each layer, ascending
 	pool  sync.Pool
 }
 
 // layout records where each parameter lives in Weights.
 type layout struct {
 	din, dout, per int
-	condW, condB []int // per conditioning layer
-	madeW, madeB []int // per masked layer (hidden layers, then output)
-	condV        []int // per masked layer: conditioning head
-	direct       int   // -1 without Direct
-	condOut      int
-	shapes       [][]int
-	names        []string
+	condW, condB   []int // per conditioning layer
+	madeW, madeB   []int // per masked layer (hidden layers, then output)
+	condV          []int // per masked layer: conditioning head
+	direct         int   // -1 without Direct
+	condOut        int
+	shapes         [][]int
+	names          []string
 }
 
 func newLayout(c Config) layout {
@@ -119,9 +120,11 @@ func (m *Model) build() {
 		return d
 	}
 	m.masks = m.masks[:0]
+	m.hdeg = m.hdeg[:0]
 	prev := inDeg
 	for i, h := range c.Hidden {
 		cur := hidDeg(h)
+		m.hdeg = append(m.hdeg, cur)
 		mk := Tensor{Name: fmt.Sprintf("mask.w%d", i), Shape: []int{len(prev), h}, Data: make([]float64, len(prev)*h)}
 		for j, dj := range prev {
 			for k, dk := range cur {

@@ -1,0 +1,113 @@
+package model
+
+import (
+	"math/rand/v2"
+	"testing"
+)
+
+// benchModel is the benchmark architecture: N = 256, q = 2, two masked
+// hidden layers of 512 units, the default conditioning net and a direct
+// connection.
+func benchModel(b *testing.B) *Model {
+	cfg := DefaultConfig(256, 2, 1, []float64{1}, []float64{4})
+	cfg.Hidden = []int{512, 512}
+	m, err := New(cfg, 1)
+	if err != nil {
+		b.Fatal(err)
+	}
+	return m
+}
+
+const benchBatch = 256
+
+func benchData(m *Model, n int) ([]uint8, []float64) {
+	return randomBatch(m.Cfg, n, 42)
+}
+
+func lambdas(k int) [][]float64 {
+	l := make([][]float64, k)
+	for i := range l {
+		l[i] = []float64{1 + 3*float64(i)/float64(k-1)}
+	}
+	return l
+}
+
+// BenchmarkLogProb scores 256 snapshots at one λ per operation.
+func BenchmarkLogProb(b *testing.B) {
+	m := benchModel(b)
+	xs, _ := benchData(m, benchBatch)
+	dst := make([]float64, benchBatch)
+	b.ResetTimer()
+	for b.Loop() {
+		if err := m.LogProb(dst, xs, []float64{2.5}); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "snapshots/s")
+}
+
+// BenchmarkLossGrad is one training step: loss and gradient of a batch of
+// 256 snapshots through the gorgonia graph.
+func BenchmarkLossGrad(b *testing.B) {
+	m := benchModel(b)
+	g, err := NewGraph(m, benchBatch)
+	if err != nil {
+		b.Fatal(err)
+	}
+	xs, ps := benchData(m, benchBatch)
+	grads := zeroGrads(m)
+	b.ResetTimer()
+	for b.Loop() {
+		if _, err := g.LossGrad(xs, ps, benchBatch, grads); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "snapshots/s")
+}
+
+// BenchmarkLogProbMatrix64 scores 256 snapshots at 64 λ in one call on one
+// thread (the first-layer product is shared by all λ).
+func BenchmarkLogProbMatrix64(b *testing.B) {
+	m := benchModel(b)
+	xs, _ := benchData(m, benchBatch)
+	ls := lambdas(64)
+	b.ResetTimer()
+	for b.Loop() {
+		if _, err := m.LogProbMatrix(xs, benchBatch, ls, 1); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(b.N*benchBatch*64)/b.Elapsed().Seconds(), "snapshot·λ/s")
+}
+
+// BenchmarkLogProbSeparate64 is the same work as BenchmarkLogProbMatrix64
+// done by 64 separate LogProb calls.
+func BenchmarkLogProbSeparate64(b *testing.B) {
+	m := benchModel(b)
+	xs, _ := benchData(m, benchBatch)
+	ls := lambdas(64)
+	dst := make([]float64, benchBatch)
+	b.ResetTimer()
+	for b.Loop() {
+		for _, l := range ls {
+			if err := m.LogProb(dst, xs, l); err != nil {
+				b.Fatal(err)
+			}
+		}
+	}
+	b.ReportMetric(float64(b.N*benchBatch*64)/b.Elapsed().Seconds(), "snapshot·λ/s")
+}
+
+// BenchmarkSample draws 256 snapshots per operation.
+func BenchmarkSample(b *testing.B) {
+	m := benchModel(b)
+	dst := make([]uint8, benchBatch*m.Cfg.Sites)
+	rng := rand.New(rand.NewPCG(1, 2))
+	b.ResetTimer()
+	for b.Loop() {
+		if err := m.Sample(dst, benchBatch, []float64{2.5}, rng); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "snapshots/s")
+}
