@@ -118,6 +118,11 @@ func (ch *Chain) uniform32() uint64 {
 	return ch.rbuf & 0xffffffff
 }
 
+// UseMetropolis switches the chain to checkerboard Metropolis sweeps even at
+// h = 0 (for checks and benchmarks; Wolff clusters decorrelate far faster
+// near T_c). Call it before BurnIn.
+func (ch *Chain) UseMetropolis() { ch.wolff = false }
+
 // Wolff reports whether the chain uses cluster updates (h = 0).
 func (ch *Chain) Wolff() bool { return ch.wolff }
 
