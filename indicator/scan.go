@@ -141,11 +141,11 @@ func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
 	}
 	needSampler := cfg.Refine > 1 && !cfg.ExactSums
 	for _, s := range sources {
-		if _, ok := s.(Sampler); needSampler && !ok {
-			return nil, fmt.Errorf("scan: refinement needs samples between grid points, and this source cannot draw them (use a model or an exact source, or --refine 1)")
-		}
 		if gOnly(s) && cfg.Refine > 1 {
 			return nil, errors.New("scan: the histogram is defined only at the grid points; refinement needs a model (train a model)")
+		}
+		if _, ok := s.(Sampler); needSampler && !ok {
+			return nil, fmt.Errorf("scan: refinement needs samples between grid points, and this source cannot draw them (use a model or an exact source, or --refine 1)")
 		}
 	}
 	curves, err := runPass(sources, ds, g, res.Data, res.Layout, cfg, ind, 0)

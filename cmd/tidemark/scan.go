@@ -1,0 +1,284 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"strconv"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"tidemark/cmd/internal/progress"
+	"tidemark/data"
+	"tidemark/data/exact"
+	"tidemark/indicator"
+	"tidemark/indicator/report"
+)
+
+func init() { commands = append(commands, newScanCmd) }
+
+type scanOptions struct {
+	data         string
+	out          string
+	exact        bool
+	histogram    bool
+	models       []string
+	indicators   string
+	refine       int
+	modelSamples int
+	zoom         bool
+	bootstrap    int
+	exactSums    bool
+	window       int
+	slRegions    string
+	threads      int
+	seed         uint64
+	force        bool
+	quiet        bool
+}
+
+func newScanCmd() *cobra.Command {
+	var o scanOptions
+	c := &cobra.Command{
+		Use:   "scan --data FILE.npz -o FOLDER (--exact | --histogram | --model FILE.ckpt ...)",
+		Short: "Compute phase-transition indicators, their errors and peaks over the grid",
+		Long: `scan evaluates the log-likelihood of every snapshot at every grid point with a density
+source (a trained model, the exact reference of a small simulated system, or the empirical
+histogram of the data) and computes from that one matrix the Bayes-optimal indicators:
+  sl      supervised learning on the two end regions of the grid
+  lbc     learning by confusion (1 − the Bayes error of each cut)
+  pbm     prediction-based method (slope of the best parameter estimate; divergence in 2-D)
+  local   total-variation distance of neighbouring windows of --window points
+  fisher  Fisher information, from neighbour Jensen–Shannon divergence (fisher) and, for a
+          source defined between grid points, from ∂λ log p (fisher_deriv)
+Errors come from --bootstrap resamples of the snapshots at each point; several --model
+files (trained with different seeds) add their spread in quadrature. Peaks are local maxima
+standing more than two standard errors above their neighbouring minima, refined by a parabola.
+On a 2-D product grid the curves become maps and the ridges of local and fisher become
+boundary lines. The folder gets indicators.csv, summary.json and SVG/PNG pictures.`,
+		Example: `  tidemark scan --data film.npz --model film.ckpt -o scan/
+  tidemark scan --data film.npz --exact --exact-sums --indicators fisher,local -o exact-scan/
+  tidemark scan --data small.npz --histogram --bootstrap 200 -o hist-scan/
+  tidemark scan --data film.npz --model a.ckpt --model b.ckpt --refine 4 --zoom -o fine/ --force`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return runScan(cmd.OutOrStdout(), &o)
+		},
+	}
+	f := c.Flags()
+	f.StringVar(&o.data, "data", "", "dataset file (.npz) whose grid and snapshots are scanned")
+	f.StringVarP(&o.out, "output", "o", "", "output folder (created; an existing non-empty folder needs --force)")
+	f.BoolVar(&o.exact, "exact", false, "use the exact density of the generator recorded in the dataset (small systems)")
+	f.BoolVar(&o.histogram, "histogram", false, "use the empirical frequencies of the snapshots at each grid point (small systems)")
+	f.StringArrayVar(&o.models, "model", nil, "trained model checkpoint (.ckpt); repeat for several models, whose spread joins the errors")
+	f.StringVar(&o.indicators, "indicators", "all", "comma-separated indicators: all, or some of lbc,sl,pbm,local,fisher")
+	f.IntVar(&o.refine, "refine", 1, "insert R−1 points between neighbouring grid points on every axis (needs a source that samples)")
+	f.IntVar(&o.modelSamples, "model-samples", 1000, "snapshots drawn from the source at each inserted or zoom point")
+	f.BoolVar(&o.zoom, "zoom", false, "re-scan a finer grid (2R+1 points over ±1 grid step) around each peak (1-D grids)")
+	f.IntVar(&o.bootstrap, "bootstrap", 100, "bootstrap resamples for the errors (0: no errors)")
+	f.BoolVar(&o.exactSums, "exact-sums", false, "replace sample means by exact sums over all q^N states (small exact sources)")
+	f.IntVar(&o.window, "window", 1, "window of the local indicator, in grid points on each side")
+	f.StringVar(&o.slRegions, "sl-regions", "", `end regions of sl as two parameter ranges "lo:hi,lo:hi" (default: first and last 10% of the points; 1-D)`)
+	f.IntVar(&o.threads, "threads", 0, "worker threads (default: all CPUs)")
+	f.Uint64Var(&o.seed, "seed", 1, "seed of model sampling and bootstrap resampling")
+	f.BoolVar(&o.force, "force", false, "replace an existing output folder")
+	f.BoolVar(&o.quiet, "quiet", false, "draw no progress bars")
+	c.MarkFlagRequired("data")
+	c.MarkFlagRequired("output")
+	return c
+}
+
+func parseSLRegions(s string) (*indicator.SLRegions, error) {
+	if s == "" {
+		return nil, nil
+	}
+	parts := strings.Split(s, ",")
+	if len(parts) != 2 {
+		return nil, fmt.Errorf(`--sl-regions: expected two ranges "lo:hi,lo:hi", found %q`, s)
+	}
+	var r indicator.SLRegions
+	for i, p := range parts {
+		ab := strings.Split(strings.TrimSpace(p), ":")
+		if len(ab) != 2 {
+			return nil, fmt.Errorf(`--sl-regions: expected a range "lo:hi", found %q`, p)
+		}
+		var v [2]float64
+		for j, x := range ab {
+			f, err := strconv.ParseFloat(strings.TrimSpace(x), 64)
+			if err != nil {
+				return nil, fmt.Errorf("--sl-regions: expected a number, found %q", x)
+			}
+			v[j] = f
+		}
+		if v[0] > v[1] {
+			return nil, fmt.Errorf("--sl-regions: range %q has lo > hi", p)
+		}
+		if i == 0 {
+			r.A = v
+		} else {
+			r.B = v
+		}
+	}
+	return &r, nil
+}
+
+func parseIndicators(s string) ([]string, error) {
+	if s == "" || s == "all" {
+		return indicator.AllIndicators, nil
+	}
+	var out []string
+	for _, n := range strings.Split(s, ",") {
+		n = strings.TrimSpace(n)
+		ok := false
+		for _, a := range indicator.AllIndicators {
+			ok = ok || a == n
+		}
+		if !ok {
+			return nil, fmt.Errorf("--indicators: expected all or some of %s, found %q", strings.Join(indicator.AllIndicators, ","), n)
+		}
+		out = append(out, n)
+	}
+	return out, nil
+}
+
+func runScan(w io.Writer, o *scanOptions) error {
+	nsrc := 0
+	for _, b := range []bool{o.exact, o.histogram, len(o.models) > 0} {
+		if b {
+			nsrc++
+		}
+	}
+	if nsrc != 1 {
+		return errors.New("scan: expected exactly one density source: --exact, --histogram or --model FILE.ckpt")
+	}
+	inds, err := parseIndicators(o.indicators)
+	if err != nil {
+		return err
+	}
+	reg, err := parseSLRegions(o.slRegions)
+	if err != nil {
+		return err
+	}
+	if o.refine < 1 {
+		return fmt.Errorf("--refine: expected an integer ≥ 1, found %d", o.refine)
+	}
+	if o.bootstrap < 0 {
+		return fmt.Errorf("--bootstrap: expected an integer ≥ 0, found %d", o.bootstrap)
+	}
+	if o.window < 1 {
+		return fmt.Errorf("--window: expected an integer ≥ 1, found %d", o.window)
+	}
+	if o.modelSamples < 1 {
+		return fmt.Errorf("--model-samples: expected an integer ≥ 1, found %d", o.modelSamples)
+	}
+	if err := report.CheckDir(o.out, o.force); err != nil {
+		return fmt.Errorf("scan: %w", err)
+	}
+	ds, err := data.Read(o.data)
+	if err != nil {
+		return err
+	}
+	if err := ds.Validate(o.data); err != nil {
+		return err
+	}
+	var sources []indicator.Source
+	kind := ""
+	switch {
+	case o.exact:
+		kind = "exact"
+		src, err := exact.FromMeta(ds.Meta)
+		if err != nil {
+			return fmt.Errorf("scan --exact: %s: %w", o.data, err)
+		}
+		sources = append(sources, src)
+	case o.histogram:
+		kind = "histogram"
+		h, err := indicator.NewHistogram(ds)
+		if err != nil {
+			return fmt.Errorf("scan --histogram: %s: %w", o.data, err)
+		}
+		sources = append(sources, h)
+	default:
+		kind = "model"
+		for _, p := range o.models {
+			src, err := loadModelSource(p)
+			if err != nil {
+				return fmt.Errorf("scan --model: %w", err)
+			}
+			sources = append(sources, src)
+		}
+	}
+	var bars []*progress.Bar
+	cfg := indicator.Config{
+		Indicators: inds, Refine: o.refine, ModelSamples: o.modelSamples, Zoom: o.zoom,
+		Bootstrap: o.bootstrap, ExactSums: o.exactSums, Window: o.window, SLRegions: reg,
+		Threads: threadsOrDefault(o.threads), Seed: o.seed,
+		Progress: func(stage string, total int) func(int) {
+			for _, b := range bars {
+				b.Done()
+			}
+			b := progress.New(total, stage, o.quiet)
+			bars = append(bars[:0], b)
+			return b.Func()
+		},
+	}
+	res, err := indicator.Run(sources, ds, cfg)
+	for _, b := range bars {
+		b.Done()
+	}
+	if err != nil {
+		return err
+	}
+	sum, err := report.Write(o.out, o.force, res, report.Info{Source: kind, Data: o.data, Models: o.models, Refine: o.refine, Seed: o.seed})
+	if err != nil {
+		return fmt.Errorf("scan: %w", err)
+	}
+	return printScan(w, o.out, res, sum)
+}
+
+// printScan states every peak with its error, the notes and the caution.
+func printScan(w io.Writer, out string, res *indicator.Result, sum *report.Summary) error {
+	p := func(format string, a ...any) { fmt.Fprintf(w, format, a...) }
+	p("scan: %s source, %d grid points (%d scanned), results in %s\n", sum.Source, sum.Grid.Points, sum.Grid.Scanned, out)
+	for _, c := range res.Curves {
+		if len(c.Lines) == 0 {
+			continue
+		}
+		if len(c.Peaks) == 0 {
+			p("  %-14s no peak above the noise\n", c.Name)
+			continue
+		}
+		for _, pk := range c.Peaks {
+			p("  %-14s peak at %s, height %.4g ± %.2g\n", c.Name, peakString(res.Names, pk), pk.Height, pk.HeightErr)
+		}
+	}
+	for _, b := range res.Boundaries {
+		p("  boundary from %s (ridge along %s): %d points\n", b.Indicator, b.Axis, len(b.Points))
+	}
+	for _, z := range sum.Zoom {
+		p("  zoom around %s (%d points from %.6g to %.6g):\n", data.FormatPoint(res.Names, z.Around), z.Points, z.From, z.To)
+		for name, is := range z.Indicators {
+			for _, pk := range is.Peaks {
+				p("    %-12s peak at %s\n", name, peakString(res.Names, indicator.Peak{At: pk.At, Err: pk.Err}))
+			}
+		}
+	}
+	for _, n := range res.Notes {
+		p("note: %s\n", n)
+	}
+	p("caution: %s\n", indicator.Caution)
+	return nil
+}
+
+func peakString(names []string, pk indicator.Peak) string {
+	parts := make([]string, len(pk.At))
+	for i, v := range pk.At {
+		if i < len(pk.Err) && pk.Err[i] > 0 {
+			parts[i] = fmt.Sprintf("%s=%.5g ± %.2g", names[i], v, pk.Err[i])
+		} else {
+			parts[i] = fmt.Sprintf("%s=%.5g", names[i], v)
+		}
+	}
+	return strings.Join(parts, ", ")
+}

@@ -1,0 +1,141 @@
+package main
+
+import (
+	"encoding/json"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"tidemark/data"
+)
+
+// smallDataset writes a dataset of 4 independent sites, each 1 with
+// probability logistic(4(T−1)), at 7 temperatures with 400 samples each: a
+// distribution small enough for the histogram, changing fastest at T = 1.
+func smallDataset(t *testing.T, dir string) string {
+	t.Helper()
+	ts := []float64{0.4, 0.6, 0.8, 1.0, 1.2, 1.4, 1.6}
+	per, n := 400, 4
+	ds, err := data.New(len(ts)*per, n, []string{"T"}, 2, []int{2, 2}, map[string]any{"generator": "imported"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k, T := range ts {
+		p := 1 / (1 + math.Exp(-4*(T-1)))
+		rng := rand.New(rand.NewPCG(7, uint64(k)))
+		for i := 0; i < per; i++ {
+			m := k*per + i
+			ds.Params[m] = T
+			for j := 0; j < n; j++ {
+				if rng.Float64() < p {
+					ds.States[m*n+j] = 1
+				}
+			}
+		}
+	}
+	path := filepath.Join(dir, "small.npz")
+	if err := ds.Write(path, false); err != nil {
+		t.Fatal(err)
+	}
+	return path
+}
+
+func TestScanCommandHistogram(t *testing.T) {
+	dir := t.TempDir()
+	in := smallDataset(t, dir)
+	out := filepath.Join(dir, "scan")
+	msg, err := execTidemark(t, "scan", "--data", in, "--histogram", "--bootstrap", "40", "-o", out, "--quiet", "--threads", "2")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"histogram source", "peak at T=", "caution: An indicator peak marks where"} {
+		if !strings.Contains(msg, want) {
+			t.Errorf("output lacks %q:\n%s", want, msg)
+		}
+	}
+	for _, f := range []string{"indicators.csv", "summary.json", "lbc.svg", "lbc.png", "local.svg", "fisher.png"} {
+		if st, err := os.Stat(filepath.Join(out, f)); err != nil || st.Size() == 0 {
+			t.Errorf("%s: %v", f, err)
+		}
+	}
+	csv, _ := os.ReadFile(filepath.Join(out, "indicators.csv"))
+	head := strings.SplitN(string(csv), "\n", 2)[0]
+	if !strings.HasPrefix(head, "T,sl,sl_err,lbc,lbc_err") {
+		t.Errorf("csv header %q", head)
+	}
+	// 7 grid points + 6 midpoints; the header line and a final newline.
+	if n := strings.Count(string(csv), "\n"); n != 1+6 {
+		t.Errorf("csv has %d lines, want 7 (the histogram has no curve at grid points)", n)
+	}
+	var sum struct {
+		Source     string   `json:"source"`
+		Params     []string `json:"params"`
+		Grid       struct{ Points int }
+		Indicators map[string]struct {
+			Peaks []struct {
+				At, Err []float64
+			}
+		}
+		Caution string
+	}
+	b, _ := os.ReadFile(filepath.Join(out, "summary.json"))
+	if err := json.Unmarshal(b, &sum); err != nil {
+		t.Fatal(err)
+	}
+	if sum.Source != "histogram" || sum.Params[0] != "T" || sum.Grid.Points != 7 || sum.Caution == "" {
+		t.Errorf("summary %+v", sum)
+	}
+	// The distribution changes fastest at T = 1 (p = 1/2, where the Fisher
+	// information N·a²·p(1−p) of independent sites peaks: common practice);
+	// the midpoints nearest it are 0.9 and 1.1.
+	lp := sum.Indicators["local"].Peaks
+	if len(lp) != 1 || math.Abs(lp[0].At[0]-1) > 0.15 {
+		t.Errorf("local peaks %+v, want one near T=1", lp)
+	}
+
+	// An existing non-empty folder is refused without --force, untouched.
+	if _, err := execTidemark(t, "scan", "--data", in, "--histogram", "-o", out, "--quiet"); err == nil || !strings.Contains(err.Error(), "not empty") {
+		t.Fatalf("existing folder without --force: %v", err)
+	}
+	if b2, _ := os.ReadFile(filepath.Join(out, "summary.json")); string(b2) != string(b) {
+		t.Fatal("summary changed without --force")
+	}
+	if _, err := execTidemark(t, "scan", "--data", in, "--histogram", "--bootstrap", "0", "--indicators", "lbc", "-o", out, "--quiet", "--force"); err != nil {
+		t.Fatalf("--force: %v", err)
+	}
+	if _, err := os.Stat(filepath.Join(out, "local.svg")); err == nil {
+		t.Error("--force left a file of the old scan")
+	}
+}
+
+func TestScanCommandErrors(t *testing.T) {
+	dir := t.TempDir()
+	in := smallDataset(t, dir)
+	cases := []struct {
+		args []string
+		want string
+	}{
+		{[]string{"--data", in, "-o", filepath.Join(dir, "a")}, "exactly one density source"},
+		{[]string{"--data", in, "--histogram", "--exact", "-o", filepath.Join(dir, "a")}, "exactly one density source"},
+		{[]string{"--data", in, "--histogram", "--indicators", "lbc,foo", "-o", filepath.Join(dir, "a")}, `found "foo"`},
+		{[]string{"--data", in, "--histogram", "--refine", "2", "-o", filepath.Join(dir, "a")}, "train a model"},
+		{[]string{"--data", in, "--histogram", "--sl-regions", "0:1", "-o", filepath.Join(dir, "a")}, "--sl-regions"},
+		{[]string{"--data", in, "--model", "x.ckpt", "-o", filepath.Join(dir, "a")}, "model loading not available yet"},
+		{[]string{"--data", in, "--exact", "-o", filepath.Join(dir, "a")}, "no exact reference"},
+		{[]string{"--data", filepath.Join(dir, "missing.npz"), "--histogram", "-o", filepath.Join(dir, "a")}, "missing.npz"},
+	}
+	for _, tc := range cases {
+		t.Run(tc.want, func(t *testing.T) {
+			_, err := execTidemark(t, append([]string{"scan", "--quiet"}, tc.args...)...)
+			if err == nil || !strings.Contains(err.Error(), tc.want) {
+				t.Fatalf("error %v, want one containing %q", err, tc.want)
+			}
+			if _, err := os.Stat(filepath.Join(dir, "a")); err == nil {
+				t.Fatal("a failed scan left an output folder")
+			}
+		})
+	}
+}
