@@ -147,8 +147,8 @@ func (o *simulateIsingOptions) isingConfig() (ising.Config, error) {
 		return cfg, fmt.Errorf("--exact-samples: expected at most %d sites, found %d×%d = %d", ising.MaxExactSites, ly, o.size, lat.N())
 	}
 	total := int64(len(points)) * int64(o.samples) * int64(lat.N())
-	if total > 1<<34 {
-		return cfg, fmt.Errorf("--samples: %d points × %d snapshots × %d sites is %d values, expected at most %d", len(points), o.samples, lat.N(), total, int64(1)<<34)
+	if total > 1<<31 {
+		return cfg, fmt.Errorf("--samples: %d points × %d snapshots × %d sites is %d values, expected at most %d", len(points), o.samples, lat.N(), total, int64(1)<<31)
 	}
 	for _, v := range []struct {
 		flag string

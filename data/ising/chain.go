@@ -233,19 +233,16 @@ func (ch *Chain) WolffCluster() int {
 	stack := append(ch.stack[:0], seed)
 	size := 1
 	for len(stack) > 0 {
-		i := stack[len(stack)-1]
+		i := int(stack[len(stack)-1])
 		stack = stack[:len(stack)-1]
 		old := s[i] ^ 1
-		for d := 0; d < 4; d++ {
-			j := nb[4*int(i)+d]
-			if mark[j] == gen {
-				continue
-			}
+		nbs := nb[4*i : 4*i+4 : 4*i+4]
+		for d, j := range nbs {
 			p, sat := ch.px, ch.satX
 			if d >= 2 {
 				p, sat = ch.py, ch.satY
 			}
-			if (s[j]^old) != sat || p == 0 {
+			if mark[j] == gen || s[j]^old != sat || p == 0 {
 				continue
 			}
 			if p < 1<<32 && ch.uniform32() >= p {

@@ -244,15 +244,11 @@ func (e *Exact) Sample(dst []uint8, n int, c Couplings, rng *rand.Rand) {
 	w := e.weights(c)
 	nsites := e.lat.N()
 	for j := 0; j < n; j++ {
+		// The first class whose cumulative probability exceeds u; classes
+		// of probability 0 are never chosen.
 		u := rng.Float64()
-		k := sort.SearchFloat64s(w.cdf, u)
-		if k < len(w.cdf) && w.cdf[k] == u {
-			k++ // SearchFloat64s finds cdf[k] ≥ u; we need cdf[k] > u
-		}
-		for k < len(w.cdf)-1 && w.cdf[k] == prevBefore(w.cdf, k) {
-			k++ // skip classes of probability 0
-		}
-		if k >= len(w.cdf) {
+		k := sort.Search(len(w.cdf), func(i int) bool { return w.cdf[i] > u })
+		if k == len(w.cdf) {
 			k = len(w.cdf) - 1
 		}
 		lo, hi := e.offsets[k], e.offsets[k+1]
