@@ -7,6 +7,13 @@ import (
 
 // Config is the architecture of a model and the normalisation of its
 // control parameters. It is a plain value and JSON-serialisable.
+//
+// Each parameter axis is mapped affinely from [ParamLo, ParamHi] (the range
+// of the training data) to t ∈ [−1, 1] and expanded into the features t,
+// sin(πft), cos(πft) for f = 1..Fourier. The sine and cosine features are
+// periodic in λ with period (ParamHi−ParamLo), so far outside the training
+// range the model sees features it also saw inside it: probabilities there
+// stay exactly normalised but are extrapolations, not predictions.
 type Config struct {
 	Sites      int       `json:"sites"`       // N
 	Alphabet   int       `json:"alphabet"`    // q ≥ 2
@@ -42,6 +49,17 @@ func DefaultHiddenWidth(n int) int {
 // DefaultHiddenWidth(n) units, a conditioning net with one hidden layer of
 // 64 units, F = 2 Fourier frequencies, relu, a direct connection, row-major
 // order and no flip symmetry. lo and hi are copied.
+//
+// How they were chosen: two hidden layers is the depth Germain et al.
+// (ICML 2015) found to help over one; the width rule is explained at
+// DefaultHiddenWidth. The conditioning net only has to produce smooth
+// functions of a few parameters, so 64 units are plenty and cost little next
+// to the masked layers. F = 2 lets the features resolve a change over a
+// quarter of the training range (a transition region) while keeping the
+// feature count at 5 per axis. relu trains fastest at these widths; tanh is
+// offered for smooth finite-difference derivatives in λ. The direct
+// connection adds a masked logistic-regression term x_<i → x_i, which alone
+// already captures nearest-neighbour couplings and costs N·N weights.
 func DefaultConfig(n, q, d int, lo, hi []float64) Config {
 	w := DefaultHiddenWidth(n)
 	return Config{

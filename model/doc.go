@@ -16,4 +16,18 @@
 //
 // Config and the []Tensor weights are plain Go values, so checkpoints can
 // store and restore a model without knowing gorgonia.
+//
+// Layout. For q = 2 each site is one input (its value 0/1) and one logit
+// (Bernoulli); for q > 2 a site is q one-hot inputs and q logits (softmax),
+// at columns s·q+v. A site at autoregressive position i (Order[i] = s) has
+// degree i+1; hidden units get degrees 1..N−1 spread evenly and in
+// ascending order; a masked weight [in, out] connects input j to unit k when
+// deg(k) ≥ deg(j) in hidden layers, and deg(out) > deg(in) into the output
+// layer and in the direct connection (Germain et al. 2015). The weights, in
+// the order of Model.Weights (see WeightNames), are cond.wC and cond.bC per
+// conditioning layer, then made.wL, made.bL and the conditioning head
+// cond.vL per masked layer L (hidden layers, then the output layer), then
+// made.direct when Config.Direct is set. Both implementations multiply the
+// weights by the masks on every use, so entries outside the masks never
+// matter.
 package model
