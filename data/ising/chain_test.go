@@ -144,3 +144,24 @@ func TestIntegratedTimeAR1(t *testing.T) {
 		}
 	}
 }
+
+func TestSimulateRejectsBadPoints(t *testing.T) {
+	base := Config{Lattice: Lattice{4, 4}, Fixed: Couplings{Jx: 1, Jy: 1}, Axes: []string{"T"}, Points: [][]float64{{2}, {0}}, Samples: 5}
+	cases := []struct {
+		name string
+		edit func(c *Config)
+	}{
+		{"zero temperature", func(c *Config) {}},
+		{"unknown axis", func(c *Config) { c.Axes = []string{"beta"}; c.Points = [][]float64{{1}, {2}} }},
+		{"small lattice", func(c *Config) { c.Lattice = Lattice{1, 4}; c.Points = [][]float64{{1}, {2}} }},
+		{"exact too big", func(c *Config) { c.Lattice = Lattice{5, 5}; c.Exact = true; c.Points = [][]float64{{1}, {2}} }},
+		{"no samples", func(c *Config) { c.Samples = 0; c.Points = [][]float64{{1}, {2}} }},
+	}
+	for _, tc := range cases {
+		cfg := base
+		tc.edit(&cfg)
+		if _, err := Simulate(context.Background(), cfg); err == nil {
+			t.Errorf("%s: accepted", tc.name)
+		}
+	}
+}

@@ -93,3 +93,23 @@ func TestHeatCapacityPeakApproachesOnsager(t *testing.T) {
 		}
 	}
 }
+
+func TestKaufmanOutsideItsReach(t *testing.T) {
+	cases := []struct {
+		name      string
+		ly, lx    int
+		T, jx, jy float64
+		wantNaN   bool
+	}{
+		{"antiferro along odd side", 3, 5, 2, -1, 1, true},
+		{"antiferro along even side", 3, 4, 2, -1, 1, false},
+		{"zero coupling", 4, 4, 2, 0, 1, true},
+		{"zero temperature", 4, 4, 0, 1, 1, true},
+		{"negative temperature", 4, 4, -1, 1, 1, true},
+	}
+	for _, tc := range cases {
+		if got := math.IsNaN(KaufmanLogZ(tc.ly, tc.lx, tc.T, tc.jx, tc.jy)); got != tc.wantNaN {
+			t.Errorf("%s: NaN = %v, want %v", tc.name, got, tc.wantNaN)
+		}
+	}
+}

@@ -165,6 +165,9 @@ func ParseSourceMeta(m data.Meta) (SourceMeta, error) {
 	if len(sm.Lattice) != 2 {
 		return sm, fmt.Errorf("meta.source.lattice: expected [Ly, Lx], found %v", sm.Lattice)
 	}
+	if len(m.Lattice) != 0 && (len(m.Lattice) != 2 || m.Lattice[0] != sm.Lattice[0] || m.Lattice[1] != sm.Lattice[1]) {
+		return sm, fmt.Errorf("meta.lattice: expected %v as in meta.source.lattice, found %v", sm.Lattice, m.Lattice)
+	}
 	if sm.Boundary != "" && sm.Boundary != "periodic" {
 		return sm, fmt.Errorf("meta.source.boundary: expected \"periodic\", found %q", sm.Boundary)
 	}
