@@ -113,3 +113,25 @@ func TestKaufmanOutsideItsReach(t *testing.T) {
 		}
 	}
 }
+
+// TestKaufmanDerivativesLargeLattice checks the analytic energy and heat
+// capacity against central differences of ln Z in β on lattices far too large
+// to enumerate, where the log-domain branches are used (common practice).
+func TestKaufmanDerivativesLargeLattice(t *testing.T) {
+	for _, tc := range []struct {
+		ly, lx    int
+		T, jx, jy float64
+	}{{64, 64, 1.5, 1, 1}, {64, 64, 2.269185, 1, 1}, {64, 64, 3.5, 1, 1}, {48, 32, 2.0, 1.2, 0.7}, {33, 65, 0.4, 1, 1}} {
+		n := float64(tc.ly * tc.lx)
+		lz := func(beta float64) float64 { return KaufmanLogZ(tc.ly, tc.lx, 1/beta, tc.jx, tc.jy) }
+		b, h := 1/tc.T, 1e-4
+		d1 := (lz(b+h) - lz(b-h)) / (2 * h)
+		d2 := (lz(b+h) - 2*lz(b) + lz(b-h)) / (h * h)
+		if got, want := KaufmanEnergy(tc.ly, tc.lx, tc.T, tc.jx, tc.jy), -d1/n; math.Abs(got-want) > 1e-6 {
+			t.Errorf("%+v: E/N = %.10f, difference of ln Z gives %.10f", tc, got, want)
+		}
+		if got, want := KaufmanHeatCapacity(tc.ly, tc.lx, tc.T, tc.jx, tc.jy), d2/(tc.T*tc.T*n); math.Abs(got-want) > 1e-3*math.Max(1, want) {
+			t.Errorf("%+v: C/N = %.8f, difference of ln Z gives %.8f", tc, got, want)
+		}
+	}
+}
