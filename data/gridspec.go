@@ -96,7 +96,7 @@ func ParseGridSpec(s string) (GridSpec, error) {
 				if n == 1 {
 					vals[i] = a
 				} else {
-					vals[i] = a + (b-a)*float64(i)/float64(n-1)
+					vals[i] = tidy(a + (b-a)*float64(i)/float64(n-1))
 				}
 			}
 			if n > 1 {
@@ -169,4 +169,18 @@ func (s GridSpec) Points() [][]float64 {
 		pts = next
 	}
 	return pts
+}
+
+// tidy rounds x to 12 significant digits, so that evenly spaced values such
+// as 1.8 + 0.1·8 come out as 2.6 rather than 2.5999999999999996 in files and
+// labels. The change is far below any meaningful parameter resolution.
+func tidy(x float64) float64 {
+	if x == 0 || math.IsInf(x, 0) || math.IsNaN(x) {
+		return x
+	}
+	y, err := strconv.ParseFloat(strconv.FormatFloat(x, 'g', 12, 64), 64)
+	if err != nil {
+		return x
+	}
+	return y
 }

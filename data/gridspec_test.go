@@ -122,3 +122,15 @@ func ExampleParseGridSpec() {
 	// 8 points, first [2 0] last [2.6 0.5]
 	// grid "T=2.0:2.6", column 3: expected start:stop:count, found "2.0:2.6"
 }
+
+func TestParseGridSpecTidyValues(t *testing.T) {
+	spec, err := ParseGridSpec("T=1.8:2.8:11")
+	if err != nil {
+		t.Fatal(err)
+	}
+	// 1.8 + 0.1·8 in floating point is 2.5999999999999996; the parser rounds
+	// to 12 significant digits so files and labels show 2.6.
+	if got := spec.Axes[0].Values[8]; got != 2.6 {
+		t.Errorf("value 8 = %v, want 2.6", got)
+	}
+}
