@@ -42,7 +42,7 @@ type Header struct {
 	// points' samples in bits per site, when there are held-out points.
 	HeldOutBitsPerSite *float64 `json:"heldout_bits_per_site,omitempty"`
 	// Stopped says why training ended: "max epochs", "early stopping",
-	// "interrupted", "stop after" (a requested early stop) or "" while running.
+	// "interrupted", "stop-after limit" (a requested early stop) or "" while running.
 	Stopped string `json:"stopped"`
 	// Optimizer is the state needed to resume training.
 	Optimizer OptimizerState `json:"optimizer"`

@@ -151,6 +151,9 @@ type Options struct {
 	StopAfter int
 	// DataPath and Software are recorded in the checkpoint.
 	DataPath, Software string
+	// Start, if set, is called once before the first epoch with the number
+	// of training snapshots per epoch and the epochs still allowed.
+	Start func(trainSnapshots, epochsLeft int)
 	// Progress, if set, is called with the number of training snapshots
 	// processed after each minibatch.
 	Progress func(n int)
@@ -502,6 +505,13 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 	N := float64(r.ds.N)
 	nonFinite := 0
 	done := 0
+	if r.opt.Start != nil {
+		left := max(r.st.Epochs-r.hdr.Optimizer.Epoch, 0)
+		if r.opt.StopAfter > 0 {
+			left = min(left, r.opt.StopAfter)
+		}
+		r.opt.Start(len(r.trainIdx), left)
+	}
 	for {
 		epoch := r.hdr.Optimizer.Epoch + 1
 		switch {
@@ -510,7 +520,7 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 		case r.hdr.Optimizer.SinceBest >= r.st.Patience:
 			r.hdr.Stopped = "early stopping"
 		case r.opt.StopAfter > 0 && done >= r.opt.StopAfter:
-			r.hdr.Stopped = "stop after"
+			r.hdr.Stopped = "stop-after limit"
 		}
 		if r.hdr.Stopped != "" {
 			break

@@ -99,8 +99,8 @@ func TestResumeExact(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if part.Header.Stopped != "stop after" || part.Header.Optimizer.Epoch != 2 {
-		t.Fatalf("stopped %q at epoch %d, want \"stop after\" at 2", part.Header.Stopped, part.Header.Optimizer.Epoch)
+	if part.Header.Stopped != "stop-after limit" || part.Header.Optimizer.Epoch != 2 {
+		t.Fatalf("stopped %q at epoch %d, want \"stop-after limit\" at 2", part.Header.Stopped, part.Header.Optimizer.Epoch)
 	}
 	b, err := part.Bytes()
 	if err != nil {

@@ -1,0 +1,182 @@
+package main
+
+import (
+	"archive/zip"
+	"bufio"
+	"encoding/binary"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"tidemark/checkpoints"
+	"tidemark/data/safefile"
+	"tidemark/model"
+)
+
+func init() { commands = append(commands, newExportCmd) }
+
+type exportOptions struct {
+	out   string
+	last  bool
+	force bool
+}
+
+func newExportCmd() *cobra.Command {
+	var o exportOptions
+	c := &cobra.Command{
+		Use:   "export MODEL.ckpt -o WEIGHTS.npz",
+		Short: "Write a checkpoint's weights and masks as a NumPy .npz archive for Python",
+		Long: `export writes every weight tensor of a checkpoint as one float64 array of its
+own shape (named as in the checkpoint, e.g. "made.w0", "cond.b0"), every 0/1
+connectivity mask ("mask.w0", …), and an array "config": the UTF-8 bytes of a
+JSON object with the model configuration, the parameter names, the lattice,
+the tensor names in order and which weights were exported. In Python:
+
+  z = numpy.load("weights.npz"); cfg = json.loads(z["config"].tobytes())
+
+The best weights (lowest validation NLL) are exported unless --last is given.`,
+		Example: `  tidemark export film.ckpt -o weights.npz
+  tidemark export film.ckpt --last -o last.npz --force`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return runExport(cmd, args[0], &o)
+		},
+	}
+	f := c.Flags()
+	f.StringVarP(&o.out, "output", "o", "", "output archive (.npz)")
+	f.BoolVar(&o.last, "last", false, "export the weights of the last epoch instead of the best")
+	f.BoolVar(&o.force, "force", false, "overwrite the output file if it exists")
+	return c
+}
+
+// exportConfig is the JSON object stored in the "config" array.
+type exportConfig struct {
+	Model      model.Config `json:"model"`
+	ParamNames []string     `json:"param_names"`
+	Lattice    []int        `json:"lattice"`
+	Alphabet   int          `json:"alphabet"`
+	Weights    []string     `json:"weights"`
+	Masks      []string     `json:"masks"`
+	Which      string       `json:"which"`
+	Epoch      int          `json:"epoch"`
+	Software   string       `json:"software_version"`
+	Checkpoint string       `json:"checkpoint"`
+}
+
+func runExport(cmd *cobra.Command, path string, o *exportOptions) error {
+	if o.out == "" {
+		return fmt.Errorf("export: expected an output file (-o WEIGHTS.npz), found none")
+	}
+	if err := checkOutput(o.out, o.force); err != nil {
+		return err
+	}
+	ck, err := checkpoints.Load(path)
+	if err != nil {
+		return err
+	}
+	m, err := ck.Model()
+	which, epoch := "best", ck.Header.BestEpoch
+	if o.last {
+		m, err = ck.LastModel()
+		which, epoch = "last", ck.Header.Optimizer.Epoch
+	}
+	if err != nil {
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	cfg := exportConfig{
+		Model: m.Cfg, ParamNames: ck.Header.ParamNames, Lattice: ck.Header.Lattice, Alphabet: ck.Header.Alphabet,
+		Which: which, Epoch: epoch, Software: version, Checkpoint: path,
+		Weights: []string{}, Masks: []string{},
+	}
+	masks := m.Masks()
+	for _, t := range m.Weights {
+		cfg.Weights = append(cfg.Weights, t.Name)
+	}
+	for _, t := range masks {
+		cfg.Masks = append(cfg.Masks, t.Name)
+	}
+	js, err := json.Marshal(cfg)
+	if err != nil {
+		return fmt.Errorf("export: encoding the config: %w", err)
+	}
+	tensors := append(append([]model.Tensor(nil), m.Weights...), masks...)
+	err = safefile.Write(o.out, o.force, func(w io.Writer) error { return writeTensorsNPZ(w, tensors, js) })
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(cmd.OutOrStdout(), "wrote %s: %d weight tensors (%s, epoch %d), %d masks, config\n", o.out, len(m.Weights), which, epoch, len(masks))
+	return nil
+}
+
+// writeTensorsNPZ writes each tensor as a float64 NPY array and config as a
+// uint8 array into a zip archive (stored, not compressed).
+func writeTensorsNPZ(w io.Writer, ts []model.Tensor, config []byte) error {
+	zw := zip.NewWriter(w)
+	put := func(name, descr string, shape []int, body func(io.Writer) error) error {
+		f, err := zw.CreateHeader(&zip.FileHeader{Name: name + ".npy", Method: zip.Store, Modified: time.Now()})
+		if err != nil {
+			return fmt.Errorf("%s: %w", name, err)
+		}
+		bw := bufio.NewWriter(f)
+		if _, err := bw.Write(exportNPYHeader(descr, shape)); err != nil {
+			return err
+		}
+		if err := body(bw); err != nil {
+			return err
+		}
+		return bw.Flush()
+	}
+	seen := map[string]bool{"config": true}
+	for _, t := range ts {
+		if seen[t.Name] {
+			return fmt.Errorf("two tensors are named %q", t.Name)
+		}
+		seen[t.Name] = true
+		if err := put(t.Name, "<f8", t.Shape, func(w io.Writer) error {
+			var b [8]byte
+			for _, v := range t.Data {
+				binary.LittleEndian.PutUint64(b[:], math.Float64bits(v))
+				if _, err := w.Write(b[:]); err != nil {
+					return err
+				}
+			}
+			return nil
+		}); err != nil {
+			return err
+		}
+	}
+	if err := put("config", "|u1", []int{len(config)}, func(w io.Writer) error {
+		_, err := w.Write(config)
+		return err
+	}); err != nil {
+		return err
+	}
+	return zw.Close()
+}
+
+// exportNPYHeader returns the NPY 1.0 preamble of a C-order array, padded
+// to a multiple of 64 bytes as NumPy does (the layout of the NPY format
+// specification, numpy.lib.format).
+func exportNPYHeader(descr string, shape []int) []byte {
+	parts := make([]string, len(shape))
+	for i, s := range shape {
+		parts[i] = strconv.Itoa(s)
+	}
+	sh := "(" + strings.Join(parts, ", ")
+	if len(shape) == 1 {
+		sh += ","
+	}
+	sh += ")"
+	dict := fmt.Sprintf("{'descr': '%s', 'fortran_order': False, 'shape': %s, }", descr, sh)
+	pad := (64 - (10+len(dict)+1)%64) % 64
+	dict += strings.Repeat(" ", pad) + "\n"
+	out := append([]byte("\x93NUMPY"), 1, 0)
+	out = binary.LittleEndian.AppendUint16(out, uint16(len(dict)))
+	return append(out, dict...)
+}
