@@ -21,6 +21,10 @@ type EvalSet struct {
 	// Grad, if not nil, holds ∂_a log p(x|λ) at λ_k for slot i of point k,
 	// at Grad[k][i·d+a]; the derivative Fisher information reads it.
 	Grad [][]float64
+	// xs holds the snapshots of the rows (for re-estimating a histogram).
+	xs []uint8
+	// tables caches posterior tables by group of points.
+	tables map[string]*posteriorTable
 }
 
 // SampleWeights returns uniform weights 1/n_k over idx[k].

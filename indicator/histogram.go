@@ -78,3 +78,48 @@ func (h *Histogram) LogProb(dst []float64, xs []uint8, lambda []float64) error {
 	}
 	return nil
 }
+
+// stateIDs numbers the distinct snapshots among the n rows of xs.
+func stateIDs(xs []uint8, n, N int) ([]int, int) {
+	ids := make([]int, n)
+	seen := map[string]int{}
+	for m := 0; m < n; m++ {
+		s := string(xs[m*N : (m+1)*N])
+		id, ok := seen[s]
+		if !ok {
+			id = len(seen)
+			seen[s] = id
+		}
+		ids[m] = id
+	}
+	return ids, len(seen)
+}
+
+// empiricalMatrix is the histogram's log-likelihood matrix re-estimated
+// under weights w: ℓ[m][k] = log Σ_{slots i of k with the state of row m}
+// w[k][i], the frequency of row m's state among point k's weighted samples
+// (−Inf when absent). Under the base weights 1/n_k it equals the
+// Histogram's own matrix; under bootstrap weights it is the histogram of the
+// resampled data, so the bootstrap sees the density's own sampling noise.
+func empiricalMatrix(ids []int, nIDs int, idx [][]int, w [][]float64, points [][]float64) *Matrix {
+	K := len(idx)
+	M := len(ids)
+	mx := &Matrix{M: M, K: K, L: make([]float64, M*K), Points: points}
+	freq := make([]float64, nIDs)
+	for k := 0; k < K; k++ {
+		for i := range freq {
+			freq[i] = 0
+		}
+		for i, m := range idx[k] {
+			freq[ids[m]] += w[k][i]
+		}
+		for m := 0; m < M; m++ {
+			if f := freq[ids[m]]; f > 0 {
+				mx.L[m*K+k] = math.Log(f)
+			} else {
+				mx.L[m*K+k] = math.Inf(-1)
+			}
+		}
+	}
+	return mx
+}

@@ -274,6 +274,19 @@ type posteriorTable struct {
 // newPosteriorTable gathers the rows of every sample in a slot of a point
 // of g (every state, for exact sums).
 func newPosteriorTable(ev *EvalSet, g []int) *posteriorTable {
+	key := fmt.Sprint(g)
+	if pt, ok := ev.tables[key]; ok {
+		return pt
+	}
+	if ev.tables == nil {
+		ev.tables = map[string]*posteriorTable{}
+	}
+	pt := buildPosteriorTable(ev, g)
+	ev.tables[key] = pt
+	return pt
+}
+
+func buildPosteriorTable(ev *EvalSet, g []int) *posteriorTable {
 	pt := &posteriorTable{pos: make([]int32, ev.Mx.M), g: g}
 	for i := range pt.pos {
 		pt.pos[i] = -1

@@ -165,7 +165,7 @@ func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
 		}
 	}
 	if gOnly(sources[0]) {
-		res.Notes = append(res.Notes, "histogram source: the densities are estimated from the same samples they are evaluated on, which biases indicators upwards, and the bootstrap does not re-estimate the histogram, so errors are too small")
+		res.Notes = append(res.Notes, "histogram source: the frequencies are estimated from the same snapshots they are evaluated on, which biases distances between neighbours upwards when states are poorly sampled; the bootstrap re-estimates the histogram in every replicate")
 	}
 	if len(sources) > 1 {
 		res.Notes = append(res.Notes, fmt.Sprintf("%d sources averaged; errors combine the bootstrap error of the average and the standard deviation across sources in quadrature", len(sources)))
@@ -237,12 +237,18 @@ func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout
 		if s == 0 {
 			specs = sp
 		}
+		_, refit := src.(*Histogram)
 		var cps []*compiled
 		for _, c := range sp {
 			vals[s] = append(vals[s], c.st.direct(ev.W))
-			if B > 0 {
+			if B > 0 && !refit {
 				cps = append(cps, c.st.compile(ev.W))
 			}
+		}
+		var ids []int
+		var nIDs int
+		if refit && B > 0 {
+			ids, nIDs = stateIDs(ev.xs, ev.Mx.M, ds.N)
 		}
 		if B > 0 {
 			var tick func(int)
@@ -255,6 +261,18 @@ func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout
 			}
 			for b := 0; b < B; b++ {
 				w := BootstrapWeights(ev.Idx, cfg.Seed+uint64(pass)<<40, b)
+				if refit {
+					// The histogram is re-estimated from the resampled data,
+					// so the whole matrix changes with the replicate.
+					evb := &EvalSet{Mx: empiricalMatrix(ids, nIDs, ev.Idx, w, ev.Mx.Points), Idx: ev.Idx, W: w}
+					spb, err := buildCurves(&lo, evb, buildOptions{indicators: ind, window: cfg.Window, slRegions: cfg.SLRegions})
+					if err != nil {
+						return nil, fmt.Errorf("scan: %w", err)
+					}
+					for c, cb := range spb {
+						reps[s][c][b] = cb.st.direct(w)
+					}
+				}
 				for c, cp := range cps {
 					reps[s][c][b] = cp.eval(w)
 				}
@@ -378,6 +396,7 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 		ev.Mx = mx
 		ev.W = SampleWeights(ev.Idx)
 	}
+	ev.xs = xs
 	if ind := cfg.Indicators; contains(ind, Fisher) && !gOnly(src) {
 		grad, err := gradients(src, xs, ev, lo, cfg)
 		if err != nil {
