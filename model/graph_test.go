@@ -177,3 +177,54 @@ func TestGraphSharesWeights(t *testing.T) {
 		t.Errorf("a replaced weight slice was not reported")
 	}
 }
+
+// TestLossGradLeavesWeights checks that running the graph never writes into
+// the shared weight arrays (gorgonia may run some operations in place), and
+// that two graphs on one model may run concurrently with equal results.
+func TestLossGradLeavesWeights(t *testing.T) {
+	for _, tc := range cases() {
+		t.Run(tc.name, func(t *testing.T) {
+			m := randomModel(t, tc.cfg, 16, tc.scale)
+			before := make([][]float64, len(m.Weights))
+			for i, w := range m.Weights {
+				before[i] = append([]float64(nil), w.Data...)
+			}
+			g1, err := NewGraph(m, 6)
+			if err != nil {
+				t.Fatal(err)
+			}
+			g2, err := NewGraph(m, 6)
+			if err != nil {
+				t.Fatal(err)
+			}
+			xs, ps := randomBatch(tc.cfg, 6, 17)
+			gr1, gr2 := zeroGrads(m), zeroGrads(m)
+			var l1, l2 float64
+			var e1, e2 error
+			done := make(chan struct{})
+			go func() { l1, e1 = g1.LossGrad(xs, ps, 6, gr1); close(done) }()
+			l2, e2 = g2.LossGrad(xs, ps, 6, gr2)
+			<-done
+			if e1 != nil || e2 != nil {
+				t.Fatal(e1, e2)
+			}
+			if l1 != l2 {
+				t.Errorf("two graphs on one model: losses %v and %v", l1, l2)
+			}
+			for i := range gr1 {
+				for k := range gr1[i] {
+					if gr1[i][k] != gr2[i][k] {
+						t.Fatalf("two graphs on one model: gradient %s[%d] %v and %v", m.Weights[i].Name, k, gr1[i][k], gr2[i][k])
+					}
+				}
+			}
+			for i, w := range m.Weights {
+				for k := range w.Data {
+					if w.Data[k] != before[i][k] {
+						t.Fatalf("LossGrad changed weight %s[%d] from %v to %v", w.Name, k, before[i][k], w.Data[k])
+					}
+				}
+			}
+		})
+	}
+}
