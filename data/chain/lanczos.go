@@ -72,13 +72,16 @@ func scale[T scalar](alpha T, x []T) {
 }
 
 // matrix is H at one λ, ready for matrix-free products: a diagonal and the
-// off-diagonal Pauli strings, each with its coefficient including i^{nY}.
+// off-diagonal Pauli strings grouped by their flip mask x, each string with
+// its coefficient including i^{nY}, stored as (c, −c) for the two parities of
+// popcount(b&z) so that the product needs no branches.
 type matrix[T scalar] struct {
-	n    int
-	diag []T
-	offX []uint32
-	offZ []uint32
-	offC []T
+	n      int
+	diag   []T
+	groupX []uint32 // flip mask of each group
+	start  []int    // group g holds terms start[g]..start[g+1]-1
+	termZ  []uint32
+	termC  [][2]T
 }
 
 func ipow(k int) complex128 {
@@ -96,6 +99,12 @@ func ipow(k int) complex128 {
 func buildMatrix[T scalar](op *operator, lambda []float64) *matrix[T] {
 	dim := 1 << op.n
 	m := &matrix[T]{n: op.n, diag: make([]T, dim)}
+	groups := map[uint32]int{}
+	type term struct {
+		z uint32
+		c T
+	}
+	var byGroup [][]term
 	for _, ps := range op.order {
 		v := op.value(ps, lambda)
 		if v == 0 {
@@ -113,10 +122,23 @@ func buildMatrix[T scalar](op *operator, lambda []float64) *matrix[T] {
 			}
 			continue
 		}
-		m.offX = append(m.offX, ps.x)
-		m.offZ = append(m.offZ, ps.z)
-		m.offC = append(m.offC, fromComplex[T](c))
+		g, ok := groups[ps.x]
+		if !ok {
+			g = len(m.groupX)
+			groups[ps.x] = g
+			m.groupX = append(m.groupX, ps.x)
+			byGroup = append(byGroup, nil)
+		}
+		byGroup[g] = append(byGroup[g], term{ps.z, fromComplex[T](c)})
 	}
+	for _, ts := range byGroup {
+		m.start = append(m.start, len(m.termZ))
+		for _, t := range ts {
+			m.termZ = append(m.termZ, t.z)
+			m.termC = append(m.termC, [2]T{t.c, -t.c})
+		}
+	}
+	m.start = append(m.start, len(m.termZ))
 	return m
 }
 
@@ -125,13 +147,13 @@ func buildMatrix[T scalar](op *operator, lambda []float64) *matrix[T] {
 func (m *matrix[T]) apply(dst, src []T) {
 	for a := range dst {
 		s := m.diag[a] * src[a]
-		for t, x := range m.offX {
+		for g, x := range m.groupX {
 			b := uint32(a) ^ x
-			if bits.OnesCount32(b&m.offZ[t])&1 == 1 {
-				s -= m.offC[t] * src[b]
-			} else {
-				s += m.offC[t] * src[b]
+			var c T
+			for t := m.start[g]; t < m.start[g+1]; t++ {
+				c += m.termC[t][bits.OnesCount32(b&m.termZ[t])&1]
 			}
+			s += c * src[b]
 		}
 		dst[a] = s
 	}
@@ -245,13 +267,21 @@ func startVector[T scalar](dim int, stream uint64) []T {
 // Bur. Stand. 45, 255 (1950); restarts from the best Ritz vector).
 func lowest[T scalar](h *matrix[T], project func([]T), locked [][]T, start []T, opt lanczosOptions) (eigenResult[T], error) {
 	dim := len(start)
+	// orth is classical Gram–Schmidt against the locked and Krylov vectors,
+	// repeated once when the first pass cancelled most of w (the DGKS
+	// criterion: J. W. Daniel, W. B. Gragg, L. Kaufman, G. W. Stewart,
+	// Math. Comp. 30, 772 (1976)).
 	orth := func(w []T, basis [][]T) {
 		for pass := 0; pass < 2; pass++ {
+			before := norm(w)
 			for _, u := range locked {
 				axpy(-dot(u, w), u, w)
 			}
 			for _, u := range basis {
 				axpy(-dot(u, w), u, w)
+			}
+			if norm(w) > 0.7*before {
+				return
 			}
 		}
 	}

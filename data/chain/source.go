@@ -1,6 +1,7 @@
 package chain
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"math/bits"
@@ -120,6 +121,10 @@ type cacheEntry struct {
 	err   error
 }
 
+// ErrNoFlipSymmetry reports a request for a ∏X sector of a Hamiltonian that
+// does not commute with ∏X.
+var ErrNoFlipSymmetry = errors.New("the Hamiltonian does not commute with the global flip ∏X")
+
 // New checks cfg and returns its source. The sector SectorAuto resolves to
 // SectorEven when H commutes with ∏X (checked after merging equal Pauli
 // strings: no string with an odd number of Z and Y letters keeps a nonzero
@@ -154,7 +159,7 @@ func New(cfg Config) (*Source, error) {
 		}
 	case SectorEven, SectorOdd:
 		if !op.commut {
-			return nil, fmt.Errorf("chain: sector %s: the Hamiltonian %q does not commute with the global flip ∏X (a word has an odd number of Z and Y letters); use --sector none", cfg.Sector, cfg.Hamiltonian)
+			return nil, fmt.Errorf("chain: sector %s: %w: the Hamiltonian %q has a word with an odd number of Z and Y letters; use sector none", cfg.Sector, ErrNoFlipSymmetry, cfg.Hamiltonian)
 		}
 		s.sector = cfg.Sector
 	case SectorNone:
