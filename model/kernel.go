@@ -168,40 +168,25 @@ func addTo(dst, src []float64) {
 }
 
 // hidden runs the hidden layers of r snapshots from their first-layer
-// product a0, leaving the last hidden activations in w.h[L-1]. With cnt
-// non-nil only the first cnt[l] units of layer l are computed: the units are
-// sorted by degree, and units of degree above cnt's position cannot reach
-// units below it, so the prefix is exact.
-func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r int, cnt []int) {
+// product a0, leaving the last hidden activations in w.h[L-1].
+func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r int) {
 	c := m.Cfg
 	relu := c.Activation == "relu"
 	act := actFunc(c.Activation)
 	for l, hw := range c.Hidden {
-		cols := hw
-		if cnt != nil {
-			cols = cnt[l]
-		}
 		h := w.h[l][:r*hw]
 		if l == 0 {
 			copy(h, a0[:r*hw])
 		} else {
 			prev := c.Hidden[l-1]
-			k := prev
-			if cnt != nil {
-				k = cnt[l-1]
-			}
-			if k == 0 || cols == 0 {
-				clear(h)
-			} else {
-				blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
-					blas64.General{Rows: r, Cols: k, Stride: prev, Data: w.h[l-1]},
-					blas64.General{Rows: k, Cols: cols, Stride: hw, Data: p.eff[l]},
-					0, blas64.General{Rows: r, Cols: cols, Stride: hw, Data: h})
-			}
+			blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
+				blas64.General{Rows: r, Cols: prev, Stride: prev, Data: w.h[l-1]},
+				blas64.General{Rows: prev, Cols: hw, Stride: hw, Data: p.eff[l]},
+				0, blas64.General{Rows: r, Cols: hw, Stride: hw, Data: h})
 		}
 		for i := 0; i < r; i++ {
 			b := cb[min(i, len(cb)-1)][l]
-			row := h[i*hw : i*hw+cols]
+			row := h[i*hw : (i+1)*hw]
 			for k := range row {
 				v := row[k] + b[k]
 				if relu {
@@ -272,7 +257,7 @@ func (m *Model) rowLogProbs(dst []float64, xs []uint8, w *workspace, r int, flip
 // scoreBlock writes log p(x_i|λ) of r snapshots whose λ-independent products
 // are already in w.
 func (m *Model) scoreBlock(dst []float64, xs []uint8, p *prep, cb [][][]float64, w *workspace, r int) {
-	m.hidden(p, cb, w, w.a0, r, nil)
+	m.hidden(p, cb, w, w.a0, r)
 	m.logits(p, cb, w, w.dx, r)
 	m.rowLogProbs(dst, xs, w, r, false)
 	if !m.Cfg.Symmetric {
@@ -280,7 +265,7 @@ func (m *Model) scoreBlock(dst []float64, xs []uint8, p *prep, cb [][][]float64,
 	}
 	var buf [blockRows]float64
 	f := buf[:r]
-	m.hidden(p, cb, w, w.a0f, r, nil)
+	m.hidden(p, cb, w, w.a0f, r)
 	m.logits(p, cb, w, w.dxf, r)
 	m.rowLogProbs(f, xs, w, r, true)
 	for i := range f {
@@ -462,15 +447,20 @@ func (m *Model) Sample(dst []uint8, n int, lambda []float64, rng *rand.Rand) (er
 		r := min(rows, n-i0)
 		x := dst[i0*N : (i0+r)*N]
 		clear(x)
+		clear(cnt)
 		clear(w.a0[:r*h0])
 		clear(w.dx[:r*dout])
 		for pos, s := range c.Order {
-			// Only hidden units of degree ≤ pos reach the output at pos.
+			// Only hidden units of degree ≤ pos reach the output at pos, and
+			// they depend only on positions < pos, which are already drawn:
+			// so each unit is computed once, at the step its degree comes
+			// up, and kept (the whole draw costs about one forward pass).
 			for l := range cnt {
+				from := cnt[l]
 				cnt[l] = sort.SearchInts(m.hdeg[l], pos+1)
+				m.sampleUnits(p, cb[0], w, r, l, from, cnt[l], cnt)
 			}
 			kl := cnt[L-1]
-			m.hidden(p, cb, w, w.a0, r, cnt)
 			// Logits of site s only: the columns s·per … s·per+per−1.
 			z := zs[:r*per]
 			for i := 0; i < r; i++ {
@@ -568,5 +558,49 @@ func (m *Model) logProbRows(dst []float64, xs []uint8, params []float64, n int) 
 		x := xs[i*N : (i+r)*N]
 		m.gatherAll(p, x, r, w)
 		m.scoreBlock(dst[i:i+r], x, p, cb[:r], w, r)
+	}
+}
+
+// sampleUnits computes units from..to−1 of hidden layer l for r snapshots
+// during ancestral sampling; cnt[l−1] units of the layer below are final.
+func (m *Model) sampleUnits(p *prep, cb [][]float64, w *workspace, r, l, from, to int, cnt []int) {
+	if to <= from {
+		return
+	}
+	c := m.Cfg
+	hw := c.Hidden[l]
+	h := w.h[l]
+	cols := to - from
+	if l == 0 {
+		for i := 0; i < r; i++ {
+			copy(h[i*hw+from:i*hw+to], w.a0[i*hw+from:i*hw+to])
+		}
+	} else {
+		prev := c.Hidden[l-1]
+		k := cnt[l-1]
+		if k == 0 {
+			for i := 0; i < r; i++ {
+				clear(h[i*hw+from : i*hw+to])
+			}
+		} else {
+			blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
+				blas64.General{Rows: r, Cols: k, Stride: prev, Data: w.h[l-1]},
+				blas64.General{Rows: k, Cols: cols, Stride: hw, Data: p.eff[l][from:]},
+				0, blas64.General{Rows: r, Cols: cols, Stride: hw, Data: h[from:]})
+		}
+	}
+	b := cb[l][from:to]
+	relu := c.Activation == "relu"
+	act := actFunc(c.Activation)
+	for i := 0; i < r; i++ {
+		row := h[i*hw+from : i*hw+to]
+		for k := range row {
+			v := row[k] + b[k]
+			if relu {
+				row[k] = math.Max(v, 0)
+			} else {
+				row[k] = act(v)
+			}
+		}
 	}
 }
