@@ -274,13 +274,13 @@ func fisherZ(t testing.TB, s *Source, h float64) float64 {
 }
 
 // fisherPeak scans h and refines the maximum with a parabola.
-func fisherPeak(t testing.TB, n int) float64 {
+func fisherPeak(t testing.TB, n int, lo, hi, step float64) float64 {
 	s, err := New(Config{Sites: n, Hamiltonian: "-ZZ - h*X", Params: []string{"h"}})
 	if err != nil {
 		t.Fatal(err)
 	}
 	var hs, fs []float64
-	for h := 0.5; h <= 1.5+1e-9; h += 0.05 {
+	for h := lo; h <= hi+1e-9; h += step {
 		hs = append(hs, h)
 		fs = append(fs, fisherZ(t, s, h))
 	}
@@ -300,8 +300,8 @@ func fisherPeak(t testing.TB, n int) float64 {
 func TestFisherPeakNearCriticalField(t *testing.T) {
 	// h_c = 1 for the transverse-field Ising chain (P. Pfeuty, Ann. Phys. 57,
 	// 79 (1970)); finite chains peak nearby and approach it with N.
-	p8 := fisherPeak(t, 8)
-	p12 := fisherPeak(t, 12)
+	p8 := fisherPeak(t, 8, 0.5, 1.5, 0.05)
+	p12 := fisherPeak(t, 12, 0.5, 1.5, 0.05)
 	t.Logf("Fisher peak: N=8 at h=%.4f, N=12 at h=%.4f", p8, p12)
 	for _, p := range []float64{p8, p12} {
 		if math.Abs(p-1) > 0.25 {
