@@ -10,7 +10,7 @@ import (
 func meanErr(t *testing.T, per int) map[string]float64 {
 	src := &bernoulli{n: 8, d: 1, a: 2, c: 1}
 	ds := bernoulliData(src, linspace(0, 2, 9), nil, per, 3)
-	res, err := Run([]Source{src}, ds, Config{Bootstrap: 200, Threads: 2, Seed: 5})
+	res, err := Run([]Source{src}, ds, Config{Bootstrap: 200, Threads: 2, Seed: 5, ModelSamples: per})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -141,7 +141,8 @@ type Curve struct {
 // curveSpec is a curve before evaluation: its stat and geometry.
 type curveSpec struct {
 	Curve
-	st *stat
+	st    *stat
+	deriv bool // the stat reads the derivative EvalSet, not the main one
 }
 
 // buildOptions controls which curves buildCurves makes.
@@ -149,7 +150,7 @@ type buildOptions struct {
 	indicators map[string]bool
 	window     int
 	slRegions  *SLRegions
-	deriv      bool // fisher_deriv is available (ev.Grad set)
+	deriv      *EvalSet // the samples and gradients of fisher_deriv (nil: none)
 }
 
 // SLRegions are the two end regions of the sl indicator, as closed
@@ -216,8 +217,11 @@ func buildCurves(lo *Layout, ev *EvalSet, opt buildOptions) ([]*curveSpec, error
 	if opt.indicators[PBM] && d == 2 {
 		out = append(out, pbmDivergence(lo, ev))
 	}
-	if opt.indicators[Fisher] && opt.deriv {
-		out = append(out, fisherDeriv(lo, ev)...)
+	if opt.indicators[Fisher] && opt.deriv != nil {
+		for _, c := range fisherDeriv(lo, opt.deriv) {
+			c.deriv = true
+			out = append(out, c)
+		}
 	}
 	return out, nil
 }

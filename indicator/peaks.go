@@ -87,12 +87,17 @@ func nearestMax(x, v []float64, i0, reach int) (float64, float64) {
 }
 
 // findPeaks finds the peaks of c along each line: local maxima whose
-// prominence exceeds 2 standard errors of the curve at the maximum (every
-// local maximum when no errors are known), refined by a parabola through the
-// top three points. reps are the bootstrap replicates of the curve (each the
-// same length as c.Val) and srcVals the curves of the individual sources;
-// their peak spreads become the peak errors.
-func findPeaks(c *Curve, reps [][]float64, srcVals [][]float64, tested bool) {
+// prominence exceeds 2 noise errors of the curve at the maximum (every
+// local maximum when tested is false), refined by a parabola through the
+// top three points. noise is the statistical (bootstrap) error of each
+// position, c.Err when nil; the spread across sources is not noise and is
+// left out of the test. reps are the bootstrap replicates of the curve
+// (each the same length as c.Val) and srcVals the curves of the individual
+// sources; their peak spreads become the peak errors, in quadrature.
+func findPeaks(c *Curve, reps [][]float64, srcVals [][]float64, tested bool, noise []float64) {
+	if noise == nil {
+		noise = c.Err
+	}
 	c.Peaks = nil
 	for li, ln := range c.Lines {
 		if len(ln.Idx) < 3 {
@@ -106,7 +111,7 @@ func findPeaks(c *Curve, reps [][]float64, srcVals [][]float64, tested bool) {
 		}
 		idx, prom := localMaxima(v)
 		for n, i := range idx {
-			e := c.Err[ln.Idx[i]]
+			e := noise[ln.Idx[i]]
 			if tested && !(prom[n] > 2*e) {
 				continue
 			}

@@ -29,7 +29,7 @@ func TestParabolaRefinesPeak(t *testing.T) {
 				c.Err = append(c.Err, 0)
 				c.Lines[0].Idx = append(c.Lines[0].Idx, i)
 			}
-			findPeaks(c, nil, nil, true)
+			findPeaks(c, nil, nil, true, nil)
 			if len(c.Peaks) != 1 {
 				t.Fatalf("peaks %+v, want 1", c.Peaks)
 			}
@@ -52,11 +52,11 @@ func TestPeaksAboveNoise(t *testing.T) {
 		c.Err = append(c.Err, 0.1)
 		c.Lines[0].Idx = append(c.Lines[0].Idx, i)
 	}
-	findPeaks(c, nil, nil, true)
+	findPeaks(c, nil, nil, true, nil)
 	if len(c.Peaks) != 1 || math.Abs(c.Peaks[0].At[0]-3) > 0.01 {
 		t.Errorf("tested peaks %+v, want one at 3", c.Peaks)
 	}
-	findPeaks(c, nil, nil, false)
+	findPeaks(c, nil, nil, false, nil)
 	if len(c.Peaks) != 2 {
 		t.Errorf("untested peaks %+v, want both maxima", c.Peaks)
 	}

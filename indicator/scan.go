@@ -32,7 +32,8 @@ type Config struct {
 	// (refined and zoom points); ≤ 0 means 1000.
 	ModelSamples int
 	// Zoom re-scans a finer grid around each peak (1-D grids, Sampler
-	// sources only): 2R+1 points (R = max(Refine, 2)) over ±1 grid step.
+	// sources only): 2R+1 points (R = max(Refine, 2)) over ±1 step of the
+	// scanned (refined) grid.
 	Zoom bool
 	// Bootstrap is the number of bootstrap replicates B (0: no errors).
 	Bootstrap int
@@ -226,11 +227,11 @@ func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout
 	vals := make([][][]float64, S)   // [s][c][t]
 	reps := make([][][][]float64, S) // [s][c][b][t]
 	for s, src := range sources {
-		ev, err := buildEvalSet(src, ds, g, lo, cfg, pass, fmt.Sprintf("source %d/%d", s+1, S))
+		ev, evD, err := buildEvalSet(src, ds, g, lo, cfg, pass, fmt.Sprintf("source %d/%d", s+1, S))
 		if err != nil {
 			return nil, err
 		}
-		sp, err := buildCurves(&lo, ev, buildOptions{indicators: ind, window: cfg.Window, slRegions: cfg.SLRegions, deriv: ev.Grad != nil})
+		sp, err := buildCurves(&lo, ev, buildOptions{indicators: ind, window: cfg.Window, slRegions: cfg.SLRegions, deriv: evD})
 		if err != nil {
 			return nil, fmt.Errorf("scan: %w", err)
 		}
@@ -239,10 +240,16 @@ func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout
 		}
 		_, refit := src.(*Histogram)
 		var cps []*compiled
+		weights := func(c *curveSpec) [][]float64 {
+			if c.deriv {
+				return evD.W
+			}
+			return ev.W
+		}
 		for _, c := range sp {
-			vals[s] = append(vals[s], c.st.direct(ev.W))
-			if B > 0 && !refit {
-				cps = append(cps, c.st.compile(ev.W))
+			vals[s] = append(vals[s], c.st.direct(weights(c)))
+			if B > 0 {
+				cps = append(cps, c.st.compile(weights(c)))
 			}
 		}
 		var ids []int
@@ -261,6 +268,17 @@ func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout
 			}
 			for b := 0; b < B; b++ {
 				w := BootstrapWeights(ev.Idx, cfg.Seed+uint64(pass)<<40, b)
+				var wD [][]float64
+				if evD != nil {
+					wD = BootstrapWeights(evD.Idx, cfg.Seed+uint64(pass)<<40+1<<39, b)
+				}
+				for c, cp := range cps {
+					if sp[c].deriv {
+						reps[s][c][b] = cp.eval(wD)
+					} else if !refit {
+						reps[s][c][b] = cp.eval(w)
+					}
+				}
 				if refit {
 					// The histogram is re-estimated from the resampled data,
 					// so the whole matrix changes with the replicate.
@@ -272,9 +290,6 @@ func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout
 					for c, cb := range spb {
 						reps[s][c][b] = cb.st.direct(w)
 					}
-				}
-				for c, cp := range cps {
-					reps[s][c][b] = cp.eval(w)
 				}
 				if tick != nil {
 					tick(1)
@@ -306,6 +321,7 @@ func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout
 			}
 		}
 		col := make([]float64, max(B, S))
+		noise := make([]float64, T)
 		for t := 0; t < T; t++ {
 			e2 := 0.0
 			if B > 0 {
@@ -313,6 +329,7 @@ func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout
 					col[b] = cv.reps[b][t]
 				}
 				e := stdDev(col[:B])
+				noise[t] = e
 				e2 += e * e
 			}
 			if S > 1 {
@@ -330,14 +347,19 @@ func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout
 				srcVals = append(srcVals, vals[s][c])
 			}
 		}
-		findPeaks(&cv, cv.reps, srcVals, B > 0 || cfg.ExactSums || S > 1)
+		findPeaks(&cv, cv.reps, srcVals, B > 0 || cfg.ExactSums, noise)
 		out[c] = &cv
 	}
 	return out, nil
 }
 
-// buildEvalSet computes the matrix and weights of one source on layout lo.
-func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Config, pass int, label string) (*EvalSet, error) {
+// buildEvalSet computes the matrix and weights of one source on layout lo,
+// and the EvalSet of the derivative Fisher information (nil when not
+// requested or not available): with exact sums the same states; for a
+// Sampler ModelSamples snapshots drawn from the source at every point, so
+// that F(λ) = E_{p(·|λ)}[(∂_λ log p)²] is the source's own Fisher
+// information even where it differs from the data; otherwise the data.
+func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Config, pass int, label string) (*EvalSet, *EvalSet, error) {
 	N := ds.N
 	K := lo.K()
 	pts := lo.Points()
@@ -359,7 +381,7 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 		}
 		mx, err := computeWithProgress(src, xs, M, pts, cfg, label)
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 		ev.Mx = mx
 		ev.Idx, ev.W = ExactWeights(mx)
@@ -375,13 +397,13 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 				continue
 			}
 			if sampler == nil {
-				return nil, fmt.Errorf("scan: point %s has no data and the source cannot draw samples", data.FormatPoint(lo.Names, pts[k]))
+				return nil, nil, fmt.Errorf("scan: point %s has no data and the source cannot draw samples", data.FormatPoint(lo.Names, pts[k]))
 			}
 			n := cfg.ModelSamples
 			buf := make([]uint8, n*N)
 			rng := rand.New(rand.NewPCG(cfg.Seed, uint64(pass)<<32|uint64(k)))
 			if err := sampler.Sample(buf, n, pts[k], rng); err != nil {
-				return nil, fmt.Errorf("scan: drawing samples at %s: %w", data.FormatPoint(lo.Names, pts[k]), err)
+				return nil, nil, fmt.Errorf("scan: drawing samples at %s: %w", data.FormatPoint(lo.Names, pts[k]), err)
 			}
 			xs = append(xs, buf...)
 			for i := 0; i < n; i++ {
@@ -391,20 +413,37 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 		}
 		mx, err := computeWithProgress(src, xs, rows, pts, cfg, label)
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 		ev.Mx = mx
 		ev.W = SampleWeights(ev.Idx)
 	}
 	ev.xs = xs
-	if ind := cfg.Indicators; contains(ind, Fisher) && !gOnly(src) {
-		grad, err := gradients(src, xs, ev, lo, cfg)
-		if err != nil {
-			return nil, err
-		}
-		ev.Grad = grad
+	if !contains(cfg.Indicators, Fisher) || gOnly(src) {
+		return ev, nil, nil
 	}
-	return ev, nil
+	evD, dxs := ev, xs
+	if sampler, ok := src.(Sampler); ok && !cfg.ExactSums {
+		n := cfg.ModelSamples
+		dxs = make([]uint8, K*n*N)
+		evD = &EvalSet{Idx: make([][]int, K)}
+		for k := 0; k < K; k++ {
+			rng := rand.New(rand.NewPCG(cfg.Seed, uint64(pass)<<32|uint64(k)))
+			if err := sampler.Sample(dxs[k*n*N:(k+1)*n*N], n, pts[k], rng); err != nil {
+				return nil, nil, fmt.Errorf("scan: drawing samples at %s: %w", data.FormatPoint(lo.Names, pts[k]), err)
+			}
+			for i := 0; i < n; i++ {
+				evD.Idx[k] = append(evD.Idx[k], k*n+i)
+			}
+		}
+		evD.W = SampleWeights(evD.Idx)
+	}
+	grad, err := gradients(src, dxs, evD, lo, cfg)
+	if err != nil {
+		return nil, nil, err
+	}
+	evD.Grad = grad
+	return ev, evD, nil
 }
 
 func contains(s []string, x string) bool {
@@ -536,7 +575,7 @@ func zoomPass(res *Result, sources []Source, ds *data.Dataset, g *data.Grid, cfg
 		}
 	}
 	sort.Float64s(xs)
-	ax := g.Axes[0]
+	ax := res.Layout.Axes[0]
 	step := func(x float64) float64 {
 		i := sort.SearchFloat64s(ax, x)
 		i = max(1, min(len(ax)-1, i))

@@ -1,0 +1,75 @@
+package indicator
+
+import (
+	"math"
+	"testing"
+)
+
+func TestRefineAndZoomBetweenGridPoints(t *testing.T) {
+	src := &bernoulli{n: 16, d: 1, a: 6, c: 1.03}
+	xs := linspace(0, 2, 5)
+	ds := bernoulliData(src, xs, nil, 4000, 4)
+	res, err := Run([]Source{src}, ds, Config{Refine: 4, ModelSamples: 4000, Zoom: true, Bootstrap: 50, Threads: 2, Seed: 9, Indicators: []string{Fisher}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Layout.K() != 17 {
+		t.Fatalf("refined grid has %d points, want 4·(5−1)+1 = 17", res.Layout.K())
+	}
+	fd := curveByName(t, res.Curves, "fisher_deriv")
+	for i, p := range fd.Pos {
+		pp := src.p(p)
+		// N a² p(1−p) for independent Bernoulli sites (common practice)
+		want := float64(src.n) * src.a * src.a * pp * (1 - pp)
+		if d := math.Abs(fd.Val[i] - want); d > 5*fd.Err[i]+1e-9 {
+			t.Errorf("fisher_deriv at %v: %.4g ± %.2g, closed form %.4g", p, fd.Val[i], fd.Err[i], want)
+		}
+	}
+	if len(fd.Peaks) != 1 || math.Abs(fd.Peaks[0].At[0]-src.c) > 3*fd.Peaks[0].Err[0]+0.02 {
+		t.Errorf("fisher_deriv peaks %+v, want one at %g", fd.Peaks, src.c)
+	}
+	if len(res.Zoom) == 0 {
+		t.Fatal("no zoom pass")
+	}
+	z := res.Zoom[0]
+	for _, zz := range res.Zoom {
+		if math.Abs(zz.Around[0]-src.c) < math.Abs(z.Around[0]-src.c) {
+			z = zz
+		}
+	}
+	if ax := z.Layout.Axes[0]; len(ax) != 9 || math.Abs(ax[8]-ax[0]-2*0.5/4) > 1e-12 {
+		t.Errorf("zoom grid %v, want 2·4+1 points over ±1 refined step (0.125)", ax)
+	}
+	zf := curveByName(t, z.Curves, "fisher_deriv")
+	if len(zf.Peaks) == 0 || math.Abs(zf.Peaks[0].At[0]-src.c) > 3*zf.Peaks[0].Err[0]+0.02 {
+		t.Errorf("zoom fisher_deriv peaks %+v, want one at %g", zf.Peaks, src.c)
+	}
+}
+
+func TestSeveralSourcesAddTheirSpread(t *testing.T) {
+	a := &bernoulli{n: 16, d: 1, a: 6, c: 1.0}
+	b := &bernoulli{n: 16, d: 1, a: 6, c: 1.3}
+	ds := bernoulliData(a, linspace(0, 2, 21), nil, 500, 4)
+	cfg := Config{Bootstrap: 30, Threads: 2, Seed: 3, ModelSamples: 4000, Indicators: []string{Fisher}}
+	one, err := Run([]Source{a}, ds, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	two, err := Run([]Source{a, b}, ds, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f1 := curveByName(t, one.Curves, "fisher_deriv")
+	f2 := curveByName(t, two.Curves, "fisher_deriv")
+	if len(f1.Peaks) != 1 || len(f2.Peaks) != 1 {
+		t.Fatalf("peaks %+v and %+v", f1.Peaks, f2.Peaks)
+	}
+	// Two sources peaking 0.3 apart: the spread alone is 0.3/√2 ≈ 0.21
+	// (sample standard deviation of two values).
+	if e := f2.Peaks[0].Err[0]; e < 0.15 || e < f1.Peaks[0].Err[0] {
+		t.Errorf("peak error with two sources %.3g, with one %.3g; want ≥ 0.15", e, f1.Peaks[0].Err[0])
+	}
+	if x := f2.Peaks[0].At[0]; x < 1.0 || x > 1.3 {
+		t.Errorf("combined peak at %g, want between the sources' 1.0 and 1.3", x)
+	}
+}
