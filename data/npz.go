@@ -80,6 +80,9 @@ func Decode(r io.ReaderAt, size int64, name string, opt ReadOptions) (ds *Datase
 	entry := map[string]*zip.File{}
 	var keys []string
 	for _, f := range zr.File {
+		if f.CompressedSize64 > uint64(size) {
+			return nil, bad("archive", fmt.Sprintf("entries no larger than the %d-byte file", size), fmt.Sprintf("%s claiming %d compressed bytes", f.Name, f.CompressedSize64))
+		}
 		k := strings.TrimSuffix(f.Name, ".npy")
 		if _, dup := entry[k]; !dup {
 			keys = append(keys, k)
@@ -176,7 +179,11 @@ func readNPY(f *zip.File, elemSize int, check func(*npy.Header) string) (*npy.He
 		return nil, nil, fmt.Errorf("a readable archive entry (%v)", err)
 	}
 	defer rc.Close()
-	rp, err := npy.NewReader(rc)
+	pre, err := npyPreamble(rc)
+	if err != nil {
+		return nil, nil, err
+	}
+	rp, err := npy.NewReader(io.MultiReader(bytes.NewReader(pre), rc))
 	if err != nil {
 		return nil, nil, fmt.Errorf("a NumPy .npy header (%v)", err)
 	}
@@ -194,6 +201,13 @@ func readNPY(f *zip.File, elemSize int, check func(*npy.Header) string) (*npy.He
 	if n > f.UncompressedSize64 {
 		return h, nil, fmt.Errorf("%d data bytes (truncated entry of %d bytes)", n, f.UncompressedSize64)
 	}
+	// Deflate expands data at most 1032:1 (zlib's technical notes; from
+	// memory), so a body larger than that of the compressed entry means a
+	// damaged size; refuse it before allocating the body, since a failed
+	// huge allocation ends the process (found with TestDecodeHugeClaimedSize).
+	if n/1032 > f.CompressedSize64 {
+		return h, nil, fmt.Errorf("%d data bytes (the entry holds only %d compressed bytes)", n, f.CompressedSize64)
+	}
 	body := make([]byte, n)
 	if _, err := io.ReadFull(rc, body); err != nil {
 		return h, nil, fmt.Errorf("%d readable data bytes (%v)", n, err)
@@ -207,6 +221,81 @@ func readNPY(f *zip.File, elemSize int, check func(*npy.Header) string) (*npy.He
 		return h, nil, fmt.Errorf("intact data (%v)", err)
 	}
 	return h, body, nil
+}
+
+// maxNPYHeader bounds the NPY header dictionary, so that a damaged length
+// cannot make the reader allocate without limit (NumPy's own headers are a
+// few hundred bytes).
+const maxNPYHeader = 1 << 16
+
+// npyPreamble reads the NPY magic, version, header length and header from r
+// and checks that the header has the layout npyio's parser assumes: npyio
+// slices the dictionary between its keys without bounds checks, and damaged
+// headers made it panic (found by FuzzDecode). It returns the bytes read, to
+// be handed to npyio, or an error saying what was expected.
+func npyPreamble(r io.Reader) ([]byte, error) {
+	const what = "a NumPy .npy header"
+	pre := make([]byte, 8, 12)
+	if _, err := io.ReadFull(r, pre); err != nil {
+		return nil, fmt.Errorf("%s (%v)", what, err)
+	}
+	if string(pre[:6]) != "\x93NUMPY" {
+		return nil, fmt.Errorf("%s (magic bytes \\x93NUMPY, found %q)", what, pre[:6])
+	}
+	var hlen uint64
+	switch pre[6] {
+	case 1:
+		pre = pre[:10]
+		if _, err := io.ReadFull(r, pre[8:]); err != nil {
+			return nil, fmt.Errorf("%s (%v)", what, err)
+		}
+		hlen = uint64(binary.LittleEndian.Uint16(pre[8:]))
+	case 2:
+		pre = pre[:12]
+		if _, err := io.ReadFull(r, pre[8:]); err != nil {
+			return nil, fmt.Errorf("%s (%v)", what, err)
+		}
+		hlen = uint64(binary.LittleEndian.Uint32(pre[8:]))
+	default:
+		return nil, fmt.Errorf("%s of format version 1 or 2 (found version %d)", what, pre[6])
+	}
+	if hlen > maxNPYHeader {
+		return nil, fmt.Errorf("%s of at most %d bytes (found a length of %d)", what, maxNPYHeader, hlen)
+	}
+	hdr := make([]byte, hlen)
+	if _, err := io.ReadFull(r, hdr); err != nil {
+		return nil, fmt.Errorf("%s of %d bytes (%v)", what, hlen, err)
+	}
+	if !npyDictLayoutOK(hdr) {
+		return nil, fmt.Errorf("%s dictionary {'descr': ..., 'fortran_order': ..., 'shape': (...), } ending in a newline (found %q)", what, truncate(hdr, 80))
+	}
+	return append(pre, hdr...), nil
+}
+
+// npyDictLayoutOK reports whether every slice npyio takes of the header is
+// in bounds: a newline, the three keys in NumPy's order, a closing brace
+// after them and a shape of at least "()".
+func npyDictLayoutOK(hdr []byte) bool {
+	nl := bytes.LastIndexByte(hdr, '\n')
+	if nl < 0 {
+		return false
+	}
+	buf := hdr[:nl]
+	d := bytes.Index(buf, []byte("'descr': "))
+	o := bytes.Index(buf, []byte("'fortran_order': "))
+	s := bytes.Index(buf, []byte("'shape': "))
+	e := bytes.Index(buf, []byte("}"))
+	if d < 0 || o < 0 || s < 0 || e < 0 {
+		return false
+	}
+	return d+len("'descr': ") <= o-2 && o+len("'fortran_order': ") <= s-2 && s+len("'shape': ")+2 <= e-2
+}
+
+func truncate(b []byte, n int) []byte {
+	if len(b) > n {
+		return b[:n]
+	}
+	return b
 }
 
 func isU1(t string) bool {
