@@ -120,6 +120,14 @@ func (m *Model) newWorkspace(rows int) *workspace {
 	return w
 }
 
+// getWorkspace returns a pooled workspace for blockRows snapshots.
+func (m *Model) getWorkspace() *workspace {
+	if w, ok := m.wsPool.Get().(*workspace); ok {
+		return w
+	}
+	return m.newWorkspace(blockRows)
+}
+
 // gather computes the first-layer product x·(W0⊙M0) and the direct product
 // x·(D⊙MD) of r snapshots from the rows of the one-hot encoding, flipping
 // every spin when flip is set (q = 2 only).
@@ -324,7 +332,8 @@ func (m *Model) LogProb(dst []float64, xs []uint8, lambda []float64) (err error)
 	p := m.prepare()
 	defer m.pool.Put(p)
 	cb := [][][]float64{m.condBias(lambda)}
-	w := m.newWorkspace(min(n, blockRows))
+	w := m.getWorkspace()
+	defer m.wsPool.Put(w)
 	N := m.Cfg.Sites
 	for i := 0; i < n; i += blockRows {
 		r := min(blockRows, n-i)
@@ -383,7 +392,8 @@ func (m *Model) LogProbMatrix(xs []uint8, n int, lambdas [][]float64, threads in
 					once.Do(func() { err = fmt.Errorf("model: LogProbMatrix failed: %v", r) })
 				}
 			}()
-			w := m.newWorkspace(blockRows)
+			w := m.getWorkspace()
+			defer m.wsPool.Put(w)
 			col := make([]float64, blockRows)
 			for {
 				b := int(next.Add(1)) - 1
@@ -548,7 +558,8 @@ func (m *Model) logProbRows(dst []float64, xs []uint8, params []float64, n int) 
 	p := m.prepare()
 	defer m.pool.Put(p)
 	N, d := m.Cfg.Sites, m.Cfg.ParamDim
-	w := m.newWorkspace(min(n, blockRows))
+	w := m.getWorkspace()
+	defer m.wsPool.Put(w)
 	cb := make([][][]float64, blockRows)
 	for i := 0; i < n; i += blockRows {
 		r := min(blockRows, n-i)

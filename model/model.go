@@ -33,11 +33,12 @@ type Model struct {
 	Cfg     Config
 	Weights []Tensor
 
-	lay   layout
-	masks []Tensor // one per masked layer, then the direct mask if any
-	deg   []int    // autoregressive position of each site
-	hdeg  [][]int  // degrees of the hidden units of each layer, ascending
-	pool  sync.Pool
+	lay    layout
+	masks  []Tensor  // one per masked layer, then the direct mask if any
+	deg    []int     // autoregressive position of each site
+	hdeg   [][]int   // degrees of the hidden units of each layer, ascending
+	pool   sync.Pool // *prep
+	wsPool sync.Pool // *workspace of blockRows rows
 }
 
 // layout records where each parameter lives in Weights.
