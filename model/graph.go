@@ -149,7 +149,7 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 // Batch returns the maximum number of snapshots per call.
 func (gr *Graph) Batch() int { return gr.batch }
 
-// check validates a batch and fills the graph's inputs.
+// fill validates a batch and writes it into the graph's inputs.
 func (gr *Graph) fill(xs []uint8, params []float64, n int) error {
 	m := gr.m
 	c := m.Cfg

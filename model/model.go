@@ -16,7 +16,7 @@ type Tensor struct {
 	Data  []float64 `json:"-"`
 }
 
-// size is the product of the shape.
+// shapeSize is the product of the shape.
 func shapeSize(s []int) int {
 	n := 1
 	for _, d := range s {
