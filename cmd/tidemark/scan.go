@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"sort"
 	"strconv"
 	"strings"
 
@@ -258,8 +259,13 @@ func printScan(w io.Writer, out string, res *indicator.Result, sum *report.Summa
 	}
 	for _, z := range sum.Zoom {
 		p("  zoom around %s (%d points from %.6g to %.6g):\n", data.FormatPoint(res.Names, z.Around), z.Points, z.From, z.To)
-		for name, is := range z.Indicators {
-			for _, pk := range is.Peaks {
+		names := make([]string, 0, len(z.Indicators))
+		for name := range z.Indicators {
+			names = append(names, name)
+		}
+		sort.Strings(names)
+		for _, name := range names {
+			for _, pk := range z.Indicators[name].Peaks {
 				p("    %-12s peak at %s\n", name, peakString(res.Names, indicator.Peak{At: pk.At, Err: pk.Err}))
 			}
 		}

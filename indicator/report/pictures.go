@@ -18,9 +18,10 @@ import (
 
 var (
 	curveColor = color.RGBA{R: 0x1f, G: 0x4e, B: 0x99, A: 0xff}
-	bandColor  = color.RGBA{R: 0x1f, G: 0x4e, B: 0x99, A: 0x40}
+	bandColor  = color.NRGBA{R: 0x1f, G: 0x4e, B: 0x99, A: 0x40}
 	peakColor  = color.RGBA{R: 0xc0, G: 0x30, B: 0x20, A: 0xff}
-	lineColor  = color.RGBA{R: 0xff, G: 0xff, B: 0xff, A: 0xff}
+	ridgeA     = color.RGBA{R: 0x00, G: 0xb4, B: 0xff, A: 0xff}
+	ridgeB     = color.RGBA{R: 0x00, G: 0xd0, B: 0x40, A: 0xff}
 )
 
 // describe returns a readable title for a curve.
@@ -129,8 +130,8 @@ func curvePlot(c *indicator.Curve, xname string) (*plot.Plot, error) {
 			return nil, err
 		}
 		sc.Color = peakColor
-		sc.Shape = draw.TriangleGlyph{}
-		sc.Radius = vg.Points(4)
+		sc.Shape = draw.PyramidGlyph{}
+		sc.Radius = vg.Points(5)
 		p.Add(sc)
 		xe := make(plotter.XErrors, len(c.Peaks))
 		for i, q := range c.Peaks {
@@ -220,7 +221,7 @@ func heatPlot(c *indicator.Curve, res *indicator.Result) (*plot.Plot, error) {
 	h.Min, h.Max = lo, hi
 	h.NaN = color.Gray{Y: 0xcc}
 	p := plot.New()
-	p.Title.Text = fmt.Sprintf("%s (range %.4g to %.4g, bright = high)", describe(c), lo, hi)
+	p.Title.Text = fmt.Sprintf("%s\nrange %.4g (dark) to %.4g (bright)", describe(c), lo, hi)
 	p.X.Label.Text = res.Names[0]
 	p.Y.Label.Text = res.Names[1]
 	p.Add(h)
@@ -236,12 +237,14 @@ func heatPlot(c *indicator.Curve, res *indicator.Result) (*plot.Plot, error) {
 		if err != nil {
 			return nil, err
 		}
-		l.Color = lineColor
-		l.Width = vg.Points(1.5)
+		col := ridgeA
 		if b.Axis == res.Names[1] {
+			col = ridgeB
 			l.Dashes = []vg.Length{vg.Points(4), vg.Points(2)}
 		}
-		s.Color = lineColor
+		l.Color = col
+		l.Width = vg.Points(2)
+		s.Color = col
 		s.Radius = vg.Points(2)
 		p.Add(l, s)
 		p.Legend.Add("boundary (ridge along "+b.Axis+")", l)

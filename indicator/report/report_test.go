@@ -1,0 +1,138 @@
+package report
+
+import (
+	"encoding/json"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"tidemark/data"
+	"tidemark/indicator"
+)
+
+// tilted is a test source of n independent sites, each 1 with probability
+// logistic(a(T − c − b·J)): its distribution changes fastest on the line
+// T = c + b·J, where the Fisher information N a² p(1−p) of the sites peaks
+// (common practice).
+type tilted struct {
+	n       int
+	a, b, c float64
+}
+
+func (s *tilted) Sites() int       { return s.n }
+func (s *tilted) Alphabet() int    { return 2 }
+func (s *tilted) ParamDim() int    { return 2 }
+func (s *tilted) Enumerable() bool { return true }
+func (s *tilted) p(l []float64) float64 {
+	return 1 / (1 + math.Exp(-s.a*(l[0]-s.c-s.b*l[1])))
+}
+func (s *tilted) LogProb(dst []float64, xs []uint8, l []float64) error {
+	p := s.p(l)
+	for m := range dst {
+		k := 0
+		for _, v := range xs[m*s.n : (m+1)*s.n] {
+			k += int(v)
+		}
+		dst[m] = float64(k)*math.Log(p) + float64(s.n-k)*math.Log1p(-p)
+	}
+	return nil
+}
+func (s *tilted) Sample(dst []uint8, n int, l []float64, rng *rand.Rand) error {
+	p := s.p(l)
+	for i := range dst[:n*s.n] {
+		dst[i] = 0
+		if rng.Float64() < p {
+			dst[i] = 1
+		}
+	}
+	return nil
+}
+
+func scan2D(t *testing.T) (*indicator.Result, *tilted) {
+	t.Helper()
+	src := &tilted{n: 8, a: 4, b: 0.5, c: 1}
+	var pts [][]float64
+	for i := 0; i < 11; i++ {
+		for j := 0; j < 5; j++ {
+			pts = append(pts, []float64{0.5 + 0.15*float64(i), float64(j) * 0.25})
+		}
+	}
+	ds, err := data.New(2*len(pts), src.n, []string{"T", "J"}, 2, nil, map[string]any{"generator": "test"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k, p := range pts {
+		copy(ds.Params[4*k:], p)
+		copy(ds.Params[4*k+2:], p)
+	}
+	res, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{ExactSums: true, Threads: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return res, src
+}
+
+func TestWriteTwoDimensionalScan(t *testing.T) {
+	res, src := scan2D(t)
+	dir := filepath.Join(t.TempDir(), "scan")
+	if err := os.Mkdir(dir, 0o755); err != nil { // an empty folder is accepted
+		t.Fatal(err)
+	}
+	if _, err := Write(dir, false, res, Info{Source: "exact", Refine: 1}); err != nil {
+		t.Fatal(err)
+	}
+	for _, f := range []string{"indicators.csv", "summary.json", "local_T.svg", "local_T.png", "fisher_deriv.svg", "pbm.png", "lbc_J.svg"} {
+		if st, err := os.Stat(filepath.Join(dir, f)); err != nil || st.Size() == 0 {
+			t.Errorf("%s: %v", f, err)
+		}
+	}
+	var sum struct {
+		Params     []string
+		Boundaries []struct {
+			Indicator string
+			Along     string
+			Points    [][]float64
+		}
+	}
+	b, _ := os.ReadFile(filepath.Join(dir, "summary.json"))
+	if err := json.Unmarshal(b, &sum); err != nil {
+		t.Fatal(err)
+	}
+	found := false
+	for _, bd := range sum.Boundaries {
+		if bd.Indicator != "fisher_deriv" || bd.Along != "T" {
+			continue
+		}
+		found = true
+		if len(bd.Points) != 5 {
+			t.Errorf("fisher_deriv boundary has %d points, want one per J value", len(bd.Points))
+		}
+		for _, p := range bd.Points {
+			// The trace of the metric, a²N p(1−p)(1 + b²), peaks on the line too.
+			if want := src.c + src.b*p[1]; math.Abs(p[0]-want) > 0.03 {
+				t.Errorf("boundary point %v, want T = %.3f", p, want)
+			}
+		}
+	}
+	if !found {
+		t.Errorf("no fisher_deriv boundary along T in %s", b)
+	}
+	csv, _ := os.ReadFile(filepath.Join(dir, "indicators.csv"))
+	if head := strings.SplitN(string(csv), "\n", 2)[0]; !strings.HasPrefix(head, "T,J,") || !strings.Contains(head, "local_T,local_T_err") {
+		t.Errorf("csv header %q", head)
+	}
+	// Non-empty: refused without force, replaced with force.
+	if _, err := Write(dir, false, res, Info{Source: "exact"}); err == nil || !strings.Contains(err.Error(), "not empty") {
+		t.Errorf("non-empty folder without force: %v", err)
+	}
+	if _, err := Write(dir, true, res, Info{Source: "exact"}); err != nil {
+		t.Errorf("with force: %v", err)
+	}
+	ents, _ := os.ReadDir(filepath.Dir(dir))
+	if len(ents) != 1 {
+		t.Errorf("left behind: %v", ents)
+	}
+}
