@@ -188,6 +188,9 @@ func Parse(text string) (*Hamiltonian, error) {
 			switch f.kind {
 			case tokNum:
 				term.Factor *= f.num
+				if math.IsInf(term.Factor, 0) {
+					return fail(f, "numbers whose product is finite")
+				}
 			case tokIdent:
 				if isWord(f.text) {
 					term.Word = f.text
