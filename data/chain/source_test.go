@@ -1,6 +1,7 @@
 package chain
 
 import (
+	"encoding/json"
 	"math"
 	"math/bits"
 	"math/rand/v2"
@@ -8,6 +9,8 @@ import (
 
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"tidemark/data"
+	"tidemark/data/exact"
 	"tidemark/indicator"
 )
 
@@ -327,6 +330,38 @@ func TestXParityExact(t *testing.T) {
 		minus := 6 - bits.OnesCount(uint(idx)) // stored 0 = X = −1
 		if minus%2 == 1 && v != 0 {
 			t.Fatalf("snapshot %06b with %d X=−1 outcomes has p = %g, want 0", idx, minus, v)
+		}
+	}
+}
+
+func TestRegisteredWithExact(t *testing.T) {
+	s, err := New(Config{Sites: 4, Hamiltonian: "-ZZ - h*X", Params: []string{"h"}, Basis: BasisY, Open: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	src, err := json.Marshal(s.Meta(1, "h=0:1:2", nil))
+	if err != nil {
+		t.Fatal(err)
+	}
+	m := data.Meta{ParamNames: []string{"h"}, Alphabet: 2, Lattice: []int{4}, Source: src}
+	got, err := exact.FromMeta(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cs, ok := got.(*Source)
+	if !ok {
+		t.Fatalf("exact.FromMeta returned %T, want *chain.Source", got)
+	}
+	if c := cs.Config(); c.Basis != BasisY || !c.Open || c.Sector != SectorEven || c.Sites != 4 {
+		t.Errorf("rebuilt config %+v", c)
+	}
+	for _, bad := range []data.Meta{
+		{ParamNames: []string{"h"}, Alphabet: 6, Lattice: []int{4}, Source: src},
+		{ParamNames: []string{"h"}, Alphabet: 2, Lattice: []int{2, 2}, Source: src},
+		{ParamNames: []string{"g"}, Alphabet: 2, Lattice: []int{4}, Source: src},
+	} {
+		if _, err := SourceFromMeta(bad); err == nil {
+			t.Errorf("SourceFromMeta accepted alphabet %d lattice %v params %v", bad.Alphabet, bad.Lattice, bad.ParamNames)
 		}
 	}
 }
