@@ -91,16 +91,25 @@ func ParseGridSpec(s string) (GridSpec, error) {
 			if n == 1 && a != b {
 				return fail(ccol, "count 1 needs start = stop, found %v and %v", a, b)
 			}
+			if math.IsInf(b-a, 0) {
+				return fail(bstart, "expected start and stop close enough to space evenly, found %v and %v", a, b)
+			}
 			vals = make([]float64, n)
 			for i := range vals {
 				if n == 1 {
 					vals[i] = a
 				} else {
-					vals[i] = tidy(a + (b-a)*float64(i)/float64(n-1))
+					// Keep the rounded value only when it moves by far less
+					// than the spacing, so the values stay in order.
+					v := a + (b-a)*float64(i)/float64(n-1)
+					if t := tidy(v); math.Abs(t-v) <= 1e-9*math.Abs(b-a)/float64(n-1) {
+						v = t
+					}
+					vals[i] = v
 				}
 			}
 			if n > 1 {
-				vals[n-1] = b
+				vals[0], vals[n-1] = a, b
 			}
 		} else {
 			col := bstart
