@@ -1,6 +1,7 @@
 package chain
 
 import (
+	"errors"
 	"math"
 	"math/cmplx"
 	"sort"
@@ -202,5 +203,61 @@ func TestMatvecMatchesDense(t *testing.T) {
 				t.Fatalf("open=%v: (Hv)[%d] = %v, dense %v", open, a, got[a], want)
 			}
 		}
+	}
+}
+
+func TestSectorsMatchDenseParityBlocks(t *testing.T) {
+	// The lowest eigenvalue in each ∏X sector equals that of the dense H
+	// restricted to the pairs (|b⟩ ± |b̄⟩)/√2, diagonalised with gonum
+	// (common practice: block diagonalisation by a Z2 symmetry).
+	const n, h = 6, 0.7
+	H := denseHamiltonian(t, "-ZZ - h*X + 0.3*XX", n, false, []string{"h"}, []float64{h})
+	full := 1<<n - 1
+	for _, tc := range []struct {
+		sector Sector
+		sign   float64
+	}{{SectorEven, 1}, {SectorOdd, -1}} {
+		var reps []int
+		for b := 0; b <= full; b++ {
+			if b < full^b {
+				reps = append(reps, b)
+			}
+		}
+		block := mat.NewSymDense(len(reps), nil)
+		for i, a := range reps {
+			for j, b := range reps {
+				v := real(H[a][b]) + tc.sign*real(H[a][full^b]) // ⟨a±|H|b±⟩ with H symmetric under the flip
+				block.SetSym(i, j, v)
+			}
+		}
+		var es mat.EigenSym
+		if !es.Factorize(block, false) {
+			t.Fatal("EigenSym failed")
+		}
+		ev := es.Values(nil)
+		sort.Float64s(ev)
+		s, err := New(Config{Sites: n, Hamiltonian: "-ZZ - h*X + 0.3*XX", Params: []string{"h"}, Sector: tc.sector})
+		if err != nil {
+			t.Fatal(err)
+		}
+		st, err := s.GroundState([]float64{h})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if math.Abs(st.E0-ev[0]) > 1e-9 || math.Abs(st.E0+st.Gap-ev[1]) > 1e-7 {
+			t.Errorf("sector %v: E0 %.12f E1 %.12f, dense block %.12f %.12f", tc.sector, st.E0, st.E0+st.Gap, ev[0], ev[1])
+		}
+	}
+}
+
+func TestLanczosReportsNoConvergence(t *testing.T) {
+	s, err := New(Config{Sites: 10, Hamiltonian: "-ZZ - h*X", Params: []string{"h"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	m := buildMatrix[float64](s.op, []float64{1})
+	_, err = lowest(m, nil, nil, startVector[float64](1<<10, 1), lanczosOptions{krylov: 3, tol: 1e-9, restarts: 2})
+	if !errors.Is(err, errNoConvergence) {
+		t.Errorf("error %v, want one wrapping errNoConvergence", err)
 	}
 }
