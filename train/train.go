@@ -77,7 +77,7 @@ type Settings struct {
 // tuning.
 func DefaultSettings() Settings {
 	return Settings{
-		Arch:            Arch{Fourier: 2, Activation: "relu", Direct: true, Order: "rowmajor"},
+		Arch:            Arch{Fourier: 1, Activation: "relu", Direct: true, Order: "rowmajor"},
 		Epochs:          60,
 		Batch:           128,
 		LR:              2e-3,
