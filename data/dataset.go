@@ -186,6 +186,10 @@ func (ds *Dataset) validate(file string, needParams bool) error {
 		if l <= 0 {
 			return bad("meta.lattice", "positive sizes", fmt.Sprintf("%v", ds.Meta.Lattice))
 		}
+		if prod > ds.N/l {
+			// The product exceeds N; stop before it can overflow.
+			return bad("meta.lattice", fmt.Sprintf("sizes whose product is the %d sites of states", ds.N), fmt.Sprintf("%v (product above %d)", ds.Meta.Lattice, ds.N))
+		}
 		prod *= l
 	}
 	if len(ds.Meta.Lattice) == 0 || prod != ds.N {

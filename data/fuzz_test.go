@@ -8,6 +8,7 @@ import (
 	"errors"
 	"hash/crc32"
 	"math"
+	"math/big"
 	"slices"
 	"strconv"
 	"strings"
@@ -78,6 +79,13 @@ func FuzzDecode(f *testing.F) {
 	}
 	f.Add([]byte{}, false)
 	f.Add(hugeClaimArchive(f), false)
+	// A lattice whose product overflows int to exactly N = 3:
+	// 3·((2^32+1)(2^32−1))² = 3·(2^64−1)² ≡ 3 (mod 2^64).
+	wrap := fuzzDataset(f, 4, []int{3}, []string{"T"}, 2)
+	wrap.Meta.Lattice = []int{3, 1<<32 + 1, 1<<32 - 1, 1<<32 + 1, 1<<32 - 1}
+	if b, err := wrap.Bytes(); err == nil {
+		f.Add(b, false)
+	}
 	f.Add([]byte("PK\x05\x06"+strings.Repeat("\x00", 18)), true)
 
 	f.Fuzz(func(t *testing.T, b []byte, unlabelled bool) {
@@ -101,6 +109,14 @@ func FuzzDecode(f *testing.F) {
 		}
 		if len(ds.States) != ds.M*ds.N || len(ds.Params) != ds.M*ds.D {
 			t.Fatalf("M=%d N=%d D=%d but %d states and %d params", ds.M, ds.N, ds.D, len(ds.States), len(ds.Params))
+		}
+		// The lattice has N sites, counted without overflow.
+		sites := new(big.Int).SetInt64(1)
+		for _, l := range ds.Meta.Lattice {
+			sites.Mul(sites, big.NewInt(int64(l)))
+		}
+		if len(ds.Meta.Lattice) == 0 || !sites.IsInt64() || sites.Int64() != int64(ds.N) {
+			t.Fatalf("accepted the lattice %v (%v sites) for %d sites", ds.Meta.Lattice, sites, ds.N)
 		}
 		if !unlabelled {
 			if err := ds.Validate("fuzz.npz"); err != nil {
