@@ -1,12 +1,16 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
+	"os"
+	"os/signal"
 	"sort"
 	"strconv"
 	"strings"
+	"syscall"
 
 	"github.com/spf13/cobra"
 
@@ -224,10 +228,32 @@ func runScan(w io.Writer, o *scanOptions) error {
 			return b.Func()
 		},
 	}
-	res, err := indicator.Run(sources, ds, cfg)
+	// The scan writes nothing until it is complete, so a signal can simply
+	// stop it: nothing is lost and nothing half-written is left.
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	type outcome struct {
+		res *indicator.Result
+		err error
+	}
+	done := make(chan outcome, 1)
+	go func() {
+		r, e := indicator.Run(sources, ds, cfg)
+		done <- outcome{r, e}
+	}()
+	var oc outcome
+	select {
+	case oc = <-done:
+	case <-ctx.Done():
+		for _, b := range bars {
+			b.Done()
+		}
+		return fmt.Errorf("scan: stopped before any output was written: %w", errInterrupted)
+	}
 	for _, b := range bars {
 		b.Done()
 	}
+	res, err := oc.res, oc.err
 	if err != nil {
 		return err
 	}

@@ -6,10 +6,14 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
 	"tidemark/data"
+	"tidemark/data/exact"
+	"tidemark/data/ising"
+	"tidemark/indicator"
 )
 
 // smallDataset writes a dataset of 4 independent sites, each 1 with
@@ -137,5 +141,60 @@ func TestScanCommandErrors(t *testing.T) {
 				t.Fatal("a failed scan left an output folder")
 			}
 		})
+	}
+}
+
+// registerIsingForScan makes "ising" datasets rebuildable by --exact in this
+// test binary, as the ising package's registration will do in the program.
+func registerIsingForScan() {
+	if !slices.Contains(exact.Generators(), "ising") {
+		exact.Register("ising", func(m data.Meta) (indicator.Source, error) {
+			s, err := ising.SourceFromMeta(m)
+			if err != nil {
+				return nil, err
+			}
+			return s, nil
+		})
+	}
+}
+
+func TestScanCommandExactTwoDimensional(t *testing.T) {
+	registerIsingForScan()
+	dir := t.TempDir()
+	in := filepath.Join(dir, "aniso.npz")
+	if _, err := execTidemark(t, "simulate", "ising", "--size", "3", "--grid", "T=1:4:7,Jy=0.5:1.5:3", "--samples", "200",
+		"--exact-samples", "--seed", "3", "--quiet", "-o", in); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "scan")
+	msg, err := execTidemark(t, "scan", "--data", in, "--exact", "--exact-sums", "--indicators", "local,fisher", "-o", out, "--quiet")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(msg, "boundary from") || !strings.Contains(msg, "exact sums") {
+		t.Errorf("output:\n%s", msg)
+	}
+	var sum struct {
+		Source     string
+		ExactSums  bool `json:"exact_sums"`
+		Boundaries []struct {
+			Indicator string
+			Points    [][]float64
+		}
+	}
+	b, err := os.ReadFile(filepath.Join(out, "summary.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, &sum); err != nil {
+		t.Fatal(err)
+	}
+	if sum.Source != "exact" || !sum.ExactSums || len(sum.Boundaries) == 0 {
+		t.Errorf("summary: %s", b)
+	}
+	for _, f := range []string{"local_T.png", "fisher_deriv.svg", "indicators.csv"} {
+		if _, err := os.Stat(filepath.Join(out, f)); err != nil {
+			t.Error(err)
+		}
 	}
 }
