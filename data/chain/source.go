@@ -162,7 +162,7 @@ func New(cfg Config) (*Source, error) {
 		}
 	case SectorEven, SectorOdd:
 		if !op.commut {
-			return nil, fmt.Errorf("chain: sector %s: %w: the Hamiltonian %q has a word with an odd number of Z and Y letters; use sector none", cfg.Sector, ErrNoFlipSymmetry, cfg.Hamiltonian)
+			return nil, fmt.Errorf("chain: sector %s: %q: %w (a word has an odd number of Z and Y letters); use sector none", cfg.Sector, cfg.Hamiltonian, ErrNoFlipSymmetry)
 		}
 		s.sector = cfg.Sector
 	case SectorNone:
