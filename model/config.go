@@ -27,7 +27,19 @@ type Config struct {
 	Symmetric  bool      `json:"symmetric"`   // q=2 only: log p_sym(x) = log((p(x)+p(1-x))/2)
 	ParamLo    []float64 `json:"param_lo"`    // per-axis range of the training data, mapped to [-1, 1]
 	ParamHi    []float64 `json:"param_hi"`
+	// Precision is the arithmetic of the masked matrix products, where
+	// nearly all the work is: "" or "float64" (the default), or "float32"
+	// (products rounded to single precision, about 1e-6 relative; every
+	// per-site term, log-likelihood sum and gradient outside the products
+	// stays float64).
+	Precision string `json:"precision,omitempty"`
 }
+
+// The accepted Config.Precision values.
+const (
+	PrecisionFloat64 = "float64"
+	PrecisionFloat32 = "float32"
+)
 
 // Activations lists the supported activation names.
 var Activations = []string{"relu", "tanh"}
@@ -148,6 +160,9 @@ func (c Config) Validate() error {
 			return fmt.Errorf("model config: order must be a permutation of 0..%d, found %d at position %d", c.Sites-1, s, i)
 		}
 		seen[s] = true
+	}
+	if c.Precision != "" && c.Precision != PrecisionFloat64 && c.Precision != PrecisionFloat32 {
+		return fmt.Errorf("model config: precision must be %q or %q, found %q", PrecisionFloat64, PrecisionFloat32, c.Precision)
 	}
 	if c.Symmetric && c.Alphabet != 2 {
 		return fmt.Errorf("model config: symmetric needs alphabet 2, found %d", c.Alphabet)

@@ -66,17 +66,25 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 			wn[i] = matrix(t.Name, t.Data, t.Shape[0], t.Shape[1])
 		}
 	}
-	masked := func(w int, mask Tensor) *G.Node {
-		mn := matrix(mask.Name, append([]float64(nil), mask.Data...), mask.Shape[0], mask.Shape[1])
-		return must(G.HadamardProd(wn[w], mn))
+	// Masked products: hand-written gorgonia operations that skip the
+	// all-zero blocks of each mask (see maskedLinear).
+	// Each pass through the network (two with Symmetric) has its own
+	// operations, because they own their output buffers.
+	f32 := c.Precision == PrecisionFloat32
+	tiles := make([]tiling, len(m.masks))
+	for i, mk := range m.masks {
+		tiles[i] = newTiling(mk.Data, mk.Shape[0], mk.Shape[1])
 	}
-	eff := make([]*G.Node, len(l.madeW))
-	for i, w := range l.madeW {
-		eff[i] = masked(w, m.masks[i])
-	}
-	var effD *G.Node
-	if l.direct >= 0 {
-		effD = masked(l.direct, m.masks[len(m.masks)-1])
+	linears := func(pass string) ([]*maskedLinear, *maskedLinear) {
+		lin := make([]*maskedLinear, len(l.madeW))
+		for i, w := range l.madeW {
+			lin[i] = &maskedLinear{name: m.Weights[w].Name + pass, t: tiles[i], needDX: i > 0, f32: f32}
+		}
+		var linD *maskedLinear
+		if l.direct >= 0 {
+			linD = &maskedLinear{name: m.Weights[l.direct].Name + pass, t: tiles[len(tiles)-1], f32: f32}
+		}
+		return lin, linD
 	}
 	act := func(n *G.Node) *G.Node {
 		if c.Activation == "tanh" {
@@ -104,14 +112,15 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 		heads[i] = addBias(must(G.Mul(u, wn[l.condV[i]])), wn[l.madeB[i]])
 	}
 	L := len(c.Hidden)
-	logp := func(x *G.Node) *G.Node {
+	logp := func(x *G.Node, pass string) *G.Node {
+		lin, linD := linears(pass)
 		h := x
 		for i := 0; i < L; i++ {
-			h = act(must(G.Add(must(G.Mul(h, eff[i])), heads[i])))
+			h = act(must(G.Add(must(maskedMul(h, wn[l.madeW[i]], lin[i])), heads[i])))
 		}
-		z := must(G.Add(must(G.Mul(h, eff[L])), heads[L]))
-		if effD != nil {
-			z = must(G.Add(z, must(G.Mul(x, effD))))
+		z := must(G.Add(must(maskedMul(h, wn[l.madeW[L]], lin[L])), heads[L]))
+		if linD != nil {
+			z = must(G.Add(z, must(maskedMul(x, wn[l.direct], linD))))
 		}
 		if c.Alphabet == 2 {
 			// log p = x·z − log(1+e^z) per site (Bernoulli with logit z).
@@ -129,13 +138,13 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 		lse = must(G.Reshape(lse, tensor.Shape{B, c.Sites}))
 		return must(G.Sub(must(G.Sum(must(G.HadamardProd(z, x)), 1)), must(G.Sum(lse, 1))))
 	}
-	lp := logp(X)
+	lp := logp(X, "")
 	if c.Symmetric {
 		// log((p(x)+p(1−x))/2) = a + softplus(b−a) − log 2; the constant is
 		// added outside the graph.
 		gr.xf = make([]float64, B*l.din)
 		Xf := matrix("xflip", gr.xf, B, l.din)
-		b := logp(Xf)
+		b := logp(Xf, "/flip")
 		lp = must(G.Add(lp, must(G.Softplus(must(G.Sub(b, lp))))))
 	}
 	gr.loss = must(G.Neg(must(G.Sum(must(G.HadamardProd(lp, Wr))))))

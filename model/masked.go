@@ -1,0 +1,396 @@
+package model
+
+import (
+	"fmt"
+	"hash"
+	"hash/fnv"
+
+	"github.com/chewxy/hm"
+	G "gorgonia.org/gorgonia"
+	"gorgonia.org/tensor"
+
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas32"
+	"gonum.org/v1/gonum/blas/blas64"
+)
+
+// tileSize is the width of the column (and row) blocks into which a masked
+// product is split; blocks whose mask is all zero are skipped.
+const tileSize = 64
+
+// tile is one block of a masked weight [in, out]: the columns (or rows)
+// a0..a1 and the range lo..hi of rows (or columns) that hold every nonzero
+// mask entry of the block.
+type tile struct{ a0, a1, lo, hi int }
+
+// tiling is the block structure of one mask. Because hidden units are
+// sorted by degree (and inputs are in site order, which is degree order for
+// the row-major ordering), a MADE mask is block triangular: the nonzero rows
+// of a column block form a prefix, so skipping the rest does about half the
+// work of a dense product (Germain et al., ICML 2015, define the masks;
+// skipping zero blocks is common practice for structured sparsity).
+type tiling struct {
+	in, out int
+	cols    []tile // column blocks: rows lo..hi are the nonzero ones
+	rows    []tile // row blocks: columns lo..hi are the nonzero ones
+	mask    []float64
+}
+
+func newTiling(mask []float64, in, out int) tiling {
+	t := tiling{in: in, out: out, mask: mask}
+	for c0 := 0; c0 < out; c0 += tileSize {
+		c1 := min(c0+tileSize, out)
+		lo, hi := in, 0
+		for j := 0; j < in; j++ {
+			for k := c0; k < c1; k++ {
+				if mask[j*out+k] != 0 {
+					lo, hi = min(lo, j), max(hi, j+1)
+					break
+				}
+			}
+		}
+		if hi > lo {
+			t.cols = append(t.cols, tile{c0, c1, lo, hi})
+		}
+	}
+	for r0 := 0; r0 < in; r0 += tileSize {
+		r1 := min(r0+tileSize, in)
+		lo, hi := out, 0
+		for j := r0; j < r1; j++ {
+			for k := 0; k < out; k++ {
+				if mask[j*out+k] != 0 {
+					lo = min(lo, k)
+					break
+				}
+			}
+			for k := out - 1; k >= 0; k-- {
+				if mask[j*out+k] != 0 {
+					hi = max(hi, k+1)
+					break
+				}
+			}
+		}
+		if hi > lo {
+			t.rows = append(t.rows, tile{r0, r1, lo, hi})
+		}
+	}
+	return t
+}
+
+// work returns the number of multiply–adds of one row through the tiled
+// product (the dense product has in·out).
+func (t tiling) work() int {
+	w := 0
+	for _, c := range t.cols {
+		w += (c.a1 - c.a0) * (c.hi - c.lo)
+	}
+	return w
+}
+
+// maskedLinear is the state shared by the three gorgonia operations of one
+// masked dense product Y = X·(W⊙M): the forward product and the two
+// products of its gradient, dX = dY·(W⊙M)ᵀ and dW = (Xᵀ·dY)⊙M. They are
+// written by hand on BLAS, block by block, so that the all-zero blocks of
+// the mask are skipped and no buffer is allocated per step; gorgonia still
+// builds the graph, orders the operations and differentiates everything
+// else. With f32 the products run in single precision (the inputs are
+// rounded to float32, the products accumulate in float32 and are widened
+// back); everything outside the products stays float64.
+type maskedLinear struct {
+	name   string
+	t      tiling
+	needDX bool
+	f32    bool
+
+	weff   []float64 // W⊙M of the current step
+	weff32 []float32
+	x32    []float32 // scratch for float32 operands
+	y32    []float32
+	g32    []float32 // float32 weight gradient
+	bufs   [3][]float64 // output buffers of forward, dX, dW
+}
+
+func (ml *maskedLinear) buf(i, n int) []float64 {
+	if cap(ml.bufs[i]) < n {
+		ml.bufs[i] = make([]float64, n)
+	}
+	return ml.bufs[i][:n]
+}
+
+func to32(dst []float32, src []float64) []float32 {
+	if cap(dst) < len(src) {
+		dst = make([]float32, len(src))
+	}
+	dst = dst[:len(src)]
+	for i, v := range src {
+		dst[i] = float32(v)
+	}
+	return dst
+}
+
+func grow32(b []float32, n int) []float32 {
+	if cap(b) < n {
+		return make([]float32, n)
+	}
+	return b[:n]
+}
+
+// prepareW computes W⊙M (and its float32 copy) inside the nonzero blocks;
+// entries outside them are zero and never read.
+func (ml *maskedLinear) prepareW(w []float64) {
+	n := ml.t.in * ml.t.out
+	if ml.weff == nil {
+		ml.weff = make([]float64, n)
+	}
+	mask := ml.t.mask
+	out := ml.t.out
+	for _, c := range ml.t.cols {
+		for j := c.lo; j < c.hi; j++ {
+			for k := c.a0; k < c.a1; k++ {
+				ml.weff[j*out+k] = w[j*out+k] * mask[j*out+k]
+			}
+		}
+	}
+	if ml.f32 {
+		ml.weff32 = to32(ml.weff32, ml.weff)
+	}
+}
+
+// gemm computes C = A·B (op per transpose flags) on general row-major
+// sub-matrices given by data slices and strides, in float64 or float32.
+type bmat struct {
+	r, c, s int
+	d64     []float64
+	d32     []float32
+}
+
+func gemm(tA, tB blas.Transpose, alpha float64, a, b bmat, beta float64, c bmat) {
+	if a.d32 != nil {
+		blas32.Gemm(tA, tB, float32(alpha),
+			blas32.General{Rows: a.r, Cols: a.c, Stride: a.s, Data: a.d32},
+			blas32.General{Rows: b.r, Cols: b.c, Stride: b.s, Data: b.d32},
+			float32(beta), blas32.General{Rows: c.r, Cols: c.c, Stride: c.s, Data: c.d32})
+		return
+	}
+	blas64.Gemm(tA, tB, alpha,
+		blas64.General{Rows: a.r, Cols: a.c, Stride: a.s, Data: a.d64},
+		blas64.General{Rows: b.r, Cols: b.c, Stride: b.s, Data: b.d64},
+		beta, blas64.General{Rows: c.r, Cols: c.c, Stride: c.s, Data: c.d64})
+}
+
+// sub returns the block rows r0.., columns c0.. of a row-major matrix with
+// stride s and the given size.
+func sub64(d []float64, s, r0, c0, rows, cols int) bmat {
+	return bmat{r: rows, c: cols, s: s, d64: d[r0*s+c0:]}
+}
+
+func sub32(d []float32, s, r0, c0, rows, cols int) bmat {
+	return bmat{r: rows, c: cols, s: s, d32: d[r0*s+c0:]}
+}
+
+// forward computes y = x·(W⊙M) for b rows; prepareW must have run.
+func (ml *maskedLinear) forward(y, x []float64, b int) {
+	in, out := ml.t.in, ml.t.out
+	if ml.f32 {
+		ml.x32 = to32(ml.x32, x[:b*in])
+		ml.y32 = grow32(ml.y32, b*out)
+		clear(ml.y32)
+		for _, c := range ml.t.cols {
+			gemm(blas.NoTrans, blas.NoTrans, 1, sub32(ml.x32, in, 0, c.lo, b, c.hi-c.lo),
+				sub32(ml.weff32, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0), 0, sub32(ml.y32, out, 0, c.a0, b, c.a1-c.a0))
+		}
+		for i, v := range ml.y32 {
+			y[i] = float64(v)
+		}
+		return
+	}
+	clear(y[:b*out])
+	for _, c := range ml.t.cols {
+		gemm(blas.NoTrans, blas.NoTrans, 1, sub64(x, in, 0, c.lo, b, c.hi-c.lo),
+			sub64(ml.weff, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0), 0, sub64(y, out, 0, c.a0, b, c.a1-c.a0))
+	}
+}
+
+// gradX computes dx = dy·(W⊙M)ᵀ for b rows, block row by block row.
+func (ml *maskedLinear) gradX(dx, dy []float64, b int) {
+	in, out := ml.t.in, ml.t.out
+	if ml.f32 {
+		ml.y32 = to32(ml.y32, dy[:b*out])
+		ml.x32 = grow32(ml.x32, b*in)
+		clear(ml.x32)
+		for _, r := range ml.t.rows {
+			gemm(blas.NoTrans, blas.Trans, 1, sub32(ml.y32, out, 0, r.lo, b, r.hi-r.lo),
+				sub32(ml.weff32, out, r.a0, r.lo, r.a1-r.a0, r.hi-r.lo), 0, sub32(ml.x32, in, 0, r.a0, b, r.a1-r.a0))
+		}
+		for i, v := range ml.x32 {
+			dx[i] = float64(v)
+		}
+		return
+	}
+	clear(dx[:b*in])
+	for _, r := range ml.t.rows {
+		gemm(blas.NoTrans, blas.Trans, 1, sub64(dy, out, 0, r.lo, b, r.hi-r.lo),
+			sub64(ml.weff, out, r.a0, r.lo, r.a1-r.a0, r.hi-r.lo), 0, sub64(dx, in, 0, r.a0, b, r.a1-r.a0))
+	}
+}
+
+// gradW computes dw = (xᵀ·dy)⊙M for b rows.
+func (ml *maskedLinear) gradW(dw, x, dy []float64, b int) {
+	in, out := ml.t.in, ml.t.out
+	clear(dw)
+	if ml.f32 {
+		x32 := to32(ml.x32, x[:b*in])
+		y32 := to32(ml.y32, dy[:b*out])
+		ml.x32, ml.y32 = x32, y32
+		w32 := grow32(ml.g32, in*out)
+		ml.g32 = w32
+		for _, c := range ml.t.cols {
+			gemm(blas.Trans, blas.NoTrans, 1, sub32(x32, in, 0, c.lo, b, c.hi-c.lo),
+				sub32(y32, out, 0, c.a0, b, c.a1-c.a0), 0, sub32(w32, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0))
+			for j := c.lo; j < c.hi; j++ {
+				for k := c.a0; k < c.a1; k++ {
+					dw[j*out+k] = float64(w32[j*out+k]) * ml.t.mask[j*out+k]
+				}
+			}
+		}
+		return
+	}
+	for _, c := range ml.t.cols {
+		gemm(blas.Trans, blas.NoTrans, 1, sub64(x, in, 0, c.lo, b, c.hi-c.lo),
+			sub64(dy, out, 0, c.a0, b, c.a1-c.a0), 0, sub64(dw, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0))
+		for j := c.lo; j < c.hi; j++ {
+			for k := c.a0; k < c.a1; k++ {
+				dw[j*out+k] *= ml.t.mask[j*out+k]
+			}
+		}
+	}
+}
+
+// maskedOp is one of the three gorgonia operations of a maskedLinear:
+// kind 0 is Y = X·(W⊙M) with inputs (X, W); kind 1 is dX with inputs
+// (dY, W); kind 2 is dW with inputs (X, dY).
+type maskedOp struct {
+	ml   *maskedLinear
+	kind int
+}
+
+var matF64 = G.TensorType{Dims: 2, Of: tensor.Float64}
+
+func (op maskedOp) Arity() int { return 2 }
+
+func (op maskedOp) Type() hm.Type { return hm.NewFnType(matF64, matF64, matF64) }
+
+func (op maskedOp) InferShape(in ...G.DimSizer) (tensor.Shape, error) {
+	if len(in) != 2 {
+		return nil, fmt.Errorf("model: %v needs 2 inputs, found %d", op, len(in))
+	}
+	s0, ok := in[0].(tensor.Shape)
+	if !ok || len(s0) != 2 {
+		return nil, fmt.Errorf("model: %v needs a matrix input, found %v", op, in[0])
+	}
+	switch op.kind {
+	case 0:
+		return tensor.Shape{s0[0], op.ml.t.out}, nil
+	case 1:
+		return tensor.Shape{s0[0], op.ml.t.in}, nil
+	default:
+		return tensor.Shape{op.ml.t.in, op.ml.t.out}, nil
+	}
+}
+
+func f64Of(v G.Value) ([]float64, tensor.Shape, error) {
+	t, ok := v.(tensor.Tensor)
+	if !ok {
+		return nil, nil, fmt.Errorf("model: masked product expects a tensor, found %T", v)
+	}
+	d, ok := t.Data().([]float64)
+	if !ok {
+		return nil, nil, fmt.Errorf("model: masked product expects float64 data, found %T", t.Data())
+	}
+	return d, t.Shape(), nil
+}
+
+func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
+	if len(inputs) != 2 {
+		return nil, fmt.Errorf("model: %v needs 2 inputs, found %d", op, len(inputs))
+	}
+	a, sa, err := f64Of(inputs[0])
+	if err != nil {
+		return nil, err
+	}
+	b, _, err := f64Of(inputs[1])
+	if err != nil {
+		return nil, err
+	}
+	ml := op.ml
+	in, out := ml.t.in, ml.t.out
+	rows := sa[0]
+	var res []float64
+	var shape tensor.Shape
+	switch op.kind {
+	case 0:
+		ml.prepareW(b)
+		res = ml.buf(0, rows*out)
+		ml.forward(res, a, rows)
+		shape = tensor.Shape{rows, out}
+	case 1:
+		// W⊙M was prepared by the forward operation of this step, which
+		// always runs first (dY depends on it).
+		res = ml.buf(1, rows*in)
+		ml.gradX(res, a, rows)
+		shape = tensor.Shape{rows, in}
+	default:
+		res = ml.buf(2, in*out)
+		ml.gradW(res, a, b, rows)
+		shape = tensor.Shape{in, out}
+	}
+	return tensor.New(tensor.WithShape(shape...), tensor.WithBacking(res)), nil
+}
+
+func (op maskedOp) ReturnsPtr() bool     { return false }
+func (op maskedOp) CallsExtern() bool    { return false }
+func (op maskedOp) OverwritesInput() int { return -1 }
+
+func (op maskedOp) WriteHash(h hash.Hash) { fmt.Fprint(h, op.String()) }
+
+func (op maskedOp) Hashcode() uint32 {
+	h := fnv.New32a()
+	op.WriteHash(h)
+	return h.Sum32()
+}
+
+func (op maskedOp) String() string {
+	return fmt.Sprintf("masked%d(%s)", op.kind, op.ml.name)
+}
+
+// DiffWRT says which inputs the forward product is differentiated by: the
+// weights always, X only when it is not the (constant) data.
+func (op maskedOp) DiffWRT(int) []bool {
+	if op.kind != 0 {
+		return []bool{false, false}
+	}
+	return []bool{op.ml.needDX, true}
+}
+
+// SymDiff returns the gradient nodes of the forward product.
+func (op maskedOp) SymDiff(inputs G.Nodes, output, grad *G.Node) (G.Nodes, error) {
+	if op.kind != 0 {
+		return nil, fmt.Errorf("model: %v is not differentiable", op)
+	}
+	dw, err := G.ApplyOp(maskedOp{op.ml, 2}, inputs[0], grad)
+	if err != nil {
+		return nil, err
+	}
+	var dx *G.Node
+	if op.ml.needDX {
+		if dx, err = G.ApplyOp(maskedOp{op.ml, 1}, grad, inputs[1]); err != nil {
+			return nil, err
+		}
+	}
+	return G.Nodes{dx, dw}, nil
+}
+
+// maskedMul adds Y = X·(W⊙M) to the graph of X and the weight node W.
+func maskedMul(x, w *G.Node, ml *maskedLinear) (*G.Node, error) {
+	return G.ApplyOp(maskedOp{ml, 0}, x, w)
+}
