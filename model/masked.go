@@ -106,7 +106,7 @@ type maskedLinear struct {
 	weff32 []float32
 	x32    []float32 // scratch for float32 operands
 	y32    []float32
-	g32    []float32 // float32 weight gradient
+	g32    []float32    // float32 weight gradient
 	bufs   [3][]float64 // output buffers of forward, dX, dW
 }
 
