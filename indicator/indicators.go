@@ -331,6 +331,31 @@ func perSample(ev *EvalSet, f func(m int) float64) func(k, i int) float64 {
 	return func(k, i int) float64 { return f(ev.Idx[k][i]) }
 }
 
+// slotCache evaluates a per-sample f once for every sample in the slots of
+// ks (once per state for exact sums, where every point lists every state)
+// and returns the per-slot view.
+func slotCache(ev *EvalSet, ks []int, f func(m int) float64) func(k, i int) float64 {
+	if ev.Exact {
+		vals := make([]float64, ev.Mx.M)
+		for m := range vals {
+			vals[m] = f(m)
+		}
+		return func(k, i int) float64 { return vals[ev.Idx[k][i]] }
+	}
+	vals := map[int][]float64{}
+	for _, k := range ks {
+		if _, ok := vals[k]; ok {
+			continue
+		}
+		v := make([]float64, len(ev.Idx[k]))
+		for i, m := range ev.Idx[k] {
+			v[i] = f(m)
+		}
+		vals[k] = v
+	}
+	return func(k, i int) float64 { return vals[k][i] }
+}
+
 // cachedSample evaluates f once per table row and returns the per-slot view.
 func cachedSample(ev *EvalSet, pt *posteriorTable, f func(l []float64, lse float64) float64) func(k, i int) float64 {
 	vals := make([]float64, len(pt.lse))
@@ -480,7 +505,7 @@ func localLine(ev *EvalSet, ln gridLine, w int) (*stat, []int) {
 		R := ln.pts[t+1 : t+w+1]
 		cuts = append(cuts, t)
 		K := ev.Mx.K
-		f := perSample(ev, func(m int) float64 {
+		f := slotCache(ev, ln.pts[t-w+1:t+w+1], func(m int) float64 {
 			row := ev.Mx.L[m*K : (m+1)*K]
 			lL, lR := math.Inf(-1), math.Inf(-1)
 			for _, k := range L {
