@@ -21,8 +21,8 @@ type Peak struct {
 	// Line is the index of the line in Curve.Lines; Index the position
 	// index of the highest sample point.
 	Line, Index int
-	// Noise is false when no error estimate was available to test the peak
-	// against (no bootstrap): every local maximum is then kept.
+	// Tested is false when no error estimate was available to test the
+	// peak against (no bootstrap): every local maximum is then kept.
 	Tested bool
 }
 

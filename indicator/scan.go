@@ -14,6 +14,10 @@ import (
 // Caution is printed with every scan's results (design: indicators.md).
 const Caution = "An indicator peak marks where the snapshot distribution changes fastest. In a finite system that can be a crossover rather than a transition; compare several system sizes before calling it a transition, and check the model's fit at each point (held-out likelihood, `check`) before trusting model-based indicators."
 
+// maxExactEntries bounds the exact-sum matrix (states × points): about
+// 800 MB of log-likelihoods plus as much again for the weights.
+const maxExactEntries = 100_000_000
+
 // GridOnly is an optional interface of a Source defined only at the grid
 // points of its data (the histogram): derivatives in λ and refinement are
 // not available for it.
@@ -370,6 +374,9 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 		M := 1
 		for i := 0; i < N; i++ {
 			M *= q
+		}
+		if int64(M)*int64(K) > maxExactEntries {
+			return nil, nil, fmt.Errorf("scan: exact sums over %d states at %d points need a %d-entry matrix (%d MB), more than the limit of %d entries; use fewer points or sample means (no --exact-sums)", M, K, int64(M)*int64(K), int64(M)*int64(K)*8>>20, maxExactEntries)
 		}
 		xs = make([]uint8, M*N)
 		for m := 0; m < M; m++ {

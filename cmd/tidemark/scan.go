@@ -61,7 +61,14 @@ Errors come from --bootstrap resamples of the snapshots at each point; several -
 files (trained with different seeds) add their spread in quadrature. Peaks are local maxima
 standing more than two standard errors above their neighbouring minima, refined by a parabola.
 On a 2-D product grid the curves become maps and the ridges of local and fisher become
-boundary lines. The folder gets indicators.csv, summary.json and SVG/PNG pictures.`,
+boundary lines. The folder gets indicators.csv, summary.json and SVG/PNG pictures.
+
+indicators.csv has the parameter columns, then <name> and <name>_err for every curve,
+one row per position: the union of the grid points (fisher_deriv, and the 2-D pbm
+divergence at interior points) and the midpoints between neighbouring points (sl, lbc,
+pbm in 1-D, local, fisher); a cell is empty where a curve has no value. On a 2-D grid a
+curve along one axis carries that axis as a suffix (local_T, lbc_Jy). With --zoom each
+second pass gets its own zoom-<i>.csv.`,
 		Example: `  tidemark scan --data film.npz --model film.ckpt -o scan/
   tidemark scan --data film.npz --exact --exact-sums --indicators fisher,local -o exact-scan/
   tidemark scan --data small.npz --histogram --bootstrap 200 -o hist-scan/

@@ -22,6 +22,7 @@ type Summary struct {
 	Boundaries []indicator.Boundary        `json:"boundaries,omitempty"`
 	Zoom       []ZoomSummary               `json:"zoom,omitempty"`
 	Notes      []string                    `json:"notes,omitempty"`
+	CSVRows    string                      `json:"csv_rows"`
 	Caution    string                      `json:"caution"`
 	Files      []string                    `json:"files"`
 }
@@ -96,6 +97,7 @@ func NewSummary(res *indicator.Result, info Info) *Summary {
 		Boundaries: res.Boundaries,
 		Notes:      res.Notes,
 		Caution:    indicator.Caution,
+		CSVRows:    "indicators.csv has one row per position, the union of the grid points (curves with placement \"points\") and the midpoints between neighbouring grid points (placement \"midpoints\"); cells are empty where a curve has no value",
 	}
 	for _, a := range res.Data.Axes {
 		s.Grid.Shape = append(s.Grid.Shape, len(a))
