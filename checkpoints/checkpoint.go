@@ -205,8 +205,8 @@ func (c *Checkpoint) Bytes() ([]byte, error) {
 func shapeLen(shape []int) int {
 	n := 1
 	for _, s := range shape {
-		if s < 0 {
-			return -1
+		if s < 0 || (s > 0 && n > math.MaxInt/s) {
+			return -1 // negative, or too many values to count
 		}
 		n *= s
 	}
@@ -287,7 +287,7 @@ func Decode(b []byte, name string) (*Checkpoint, error) {
 		var ts []model.Tensor
 		for _, ti := range s.Tensors {
 			n := shapeLen(ti.Shape)
-			if n < 0 || off+8*n > len(pay) {
+			if n < 0 || n > (len(pay)-off)/8 {
 				return nil, fail(ErrHeader, "section %q tensor %s with shape %v does not fit in the %d-byte payload", s.Name, ti.Name, ti.Shape, len(pay))
 			}
 			d := make([]float64, n)

@@ -1,9 +1,12 @@
 package checkpoints_test
 
 import (
+	"bytes"
 	"crypto/sha256"
 	"encoding/binary"
+	"encoding/json"
 	"errors"
+	"math/big"
 	"slices"
 	"strings"
 	"testing"
@@ -105,6 +108,16 @@ func FuzzDecode(f *testing.F) {
 		flip[preamble+3] ^= 0x20
 		f.Add(flip, true)
 	}
+	// Shapes whose element count overflows: 2^61 values need 2^64 bytes,
+	// which wraps to 0; 2^32 × 2^32 values wrap to 0 values.
+	for _, shape := range [][]int{{1 << 61}, {1 << 32, 1 << 32}} {
+		c := smallCheckpoint(f, false)
+		b, err := c.Bytes()
+		if err != nil {
+			f.Fatal(err)
+		}
+		f.Add(withFirstShape(f, b, shape), false)
+	}
 	f.Add([]byte(checkpoints.Magic), false)
 	f.Add([]byte{}, false)
 
@@ -128,6 +141,17 @@ func FuzzDecode(f *testing.F) {
 				t.Fatalf("error %q names the file and wraps %d of the check errors, want 1", err, n)
 			}
 			return
+		}
+		for _, sec := range [][]model.Tensor{c.Best, c.Last, c.AdamM, c.AdamV} {
+			for _, ts := range sec {
+				n := big.NewInt(1)
+				for _, d := range ts.Shape {
+					n.Mul(n, big.NewInt(int64(d)))
+				}
+				if !n.IsInt64() || n.Int64() != int64(len(ts.Data)) {
+					t.Fatalf("tensor %s of shape %v (%v values) holds %d values", ts.Name, ts.Shape, n, len(ts.Data))
+				}
+			}
 		}
 		if len(c.Best) == 0 || len(c.Last) != len(c.Best) {
 			t.Fatalf("accepted %d best and %d last tensors", len(c.Best), len(c.Last))
@@ -167,4 +191,29 @@ func FuzzDecode(f *testing.F) {
 			_, _ = c.LastModel()
 		}
 	})
+}
+
+// withFirstShape returns the encoded checkpoint b with the shape of the
+// first tensor of the first section replaced in the JSON header, resealed.
+func withFirstShape(tb testing.TB, b []byte, shape []int) []byte {
+	tb.Helper()
+	h := binary.LittleEndian.Uint64(b[12:20])
+	var hdr map[string]any
+	dec := json.NewDecoder(bytes.NewReader(b[preamble : preamble+int(h)]))
+	dec.UseNumber()
+	if err := dec.Decode(&hdr); err != nil {
+		tb.Fatal(err)
+	}
+	secs := hdr["sections"].([]any)
+	first := secs[0].(map[string]any)["tensors"].([]any)[0].(map[string]any)
+	first["shape"] = shape
+	nh, err := json.Marshal(hdr)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	out := append([]byte(nil), b[:preamble]...)
+	binary.LittleEndian.PutUint64(out[12:20], uint64(len(nh)))
+	out = append(out, nh...)
+	out = append(out, b[preamble+int(h):]...)
+	return reseal(out)
 }
