@@ -101,3 +101,22 @@ var (
 	isingPerPoint = 2000
 	isingEpochs   = 30
 )
+
+// randomDataset fills an ly×lx dataset with uniformly random spins at k
+// temperatures, for benchmarks (the values do not matter for timing).
+func randomDataset(t testing.TB, ly, lx, k, per int) *data.Dataset {
+	t.Helper()
+	n := ly * lx
+	ds, err := data.New(k*per, n, []string{"T"}, 2, []int{ly, lx}, map[string]any{"generator": "test-random"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(1, 2))
+	for i := range ds.States {
+		ds.States[i] = uint8(rng.IntN(2))
+	}
+	for i := range ds.Params {
+		ds.Params[i] = 1 + float64(i/per)*0.1
+	}
+	return ds
+}

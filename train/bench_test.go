@@ -1,0 +1,24 @@
+package train
+
+import (
+	"context"
+	"testing"
+)
+
+// BenchmarkEpoch16x16 times one training epoch with the default settings
+// on 16×16 snapshots (20 points × 200 samples) and reports samples/s.
+func BenchmarkEpoch16x16(b *testing.B) {
+	ds := randomDataset(b, 16, 16, 20, 200)
+	st := DefaultSettings()
+	st.Epochs = 1
+	b.ResetTimer()
+	sps := 0.0
+	for i := 0; i < b.N; i++ {
+		ck, err := Run(context.Background(), ds, Options{Settings: st})
+		if err != nil {
+			b.Fatal(err)
+		}
+		sps += ck.Header.Metrics[0].SamplesPerS
+	}
+	b.ReportMetric(sps/float64(b.N), "samples/s")
+}
