@@ -83,7 +83,7 @@ func TestTrainMatchesKaufmanEntropy(t *testing.T) {
 	// the 4×4 enumeration check puts on the KL at trained points) and 0.02 at
 	// any point, which leaves room for the test set's sampling noise
 	// (about 0.003 nats per site with 500 samples). Measured on the
-	// development machine: mean 0.0066, worst 0.0129; doubling the samples
+	// development machine: mean 0.0061, worst 0.0129; doubling the samples
 	// per point gave 0.0039 and 0.0097, so the remaining gap is mostly the
 	// finite training set, not the optimiser.
 	if mean > 0.01 || worst > 0.02 {
