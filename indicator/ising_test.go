@@ -1,4 +1,4 @@
-package indicator
+package indicator_test
 
 import (
 	"math"
@@ -6,7 +6,27 @@ import (
 
 	"tidemark/data"
 	"tidemark/data/ising"
+	"tidemark/indicator"
 )
+
+func linspace(a, b float64, n int) []float64 {
+	v := make([]float64, n)
+	for i := range v {
+		v[i] = a + (b-a)*float64(i)/float64(n-1)
+	}
+	return v
+}
+
+func curveByName(t *testing.T, cs []*indicator.Curve, name string) *indicator.Curve {
+	t.Helper()
+	for _, c := range cs {
+		if c.Name == name {
+			return c
+		}
+	}
+	t.Fatalf("no curve %q", name)
+	return nil
+}
 
 // bealeCounts is the density of states g(E) of the periodic 4×4 Ising model
 // (J = 1), E ≥ 0 side mirrored: P. D. Beale, Phys. Rev. Lett. 76, 78 (1996),
@@ -72,7 +92,7 @@ func TestIsing4x4FisherMatchesBeale(t *testing.T) {
 		pts = append(pts, []float64{x})
 	}
 	ds := gridDataset(t, 16, []string{"T"}, pts)
-	res, err := Run([]Source{src}, ds, Config{ExactSums: true, Indicators: []string{Fisher}, Threads: 2})
+	res, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{ExactSums: true, Indicators: []string{indicator.Fisher}, Threads: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -83,7 +103,7 @@ func TestIsing4x4FisherMatchesBeale(t *testing.T) {
 			t.Errorf("fisher_deriv at T=%g: %.8g, Beale Var(E)/T⁴ = %.8g", p[0], fd.Val[i], w)
 		}
 	}
-	fj := curveByName(t, res.Curves, Fisher)
+	fj := curveByName(t, res.Curves, indicator.Fisher)
 	for i, p := range fj.Pos {
 		// 8·JSD/ΔT² at the midpoint: discretisation error O(ΔT²) with ΔT = 0.1
 		if w := bealeFisher(p[0]); math.Abs(fj.Val[i]-w) > 0.02*w {
@@ -91,7 +111,7 @@ func TestIsing4x4FisherMatchesBeale(t *testing.T) {
 		}
 	}
 	tPeak := bealePeak()
-	for _, c := range []*Curve{fd, fj} {
+	for _, c := range []*indicator.Curve{fd, fj} {
 		if len(c.Peaks) != 1 || math.Abs(c.Peaks[0].At[0]-tPeak) > 0.02 {
 			t.Errorf("%s peaks %+v, want one at T=%.4f", c.Name, c.Peaks, tPeak)
 		}
@@ -112,11 +132,11 @@ func TestIsingAnisotropicBoundary(t *testing.T) {
 		}
 	}
 	ds := gridDataset(t, 16, []string{"T", "Jy"}, pts)
-	res, err := Run([]Source{src}, ds, Config{ExactSums: true, Indicators: []string{Fisher}, Threads: 2})
+	res, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{ExactSums: true, Indicators: []string{indicator.Fisher}, Threads: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
-	var along *Boundary
+	var along *indicator.Boundary
 	for i, b := range res.Boundaries {
 		if b.Indicator == "fisher_deriv" && b.Axis == "T" {
 			along = &res.Boundaries[i]

@@ -241,6 +241,8 @@ func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout
 		}
 		if s == 0 {
 			specs = sp
+		} else if len(sp) != len(specs) {
+			return nil, fmt.Errorf("scan: source %d yields %d curves, source 1 %d: combine sources of one kind (all models, say)", s+1, len(sp), len(specs))
 		}
 		_, refit := src.(*Histogram)
 		var cps []*compiled
@@ -252,8 +254,10 @@ func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout
 		}
 		for _, c := range sp {
 			vals[s] = append(vals[s], c.st.direct(weights(c)))
-			if B > 0 {
+			if B > 0 && (!refit || c.deriv) {
 				cps = append(cps, c.st.compile(weights(c)))
+			} else {
+				cps = append(cps, nil)
 			}
 		}
 		var ids []int
@@ -277,9 +281,11 @@ func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout
 					wD = BootstrapWeights(evD.Idx, cfg.Seed+uint64(pass)<<40+1<<39, b)
 				}
 				for c, cp := range cps {
-					if sp[c].deriv {
+					switch {
+					case cp == nil:
+					case sp[c].deriv:
 						reps[s][c][b] = cp.eval(wD)
-					} else if !refit {
+					default:
 						reps[s][c][b] = cp.eval(w)
 					}
 				}

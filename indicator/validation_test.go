@@ -1,6 +1,6 @@
 //go:build validation
 
-package indicator
+package indicator_test
 
 import (
 	"math"
@@ -9,6 +9,7 @@ import (
 
 	"tidemark/data"
 	"tidemark/data/ising"
+	"tidemark/indicator"
 )
 
 // TestBootstrapCalibratedOnIsing checks that the bootstrap errors of a
@@ -36,11 +37,11 @@ func TestBootstrapCalibratedOnIsing(t *testing.T) {
 			ds.Params[k*per+i] = T
 		}
 	}
-	ex, err := Run([]Source{src}, ds, Config{ExactSums: true, Threads: 2})
+	ex, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{ExactSums: true, Threads: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
-	sm, err := Run([]Source{src}, ds, Config{Bootstrap: 200, Threads: 2, Seed: 8, ModelSamples: per})
+	sm, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{Bootstrap: 200, Threads: 2, Seed: 8, ModelSamples: per})
 	if err != nil {
 		t.Fatal(err)
 	}
