@@ -99,13 +99,15 @@ func ParseGridSpec(s string) (GridSpec, error) {
 				if n == 1 {
 					vals[i] = a
 				} else {
-					// Keep the rounded value only when it moves by far less
-					// than the spacing, so the values stay in order.
-					v := a + (b-a)*float64(i)/float64(n-1)
+					// The fraction first, so that no product exceeds b−a;
+					// keep the rounded value only when it moves by far less
+					// than the spacing, and never past an end point, so the
+					// values stay finite and in order.
+					v := a + (b-a)*(float64(i)/float64(n-1))
 					if t := tidy(v); math.Abs(t-v) <= 1e-9*math.Abs(b-a)/float64(n-1) {
 						v = t
 					}
-					vals[i] = v
+					vals[i] = min(max(v, min(a, b)), max(a, b))
 				}
 			}
 			if n > 1 {
