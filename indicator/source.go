@@ -1,10 +1,3 @@
-// Package indicator computes Bayes-optimal phase-transition indicators from a
-// density source p(x|λ): the log-likelihood matrix ℓ[m][k] = log p(x_m|λ_k),
-// the indicators built from it (sl, lbc, pbm, local, fisher), their bootstrap
-// errors and peaks, 2-D boundaries, and the pictures and files of a scan.
-//
-// Every indicator takes a Source and never asks what it is: exact
-// enumerations, the histogram of the data and trained models all implement it.
 package indicator
 
 import "math/rand/v2"

@@ -1,0 +1,43 @@
+// Package indicator computes Bayes-optimal phase-transition indicators from a
+// density source p(x|λ): the log-likelihood matrix ℓ[m][k] = log p(x_m|λ_k),
+// the indicators built from it (sl, lbc, pbm, local, fisher), their bootstrap
+// errors and peaks, and 2-D boundaries. Package indicator/report writes the
+// files and pictures of a scan.
+//
+// Every indicator takes a Source and never asks what it is: exact
+// enumerations, the histogram of the data (Histogram) and trained models all
+// implement it.
+//
+// # One matrix
+//
+// Every indicator is a function of expectations E_k[f] = Σ_m W[k][m] f(x_m)
+// of per-sample quantities f computed from ℓ alone (posteriors with
+// log-sum-exp, robust to −Inf). The weights are 1/n_k over the samples of
+// point k, or exp ℓ[m][k] over all q^N states with exact sums. A bootstrap
+// replicate only changes the weights (resampling the samples within each
+// point), so ℓ is computed once and a replicate costs one weighted sum per
+// stored per-sample value, O(M·K). The histogram is the exception: its
+// frequencies are re-estimated from each resample. The derivative Fisher
+// information uses its own samples drawn from the source at every point.
+//
+// # Errors and peaks
+//
+// A curve's error is the standard deviation of its bootstrap replicates;
+// with several sources (models trained with different seeds) the curves are
+// averaged, each replicate of the average uses the same resampled data for
+// every source, and the sample standard deviation across sources is added in
+// quadrature. Peaks are interior local maxima whose height above the higher
+// neighbouring minimum exceeds twice the bootstrap error (every local
+// maximum without a bootstrap), refined by a parabola through the top three
+// points; a peak's position error combines the spread of the refined
+// position over replicates and across sources in quadrature.
+//
+// # Placement
+//
+// sl, lbc, pbm (1-D), local and fisher (from neighbour Jensen–Shannon
+// divergence) are placed at midpoints between neighbouring grid points;
+// fisher_deriv and the 2-D pbm divergence at grid points. On a 2-D product
+// grid, sl, lbc, local and fisher are computed along every line of each axis
+// (names get the axis as a suffix, e.g. local_T), and boundaries join each
+// line's highest peak of the local and fisher maps into polylines.
+package indicator
