@@ -16,7 +16,9 @@ import (
 // grid value of that axis) or "name=start:stop" (every grid value in the
 // closed range). A point is held out when it meets every condition; axes
 // without a condition match anything. Values are compared with a relative
-// tolerance of 1e-9 so that "T=2.2" finds 2.2000000000000002.
+// tolerance of 1e-5, so that a value typed as printed with six significant
+// digits ("T=2.09091") finds the grid value 2.0909090909…; a listed value
+// that matches two grid values is refused as ambiguous.
 func ParseHoldout(spec string, g *data.Grid) ([]int, error) {
 	spec = strings.TrimSpace(spec)
 	if spec == "" {
@@ -63,8 +65,17 @@ func ParseHoldout(spec string, g *data.Grid) ([]int, error) {
 				if err != nil {
 					return nil, fmt.Errorf("holdout %q: expected a number for %s, found %q", spec, name, s)
 				}
-				if !slices.ContainsFunc(g.Axes[axis], func(a float64) bool { return near(a, v) }) {
+				matches := 0
+				for _, a := range g.Axes[axis] {
+					if near(a, v) {
+						matches++
+					}
+				}
+				if matches == 0 {
 					return nil, fmt.Errorf("holdout %q: %s=%s is not a grid value; the dataset's values of %s are %s", spec, name, strings.TrimSpace(s), name, formatList(g.Axes[axis]))
+				}
+				if matches > 1 {
+					return nil, fmt.Errorf("holdout %q: %s=%s matches %d grid values within the tolerance of 1e-5; give more digits", spec, name, strings.TrimSpace(s), matches)
 				}
 				c.values = append(c.values, v)
 			}
@@ -96,7 +107,7 @@ func ParseHoldout(spec string, g *data.Grid) ([]int, error) {
 }
 
 func near(a, b float64) bool {
-	return math.Abs(a-b) <= 1e-9*math.Max(1, math.Max(math.Abs(a), math.Abs(b)))
+	return math.Abs(a-b) <= 1e-5*math.Max(math.Abs(a), math.Abs(b))+1e-300
 }
 
 func parseNum(s string) (float64, error) {
