@@ -264,6 +264,7 @@ func printCheck(w io.Writer, r *checkReport) error {
 	}
 	fmt.Fprintf(w, "mean KL per site %s (trained points %s, held-out points %s), max %s\n",
 		fmtOpt(r.MeanKLPerSite, "%.5f"), fmtOpt(r.MeanKLTrained, "%.5f"), fmtOpt(r.MeanKLHeldOut, "%.5f"), fmtOpt(r.MaxKLPerSite, "%.5f"))
+	fmt.Fprintln(w, "KL and TV are exact sums over all states; NLL − H averages over the dataset's samples at each point and carries their sampling noise")
 	if !r.SameData {
 		fmt.Fprintln(w, "note: this dataset is not the one the model was trained on (fingerprints differ); NLL − H uses its samples")
 	}
