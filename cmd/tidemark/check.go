@@ -126,6 +126,9 @@ func runCheck(cmd *cobra.Command, path string, o *checkOptions) error {
 	if states < 0 {
 		return fmt.Errorf("check: %s: %d^%d states exceed the limit of %d that check enumerates", o.data, ds.Meta.Alphabet, ds.N, train.MaxEnumeratedStates)
 	}
+	if ck.Header.BestEpoch == 0 {
+		fmt.Fprintf(cmd.ErrOrStderr(), "tidemark: note: %s has no completed epoch; its weights are the untrained initial ones\n", path)
+	}
 	m, err := ck.Model()
 	if err != nil {
 		return fmt.Errorf("%s: %w", path, err)

@@ -130,6 +130,9 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 	if err := ck.CheckDataset(chk); err != nil {
 		return fmt.Errorf("score: %s and %s: %w", ckPath, dataPath, err)
 	}
+	if ck.Header.BestEpoch == 0 {
+		fmt.Fprintf(cmd.ErrOrStderr(), "tidemark: note: %s has no completed epoch; its weights are the untrained initial ones\n", ckPath)
+	}
 	m, err := ck.Model()
 	if o.last {
 		m, err = ck.LastModel()
