@@ -19,8 +19,9 @@ const blockRows = 64
 
 // prep holds the masked weights of one scoring call.
 type prep struct {
-	eff  [][]float64 // W⊙M per masked layer
-	effD []float64   // direct weights ⊙ mask, or nil
+	eff   [][]float64 // W⊙M per masked layer
+	effD  []float64   // direct weights ⊙ mask, or nil
+	eff32 [][]float32 // float32 copies of eff with Precision float32
 }
 
 // prepare multiplies the current weights by their masks. The kernel applies
@@ -43,6 +44,14 @@ func (m *Model) prepare() *prep {
 	}
 	if l.direct >= 0 {
 		mul(p.effD, m.Weights[l.direct].Data, m.masks[len(m.masks)-1].Data)
+	}
+	if m.Cfg.Precision == PrecisionFloat32 {
+		if p.eff32 == nil {
+			p.eff32 = make([][]float32, len(p.eff))
+		}
+		for i := range p.eff {
+			p.eff32[i] = to32(p.eff32[i], p.eff[i])
+		}
 	}
 	return p
 }
@@ -102,6 +111,17 @@ type workspace struct {
 	a0f, dxf []float64 // the same for flipped snapshots (Symmetric)
 	h        [][]float64
 	z        []float64
+	lins     []*maskedLinear // block-skipping products of masked layers 1..L
+}
+
+// lin returns the masked product of layer l reading the weights of p.
+func (w *workspace) lin(p *prep, l int) *maskedLinear {
+	ml := w.lins[l]
+	ml.weff = p.eff[l]
+	if p.eff32 != nil {
+		ml.weff32 = p.eff32[l]
+	}
+	return ml
 }
 
 func (m *Model) newWorkspace(rows int) *workspace {
@@ -117,6 +137,9 @@ func (m *Model) newWorkspace(rows int) *workspace {
 		w.h = append(w.h, make([]float64, rows*h))
 	}
 	w.z = make([]float64, rows*m.lay.dout)
+	for i := range m.lay.madeW {
+		w.lins = append(w.lins, &maskedLinear{name: m.masks[i].Name, t: m.tiles[i], f32: c.Precision == PrecisionFloat32})
+	}
 	return w
 }
 
@@ -186,11 +209,7 @@ func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r 
 		if l == 0 {
 			copy(h, a0[:r*hw])
 		} else {
-			prev := c.Hidden[l-1]
-			blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
-				blas64.General{Rows: r, Cols: prev, Stride: prev, Data: w.h[l-1]},
-				blas64.General{Rows: prev, Cols: hw, Stride: hw, Data: p.eff[l]},
-				0, blas64.General{Rows: r, Cols: hw, Stride: hw, Data: h})
+			w.lin(p, l).forward(h, w.h[l-1], r, false)
 		}
 		for i := 0; i < r; i++ {
 			b := cb[min(i, len(cb)-1)][l]
@@ -211,17 +230,14 @@ func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r 
 func (m *Model) logits(p *prep, cb [][][]float64, w *workspace, dx []float64, r int) {
 	c := m.Cfg
 	L := len(c.Hidden)
-	hl, dout := c.Hidden[L-1], m.lay.dout
+	dout := m.lay.dout
 	z := w.z[:r*dout]
 	if p.effD != nil {
 		copy(z, dx[:r*dout])
 	} else {
 		clear(z)
 	}
-	blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
-		blas64.General{Rows: r, Cols: hl, Stride: hl, Data: w.h[L-1]},
-		blas64.General{Rows: hl, Cols: dout, Stride: dout, Data: p.eff[L]},
-		1, blas64.General{Rows: r, Cols: dout, Stride: dout, Data: z})
+	w.lin(p, L).forward(z, w.h[L-1], r, true)
 	for i := 0; i < r; i++ {
 		addTo(z[i*dout:(i+1)*dout], cb[min(i, len(cb)-1)][L])
 	}

@@ -188,8 +188,9 @@ func sub32(d []float32, s, r0, c0, rows, cols int) bmat {
 	return bmat{r: rows, c: cols, s: s, d32: d[r0*s+c0:]}
 }
 
-// forward computes y = x·(W⊙M) for b rows; prepareW must have run.
-func (ml *maskedLinear) forward(y, x []float64, b int) {
+// forward computes y = x·(W⊙M) for b rows, or adds it to y with acc;
+// prepareW must have run (or weff and weff32 be set).
+func (ml *maskedLinear) forward(y, x []float64, b int, acc bool) {
 	in, out := ml.t.in, ml.t.out
 	if ml.f32 {
 		ml.x32 = to32(ml.x32, x[:b*in])
@@ -199,15 +200,25 @@ func (ml *maskedLinear) forward(y, x []float64, b int) {
 			gemm(blas.NoTrans, blas.NoTrans, 1, sub32(ml.x32, in, 0, c.lo, b, c.hi-c.lo),
 				sub32(ml.weff32, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0), 0, sub32(ml.y32, out, 0, c.a0, b, c.a1-c.a0))
 		}
-		for i, v := range ml.y32 {
-			y[i] = float64(v)
+		if acc {
+			for i, v := range ml.y32 {
+				y[i] += float64(v)
+			}
+		} else {
+			for i, v := range ml.y32 {
+				y[i] = float64(v)
+			}
 		}
 		return
 	}
-	clear(y[:b*out])
+	beta := 1.0
+	if !acc {
+		clear(y[:b*out])
+		beta = 0
+	}
 	for _, c := range ml.t.cols {
 		gemm(blas.NoTrans, blas.NoTrans, 1, sub64(x, in, 0, c.lo, b, c.hi-c.lo),
-			sub64(ml.weff, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0), 0, sub64(y, out, 0, c.a0, b, c.a1-c.a0))
+			sub64(ml.weff, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0), beta, sub64(y, out, 0, c.a0, b, c.a1-c.a0))
 	}
 }
 
@@ -331,7 +342,7 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 	case 0:
 		ml.prepareW(b)
 		res = ml.buf(0, rows*out)
-		ml.forward(res, a, rows)
+		ml.forward(res, a, rows, false)
 		shape = tensor.Shape{rows, out}
 	case 1:
 		// W⊙M was prepared by the forward operation of this step, which

@@ -61,7 +61,7 @@ func TestMaskedLinearMatchesDense(t *testing.T) {
 
 				ml.prepareW(w)
 				y := make([]float64, b*out)
-				ml.forward(y, x, b)
+				ml.forward(y, x, b, false)
 				dx := make([]float64, b*in)
 				ml.gradX(dx, dy, b)
 				dw := make([]float64, in*out)

@@ -37,6 +37,7 @@ type Model struct {
 	masks  []Tensor  // one per masked layer, then the direct mask if any
 	deg    []int     // autoregressive position of each site
 	hdeg   [][]int   // degrees of the hidden units of each layer, ascending
+	tiles  []tiling  // block structure of each mask, in the order of masks
 	pool   sync.Pool // *prep
 	wsPool sync.Pool // *workspace of blockRows rows
 }
@@ -157,6 +158,10 @@ func (m *Model) build() {
 			}
 		}
 		m.masks = append(m.masks, md)
+	}
+	m.tiles = m.tiles[:0]
+	for _, mk := range m.masks {
+		m.tiles = append(m.tiles, newTiling(mk.Data, mk.Shape[0], mk.Shape[1]))
 	}
 }
 

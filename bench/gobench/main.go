@@ -1,0 +1,326 @@
+// Command gobench measures the throughput of tidemark's model package on
+// one machine: training steps (LossGrad plus an Adam update over all
+// weights), scoring with LogProb and with LogProbMatrix at 64 λ, and the
+// machine's dense GEMM rate in double and single precision through the BLAS
+// the build uses. It prints one JSON object per line; bench/run.sh puts
+// them beside the PyTorch peer's figures.
+//
+// Usage:
+//
+//	go run ./bench/gobench -shapes 64x256,256x512 -threads 2 -budget 60
+package main
+
+import (
+	"encoding/json"
+	"flag"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"os"
+	"runtime"
+	"sort"
+	"strconv"
+	"strings"
+	"sync"
+	"time"
+
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas32"
+	"gonum.org/v1/gonum/blas/blas64"
+
+	"tidemark/model"
+)
+
+// result is one measured figure.
+type result struct {
+	Side      string  `json:"side"`
+	What      string  `json:"what"`
+	N         int     `json:"n,omitempty"`
+	H         int     `json:"h,omitempty"`
+	Precision string  `json:"precision,omitempty"`
+	Rate      float64 `json:"rate"` // per second, median
+	Unit      string  `json:"unit"`
+	GFlops    float64 `json:"gflops,omitempty"` // dense-equivalent GFLOP/s of a training step
+	Reps      int     `json:"reps"`
+	Threads   int     `json:"threads"`
+	BLAS      string  `json:"blas"`
+}
+
+func main() {
+	shapes := flag.String("shapes", "64x256,256x512,1024x1024", "comma-separated NxH shapes (sites x hidden width)")
+	threads := flag.Int("threads", 2, "threads (goroutines) to use")
+	budget := flag.Float64("budget", 60, "time budget per shape in seconds (all measurements of one shape together)")
+	reps := flag.Int("reps", 5, "repetitions per measurement (the median is reported)")
+	precs := flag.String("precision", "float64,float32", "comma-separated precisions to measure")
+	gemmN := flag.Int("gemm", 1024, "size of the square GEMM for the machine's rate (0 skips it)")
+	flag.Parse()
+	runtime.GOMAXPROCS(*threads)
+	enc := json.NewEncoder(os.Stdout)
+	emit := func(r result) {
+		r.Side, r.Threads, r.BLAS = "ours", *threads, model.BLAS
+		if err := enc.Encode(r); err != nil {
+			fmt.Fprintln(os.Stderr, "gobench:", err)
+			os.Exit(1)
+		}
+	}
+	if *gemmN > 0 {
+		for _, p := range []string{"float64", "float32"} {
+			emit(result{What: "gemm", N: *gemmN, Precision: p, Rate: gemmRate(*gemmN, p, *reps), Unit: "GFLOP/s", Reps: *reps})
+		}
+	}
+	for _, s := range strings.Split(*shapes, ",") {
+		n, h, err := parseShape(s)
+		if err != nil {
+			fmt.Fprintln(os.Stderr, "gobench:", err)
+			os.Exit(2)
+		}
+		ps := strings.Split(*precs, ",")
+		per := time.Duration(*budget / float64(len(ps)) * float64(time.Second))
+		for _, p := range ps {
+			for _, r := range measureShape(n, h, p, *threads, *reps, per) {
+				emit(r)
+			}
+		}
+	}
+}
+
+func parseShape(s string) (int, int, error) {
+	a, b, ok := strings.Cut(strings.TrimSpace(s), "x")
+	n, e1 := strconv.Atoi(a)
+	h, e2 := strconv.Atoi(b)
+	if !ok || e1 != nil || e2 != nil || n < 2 || h < 1 {
+		return 0, 0, fmt.Errorf("shape must be NxH with N ≥ 2 and H ≥ 1 (e.g. 256x512), found %q", s)
+	}
+	return n, h, nil
+}
+
+// gemmRate is the median GFLOP/s of an n×n×n GEMM (2n³ flops).
+func gemmRate(n int, prec string, reps int) float64 {
+	rng := rand.New(rand.NewPCG(1, 2))
+	var rates []float64
+	if prec == "float32" {
+		a := make([]float32, n*n)
+		for i := range a {
+			a[i] = float32(rng.NormFloat64())
+		}
+		g := blas32.General{Rows: n, Cols: n, Stride: n, Data: a}
+		c := blas32.General{Rows: n, Cols: n, Stride: n, Data: make([]float32, n*n)}
+		blas32.Gemm(blas.NoTrans, blas.NoTrans, 1, g, g, 0, c)
+		for range reps {
+			t := time.Now()
+			blas32.Gemm(blas.NoTrans, blas.NoTrans, 1, g, g, 0, c)
+			rates = append(rates, 2*math.Pow(float64(n), 3)/time.Since(t).Seconds()/1e9)
+		}
+		return median(rates)
+	}
+	a := make([]float64, n*n)
+	for i := range a {
+		a[i] = rng.NormFloat64()
+	}
+	g := blas64.General{Rows: n, Cols: n, Stride: n, Data: a}
+	c := blas64.General{Rows: n, Cols: n, Stride: n, Data: make([]float64, n*n)}
+	blas64.Gemm(blas.NoTrans, blas.NoTrans, 1, g, g, 0, c)
+	for range reps {
+		t := time.Now()
+		blas64.Gemm(blas.NoTrans, blas.NoTrans, 1, g, g, 0, c)
+		rates = append(rates, 2*math.Pow(float64(n), 3)/time.Since(t).Seconds()/1e9)
+	}
+	return median(rates)
+}
+
+func median(v []float64) float64 {
+	s := append([]float64(nil), v...)
+	sort.Float64s(s)
+	if len(s) == 0 {
+		return math.NaN()
+	}
+	if len(s)%2 == 1 {
+		return s[len(s)/2]
+	}
+	return (s[len(s)/2-1] + s[len(s)/2]) / 2
+}
+
+const batch = 256
+
+// stepFlops is the dense-equivalent floating-point operation count of one
+// training step of batch b: the forward masked products, the weight
+// gradients of all of them and the input gradients of all but those that
+// read the data (first layer and direct connection) — what a dense
+// implementation executes. The conditioning net (64 units) is left out.
+func stepFlops(n, h, b int) float64 {
+	in := float64(n)
+	hh := float64(h)
+	fwd := in*hh + hh*hh + hh*in + in*in
+	dx := hh*hh + hh*in
+	return 2 * float64(b) * (2*fwd + dx)
+}
+
+// adam is the Adam update (D. P. Kingma and J. Ba, ICLR 2015) with the
+// usual constants β1 = 0.9, β2 = 0.999, ε = 1e-8.
+type adam struct {
+	m, v [][]float64
+	t    int
+}
+
+func newAdam(w []model.Tensor) *adam {
+	a := &adam{}
+	for _, t := range w {
+		a.m = append(a.m, make([]float64, len(t.Data)))
+		a.v = append(a.v, make([]float64, len(t.Data)))
+	}
+	return a
+}
+
+func (a *adam) step(w []model.Tensor, g [][]float64, lr float64) {
+	a.t++
+	c1 := 1 - math.Pow(0.9, float64(a.t))
+	c2 := 1 - math.Pow(0.999, float64(a.t))
+	for i, t := range w {
+		m, v, gi := a.m[i], a.v[i], g[i]
+		for k := range t.Data {
+			m[k] = 0.9*m[k] + 0.1*gi[k]
+			v[k] = 0.999*v[k] + 0.001*gi[k]*gi[k]
+			t.Data[k] -= lr * (m[k] / c1) / (math.Sqrt(v[k]/c2) + 1e-8)
+		}
+	}
+}
+
+// measure runs f (which processes work units) reps times after a warm-up
+// and returns the median rate in units per second. It stops early, with at
+// least one repetition, when the budget is spent.
+func measure(f func(), units float64, reps int, budget time.Duration) (float64, int) {
+	start := time.Now()
+	f() // warm-up
+	var rates []float64
+	for len(rates) < reps {
+		t := time.Now()
+		f()
+		rates = append(rates, units/time.Since(t).Seconds())
+		if time.Since(start) > budget {
+			break
+		}
+	}
+	return median(rates), len(rates)
+}
+
+func measureShape(n, h int, prec string, threads, reps int, budget time.Duration) []result {
+	cfg := model.DefaultConfig(n, 2, 1, []float64{0}, []float64{1})
+	cfg.Hidden = []int{h, h}
+	cfg.Precision = prec
+	m, err := model.New(cfg, 1)
+	if err != nil {
+		fmt.Fprintln(os.Stderr, "gobench:", err)
+		os.Exit(1)
+	}
+	rng := rand.New(rand.NewPCG(7, uint64(n)))
+	xs := make([]uint8, batch*n)
+	for i := range xs {
+		xs[i] = uint8(rng.IntN(2))
+	}
+	ps := make([]float64, batch)
+	for i := range ps {
+		ps[i] = rng.Float64()
+	}
+	// Training: the batch is split into one chunk per thread, each with its
+	// own graph; the chunk gradients are summed (weighted by chunk size)
+	// into one Adam update.
+	chunk := (batch + threads - 1) / threads
+	var graphs []*model.Graph
+	var grads [][][]float64
+	for c := 0; c*chunk < batch; c++ {
+		g, err := model.NewGraph(m, chunk)
+		if err != nil {
+			fmt.Fprintln(os.Stderr, "gobench:", err)
+			os.Exit(1)
+		}
+		graphs = append(graphs, g)
+		gr := make([][]float64, len(m.Weights))
+		for i, t := range m.Weights {
+			gr[i] = make([]float64, len(t.Data))
+		}
+		grads = append(grads, gr)
+	}
+	opt := newAdam(m.Weights)
+	sum := grads[0]
+	trainStep := func() {
+		var wg sync.WaitGroup
+		for c, g := range graphs {
+			wg.Add(1)
+			go func() {
+				defer wg.Done()
+				lo, hi := c*chunk, min((c+1)*chunk, batch)
+				if _, err := g.LossGrad(xs[lo*n:hi*n], ps[lo:hi], hi-lo, grads[c]); err != nil {
+					panic(err)
+				}
+			}()
+		}
+		wg.Wait()
+		for c := range grads {
+			w := float64(min((c+1)*chunk, batch)-c*chunk) / batch
+			for i := range sum {
+				for k := range sum[i] {
+					if c == 0 {
+						sum[i][k] *= w
+					} else {
+						sum[i][k] += w * grads[c][i][k]
+					}
+				}
+			}
+		}
+		opt.step(m.Weights, sum, 1e-4)
+	}
+	steps := 2
+	third := budget / 3
+	train := func() {
+		for range steps {
+			trainStep()
+		}
+	}
+	var out []result
+	rate, r := measure(train, float64(steps*batch), reps, third)
+	out = append(out, result{What: "train", N: n, H: h, Precision: prec, Rate: rate, Unit: "snapshots/s",
+		GFlops: rate / batch * stepFlops(n, h, batch) / 1e9, Reps: r})
+
+	// LogProb: 1024 snapshots at one λ, split over the threads (LogProb is
+	// safe for concurrent use).
+	const nScore = 1024
+	sx := make([]uint8, nScore*n)
+	for i := range sx {
+		sx[i] = uint8(rng.IntN(2))
+	}
+	dst := make([]float64, nScore)
+	score := func() {
+		var wg sync.WaitGroup
+		per := nScore / threads
+		for t := range threads {
+			wg.Add(1)
+			go func() {
+				defer wg.Done()
+				lo, hi := t*per, (t+1)*per
+				if t == threads-1 {
+					hi = nScore
+				}
+				if err := m.LogProb(dst[lo:hi], sx[lo*n:hi*n], []float64{0.5}); err != nil {
+					panic(err)
+				}
+			}()
+		}
+		wg.Wait()
+	}
+	rate, r = measure(score, nScore, reps, third)
+	out = append(out, result{What: "logprob", N: n, H: h, Precision: prec, Rate: rate, Unit: "log p/s", Reps: r})
+
+	// LogProbMatrix: 256 snapshots × 64 λ.
+	lams := make([][]float64, 64)
+	for k := range lams {
+		lams[k] = []float64{float64(k) / 63}
+	}
+	mat := func() {
+		if _, err := m.LogProbMatrix(sx[:batch*n], batch, lams, threads); err != nil {
+			panic(err)
+		}
+	}
+	rate, r = measure(mat, batch*64, reps, third)
+	out = append(out, result{What: "logprobmatrix64", N: n, H: h, Precision: prec, Rate: rate, Unit: "log p/s", Reps: r})
+	return out
+}
