@@ -113,6 +113,9 @@ type OptimizerState struct {
 	Step int `json:"step"`
 	// LR is the current learning rate.
 	LR float64 `json:"lr"`
+	// LRScale, when not 0 or 1, is the factor the cosine schedule's rate is
+	// multiplied by after recoveries from non-finite losses.
+	LRScale float64 `json:"lr_scale,omitempty"`
 	// Epoch is the number of completed epochs.
 	Epoch int `json:"epoch"`
 	// BestVal is the best validation NLL so far in nats per site.

@@ -526,7 +526,11 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 			break
 		}
 		if r.st.Schedule == "cosine" {
-			r.lr = r.st.MinLR + 0.5*(r.st.LR-r.st.MinLR)*(1+math.Cos(math.Pi*float64(epoch-1)/float64(r.st.Epochs)))
+			scale := r.hdr.Optimizer.LRScale
+			if scale == 0 {
+				scale = 1
+			}
+			r.lr = scale * (r.st.MinLR + 0.5*(r.st.LR-r.st.MinLR)*(1+math.Cos(math.Pi*float64(epoch-1)/float64(r.st.Epochs))))
 		}
 		before := r.save()
 		t0 := time.Now()
@@ -558,6 +562,10 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 				return nil, fmt.Errorf("training diverged: the loss was not finite in %d epochs in a row (at epoch %d, learning rate %.3g); try a smaller --lr or --clip", nonFinite, epoch, r.lr)
 			}
 			r.lr /= 2
+			if r.hdr.Optimizer.LRScale == 0 {
+				r.hdr.Optimizer.LRScale = 1
+			}
+			r.hdr.Optimizer.LRScale /= 2
 			r.warn("epoch %d: the loss became non-finite; restored the weights of the last good epoch and halved the learning rate to %.3g", epoch, r.lr)
 			continue
 		}

@@ -198,6 +198,25 @@ func TestNonFinite(t *testing.T) {
 		t.Fatalf("%d epochs recorded, want 3", len(ck.Header.Metrics))
 	}
 
+	// Under the cosine schedule the halving persists through the schedule.
+	st.Schedule = "cosine"
+	faults = map[int]int{2: 1}
+	ck, err = Run(context.Background(), ds, Options{Settings: st})
+	if err != nil {
+		t.Fatal(err)
+	}
+	st.Schedule = "cosine"
+	ref, err := Run(context.Background(), ds, Options{Settings: st})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for e := 1; e < 3; e++ {
+		if got, want := ck.Header.Metrics[e].LR, ref.Header.Metrics[e].LR/2; math.Abs(got-want) > 1e-15 {
+			t.Fatalf("cosine epoch %d: rate %v after a fault, want %v", e+1, got, want)
+		}
+	}
+	st.Schedule = "plateau"
+
 	faults = map[int]int{2: 3}
 	_, err = Run(context.Background(), ds, Options{Settings: st})
 	if err == nil || !strings.Contains(err.Error(), "not finite in 3 epochs in a row") {
