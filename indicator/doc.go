@@ -27,8 +27,9 @@
 // averaged, each replicate of the average uses the same resampled data for
 // every source, and the sample standard deviation across sources is added in
 // quadrature. Peaks are interior local maxima whose height above the higher
-// neighbouring minimum exceeds twice the bootstrap error (every local
-// maximum without a bootstrap), refined by a parabola through the top three
+// neighbouring minimum exceeds twice its bootstrap error (the spread of that
+// difference over the replicates; every local maximum without a bootstrap),
+// refined by a parabola through the top three
 // points; a peak's position error combines the spread of the refined
 // position over replicates and across sources in quadrature.
 //

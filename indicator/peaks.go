@@ -43,24 +43,36 @@ func ParabolaVertex(x0, y0, x1, y1, x2, y2 float64) (x, y float64) {
 }
 
 // localMaxima returns the interior indices i (0 < i < n−1) of v with
-// v[i] > v[i−1] and v[i] ≥ v[i+1], with their prominence. NaN never peaks.
-func localMaxima(v []float64) (idx []int, prom []float64) {
+// v[i] > v[i−1] and v[i] ≥ v[i+1], their prominence (height above the
+// higher of the two neighbouring minima, found by walking down each side
+// until a higher value or the end) and the index of that minimum.
+// NaN never peaks.
+func localMaxima(v []float64) (idx []int, prom []float64, base []int) {
 	n := len(v)
 	for i := 1; i < n-1; i++ {
 		if !(v[i] > v[i-1] && v[i] >= v[i+1]) {
 			continue
 		}
-		lmin, rmin := v[i], v[i]
+		li, ri := i, i
 		for j := i - 1; j >= 0 && !(v[j] > v[i]); j-- {
-			lmin = math.Min(lmin, v[j])
+			if v[j] < v[li] {
+				li = j
+			}
 		}
 		for j := i + 1; j < n && !(v[j] > v[i]); j++ {
-			rmin = math.Min(rmin, v[j])
+			if v[j] < v[ri] {
+				ri = j
+			}
+		}
+		b := li
+		if v[ri] > v[li] {
+			b = ri
 		}
 		idx = append(idx, i)
-		prom = append(prom, v[i]-math.Max(lmin, rmin))
+		prom = append(prom, v[i]-v[b])
+		base = append(base, b)
 	}
-	return idx, prom
+	return idx, prom, base
 }
 
 // refineAt returns the parabola-refined (x, y) of the maximum at index i of
@@ -69,12 +81,26 @@ func refineAt(x, v []float64, i int) (float64, float64) {
 	return ParabolaVertex(x[i-1], v[i-1], x[i], v[i], x[i+1], v[i+1])
 }
 
-// nearestMax returns the parabola-refined maximum of v nearest to index i0
-// within ±reach positions (the highest sample in that range, refined if it is
-// interior), for matching a peak in a bootstrap replicate.
+// nearestMax returns the parabola-refined local maximum of v nearest to
+// index i0 within ±reach positions (ties: the higher), for following a peak
+// into a bootstrap replicate; when the replicate has no local maximum there,
+// the highest point of the range (refined if it is interior).
 func nearestMax(x, v []float64, i0, reach int) (float64, float64) {
-	lo, hi := max(0, i0-reach), min(len(v)-1, i0+reach)
-	best := lo
+	lo, hi := max(1, i0-reach), min(len(v)-2, i0+reach)
+	best := -1
+	for i := lo; i <= hi; i++ {
+		if !(v[i] > v[i-1] && v[i] >= v[i+1]) {
+			continue
+		}
+		if best < 0 || abs(i-i0) < abs(best-i0) || (abs(i-i0) == abs(best-i0) && v[i] > v[best]) {
+			best = i
+		}
+	}
+	if best >= 0 {
+		return refineAt(x, v, best)
+	}
+	lo, hi = max(0, i0-reach), min(len(v)-1, i0+reach)
+	best = lo
 	for i := lo; i <= hi; i++ {
 		if v[i] > v[best] {
 			best = i
@@ -86,8 +112,16 @@ func nearestMax(x, v []float64, i0, reach int) (float64, float64) {
 	return refineAt(x, v, best)
 }
 
+func abs(i int) int {
+	if i < 0 {
+		return -i
+	}
+	return i
+}
+
 // findPeaks finds the peaks of c along each line: local maxima whose
-// prominence exceeds 2 noise errors of the curve at the maximum (every
+// prominence exceeds twice its own error (bootstrap spread of the
+// difference between the maximum and its neighbouring minimum; every
 // local maximum when tested is false), refined by a parabola through the
 // top three points. noise is the statistical (bootstrap) error of each
 // position, c.Err when nil; the spread across sources is not noise and is
@@ -109,9 +143,18 @@ func findPeaks(c *Curve, reps [][]float64, srcVals [][]float64, tested bool, noi
 			x[j] = c.Pos[p][ln.Axis]
 			v[j] = c.Val[p]
 		}
-		idx, prom := localMaxima(v)
+		idx, prom, base := localMaxima(v)
 		for n, i := range idx {
-			e := noise[ln.Idx[i]]
+			// The error of the prominence: its spread over the bootstrap
+			// replicates, or the two points' errors in quadrature.
+			e := math.Hypot(noise[ln.Idx[i]], noise[ln.Idx[base[n]]])
+			if len(reps) > 1 {
+				d := make([]float64, len(reps))
+				for b, r := range reps {
+					d[b] = r[ln.Idx[i]] - r[ln.Idx[base[n]]]
+				}
+				e = stdDev(d)
+			}
 			if tested && !(prom[n] > 2*e) {
 				continue
 			}

@@ -59,7 +59,8 @@ histogram of the data) and computes from that one matrix the Bayes-optimal indic
           source defined between grid points, from ∂λ log p (fisher_deriv)
 Errors come from --bootstrap resamples of the snapshots at each point; several --model
 files (trained with different seeds) add their spread in quadrature. Peaks are local maxima
-standing more than two standard errors above their neighbouring minima, refined by a parabola.
+whose height above the neighbouring minimum exceeds two standard errors of that
+difference, refined by a parabola.
 On a 2-D product grid the curves become maps and the ridges of local and fisher become
 boundary lines. The folder gets indicators.csv, summary.json and SVG/PNG pictures.
 
