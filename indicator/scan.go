@@ -158,6 +158,7 @@ func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
 		return nil, err
 	}
 	res.Curves = curves
+	res.Notes = append(res.Notes, noisyNotes(curves)...)
 	if cfg.ExactSums {
 		res.Notes = append(res.Notes, "exact sums over all states: the curves carry no sampling error; peak errors are 0 and every local maximum is kept")
 		if cfg.Bootstrap > 0 {
@@ -193,6 +194,30 @@ func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
 		}
 	}
 	return res, nil
+}
+
+// noisyNotes warns about curves whose peaks could be noise (a peak's
+// height error above 15% of its height): a noise spike is reproduced by
+// every bootstrap replicate, which resamples the same snapshots, so its
+// position error understates the uncertainty.
+func noisyNotes(curves []*Curve) []string {
+	var out []string
+	for _, c := range curves {
+		worst := 0.0
+		for _, p := range c.Peaks {
+			if p.Height != 0 {
+				worst = math.Max(worst, p.HeightErr/math.Abs(p.Height))
+			}
+		}
+		if worst > 0.15 {
+			msg := fmt.Sprintf("%s is noisy (peak height error up to %.0f%% of the height): a peak may be a fluctuation that the bootstrap reproduces, so its position error is too small; use more samples per point or a coarser grid", c.Name, 100*worst)
+			if c.Indicator == Fisher && c.Axis >= 0 {
+				msg += " (fisher_deriv is the steadier Fisher estimate when the source has it)"
+			}
+			out = append(out, msg)
+		}
+	}
+	return out
 }
 
 func gOnly(s Source) bool {
