@@ -667,6 +667,16 @@ func zoomPass(res *Result, sources []Source, ds *data.Dataset, g *data.Grid, cfg
 	R := max(cfg.Refine, 2)
 	zc := cfg
 	zc.Refine = 1
+	// sl's classifier is trained on the end regions of the whole grid, which
+	// a zoom window does not contain: it is not re-scanned.
+	zc.SLRegions = nil
+	zind := map[string]bool{}
+	for k, v := range ind {
+		zind[k] = v && k != SL
+	}
+	if ind[SL] {
+		res.Notes = append(res.Notes, "zoom: sl is not re-scanned (its classifier is trained on the end regions of the whole grid)")
+	}
 	for z, x := range centres {
 		dx := step(x)
 		var axis []float64
@@ -674,7 +684,7 @@ func zoomPass(res *Result, sources []Source, ds *data.Dataset, g *data.Grid, cfg
 			axis = append(axis, x+dx*float64(j)/float64(R))
 		}
 		lo := Layout{Names: res.Names, Axes: [][]float64{axis}}
-		curves, err := runPass(sources, ds, g, res.Data, lo, zc, ind, z+1)
+		curves, err := runPass(sources, ds, g, res.Data, lo, zc, zind, z+1)
 		if err != nil {
 			return fmt.Errorf("zoom around %s: %w", data.FormatPoint(res.Names, []float64{x}), err)
 		}

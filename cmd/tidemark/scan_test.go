@@ -198,3 +198,49 @@ func TestScanCommandExactTwoDimensional(t *testing.T) {
 		}
 	}
 }
+
+func TestScanCommandRefineZoom(t *testing.T) {
+	registerIsingForScan()
+	dir := t.TempDir()
+	in := filepath.Join(dir, "film.npz")
+	if _, err := execTidemark(t, "simulate", "ising", "--size", "3", "--grid", "T=1:4:7", "--samples", "300",
+		"--exact-samples", "--seed", "5", "--quiet", "-o", in); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "scan")
+	msg, err := execTidemark(t, "scan", "--data", in, "--exact", "--refine", "2", "--zoom", "--model-samples", "300",
+		"--bootstrap", "20", "--sl-regions", "1:1.5,3.5:4", "--window", "2", "-o", out, "--quiet")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(msg, "(13 scanned)") || !strings.Contains(msg, "zoom around T=") {
+		t.Errorf("output:\n%s", msg)
+	}
+	if _, err := os.Stat(filepath.Join(out, "zoom-1.csv")); err != nil {
+		t.Error(err)
+	}
+}
+
+func TestParseSLRegions(t *testing.T) {
+	cases := []struct {
+		in   string
+		ok   bool
+		a, b [2]float64
+	}{
+		{"1:1.5,3.5:4", true, [2]float64{1, 1.5}, [2]float64{3.5, 4}},
+		{" 0 : 1 , 2:3 ", true, [2]float64{0, 1}, [2]float64{2, 3}},
+		{"1:2", false, [2]float64{}, [2]float64{}},
+		{"2:1,3:4", false, [2]float64{}, [2]float64{}},
+		{"a:1,3:4", false, [2]float64{}, [2]float64{}},
+	}
+	for _, tc := range cases {
+		r, err := parseSLRegions(tc.in)
+		if (err == nil) != tc.ok {
+			t.Errorf("%q: error %v", tc.in, err)
+			continue
+		}
+		if tc.ok && (r.A != tc.a || r.B != tc.b) {
+			t.Errorf("%q: %+v", tc.in, r)
+		}
+	}
+}
