@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"sync"
+	"sync/atomic"
 )
 
 // MatrixSource is an optional interface of a Source that scores many
@@ -95,18 +96,20 @@ func ComputeMatrix(src Source, xs []uint8, n int, points [][]float64, opt Matrix
 	var wg sync.WaitGroup
 	var once sync.Once
 	var firstErr error
+	var failed atomic.Bool
 	for w := 0; w < threads; w++ {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
 			buf := make([]float64, block)
 			for j := range jobs {
-				if firstErr != nil {
+				if failed.Load() {
 					continue
 				}
 				d := buf[:j.hi-j.lo]
 				if err := src.LogProb(d, xs[j.lo*N:j.hi*N], points[j.k]); err != nil {
 					once.Do(func() { firstErr = fmt.Errorf("log-likelihood matrix at point %d: %w", j.k, err) })
+					failed.Store(true)
 					continue
 				}
 				for i, v := range d {
