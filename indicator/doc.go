@@ -39,6 +39,8 @@
 // divergence) are placed at midpoints between neighbouring grid points;
 // fisher_deriv and the 2-D pbm divergence at grid points. On a 2-D product
 // grid, sl, lbc, local and fisher are computed along every line of each axis
-// (names get the axis as a suffix, e.g. local_T), and boundaries join each
-// line's highest peak of the local and fisher maps into polylines.
+// (names get the axis as a suffix, e.g. local_T); "fisher" becomes the
+// trace of the metric from the divergences, at the centres of the grid's
+// cells; and boundaries join each line's highest peak of the local and
+// fisher maps into polylines, in both orientations.
 package indicator

@@ -118,3 +118,42 @@ func TestExactSumsMatchClosedForms(t *testing.T) {
 		t.Errorf("fisher_deriv peaks %+v, want one near %g", fd.Peaks, src.c)
 	}
 }
+
+func TestJSDTraceMapMatchesFisherMetric(t *testing.T) {
+	// p = logistic(a(T − c − b·J)): the Fisher metric of N independent sites
+	// is N p(1−p) a² (1, −b; −b, b²), trace N a² p(1−p)(1 + b²) (common
+	// practice).
+	src := &bernoulli{n: 6, d: 2, a: 2, c: 1, b: 0.5}
+	ts, js := linspace(0, 2, 21), linspace(0, 1, 11)
+	ds := bernoulliData(src, ts, js, 2, 1)
+	res, err := Run([]Source{src}, ds, Config{ExactSums: true, Indicators: []string{Fisher}, Threads: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := curveByName(t, res.Curves, Fisher)
+	if len(c.Pos) != 20*10 {
+		t.Fatalf("%d cell centres, want 200", len(c.Pos))
+	}
+	for i, p := range c.Pos {
+		q := src.p(p)
+		want := float64(src.n) * src.a * src.a * q * (1 - q) * (1 + src.b*src.b)
+		// discretisation error O(Δ²) of the divergences and of the edge means
+		if d := math.Abs(c.Val[i] - want); d > 0.03*want {
+			t.Errorf("trace at %v: %.5g, closed form %.5g", p, c.Val[i], want)
+		}
+	}
+	found := false
+	for _, b := range res.Boundaries {
+		if b.Indicator == Fisher && b.Axis == "T" {
+			found = true
+			for _, p := range b.Points {
+				if w := src.c + src.b*p[1]; math.Abs(p[0]-w) > 0.02 {
+					t.Errorf("fisher ridge point %v, want T = %.3f", p, w)
+				}
+			}
+		}
+	}
+	if !found {
+		t.Error("no boundary from the fisher trace map")
+	}
+}

@@ -217,6 +217,9 @@ func buildCurves(lo *Layout, ev *EvalSet, opt buildOptions) ([]*curveSpec, error
 	if opt.indicators[PBM] && d == 2 {
 		out = append(out, pbmDivergence(lo, ev))
 	}
+	if opt.indicators[Fisher] && d == 2 {
+		out = append(out, jsdTrace(lo, ev))
+	}
 	if opt.indicators[Fisher] && opt.deriv != nil {
 		for _, c := range fisherDeriv(lo, opt.deriv) {
 			c.deriv = true
@@ -541,22 +544,7 @@ func jsdLine(ev *EvalSet, ln gridLine) (*stat, []int) {
 	K := ev.Mx.K
 	st := &stat{nOut: n - 1}
 	for t := 0; t < n-1; t++ {
-		ka, kb := ln.pts[t], ln.pts[t+1]
-		fa := perSample(ev, func(m int) float64 {
-			la, lb := ev.Mx.L[m*K+ka], ev.Mx.L[m*K+kb]
-			if math.IsInf(la, -1) {
-				return 0
-			}
-			return math.Ln2 + la - logAddExp(la, lb)
-		})
-		fb := perSample(ev, func(m int) float64 {
-			la, lb := ev.Mx.L[m*K+ka], ev.Mx.L[m*K+kb]
-			if math.IsInf(lb, -1) {
-				return 0
-			}
-			return math.Ln2 + lb - logAddExp(la, lb)
-		})
-		st.cells = append(st.cells, cell{ks: []int{ka}, f: fa}, cell{ks: []int{kb}, f: fb})
+		st.cells = append(st.cells, jsdCells(ev, K, ln.pts[t], ln.pts[t+1])...)
 	}
 	st.combine = func(e, out []float64) {
 		for t := range out {
@@ -566,6 +554,83 @@ func jsdLine(ev *EvalSet, ln gridLine) (*stat, []int) {
 		}
 	}
 	return st, allCuts(n)
+}
+
+// jsdCells returns the two expectations whose mean is JSD(p_a, p_b):
+// E_a[log(2p_a/(p_a+p_b))] and E_b[log(2p_b/(p_a+p_b))].
+func jsdCells(ev *EvalSet, K, ka, kb int) []cell {
+	fa := perSample(ev, func(m int) float64 {
+		la, lb := ev.Mx.L[m*K+ka], ev.Mx.L[m*K+kb]
+		if math.IsInf(la, -1) {
+			return 0
+		}
+		return math.Ln2 + la - logAddExp(la, lb)
+	})
+	fb := perSample(ev, func(m int) float64 {
+		la, lb := ev.Mx.L[m*K+ka], ev.Mx.L[m*K+kb]
+		if math.IsInf(lb, -1) {
+			return 0
+		}
+		return math.Ln2 + lb - logAddExp(la, lb)
+	})
+	return []cell{{ks: []int{ka}, f: fa}, {ks: []int{kb}, f: fb}}
+}
+
+// jsdTrace is the 2-D map of the trace of the Fisher metric from neighbour
+// Jensen–Shannon divergences, at the centres of the grid's cells: F_aa at a
+// centre is the mean of 8·JSD/Δ_a² over the cell's two edges along axis a.
+func jsdTrace(lo *Layout, ev *EvalSet) *curveSpec {
+	n0, n1 := len(lo.Axes[0]), len(lo.Axes[1])
+	K := lo.K()
+	st := &stat{}
+	// edge e0(i,j): (i,j)–(i+1,j); edge e1(i,j): (i,j)–(i,j+1)
+	e0 := func(i, j int) int { return i*n1 + j }
+	e1 := func(i, j int) int { return (n0-1)*n1 + i*(n1-1) + j }
+	for i := 0; i+1 < n0; i++ {
+		for j := 0; j < n1; j++ {
+			st.cells = append(st.cells, jsdCells(ev, K, lo.Index([]int{i, j}), lo.Index([]int{i + 1, j}))...)
+		}
+	}
+	for i := 0; i < n0; i++ {
+		for j := 0; j+1 < n1; j++ {
+			st.cells = append(st.cells, jsdCells(ev, K, lo.Index([]int{i, j}), lo.Index([]int{i, j + 1}))...)
+		}
+	}
+	c := &curveSpec{Curve: Curve{Name: Fisher, Indicator: Fisher, Placement: "cell centres", Axis: -1}}
+	for i := 0; i+1 < n0; i++ {
+		for j := 0; j+1 < n1; j++ {
+			c.Pos = append(c.Pos, []float64{mid(lo.Axes[0][i], lo.Axes[0][i+1]), mid(lo.Axes[1][j], lo.Axes[1][j+1])})
+		}
+	}
+	st.nOut = len(c.Pos)
+	st.combine = func(e, out []float64) {
+		f := func(edge int, dx float64) float64 { return 8 * 0.5 * (e[2*edge] + e[2*edge+1]) / (dx * dx) }
+		for i := 0; i+1 < n0; i++ {
+			d0 := lo.Axes[0][i+1] - lo.Axes[0][i]
+			for j := 0; j+1 < n1; j++ {
+				d1 := lo.Axes[1][j+1] - lo.Axes[1][j]
+				f00 := 0.5 * (f(e0(i, j), d0) + f(e0(i, j+1), d0))
+				f11 := 0.5 * (f(e1(i, j), d1) + f(e1(i+1, j), d1))
+				out[i*(n1-1)+j] = f00 + f11
+			}
+		}
+	}
+	c.st = st
+	for j := 0; j+1 < n1; j++ {
+		l := Line{Axis: 0}
+		for i := 0; i+1 < n0; i++ {
+			l.Idx = append(l.Idx, i*(n1-1)+j)
+		}
+		c.Lines = append(c.Lines, l)
+	}
+	for i := 0; i+1 < n0; i++ {
+		l := Line{Axis: 1}
+		for j := 0; j+1 < n1; j++ {
+			l.Idx = append(l.Idx, i*(n1-1)+j)
+		}
+		c.Lines = append(c.Lines, l)
+	}
+	return c
 }
 
 // pbmDivergence is the 2-D prediction-based indicator: the divergence

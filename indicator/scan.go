@@ -182,7 +182,7 @@ func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
 	if g.Dim() == 2 {
 		for _, c := range res.Curves {
 			if c.Indicator == Local || c.Indicator == Fisher {
-				if c.Name == "fisher_deriv" || c.Axis >= 0 {
+				if c.Name == "fisher_deriv" || c.Name == Fisher || c.Axis >= 0 {
 					res.Boundaries = append(res.Boundaries, boundaries(c, g.Names)...)
 				}
 			}

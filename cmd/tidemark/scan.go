@@ -68,8 +68,9 @@ indicators.csv has the parameter columns, then <name> and <name>_err for every c
 one row per position: the union of the grid points (fisher_deriv, and the 2-D pbm
 divergence at interior points) and the midpoints between neighbouring points (sl, lbc,
 pbm in 1-D, local, fisher); a cell is empty where a curve has no value. On a 2-D grid a
-curve along one axis carries that axis as a suffix (local_T, lbc_Jy). With --zoom each
-second pass gets its own zoom-<i>.csv.`,
+curve along one axis carries that axis as a suffix (local_T, lbc_Jy), and fisher is the
+trace of the metric from the divergences at the centres of the grid's cells. With --zoom
+each second pass gets its own zoom-<i>.csv.`,
 		Example: `  tidemark scan --data film.npz --model film.ckpt -o scan/
   tidemark scan --data film.npz --exact --exact-sums --indicators fisher,local -o exact-scan/
   tidemark scan --data small.npz --histogram --bootstrap 200 -o hist-scan/

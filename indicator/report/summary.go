@@ -97,7 +97,7 @@ func NewSummary(res *indicator.Result, info Info) *Summary {
 		Boundaries: res.Boundaries,
 		Notes:      res.Notes,
 		Caution:    indicator.Caution,
-		CSVRows:    "indicators.csv has one row per position, the union of the grid points (curves with placement \"points\") and the midpoints between neighbouring grid points (placement \"midpoints\"); cells are empty where a curve has no value",
+		CSVRows:    "indicators.csv has one row per position, the union of the grid points (curves with placement \"points\"), the midpoints between neighbouring grid points (placement \"midpoints\") and, in 2-D, the centres of the grid's cells (placement \"cell centres\"); cells are empty where a curve has no value",
 	}
 	for _, a := range res.Data.Axes {
 		s.Grid.Shape = append(s.Grid.Shape, len(a))
