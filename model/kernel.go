@@ -101,8 +101,16 @@ func actFunc(name string) func(float64) float64 {
 	return func(x float64) float64 { return math.Max(x, 0) }
 }
 
-// softplus is log(1+e^z), computed without overflow.
-func softplus(z float64) float64 { return math.Max(z, 0) + math.Log1p(math.Exp(-math.Abs(z))) }
+// softplus is log(1+e^z), computed without overflow. With e = e^−|z| ≤ 1,
+// log(1+e) is taken as math.Log(1+e) rather than math.Log1p(e): its
+// absolute error stays below 2.3e-16 (the rounding of 1+e), which is what
+// matters in a sum of per-site terms, and it is about twice as fast.
+func softplus(z float64) float64 {
+	if z > 0 {
+		return z + math.Log(1+math.Exp(-z))
+	}
+	return math.Log(1 + math.Exp(z))
+}
 
 // workspace is the scratch of one goroutine for blocks of up to rows snapshots.
 type workspace struct {

@@ -18,6 +18,7 @@ import (
 	"math/rand/v2"
 	"os"
 	"runtime"
+	"runtime/pprof"
 	"sort"
 	"strconv"
 	"strings"
@@ -36,11 +37,13 @@ type result struct {
 	Side      string  `json:"side"`
 	What      string  `json:"what"`
 	N         int     `json:"n,omitempty"`
+	Rows      int     `json:"rows,omitempty"` // snapshots per LogProbMatrix call
 	H         int     `json:"h,omitempty"`
 	Precision string  `json:"precision,omitempty"`
 	Rate      float64 `json:"rate"` // per second, median
 	Unit      string  `json:"unit"`
-	GFlops    float64 `json:"gflops,omitempty"` // dense-equivalent GFLOP/s of a training step
+	GFlops    float64 `json:"gflops,omitempty"`          // dense-equivalent GFLOP/s of a training step
+	GFlopsRun float64 `json:"gflops_executed,omitempty"` // GFLOP/s actually executed (all-zero mask blocks skipped)
 	Reps      int     `json:"reps"`
 	Threads   int     `json:"threads"`
 	BLAS      string  `json:"blas"`
@@ -53,7 +56,20 @@ func main() {
 	reps := flag.Int("reps", 5, "repetitions per measurement (the median is reported)")
 	precs := flag.String("precision", "float64,float32", "comma-separated precisions to measure")
 	gemmN := flag.Int("gemm", 1024, "size of the square GEMM for the machine's rate (0 skips it)")
+	matRows := flag.Int("matrows", 256, "snapshots scored at 64 λ by LogProbMatrix")
+	cpuprof := flag.String("cpuprofile", "", "write a CPU profile to this file")
 	flag.Parse()
+	if *cpuprof != "" {
+		f, err := os.Create(*cpuprof)
+		if err == nil {
+			err = pprof.StartCPUProfile(f)
+		}
+		if err != nil {
+			fmt.Fprintln(os.Stderr, "gobench:", err)
+			os.Exit(1)
+		}
+		defer pprof.StopCPUProfile()
+	}
 	runtime.GOMAXPROCS(*threads)
 	enc := json.NewEncoder(os.Stdout)
 	emit := func(r result) {
@@ -69,15 +85,19 @@ func main() {
 		}
 	}
 	for _, s := range strings.Split(*shapes, ",") {
+		if strings.TrimSpace(s) == "" {
+			continue
+		}
 		n, h, err := parseShape(s)
 		if err != nil {
 			fmt.Fprintln(os.Stderr, "gobench:", err)
+			pprof.StopCPUProfile()
 			os.Exit(2)
 		}
 		ps := strings.Split(*precs, ",")
 		per := time.Duration(*budget / float64(len(ps)) * float64(time.Second))
 		for _, p := range ps {
-			for _, r := range measureShape(n, h, p, *threads, *reps, per) {
+			for _, r := range measureShape(n, h, p, *threads, *reps, *matRows, per) {
 				emit(r)
 			}
 		}
@@ -155,6 +175,40 @@ func stepFlops(n, h, b int) float64 {
 	return 2 * float64(b) * (2*fwd + dx)
 }
 
+// executedFlops counts the floating-point operations of one training step
+// of batch b as the model executes them: like stepFlops, but only over the
+// rows of each 64-column block of a mask that hold a nonzero entry (the
+// same block rule as the model's masked products).
+func executedFlops(m *model.Model, b int) float64 {
+	masks := m.Masks()
+	total := 0.0
+	for i, mk := range masks {
+		in, out := mk.Shape[0], mk.Shape[1]
+		work := 0
+		for c0 := 0; c0 < out; c0 += 64 {
+			c1 := min(c0+64, out)
+			lo, hi := in, 0
+			for j := 0; j < in; j++ {
+				for k := c0; k < c1; k++ {
+					if mk.Data[j*out+k] != 0 {
+						lo, hi = min(lo, j), max(hi, j+1)
+						break
+					}
+				}
+			}
+			if hi > lo {
+				work += (c1 - c0) * (hi - lo)
+			}
+		}
+		passes := 2.0 // forward and weight gradient
+		if i > 0 && mk.Name != "mask.direct" {
+			passes = 3 // and the input gradient
+		}
+		total += passes * 2 * float64(b) * float64(work)
+	}
+	return total
+}
+
 // adam is the Adam update (D. P. Kingma and J. Ba, ICLR 2015) with the
 // usual constants β1 = 0.9, β2 = 0.999, ε = 1e-8.
 type adam struct {
@@ -203,7 +257,7 @@ func measure(f func(), units float64, reps int, budget time.Duration) (float64, 
 	return median(rates), len(rates)
 }
 
-func measureShape(n, h int, prec string, threads, reps int, budget time.Duration) []result {
+func measureShape(n, h int, prec string, threads, reps, matRows int, budget time.Duration) []result {
 	cfg := model.DefaultConfig(n, 2, 1, []float64{0}, []float64{1})
 	cfg.Hidden = []int{h, h}
 	cfg.Precision = prec
@@ -279,7 +333,7 @@ func measureShape(n, h int, prec string, threads, reps int, budget time.Duration
 	var out []result
 	rate, r := measure(train, float64(steps*batch), reps, third)
 	out = append(out, result{What: "train", N: n, H: h, Precision: prec, Rate: rate, Unit: "snapshots/s",
-		GFlops: rate / batch * stepFlops(n, h, batch) / 1e9, Reps: r})
+		GFlops: rate / batch * stepFlops(n, h, batch) / 1e9, GFlopsRun: rate / batch * executedFlops(m, batch) / 1e9, Reps: r})
 
 	// LogProb: 1024 snapshots at one λ, split over the threads (LogProb is
 	// safe for concurrent use).
@@ -310,17 +364,17 @@ func measureShape(n, h int, prec string, threads, reps int, budget time.Duration
 	rate, r = measure(score, nScore, reps, third)
 	out = append(out, result{What: "logprob", N: n, H: h, Precision: prec, Rate: rate, Unit: "log p/s", Reps: r})
 
-	// LogProbMatrix: 256 snapshots × 64 λ.
+	// LogProbMatrix: matRows snapshots × 64 λ.
 	lams := make([][]float64, 64)
 	for k := range lams {
 		lams[k] = []float64{float64(k) / 63}
 	}
 	mat := func() {
-		if _, err := m.LogProbMatrix(sx[:batch*n], batch, lams, threads); err != nil {
+		if _, err := m.LogProbMatrix(sx[:matRows*n], matRows, lams, threads); err != nil {
 			panic(err)
 		}
 	}
-	rate, r = measure(mat, batch*64, reps, third)
-	out = append(out, result{What: "logprobmatrix64", N: n, H: h, Precision: prec, Rate: rate, Unit: "log p/s", Reps: r})
+	rate, r = measure(mat, float64(matRows*64), reps, third)
+	out = append(out, result{What: "logprobmatrix64", N: n, H: h, Rows: matRows, Precision: prec, Rate: rate, Unit: "log p/s", Reps: r})
 	return out
 }

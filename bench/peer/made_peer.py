@@ -102,6 +102,7 @@ def main():
     ap.add_argument("--budget", type=float, default=60)
     ap.add_argument("--reps", type=int, default=5)
     ap.add_argument("--gemm", type=int, default=1024)
+    ap.add_argument("--matrows", type=int, default=256)
     a = ap.parse_args()
     torch.set_num_threads(a.threads)
     torch.manual_seed(1)
@@ -118,6 +119,8 @@ def main():
 
     B = 256
     for s in a.shapes.split(","):
+        if not s.strip():
+            continue
         n, h = (int(v) for v in s.split("x"))
         net = CondMADE(n, [h, h])
         opt = torch.optim.Adam(net.parameters(), lr=1e-4)
@@ -148,16 +151,17 @@ def main():
         emit(what="logprob", n=n, h=h, precision="float32", rate=rate, unit="log p/s", reps=r)
 
         lams = torch.linspace(0, 1, 64)
-        xb = xs[:B]
+        R = a.matrows
+        xb = xs[:R]
 
         def matrix():
             with torch.no_grad():
-                out = torch.empty(B, 64)
+                out = torch.empty(R, 64)
                 for k in range(64):
-                    out[:, k] = net.log_prob(xb, lams[k].expand(B))
+                    out[:, k] = net.log_prob(xb, lams[k].expand(R))
 
-        rate, r = median_rate(matrix, B * 64, a.reps, third)
-        emit(what="logprobmatrix64", n=n, h=h, precision="float32", rate=rate, unit="log p/s", reps=r)
+        rate, r = median_rate(matrix, R * 64, a.reps, third)
+        emit(what="logprobmatrix64", n=n, h=h, rows=R, precision="float32", rate=rate, unit="log p/s", reps=r)
 
 
 if __name__ == "__main__":

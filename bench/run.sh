@@ -1,0 +1,86 @@
+#!/bin/sh
+# bench/run.sh — side-by-side throughput of tidemark's model package and a
+# PyTorch CPU peer of the same conditional MADE, in one run on one machine.
+#
+#   bench/run.sh [-s SHAPES] [-b SECONDS] [-r REPS] [-n ROUNDS] [-o FILE]
+#
+#   -s  comma-separated NxH shapes (default 64x256,256x512,1024x1024)
+#   -b  time budget per shape, per side and round, in seconds (default 25)
+#   -r  repetitions per figure; the median is reported (default 5)
+#   -n  rounds: every side runs every shape once per round, interleaved,
+#       so a change of machine load hits all sides alike (default 2)
+#   -o  results file (default bench/RESULTS.md)
+#
+# Sides: ours built pure Go (the default build), ours built with -tags
+# openblas (skipped when OpenBLAS is missing), and bench/peer/made_peer.py
+# under Debian's /usr/bin/python3 with python3-torch. Every side uses 2
+# threads: GOMAXPROCS=2 with one OpenBLAS thread per goroutine on our side,
+# torch.set_num_threads(2) on the peer's.
+set -eu
+cd "$(dirname "$0")/.."
+shapes=64x256,256x512,1024x1024
+budget=25
+reps=5
+rounds=2
+out=bench/RESULTS.md
+while getopts s:b:r:n:o: opt; do
+	case $opt in
+	s) shapes=$OPTARG ;;
+	b) budget=$OPTARG ;;
+	r) reps=$OPTARG ;;
+	n) rounds=$OPTARG ;;
+	o) out=$OPTARG ;;
+	*) echo "usage: bench/run.sh [-s SHAPES] [-b SECONDS] [-r REPS] [-n ROUNDS] [-o FILE]" >&2; exit 2 ;;
+	esac
+done
+threads=2
+tmp=$(mktemp -d)
+trap 'rm -rf "$tmp"' EXIT
+raw=$tmp/raw.jsonl
+
+go build -o "$tmp/gobench" ./bench/gobench
+sides="gonum"
+if CGO_LDFLAGS="-lopenblas" go build -tags openblas -o "$tmp/gobench_openblas" ./bench/gobench 2>"$tmp/ob.log"; then
+	sides="$sides openblas"
+else
+	echo "bench: the openblas build failed (is libopenblas-dev installed?); measuring the pure-Go build only" >&2
+	cat "$tmp/ob.log" >&2
+fi
+if ! /usr/bin/python3 -c 'import torch' 2>/dev/null; then
+	echo "bench: /usr/bin/python3 cannot import torch (apt-get install -y python3-torch python3-numpy)" >&2
+	exit 2
+fi
+sides="$sides peer"
+
+load_before=$(cut -d' ' -f1-3 /proc/loadavg)
+start=$(date -u '+%Y-%m-%d %H:%M UTC')
+# Square-GEMM rates once per side.
+"$tmp/gobench" -threads $threads -reps $reps -shapes "" -gemm 1024 >>"$raw"
+if [ -x "$tmp/gobench_openblas" ]; then
+	OPENBLAS_NUM_THREADS=$threads "$tmp/gobench_openblas" -threads $threads -reps $reps -shapes "" -gemm 1024 >>"$raw"
+fi
+OMP_WAIT_POLICY=PASSIVE /usr/bin/python3 bench/peer/made_peer.py --threads $threads --reps $reps --shapes "" --gemm 1024 >>"$raw"
+
+round=1
+while [ $round -le "$rounds" ]; do
+	for shape in $(echo "$shapes" | tr ',' ' '); do
+		n=${shape%x*}
+		rows=256
+		[ "$n" -gt 256 ] && rows=64
+		for side in $sides; do
+			echo "bench: round $round, $shape, $side" >&2
+			case $side in
+			gonum) "$tmp/gobench" -threads $threads -reps $reps -budget "$budget" -gemm 0 -shapes "$shape" -matrows $rows >>"$raw" ;;
+			openblas) OPENBLAS_NUM_THREADS=1 "$tmp/gobench_openblas" -threads $threads -reps $reps -budget "$budget" -gemm 0 -shapes "$shape" -matrows $rows >>"$raw" ;;
+			peer) OMP_WAIT_POLICY=PASSIVE /usr/bin/python3 bench/peer/made_peer.py --threads $threads --reps $reps --budget "$budget" --gemm 0 --shapes "$shape" --matrows $rows >>"$raw" ;;
+			esac
+		done
+	done
+	round=$((round + 1))
+done
+load_after=$(cut -d' ' -f1-3 /proc/loadavg)
+cp "$raw" bench/last-run.jsonl
+/usr/bin/python3 bench/summarize.py "$raw" --start "$start" --load-before "$load_before" --load-after "$load_after" \
+	--threads $threads --budget "$budget" --reps "$reps" --rounds "$rounds" >"$tmp/results.md"
+mv "$tmp/results.md" "$out"
+cat "$out"

@@ -1,0 +1,139 @@
+#!/usr/bin/python3
+"""Turn the JSON lines of bench/run.sh into bench/RESULTS.md (Markdown on stdout)."""
+import argparse
+import collections
+import json
+import os
+import platform
+import statistics
+import subprocess
+
+
+def label(r):
+    if r["side"] == "peer":
+        return "peer"
+    return ("openblas" if r["blas"].startswith("OpenBLAS") else "gonum") + "/" + r["precision"]
+
+
+def main():
+    ap = argparse.ArgumentParser()
+    ap.add_argument("raw")
+    ap.add_argument("--start", default="")
+    ap.add_argument("--load-before", default="")
+    ap.add_argument("--load-after", default="")
+    ap.add_argument("--threads", default="2")
+    ap.add_argument("--budget", default="")
+    ap.add_argument("--reps", default="")
+    ap.add_argument("--rounds", default="")
+    a = ap.parse_args()
+    rows = [json.loads(l) for l in open(a.raw) if l.strip()]
+    groups = collections.defaultdict(list)
+    gflops = collections.defaultdict(list)
+    gexec = collections.defaultdict(list)
+    gemm = {}
+    torch_version = ""
+    for r in rows:
+        if r["side"] == "peer":
+            torch_version = r["blas"]
+        if r["what"] == "gemm":
+            key = ("peer" if r["side"] == "peer" else label(r).split("/")[0], r["precision"])
+            gemm[key] = r["rate"]
+            continue
+        k = (label(r), r["what"], r["n"], r["h"])
+        groups[k].append(r["rate"])
+        if r["what"] == "train":
+            gflops[k].append(r.get("gflops", 0))
+            if "gflops_executed" in r:
+                gexec[k].append(r["gflops_executed"])
+    med = {k: statistics.median(v) for k, v in groups.items()}
+    cpu = ""
+    for line in open("/proc/cpuinfo"):
+        if line.startswith("model name"):
+            cpu = line.split(":", 1)[1].strip()
+            break
+    nproc = os.cpu_count()
+    goversion = subprocess.run(["go", "version"], capture_output=True, text=True).stdout.strip()
+    shapes = sorted({(k[2], k[3]) for k in groups})
+    ours = [l for l in ("gonum/float64", "gonum/float32", "openblas/float64", "openblas/float32")
+            if any(k[0] == l for k in groups)]
+    p = print
+    p("# Benchmark: tidemark's model package against a PyTorch peer")
+    p()
+    p(f"Run {a.start} on `{platform.node()}`: {cpu}, nproc = {nproc}; load average "
+      f"{a.load_before} before and {a.load_after} after (the machine is shared: other jobs ran "
+      "at the same time, so absolute figures are low and noisy; the sides ran interleaved, "
+      f"{a.rounds} rounds, so ratios are fairer than absolutes). {goversion}; peer: {torch_version} "
+      "(Debian python3-torch) under /usr/bin/python3.")
+    p()
+    p(f"Threads: {a.threads} on both sides — GOMAXPROCS={a.threads} with the training batch split "
+      f"into {a.threads} chunks on {a.threads} goroutines (one OpenBLAS thread each, "
+      f"OPENBLAS_NUM_THREADS=1) on ours; torch.set_num_threads({a.threads}) with "
+      "OMP_WAIT_POLICY=PASSIVE on the peer's (with OpenMP's default busy-waiting the peer ran up to "
+      "10× slower on this loaded machine, which would not be a fair comparison). "
+      f"Each figure is the median of up to {a.reps} repetitions after a warm-up, within a budget of "
+      f"{a.budget} s per shape and side, then the median over rounds.")
+    p()
+    p("Model: q = 2, two masked hidden layers of width H, conditioning MLP [64] (relu) on the features "
+      "t, sin(πft), cos(πft), f = 1, 2, adding a bias to every masked layer, direct connection; "
+      "batch 256; Adam. `train` = snapshots per second through LossGrad + an Adam update over all "
+      "weights; `logprob` = log p per second by LogProb (1024 snapshots at one λ, split over the "
+      "threads); `logprobmatrix64` = log p per second by LogProbMatrix at 64 λ (256 snapshots; 64 for "
+      "N > 256). The peer scores the matrix the ordinary way (one full forward pass per λ, batched); "
+      "ours computes the λ-independent first layer once per snapshot.")
+    p()
+    p("Our builds: `gonum` = default pure-Go build (gonum BLAS); `openblas` = "
+      "`go build -tags openblas` (gonum and gorgonia BLAS through OpenBLAS via cgo). `float64` is the "
+      "default Config.Precision; `float32` runs the masked products in single precision (the peer's "
+      "precision) with float64 per-site terms and sums.")
+    p()
+    p("## Throughput (per second) and ratio ours/peer")
+    p()
+    p("| N | H | figure | " + " | ".join(ours) + " | peer (torch f32) | " + " | ".join(f"ratio {o}" for o in ours) + " |")
+    p("|" + "---|" * (4 + 2 * len(ours)))
+    for n, h in shapes:
+        for what in ("train", "logprob", "logprobmatrix64"):
+            pv = med.get(("peer", what, n, h))
+            vals = [med.get((o, what, n, h)) for o in ours]
+            cells = [f"{v:,.0f}" if v is not None else "–" for v in vals]
+            ratios = [f"{v / pv:.2f}×" if v is not None and pv else "–" for v in vals]
+            p(f"| {n} | {h} | {what} | " + " | ".join(cells) + f" | {pv:,.0f} | " if pv else f"| {n} | {h} | {what} | " + " | ".join(cells) + " | – | ", end="")
+            p(" | ".join(ratios) + " |")
+    p()
+    p("## GEMM rate and the fraction of it a training step reaches")
+    p()
+    p("Square 1024³ GEMM (gonum blas64/blas32 in our builds, torch.mm in the peer), GFLOP/s, "
+      f"{a.threads} threads:")
+    p()
+    p("| side | float64 | float32 |")
+    p("|---|---|---|")
+    for s in ("gonum", "openblas", "peer"):
+        if (s, "float64") in gemm:
+            p(f"| {s} | {gemm[(s, 'float64')]:.1f} | {gemm[(s, 'float32')]:.1f} |")
+    p()
+    p("Training-step FLOPs: the masked products forward, their weight gradients, and the input "
+      "gradients of all but the layers that read the data (≈ 3× forward). *Dense-equivalent* counts "
+      "full matrices (what the peer executes); *executed* counts only the mask blocks our products "
+      "do not skip (about half). Fraction = GFLOP/s ÷ the side's GEMM rate in the step's precision.")
+    p()
+    p("| N | H | side | dense-equiv. GFLOP/s | fraction | executed GFLOP/s | fraction |")
+    p("|---|---|---|---|---|---|---|")
+    for n, h in shapes:
+        for o in ours + ["peer"]:
+            k = (o, "train", n, h)
+            if k not in gflops:
+                continue
+            prec = "float32" if o == "peer" else o.split("/")[1]
+            g = gemm.get(("peer" if o == "peer" else o.split("/")[0], prec))
+            d = statistics.median(gflops[k])
+            e = statistics.median(gexec[k]) if k in gexec else None
+            fr = f"{d / g:.0%}" if g else "–"
+            es = f"{e:.1f}" if e is not None else "(= dense)"
+            efr = f"{e / g:.0%}" if e is not None and g else fr
+            p(f"| {n} | {h} | {o} | {d:.1f} | {fr} | {es} | {efr} |")
+    p()
+    p("Raw figures: bench/last-run.jsonl. Reproduce: `bench/run.sh` (options: -s shapes, -b budget, "
+      "-r repetitions, -n rounds).")
+
+
+if __name__ == "__main__":
+    main()
