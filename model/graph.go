@@ -71,10 +71,7 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 	// Each pass through the network (two with Symmetric) has its own
 	// operations, because they own their output buffers.
 	f32 := c.Precision == PrecisionFloat32
-	tiles := make([]tiling, len(m.masks))
-	for i, mk := range m.masks {
-		tiles[i] = newTiling(mk.Data, mk.Shape[0], mk.Shape[1])
-	}
+	tiles := m.tiles
 	linears := func(pass string) ([]*maskedLinear, *maskedLinear) {
 		lin := make([]*maskedLinear, len(l.madeW))
 		for i, w := range l.madeW {
@@ -107,9 +104,13 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 	for i, w := range l.condW {
 		u = act(addBias(must(G.Mul(u, wn[w])), wn[l.condB[i]]))
 	}
+	// The conditioning heads u·V are dense products; they go through the
+	// same hand-written operation (in the model's precision).
 	heads := make([]*G.Node, len(l.madeW))
 	for i := range l.madeW {
-		heads[i] = addBias(must(G.Mul(u, wn[l.condV[i]])), wn[l.madeB[i]])
+		v := m.Weights[l.condV[i]]
+		hl := &maskedLinear{name: v.Name, t: denseTiling(v.Shape[0], v.Shape[1]), needDX: len(c.CondHidden) > 0, f32: f32}
+		heads[i] = addBias(must(maskedMul(u, wn[l.condV[i]], hl)), wn[l.madeB[i]])
 	}
 	L := len(c.Hidden)
 	logp := func(x *G.Node, pass string) *G.Node {

@@ -105,6 +105,7 @@ type maskedLinear struct {
 	weff   []float64 // W⊙M of the current step
 	weff32 []float32
 	x32    []float32 // scratch for float32 operands
+	fx32   []float32 // the float32 input of the last forward product
 	y32    []float32
 	g32    []float32    // float32 weight gradient
 	bufs   [3][]float64 // output buffers of forward, dX, dW
@@ -135,24 +136,37 @@ func grow32(b []float32, n int) []float32 {
 	return b[:n]
 }
 
-// prepareW computes W⊙M (and its float32 copy) inside the nonzero blocks;
-// entries outside them are zero and never read.
+// prepareW computes W⊙M inside the nonzero blocks, in float32 with f32
+// (the float64 copy is then not kept); entries outside the blocks are zero
+// and never read.
 func (ml *maskedLinear) prepareW(w []float64) {
 	n := ml.t.in * ml.t.out
+	mask := ml.t.mask
+	out := ml.t.out
+	if ml.f32 {
+		if ml.weff32 == nil {
+			ml.weff32 = make([]float32, n)
+		}
+		for _, c := range ml.t.cols {
+			for j := c.lo; j < c.hi; j++ {
+				row := j * out
+				for k := c.a0; k < c.a1; k++ {
+					ml.weff32[row+k] = float32(w[row+k] * mask[row+k])
+				}
+			}
+		}
+		return
+	}
 	if ml.weff == nil {
 		ml.weff = make([]float64, n)
 	}
-	mask := ml.t.mask
-	out := ml.t.out
 	for _, c := range ml.t.cols {
 		for j := c.lo; j < c.hi; j++ {
+			row := j * out
 			for k := c.a0; k < c.a1; k++ {
-				ml.weff[j*out+k] = w[j*out+k] * mask[j*out+k]
+				ml.weff[row+k] = w[row+k] * mask[row+k]
 			}
 		}
-	}
-	if ml.f32 {
-		ml.weff32 = to32(ml.weff32, ml.weff)
 	}
 }
 
@@ -193,11 +207,11 @@ func sub32(d []float32, s, r0, c0, rows, cols int) bmat {
 func (ml *maskedLinear) forward(y, x []float64, b int, acc bool) {
 	in, out := ml.t.in, ml.t.out
 	if ml.f32 {
-		ml.x32 = to32(ml.x32, x[:b*in])
+		ml.fx32 = to32(ml.fx32, x[:b*in])
 		ml.y32 = grow32(ml.y32, b*out)
 		clear(ml.y32)
 		for _, c := range ml.t.cols {
-			gemm(blas.NoTrans, blas.NoTrans, 1, sub32(ml.x32, in, 0, c.lo, b, c.hi-c.lo),
+			gemm(blas.NoTrans, blas.NoTrans, 1, sub32(ml.fx32, in, 0, c.lo, b, c.hi-c.lo),
 				sub32(ml.weff32, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0), 0, sub32(ml.y32, out, 0, c.a0, b, c.a1-c.a0))
 		}
 		if acc {
@@ -250,9 +264,10 @@ func (ml *maskedLinear) gradW(dw, x, dy []float64, b int) {
 	in, out := ml.t.in, ml.t.out
 	clear(dw)
 	if ml.f32 {
-		x32 := to32(ml.x32, x[:b*in])
+		// The forward product of this step has already rounded x.
+		x32 := ml.fx32[:b*in]
 		y32 := to32(ml.y32, dy[:b*out])
-		ml.x32, ml.y32 = x32, y32
+		ml.y32 = y32
 		w32 := grow32(ml.g32, in*out)
 		ml.g32 = w32
 		for _, c := range ml.t.cols {
@@ -399,6 +414,15 @@ func (op maskedOp) SymDiff(inputs G.Nodes, output, grad *G.Node) (G.Nodes, error
 		}
 	}
 	return G.Nodes{dx, dw}, nil
+}
+
+// denseTiling is the tiling of an all-ones mask [in, out].
+func denseTiling(in, out int) tiling {
+	ones := make([]float64, in*out)
+	for i := range ones {
+		ones[i] = 1
+	}
+	return newTiling(ones, in, out)
 }
 
 // maskedMul adds Y = X·(W⊙M) to the graph of X and the weight node W.

@@ -56,6 +56,7 @@ func main() {
 	reps := flag.Int("reps", 5, "repetitions per measurement (the median is reported)")
 	precs := flag.String("precision", "float64,float32", "comma-separated precisions to measure")
 	gemmN := flag.Int("gemm", 1024, "size of the square GEMM for the machine's rate (0 skips it)")
+	only = flag.String("only", "", "measure only this figure (train, logprob or logprobmatrix64)")
 	matRows := flag.Int("matrows", 256, "snapshots scored at 64 λ by LogProbMatrix")
 	cpuprof := flag.String("cpuprofile", "", "write a CPU profile to this file")
 	flag.Parse()
@@ -162,6 +163,10 @@ func median(v []float64) float64 {
 
 const batch = 256
 
+var only *string
+
+func want(what string) bool { return *only == "" || *only == what }
+
 // stepFlops is the dense-equivalent floating-point operation count of one
 // training step of batch b: the forward masked products, the weight
 // gradients of all of them and the input gradients of all but those that
@@ -227,14 +232,19 @@ func newAdam(w []model.Tensor) *adam {
 
 func (a *adam) step(w []model.Tensor, g [][]float64, lr float64) {
 	a.t++
-	c1 := 1 - math.Pow(0.9, float64(a.t))
-	c2 := 1 - math.Pow(0.999, float64(a.t))
+	step := lr / (1 - math.Pow(0.9, float64(a.t)))
+	ic2 := 1 / (1 - math.Pow(0.999, float64(a.t)))
 	for i, t := range w {
 		m, v, gi := a.m[i], a.v[i], g[i]
-		for k := range t.Data {
-			m[k] = 0.9*m[k] + 0.1*gi[k]
-			v[k] = 0.999*v[k] + 0.001*gi[k]*gi[k]
-			t.Data[k] -= lr * (m[k] / c1) / (math.Sqrt(v[k]/c2) + 1e-8)
+		d := t.Data[:len(m)]
+		v = v[:len(m)]
+		gi = gi[:len(m)]
+		for k := range m {
+			g := gi[k]
+			mk := 0.9*m[k] + 0.1*g
+			vk := 0.999*v[k] + 0.001*g*g
+			m[k], v[k] = mk, vk
+			d[k] -= step * mk / (math.Sqrt(vk*ic2) + 1e-8)
 		}
 	}
 }
@@ -309,15 +319,18 @@ func measureShape(n, h int, prec string, threads, reps, matRows int, budget time
 			}()
 		}
 		wg.Wait()
-		for c := range grads {
-			w := float64(min((c+1)*chunk, batch)-c*chunk) / batch
-			for i := range sum {
-				for k := range sum[i] {
-					if c == 0 {
-						sum[i][k] *= w
-					} else {
-						sum[i][k] += w * grads[c][i][k]
-					}
+		// sum = Σ_c (n_c/batch)·grads[c], in one pass (sum aliases grads[0]).
+		w0 := float64(min(chunk, batch)) / batch
+		for i := range sum {
+			s0 := sum[i]
+			for k := range s0 {
+				s0[k] *= w0
+			}
+			for c := 1; c < len(grads); c++ {
+				wc := float64(min((c+1)*chunk, batch)-c*chunk) / batch
+				gc := grads[c][i]
+				for k := range s0 {
+					s0[k] += wc * gc[k]
 				}
 			}
 		}
@@ -331,9 +344,13 @@ func measureShape(n, h int, prec string, threads, reps, matRows int, budget time
 		}
 	}
 	var out []result
-	rate, r := measure(train, float64(steps*batch), reps, third)
-	out = append(out, result{What: "train", N: n, H: h, Precision: prec, Rate: rate, Unit: "snapshots/s",
-		GFlops: rate / batch * stepFlops(n, h, batch) / 1e9, GFlopsRun: rate / batch * executedFlops(m, batch) / 1e9, Reps: r})
+	var rate float64
+	var r int
+	if want("train") {
+		rate, r = measure(train, float64(steps*batch), reps, third)
+		out = append(out, result{What: "train", N: n, H: h, Precision: prec, Rate: rate, Unit: "snapshots/s",
+			GFlops: rate / batch * stepFlops(n, h, batch) / 1e9, GFlopsRun: rate / batch * executedFlops(m, batch) / 1e9, Reps: r})
+	}
 
 	// LogProb: 1024 snapshots at one λ, split over the threads (LogProb is
 	// safe for concurrent use).
@@ -361,8 +378,10 @@ func measureShape(n, h int, prec string, threads, reps, matRows int, budget time
 		}
 		wg.Wait()
 	}
-	rate, r = measure(score, nScore, reps, third)
-	out = append(out, result{What: "logprob", N: n, H: h, Precision: prec, Rate: rate, Unit: "log p/s", Reps: r})
+	if want("logprob") {
+		rate, r = measure(score, nScore, reps, third)
+		out = append(out, result{What: "logprob", N: n, H: h, Precision: prec, Rate: rate, Unit: "log p/s", Reps: r})
+	}
 
 	// LogProbMatrix: matRows snapshots × 64 λ.
 	lams := make([][]float64, 64)
@@ -374,7 +393,9 @@ func measureShape(n, h int, prec string, threads, reps, matRows int, budget time
 			panic(err)
 		}
 	}
-	rate, r = measure(mat, float64(matRows*64), reps, third)
-	out = append(out, result{What: "logprobmatrix64", N: n, H: h, Rows: matRows, Precision: prec, Rate: rate, Unit: "log p/s", Reps: r})
+	if want("logprobmatrix64") {
+		rate, r = measure(mat, float64(matRows*64), reps, third)
+		out = append(out, result{What: "logprobmatrix64", N: n, H: h, Rows: matRows, Precision: prec, Rate: rate, Unit: "log p/s", Reps: r})
+	}
 	return out
 }
