@@ -111,3 +111,49 @@ func BenchmarkSample(b *testing.B) {
 	}
 	b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "snapshots/s")
 }
+
+// BenchmarkLossGradFloat32 is BenchmarkLossGrad with Precision float32.
+func BenchmarkLossGradFloat32(b *testing.B) {
+	m := benchModel(b)
+	m.Cfg.Precision = PrecisionFloat32
+	g, err := NewGraph(m, benchBatch)
+	if err != nil {
+		b.Fatal(err)
+	}
+	xs, ps := benchData(m, benchBatch)
+	grads := zeroGrads(m)
+	b.ReportAllocs()
+	b.ResetTimer()
+	for b.Loop() {
+		if _, err := g.LossGrad(xs, ps, benchBatch, grads); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "snapshots/s")
+}
+
+// BenchmarkLogProbMatrixStream scores 10^5 snapshots of 256 sites (default
+// widths) at 4 λ in one call and reports the peak heap in use during the
+// call beyond the n·K output ("extra-peak-MB"): scoring streams in blocks
+// of blockRows snapshots, so it stays at a few MB however large n is.
+func BenchmarkLogProbMatrixStream(b *testing.B) {
+	cfg := DefaultConfig(256, 2, 1, []float64{1}, []float64{4})
+	m, err := New(cfg, 1)
+	if err != nil {
+		b.Fatal(err)
+	}
+	const n, K = 100000, 4
+	xs, _ := randomBatch(cfg, n, 5)
+	ls := lambdas(K)
+	for b.Loop() {
+		peak, err := peakHeapDuring(func() error {
+			_, err := m.LogProbMatrix(xs, n, ls, 0)
+			return err
+		})
+		if err != nil {
+			b.Fatal(err)
+		}
+		b.ReportMetric(float64(peak-8*n*K)/1e6, "extra-peak-MB")
+	}
+	b.ReportMetric(float64(b.N*n*K)/b.Elapsed().Seconds(), "snapshot·λ/s")
+}
