@@ -216,7 +216,7 @@ func runScan(w io.Writer, o *scanOptions) error {
 	default:
 		kind = "model"
 		for _, p := range o.models {
-			src, err := loadModelSource(p)
+			src, _, err := loadModelSource(p, ds)
 			if err != nil {
 				return fmt.Errorf("scan --model: %w", err)
 			}

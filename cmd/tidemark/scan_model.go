@@ -3,15 +3,27 @@ package main
 import (
 	"fmt"
 
+	"tidemark/checkpoints"
+	"tidemark/data"
 	"tidemark/indicator"
 )
 
-// loadModelSource opens a checkpoint as a density source for scan.
-//
-// TODO(lead): wire this to the checkpoints package (load the .ckpt, check it
-// matches the dataset, return the conditioned MADE, which implements
-// indicator.Sampler and optionally indicator.MatrixSource). Until then it
-// refuses with a clear error.
-func loadModelSource(path string) (indicator.Source, error) {
-	return nil, fmt.Errorf("%s: model loading not available yet (use --exact or --histogram)", path)
+// loadModelSource opens a checkpoint as a density source for scan: it loads
+// the .ckpt (naming what failed: magic, version, length, checksum), refuses a
+// dataset that does not fit the model (sites, alphabet, lattice, parameter
+// names), and returns the best weights' conditioned MADE, which is an
+// indicator.Sampler and an indicator.MatrixSource.
+func loadModelSource(path string, ds *data.Dataset) (indicator.Source, *checkpoints.Checkpoint, error) {
+	ck, err := checkpoints.Load(path)
+	if err != nil {
+		return nil, nil, err
+	}
+	if err := ck.CheckDataset(ds); err != nil {
+		return nil, nil, fmt.Errorf("%s does not fit the dataset: %w", path, err)
+	}
+	m, err := ck.Model()
+	if err != nil {
+		return nil, nil, fmt.Errorf("%s: %w", path, err)
+	}
+	return m, ck, nil
 }
