@@ -11,6 +11,7 @@ import (
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/blas/gonum"
 )
 
 // blockRows is the number of snapshots the scoring kernel handles at once.
@@ -194,10 +195,15 @@ func (m *Model) gather(p *prep, xs []uint8, r int, flip bool, a0, dx []float64) 
 	}
 }
 
+// native is gonum's pure-Go BLAS, used for the many short vector additions
+// of the first layer: through cgo (build tag openblas) each call would cost
+// more than the addition itself.
+var native gonum.Implementation
+
 // addTo adds src[:len(dst)] to dst.
 func addTo(dst, src []float64) {
 	if len(dst) >= 16 {
-		blas64.Implementation().Daxpy(len(dst), 1, src, 1, dst, 1)
+		native.Daxpy(len(dst), 1, src, 1, dst, 1)
 		return
 	}
 	src = src[:len(dst)]
@@ -402,8 +408,17 @@ func (m *Model) LogProbMatrix(xs []uint8, n int, lambdas [][]float64, threads in
 	for k, l := range lambdas {
 		cbs[k] = [][][]float64{m.condBias(l)}
 	}
+	// Work units are (block of snapshots, group of λ). With fewer blocks
+	// than threads the λ are split into groups so that every thread has
+	// work; each unit recomputes its block's first-layer product, which is
+	// cheap next to the λ-dependent layers. The grouping never changes a
+	// result, so out does not depend on threads.
 	blocks := (n + blockRows - 1) / blockRows
-	threads = min(threads, blocks)
+	groups := min(K, max(1, (2*threads+blocks-1)/blocks))
+	per := (K + groups - 1) / groups
+	groups = (K + per - 1) / per
+	units := blocks * groups
+	threads = min(threads, units)
 	var next atomic.Int64
 	var wg sync.WaitGroup
 	var once sync.Once
@@ -420,15 +435,16 @@ func (m *Model) LogProbMatrix(xs []uint8, n int, lambdas [][]float64, threads in
 			defer m.wsPool.Put(w)
 			col := make([]float64, blockRows)
 			for {
-				b := int(next.Add(1)) - 1
-				if b >= blocks {
+				u := int(next.Add(1)) - 1
+				if u >= units {
 					return
 				}
+				b, grp := u/groups, u%groups
 				i := b * blockRows
 				r := min(blockRows, n-i)
 				x := xs[i*N : (i+r)*N]
 				m.gatherAll(p, x, r, w)
-				for k := range K {
+				for k := grp * per; k < min(K, (grp+1)*per); k++ {
 					m.scoreBlock(col[:r], x, p, cbs[k], w, r)
 					for j := 0; j < r; j++ {
 						out[(i+j)*K+k] = col[j]
