@@ -231,7 +231,7 @@ func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r 
 			for k := range row {
 				v := row[k] + b[k]
 				if relu {
-					row[k] = math.Max(v, 0)
+					row[k] = relu0(v)
 				} else {
 					row[k] = act(v)
 				}
@@ -648,10 +648,20 @@ func (m *Model) sampleUnits(p *prep, cb [][]float64, w *workspace, r, l, from, t
 		for k := range row {
 			v := row[k] + b[k]
 			if relu {
-				row[k] = math.Max(v, 0)
+				row[k] = relu0(v)
 			} else {
 				row[k] = act(v)
 			}
 		}
 	}
+}
+
+// relu0 is max(v, 0) without math.Max's special cases for signed zeros,
+// which cost more than the comparison; a NaN passes through as with
+// math.Max.
+func relu0(v float64) float64 {
+	if v < 0 {
+		return 0
+	}
+	return v
 }
