@@ -127,7 +127,7 @@ func TestScanCommandErrors(t *testing.T) {
 		{[]string{"--data", in, "--histogram", "--indicators", "lbc,foo", "-o", filepath.Join(dir, "a")}, `found "foo"`},
 		{[]string{"--data", in, "--histogram", "--refine", "2", "-o", filepath.Join(dir, "a")}, "train a model"},
 		{[]string{"--data", in, "--histogram", "--sl-regions", "0:1", "-o", filepath.Join(dir, "a")}, "--sl-regions"},
-		{[]string{"--data", in, "--model", "x.ckpt", "-o", filepath.Join(dir, "a")}, "model loading not available yet"},
+		{[]string{"--data", in, "--model", "x.ckpt", "-o", filepath.Join(dir, "a")}, "x.ckpt: cannot read checkpoint"},
 		{[]string{"--data", in, "--exact", "-o", filepath.Join(dir, "a")}, "no exact reference"},
 		{[]string{"--data", filepath.Join(dir, "missing.npz"), "--histogram", "-o", filepath.Join(dir, "a")}, "missing.npz"},
 	}
