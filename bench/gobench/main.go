@@ -57,6 +57,7 @@ func main() {
 	precs := flag.String("precision", "float64,float32", "comma-separated precisions to measure")
 	gemmN := flag.Int("gemm", 1024, "size of the square GEMM for the machine's rate (0 skips it)")
 	only = flag.String("only", "", "measure only this figure (train, logprob or logprobmatrix64)")
+	chunksFlag = flag.Int("chunks", 0, "graphs the training batch is split over (0 = one per thread)")
 	matRows := flag.Int("matrows", 256, "snapshots scored at 64 λ by LogProbMatrix")
 	cpuprof := flag.String("cpuprofile", "", "write a CPU profile to this file")
 	flag.Parse()
@@ -163,7 +164,10 @@ func median(v []float64) float64 {
 
 const batch = 256
 
-var only *string
+var (
+	only       *string
+	chunksFlag *int
+)
 
 func want(what string) bool { return *only == "" || *only == what }
 
@@ -288,7 +292,11 @@ func measureShape(n, h int, prec string, threads, reps, matRows int, budget time
 	// Training: the batch is split into one chunk per thread, each with its
 	// own graph; the chunk gradients are summed (weighted by chunk size)
 	// into one Adam update.
-	chunk := (batch + threads - 1) / threads
+	nc := threads
+	if *chunksFlag > 0 {
+		nc = *chunksFlag
+	}
+	chunk := (batch + nc - 1) / nc
 	var graphs []*model.Graph
 	var grads [][][]float64
 	for c := 0; c*chunk < batch; c++ {
