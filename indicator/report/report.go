@@ -65,10 +65,13 @@ type Info struct {
 	Refine int
 	// Seed is the scan's seed.
 	Seed uint64
+	// Page adds the dataset, model and exact-check sections of report.html;
+	// nil means they are built from the files named by Data and Models.
+	Page *Page
 }
 
-// Write writes the scan folder at dir: indicators.csv, summary.json and
-// pictures. It builds everything in a temporary folder next to dir and
+// Write writes the scan folder at dir: indicators.csv, summary.json,
+// pictures and report.html (see HTML). It builds everything in a temporary folder next to dir and
 // renames it into place; an existing non-empty dir is replaced only with
 // force. It returns the summary it wrote.
 func Write(dir string, force bool, res *indicator.Result, info Info) (*Summary, error) {
@@ -109,7 +112,7 @@ func Write(dir string, force bool, res *indicator.Result, info Info) (*Summary, 
 	for n := range files {
 		names = append(names, n)
 	}
-	names = append(names, "summary.json")
+	names = append(names, "summary.json", "report.html")
 	sort.Strings(names)
 	sum := NewSummary(res, info)
 	sum.Files = names
@@ -118,36 +121,22 @@ func Write(dir string, force bool, res *indicator.Result, info Info) (*Summary, 
 		return nil, fmt.Errorf("summary.json: %w", err)
 	}
 	files["summary.json"] = append(js, '\n')
+	pg := info.Page
+	if pg == nil {
+		pg = pageFromFiles(info)
+	}
+	if files["report.html"], err = HTML(res, sum, pics, pg); err != nil {
+		return nil, err
+	}
 	for _, n := range names {
 		if err := writeSynced(filepath.Join(tmp, n), files[n]); err != nil {
 			return nil, fmt.Errorf("%s: %w", dir, err)
 		}
 	}
-	if err := os.Chmod(tmp, 0o755); err != nil {
-		return nil, fmt.Errorf("%s: %w", dir, err)
-	}
-	// Move an existing folder aside only now that the new one is complete.
-	var old string
-	if _, err := os.Lstat(clean); err == nil {
-		old = filepath.Join(parent, "."+filepath.Base(clean)+".old-"+filepath.Base(tmp))
-		if err := os.Rename(clean, old); err != nil {
-			return nil, fmt.Errorf("%s: cannot move the existing folder aside: %w", dir, err)
-		}
-	}
-	if err := os.Rename(tmp, clean); err != nil {
-		if old != "" {
-			os.Rename(old, clean)
-		}
-		return nil, fmt.Errorf("%s: %w", dir, err)
+	if err := Install(tmp, clean); err != nil {
+		return nil, err
 	}
 	ok = true
-	if old != "" {
-		os.RemoveAll(old)
-	}
-	if d, err := os.Open(parent); err == nil {
-		d.Sync()
-		d.Close()
-	}
 	return sum, nil
 }
 
