@@ -88,7 +88,7 @@ func TestReportHTMLContent(t *testing.T) {
 	for _, want := range []string{
 		"<!DOCTYPE html>", "<title>test scan</title>",
 		"&lt;with markup to escape&gt;", // plain text is escaped
-		indicator.Caution[:60],         // the caution of design/indicators.md
+		indicator.Caution[:60],          // the caution of design/indicators.md
 		"Peaks", "Check against exact results", "0.50 %", "common practice",
 		"Dataset", "test.npz", "26 (2 per grid point)", "lattice 2 × 3", "13 points of T",
 		"Model", "1234", "0.70000 bits per site", "0.71000 bits per site", // best validation and held-out
