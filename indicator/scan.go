@@ -31,7 +31,16 @@ type Config struct {
 	Indicators []string
 	// Refine R > 1 inserts R−1 points between neighbours on every axis, with
 	// ModelSamples snapshots drawn from the source at each inserted point.
+	// On a refined or zoomed grid a Sampler source draws its own snapshots at
+	// the data's grid points too (unless DataAtGridPoints), so that every
+	// point of the curve is estimated the same way: mixing data snapshots at
+	// some points with model snapshots at their neighbours puts the model's
+	// misfit into the differences between neighbours and makes a saw-tooth
+	// of local and fisher.
 	Refine int
+	// DataAtGridPoints keeps the data snapshots at the data's grid points of a
+	// refined grid instead of drawing model snapshots there.
+	DataAtGridPoints bool
 	// ModelSamples is the number of snapshots drawn per point from a Sampler
 	// (refined and zoom points); ≤ 0 means 1000.
 	ModelSamples int
@@ -177,7 +186,11 @@ func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
 		res.Notes = append(res.Notes, fmt.Sprintf("%d sources averaged; errors combine the bootstrap error of the average and the standard deviation across sources in quadrature", len(sources)))
 	}
 	if cfg.Refine > 1 && !cfg.ExactSums {
-		res.Notes = append(res.Notes, fmt.Sprintf("refined grid: expectations at the %d inserted points use %d snapshots drawn from the source, at the data's grid points the data snapshots", res.Layout.K()-res.Data.K(), cfg.ModelSamples))
+		if cfg.DataAtGridPoints {
+			res.Notes = append(res.Notes, fmt.Sprintf("refined grid: expectations at the %d inserted points use %d snapshots drawn from the source, at the data's grid points the data snapshots", res.Layout.K()-res.Data.K(), cfg.ModelSamples))
+		} else {
+			res.Notes = append(res.Notes, fmt.Sprintf("refined grid: expectations at all %d points use %d snapshots drawn from the source (the data snapshots serve only unrefined scans), so the curves show the source's own distribution and not the data's", res.Layout.K(), cfg.ModelSamples))
+		}
 	}
 	if g.Dim() == 2 {
 		for _, c := range res.Curves {
@@ -429,8 +442,11 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 		ev.Idx = make([][]int, K)
 		rows := ds.M
 		sampler, _ := src.(Sampler)
+		// On a refined or zoomed layout a sampler supplies every point (see
+		// Config.Refine); otherwise the data's snapshots serve their points.
+		everywhere := sampler != nil && !gOnly(src) && (lo.K() != g.K() || pass > 0) && !cfg.DataAtGridPoints
 		for k := 0; k < K; k++ {
-			if dk := g.Find(pts[k]); dk >= 0 {
+			if dk := g.Find(pts[k]); dk >= 0 && !everywhere {
 				ev.Idx[k] = g.Index[dk]
 				continue
 			}
