@@ -1,0 +1,97 @@
+package main
+
+import (
+	"bytes"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"tidemark/data/ising"
+)
+
+// smallDemo is a smaller variant of the built-in scenario for tests: a 10×10
+// lattice, fewer snapshots, epochs and resamples.
+func smallDemo(out string) demoOptions {
+	o := defaultDemo()
+	o.out, o.quiet, o.threads = out, true, 2
+	o.size, o.points, o.samples, o.epochs = 10, 12, 400, 15
+	o.modelSamples, o.bootstrap = 200, 40
+	return o
+}
+
+// TestDemoSmall runs the whole job on a 10×10 lattice and checks the folder
+// and that the estimate lies within 5% of the exact heat-capacity maximum of
+// the periodic 10×10 lattice (B. Kaufman, Phys. Rev. 76, 1232 (1949),
+// computed by ising.KaufmanPeak; about T = 2.345) and within 3% of the
+// maximum of the exact Fisher information N·C/T² (from the same C), which
+// is what the indicators measure.
+func TestDemoSmall(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "demo")
+	o := smallDemo(dir)
+	var out bytes.Buffer
+	res, err := demo(&out, &o)
+	if err != nil {
+		t.Fatalf("demo: %v\n%s", err, out.String())
+	}
+	for _, f := range []string{demoData, demoModel, demoPage, "scan/indicators.csv", "scan/summary.json", "scan/report.html", "scan/lbc.svg"} {
+		if st, err := os.Stat(filepath.Join(dir, f)); err != nil || st.Size() == 0 {
+			t.Errorf("%s: %v", f, err)
+		}
+	}
+	kp, _ := ising.KaufmanPeak(10, 10, 1, 1, o.tLo, o.tHi)
+	if math.Abs(res.Kaufman-kp) > 1e-9 {
+		t.Errorf("reference %v, want KaufmanPeak %v", res.Kaufman, kp)
+	}
+	if rel := math.Abs(res.T-kp) / kp; rel > 0.05 {
+		t.Errorf("estimate T = %.4f ± %.2g from %s is %.1f%% from the exact 10×10 peak %.4f, want within 5%%\n%s", res.T, res.Err, res.Indicator, 100*rel, kp, out.String())
+	}
+	if rel := math.Abs(res.T-res.KaufmanF) / res.KaufmanF; rel > 0.03 {
+		t.Errorf("estimate T = %.4f ± %.2g from %s is %.1f%% from the exact Fisher-information peak %.4f, want within 3%%", res.T, res.Err, res.Indicator, 100*rel, res.KaufmanF)
+	}
+	text := out.String()
+	t.Logf("estimate T = %.4f ± %.2g from %s; exact 10×10 peak %.4f\n%s", res.T, res.Err, res.Indicator, kp, out.String())
+	for _, want := range []string{"transition: T = ", "Kaufman", "Onsager", "2.2692", "report: " + filepath.Join(dir, demoPage), "caution: "} {
+		if !strings.Contains(text, want) {
+			t.Errorf("output lacks %q:\n%s", want, text)
+		}
+	}
+	page, _ := os.ReadFile(filepath.Join(dir, demoPage))
+	for _, want := range []string{"Check against exact results", "Kaufman", "Onsager", "monolayer.ckpt", "<svg"} {
+		if !strings.Contains(string(page), want) {
+			t.Errorf("report.html lacks %q", want)
+		}
+	}
+	// No temporary folder is left beside the output.
+	ents, _ := os.ReadDir(filepath.Dir(dir))
+	if len(ents) != 1 {
+		t.Errorf("left beside the demo folder: %v", ents)
+	}
+}
+
+func TestDemoRefusesNonEmptyFolder(t *testing.T) {
+	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "keep.txt"), []byte("x"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, err := execTidemark(t, "demo", "-o", dir, "--quiet")
+	if err == nil || !strings.Contains(err.Error(), "not empty") {
+		t.Fatalf("non-empty folder: %v", err)
+	}
+	if b, _ := os.ReadFile(filepath.Join(dir, "keep.txt")); string(b) != "x" {
+		t.Errorf("the existing file was changed")
+	}
+	if got := run([]string{"demo", "-o", dir, "--quiet"}); got != exitUsage {
+		t.Errorf("exit status %d, want %d", got, exitUsage)
+	}
+}
+
+func TestDemoRefusesBadSettings(t *testing.T) {
+	for _, args := range [][]string{{"--size", "1"}, {"--points", "2"}, {"--t-lo", "3", "--t-hi", "2"}, {"--bootstrap", "0"}} {
+		_, err := execTidemark(t, append([]string{"demo", "-o", filepath.Join(t.TempDir(), "d"), "--quiet"}, args...)...)
+		if err == nil {
+			t.Errorf("%v: no error", args)
+		}
+	}
+}
