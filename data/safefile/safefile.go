@@ -47,6 +47,7 @@ func Write(path string, force bool, fn func(w io.Writer) error) (err error) {
 		return err
 	}
 	dir := filepath.Dir(path)
+	removeStale(path)
 	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp-*")
 	if err != nil {
 		return fmt.Errorf("%s: cannot create temporary file: %w", path, err)
@@ -92,6 +93,30 @@ func Write(path string, force bool, fn func(w io.Writer) error) (err error) {
 		d.Close()
 	}
 	return nil
+}
+
+// removeStale deletes the temporary files of path that an earlier Write
+// could not clean up because its process was killed (SIGKILL, power loss)
+// between creating and renaming them. Such a write never took effect, so
+// the file at path, if any, is still the earlier complete one.
+func removeStale(path string) {
+	old, _ := filepath.Glob(filepath.Join(filepath.Dir(path), "."+globEscape(filepath.Base(path))+".tmp-*"))
+	for _, f := range old {
+		os.Remove(f)
+	}
+}
+
+// globEscape quotes the characters filepath.Match treats specially.
+func globEscape(s string) string {
+	var b []byte
+	for i := 0; i < len(s); i++ {
+		switch s[i] {
+		case '*', '?', '[', '\\':
+			b = append(b, '\\')
+		}
+		b = append(b, s[i])
+	}
+	return string(b)
 }
 
 // WriteBytes is Write for a byte slice already in memory.
