@@ -30,4 +30,27 @@
 // made.direct when Config.Direct is set. Both implementations multiply the
 // weights by the masks on every use, so entries outside the masks never
 // matter.
+//
+// Performance. Hidden units are sorted by degree, so every mask is block
+// triangular: both implementations split each masked product into blocks of
+// 64 columns and multiply only the rows that hold a nonzero mask entry
+// (about half the work of a dense product). In the training graph these
+// products, and the conditioning heads, are hand-written gorgonia
+// operations (forward, input gradient, weight gradient on BLAS) that reuse
+// their buffers from step to step; gorgonia still builds the graph and
+// differentiates the rest. Config.Precision "float32" runs these products in
+// single precision while every per-site term, sum and gradient outside them
+// stays float64; log-likelihoods then agree with float64 to about 1e-7
+// relative. The scoring kernel streams snapshots in blocks of 64, so
+// LogProbMatrix needs memory for its n·K output and a few MB besides.
+//
+// BLAS. The default build uses gonum's pure-Go BLAS. Built with the tag
+// openblas (CGO_ENABLED=1, OpenBLAS installed, e.g. Debian libopenblas-dev),
+//
+//	go build -tags openblas ./cmd/tidemark
+//
+// gonum's and gorgonia's BLAS calls go to OpenBLAS through cgo
+// (gonum.org/v1/netlib); see the constant BLAS. Training and LogProbMatrix
+// already run one goroutine per thread, so OpenBLAS is limited to one
+// thread of its own unless OPENBLAS_NUM_THREADS is set.
 package model

@@ -20,9 +20,10 @@ const blockRows = 64
 
 // prep holds the masked weights of one scoring call.
 type prep struct {
-	eff   [][]float64 // W⊙M per masked layer
-	effD  []float64   // direct weights ⊙ mask, or nil
-	eff32 [][]float32 // float32 copies of eff with Precision float32
+	eff    [][]float64 // W⊙M per masked layer
+	effD   []float64   // direct weights ⊙ mask, or nil
+	eff32  [][]float32 // float32 copies of eff with Precision float32
+	effD32 []float32   // float32 copy of effD with Precision float32
 }
 
 // prepare multiplies the current weights by their masks. The kernel applies
@@ -52,6 +53,9 @@ func (m *Model) prepare() *prep {
 		}
 		for i := range p.eff {
 			p.eff32[i] = to32(p.eff32[i], p.eff[i])
+		}
+		if p.effD != nil {
+			p.effD32 = to32(p.effD32, p.effD)
 		}
 	}
 	return p
@@ -120,7 +124,9 @@ type workspace struct {
 	a0f, dxf []float64 // the same for flipped snapshots (Symmetric)
 	h        [][]float64
 	z        []float64
-	lins     []*maskedLinear // block-skipping products of masked layers 1..L
+	lins     []*maskedLinear // block-skipping products of the masked layers
+	linD     *maskedLinear   // and of the direct connection
+	xin      []float64       // 0/1 inputs of a block (q = 2)
 }
 
 // lin returns the masked product of layer l reading the weights of p.
@@ -146,8 +152,15 @@ func (m *Model) newWorkspace(rows int) *workspace {
 		w.h = append(w.h, make([]float64, rows*h))
 	}
 	w.z = make([]float64, rows*m.lay.dout)
+	f32 := c.Precision == PrecisionFloat32
 	for i := range m.lay.madeW {
-		w.lins = append(w.lins, &maskedLinear{name: m.masks[i].Name, t: m.tiles[i], f32: c.Precision == PrecisionFloat32})
+		w.lins = append(w.lins, &maskedLinear{name: m.masks[i].Name, t: m.tiles[i], f32: f32})
+	}
+	if m.lay.direct >= 0 {
+		w.linD = &maskedLinear{name: "mask.direct", t: m.tiles[len(m.tiles)-1], f32: f32}
+	}
+	if c.Alphabet == 2 {
+		w.xin = make([]float64, rows*c.Sites)
 	}
 	return w
 }
@@ -161,11 +174,32 @@ func (m *Model) getWorkspace() *workspace {
 }
 
 // gather computes the first-layer product x·(W0⊙M0) and the direct product
-// x·(D⊙MD) of r snapshots from the rows of the one-hot encoding, flipping
-// every spin when flip is set (q = 2 only).
-func (m *Model) gather(p *prep, xs []uint8, r int, flip bool, a0, dx []float64) {
+// x·(D⊙MD) of r snapshots, flipping every spin when flip is set (q = 2
+// only): for q = 2 by block matrix products, otherwise by adding the weight
+// rows of the one-hot inputs.
+func (m *Model) gather(p *prep, w *workspace, xs []uint8, r int, flip bool, a0, dx []float64) {
 	c := m.Cfg
 	n, h0, dout := c.Sites, c.Hidden[0], m.lay.dout
+	if c.Alphabet == 2 {
+		// For q = 2 the inputs are dense 0/1, so the products are block
+		// matrix products: each weight row is then read once per block
+		// instead of once per snapshot, which keeps the large first-layer
+		// and direct matrices in cache.
+		xin := w.xin[:r*n]
+		for k, v := range xs[:r*n] {
+			xin[k] = 0
+			if (v == 1) != flip {
+				xin[k] = 1
+			}
+		}
+		w.lin(p, 0).forward(a0, xin, r, false)
+		if p.effD != nil {
+			ml := w.linD
+			ml.weff, ml.weff32 = p.effD, p.effD32
+			ml.forward(dx, xin, r, false)
+		}
+		return
+	}
 	clear(a0[:r*h0])
 	if p.effD != nil {
 		clear(dx[:r*dout])
@@ -314,9 +348,9 @@ func (m *Model) scoreBlock(dst []float64, xs []uint8, p *prep, cb [][][]float64,
 }
 
 func (m *Model) gatherAll(p *prep, xs []uint8, r int, w *workspace) {
-	m.gather(p, xs, r, false, w.a0, w.dx)
+	m.gather(p, w, xs, r, false, w.a0, w.dx)
 	if m.Cfg.Symmetric {
-		m.gather(p, xs, r, true, w.a0f, w.dxf)
+		m.gather(p, w, xs, r, true, w.a0f, w.dxf)
 	}
 }
 

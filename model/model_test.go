@@ -125,7 +125,7 @@ func conditionals(m *Model, x []uint8, lam []float64) []float64 {
 	defer m.pool.Put(p)
 	w := m.newWorkspace(1)
 	cb := [][][]float64{m.condBias(lam)}
-	m.gather(p, x, 1, false, w.a0, w.dx)
+	m.gather(p, w, x, 1, false, w.a0, w.dx)
 	m.hidden(p, cb, w, w.a0, 1)
 	m.logits(p, cb, w, w.dx, 1)
 	q := m.Cfg.Alphabet
