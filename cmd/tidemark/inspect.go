@@ -52,6 +52,10 @@ func runInspect(w io.Writer, path string, asJSON bool) error {
 	if err != nil {
 		return fmt.Errorf("%s: cannot open: %w", path, unwrapPathErr(err))
 	}
+	if st, err := f.Stat(); err == nil && st.IsDir() {
+		f.Close()
+		return fmt.Errorf("%s: expected a .npz dataset or a .ckpt checkpoint, found a folder", path)
+	}
 	head := make([]byte, 4)
 	k, _ := io.ReadFull(f, head)
 	f.Close()

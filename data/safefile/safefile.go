@@ -16,12 +16,15 @@ import (
 // ErrExists is returned (wrapped) when the destination exists and force is false.
 var ErrExists = errors.New("already exists (use --force to overwrite)")
 
-// CheckWritable reports an error if path exists and force is false, or if
-// its folder does not exist. Commands call it before long work so that a
-// refusal comes before the work, not after.
+// CheckWritable reports an error if path is a folder, if path exists and
+// force is false, or if its folder does not exist. Commands call it before
+// long work so that a refusal comes before the work, not after.
 func CheckWritable(path string, force bool) error {
 	if path == "" {
 		return fmt.Errorf("output path is empty")
+	}
+	if st, err := os.Stat(path); err == nil && st.IsDir() {
+		return fmt.Errorf("%s: expected an output file, found a folder", path)
 	}
 	if !force {
 		if _, err := os.Lstat(path); err == nil {

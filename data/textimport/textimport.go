@@ -119,6 +119,9 @@ func Read(r io.Reader, name string, opt Options) (*data.Dataset, error) {
 		if lineNo == 1 {
 			line = bytes.TrimPrefix(line, []byte("\xef\xbb\xbf"))
 		}
+		if bytes.IndexByte(line, 0) >= 0 {
+			return nil, fail(0, "expected a text or CSV file, found binary data (a zero byte; a .npz or .ckpt file?)")
+		}
 		line = bytes.TrimSpace(line)
 		if len(line) == 0 || line[0] == '#' {
 			continue
