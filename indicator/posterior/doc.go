@@ -15,7 +15,8 @@
 // computed in log space (sums of log-likelihoods, then log-sum-exp) so that
 // thousands of snapshots do not underflow. Summaries are per axis: the
 // marginal over the other axes, its maximum, mean, standard deviation and a
-// central (equal-tailed) credible interval. The grid limits the resolution:
-// an interval narrower than the grid spacing collapses onto one grid value,
-// and an interval that touches an end of the grid may be cut off by it.
+// central (equal-tailed) credible interval, found by spreading each grid
+// value's mass evenly over its cell (half-way to its neighbours). The grid
+// limits the resolution: a posterior narrower than the grid spacing cannot
+// be resolved, and one that reaches an end of the grid may be cut off by it.
 package posterior

@@ -91,14 +91,16 @@ type Summary struct {
 	// Mean and Std are the posterior mean and standard deviation.
 	Mean float64 `json:"mean"`
 	Std  float64 `json:"std"`
-	// Lo and Hi bound the central credible interval: the grid values at
-	// which the cumulative mass first reaches (1−Mass)/2 and (1+Mass)/2.
+	// Lo and Hi bound the central credible interval: where the cumulative
+	// mass reaches (1−Mass)/2 and (1+Mass)/2, the mass of each grid value
+	// being spread evenly over its cell (from half-way to the previous value
+	// to half-way to the next; the end cells stop at the end values).
 	Lo float64 `json:"lo"`
 	Hi float64 `json:"hi"`
 	// Mass is the credible mass of [Lo, Hi] asked for (e.g. 0.68).
 	Mass float64 `json:"mass"`
-	// AtEdge is true when the interval reaches the first or last grid value:
-	// the posterior may extend beyond the grid.
+	// AtEdge is true when the first or last grid value holds more than
+	// (1−Mass)/2 of the mass, so the interval may be cut off by the grid.
 	AtEdge bool `json:"at_edge"`
 }
 
@@ -140,23 +142,36 @@ func Summarize(values, mass []float64, credible float64) (Summary, error) {
 	}
 	s.Std = math.Sqrt(s.Std)
 	lo, hi := (1-credible)/2, (1+credible)/2
-	cum := 0.0
-	li, hi2 := -1, -1
-	for i, m := range mass {
-		cum += m
-		if li < 0 && cum >= lo*tot {
-			li = i
-		}
-		if hi2 < 0 && cum >= hi*tot {
-			hi2 = i
-		}
-	}
-	if hi2 < 0 {
-		hi2 = len(values) - 1
-	}
-	s.Lo, s.Hi = values[li], values[hi2]
-	s.AtEdge = li == 0 || hi2 == len(values)-1
+	s.Lo, s.Hi = quantileOf(values, mass, lo*tot), quantileOf(values, mass, hi*tot)
+	s.AtEdge = mass[0] > lo*tot || (len(values) > 1 && mass[len(mass)-1] > lo*tot) || len(values) == 1
 	return s, nil
+}
+
+// quantileOf returns where the cumulative mass over the cells of ascending
+// values reaches q.
+func quantileOf(values, mass []float64, q float64) float64 {
+	n := len(values)
+	if n == 1 {
+		return values[0]
+	}
+	edge := func(i int) float64 { // left boundary of cell i; edge(n) is the right end
+		switch {
+		case i <= 0:
+			return values[0]
+		case i >= n:
+			return values[n-1]
+		}
+		return (values[i-1] + values[i]) / 2
+	}
+	cum := 0.0
+	for i, m := range mass {
+		if m > 0 && cum+m >= q {
+			f := (q - cum) / m
+			return edge(i) + math.Max(0, math.Min(1, f))*(edge(i+1)-edge(i))
+		}
+		cum += m
+	}
+	return values[n-1]
 }
 
 // Axes summarises the posterior probs over points along every axis (d =
