@@ -29,6 +29,7 @@ def main():
     a = ap.parse_args()
     rows = [json.loads(l) for l in open(a.raw) if l.strip()]
     groups = collections.defaultdict(list)
+    cpug = collections.defaultdict(list)
     gflops = collections.defaultdict(list)
     gexec = collections.defaultdict(list)
     gemm = {}
@@ -42,11 +43,14 @@ def main():
             continue
         k = (label(r), r["what"], r["n"], r["h"])
         groups[k].append(r["rate"])
+        if "cpu_rate" in r:
+            cpug[k].append(r["cpu_rate"])
         if r["what"] == "train":
             gflops[k].append(r.get("gflops", 0))
             if "gflops_executed" in r:
                 gexec[k].append(r["gflops_executed"])
     med = {k: statistics.median(v) for k, v in groups.items()}
+    cmed = {k: statistics.median(v) for k, v in cpug.items()}
     cpu = ""
     for line in open("/proc/cpuinfo"):
         if line.startswith("model name"):
@@ -87,19 +91,29 @@ def main():
       "default Config.Precision; `float32` runs the masked products in single precision (the peer's "
       "precision) with float64 per-site terms and sums.")
     p()
-    p("## Throughput (per second) and ratio ours/peer")
-    p()
-    p("| N | H | figure | " + " | ".join(ours) + " | peer (torch f32) | " + " | ".join(f"ratio {o}" for o in ours) + " |")
-    p("|" + "---|" * (4 + 2 * len(ours)))
-    for n, h in shapes:
-        for what in ("train", "logprob", "logprobmatrix64"):
-            pv = med.get(("peer", what, n, h))
-            vals = [med.get((o, what, n, h)) for o in ours]
-            cells = [f"{v:,.0f}" if v is not None else "–" for v in vals]
-            ratios = [f"{v / pv:.2f}×" if v is not None and pv else "–" for v in vals]
-            p(f"| {n} | {h} | {what} | " + " | ".join(cells) + f" | {pv:,.0f} | " if pv else f"| {n} | {h} | {what} | " + " | ".join(cells) + " | – | ", end="")
-            p(" | ".join(ratios) + " |")
-    p()
+    def table(title, m, note):
+        p(title)
+        p()
+        if note:
+            p(note)
+            p()
+        p("| N | H | figure | " + " | ".join(ours) + " | peer (torch f32) | " + " | ".join(f"ratio {o}" for o in ours) + " |")
+        p("|" + "---|" * (4 + 2 * len(ours)))
+        for n, h in shapes:
+            for what in ("train", "logprob", "logprobmatrix64"):
+                pv = m.get(("peer", what, n, h))
+                vals = [m.get((o, what, n, h)) for o in ours]
+                cells = [f"{v:,.0f}" if v is not None else "–" for v in vals]
+                ratios = [f"{v / pv:.2f}×" if v is not None and pv else "–" for v in vals]
+                pc = f"{pv:,.0f}" if pv else "–"
+                p(f"| {n} | {h} | {what} | " + " | ".join(cells) + f" | {pc} | " + " | ".join(ratios) + " |")
+        p()
+
+    table("## Throughput (per second of wall time) and ratio ours/peer", med, "")
+    table("## Throughput per second of CPU time (all threads) and ratio ours/peer", cmed,
+          "The same runs counted against the CPU time each process received (user + system, all threads). "
+          "On a machine shared with other jobs this is steadier than wall time, and it charges each side "
+          "for its own spinning or idling threads.")
     p("## GEMM rate and the fraction of it a training step reaches")
     p()
     p("Square 1024³ GEMM (gonum blas64/blas32 in our builds, torch.mm in the peer), GFLOP/s, "

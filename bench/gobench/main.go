@@ -23,6 +23,7 @@ import (
 	"strconv"
 	"strings"
 	"sync"
+	"syscall"
 	"time"
 
 	"gonum.org/v1/gonum/blas"
@@ -40,7 +41,8 @@ type result struct {
 	Rows      int     `json:"rows,omitempty"` // snapshots per LogProbMatrix call
 	H         int     `json:"h,omitempty"`
 	Precision string  `json:"precision,omitempty"`
-	Rate      float64 `json:"rate"` // per second, median
+	Rate      float64 `json:"rate"`               // per second of wall time, median
+	CPURate   float64 `json:"cpu_rate,omitempty"` // per second of process CPU time (all threads), median
 	Unit      string  `json:"unit"`
 	GFlops    float64 `json:"gflops,omitempty"`          // dense-equivalent GFLOP/s of a training step
 	GFlopsRun float64 `json:"gflops_executed,omitempty"` // GFLOP/s actually executed (all-zero mask blocks skipped)
@@ -253,22 +255,33 @@ func (a *adam) step(w []model.Tensor, g [][]float64, lr float64) {
 	}
 }
 
-// measure runs f (which processes work units) reps times after a warm-up
-// and returns the median rate in units per second. It stops early, with at
-// least one repetition, when the budget is spent.
-func measure(f func(), units float64, reps int, budget time.Duration) (float64, int) {
+// cpuSeconds is the CPU time (user and system, all threads) of the process.
+func cpuSeconds() float64 {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+		return math.NaN()
+	}
+	return float64(ru.Utime.Nano()+ru.Stime.Nano()) / 1e9
+}
+
+// measure runs f (which processes units work units) reps times after a
+// warm-up and returns the median rates in units per second of wall time and
+// per second of CPU time. It stops early, after at least one repetition,
+// when the budget is spent.
+func measure(f func(), units float64, reps int, budget time.Duration) (float64, float64, int) {
 	start := time.Now()
 	f() // warm-up
-	var rates []float64
+	var rates, cpu []float64
 	for len(rates) < reps {
-		t := time.Now()
+		t, c := time.Now(), cpuSeconds()
 		f()
 		rates = append(rates, units/time.Since(t).Seconds())
+		cpu = append(cpu, units/(cpuSeconds()-c))
 		if time.Since(start) > budget {
 			break
 		}
 	}
-	return median(rates), len(rates)
+	return median(rates), median(cpu), len(rates)
 }
 
 func measureShape(n, h int, prec string, threads, reps, matRows int, budget time.Duration) []result {
@@ -352,11 +365,11 @@ func measureShape(n, h int, prec string, threads, reps, matRows int, budget time
 		}
 	}
 	var out []result
-	var rate float64
+	var rate, cpu float64
 	var r int
 	if want("train") {
-		rate, r = measure(train, float64(steps*batch), reps, third)
-		out = append(out, result{What: "train", N: n, H: h, Precision: prec, Rate: rate, Unit: "snapshots/s",
+		rate, cpu, r = measure(train, float64(steps*batch), reps, third)
+		out = append(out, result{What: "train", N: n, H: h, Precision: prec, Rate: rate, CPURate: cpu, Unit: "snapshots/s",
 			GFlops: rate / batch * stepFlops(n, h, batch) / 1e9, GFlopsRun: rate / batch * executedFlops(m, batch) / 1e9, Reps: r})
 	}
 
@@ -387,8 +400,8 @@ func measureShape(n, h int, prec string, threads, reps, matRows int, budget time
 		wg.Wait()
 	}
 	if want("logprob") {
-		rate, r = measure(score, nScore, reps, third)
-		out = append(out, result{What: "logprob", N: n, H: h, Precision: prec, Rate: rate, Unit: "log p/s", Reps: r})
+		rate, cpu, r = measure(score, nScore, reps, third)
+		out = append(out, result{What: "logprob", N: n, H: h, Precision: prec, Rate: rate, CPURate: cpu, Unit: "log p/s", Reps: r})
 	}
 
 	// LogProbMatrix: matRows snapshots × 64 λ.
@@ -402,8 +415,8 @@ func measureShape(n, h int, prec string, threads, reps, matRows int, budget time
 		}
 	}
 	if want("logprobmatrix64") {
-		rate, r = measure(mat, float64(matRows*64), reps, third)
-		out = append(out, result{What: "logprobmatrix64", N: n, H: h, Rows: matRows, Precision: prec, Rate: rate, Unit: "log p/s", Reps: r})
+		rate, cpu, r = measure(mat, float64(matRows*64), reps, third)
+		out = append(out, result{What: "logprobmatrix64", N: n, H: h, Rows: matRows, Precision: prec, Rate: rate, CPURate: cpu, Unit: "log p/s", Reps: r})
 	}
 	return out
 }
