@@ -109,3 +109,48 @@ func TestPrecisionValidate(t *testing.T) {
 		}
 	}
 }
+
+// TestFloat32Derivative checks what float32 products do to a central
+// difference in λ with a small step (the indicators differentiate log p in
+// λ this way, with h = 1/100 of the grid spacing): the rounding of the two
+// shifted scores does not cancel, so the derivative picks up an error of
+// about (relative rounding · |log p|)/h. With h = 1e-3 of the parameter range
+// it must stay below 1e-3 of the spread of the derivative over snapshots.
+func TestFloat32Derivative(t *testing.T) {
+	cfg := DefaultConfig(256, 2, 1, []float64{1}, []float64{3})
+	cfg.Hidden = []int{256, 256}
+	m64 := randomModel(t, cfg, 31, 0.3)
+	cfg32 := cfg
+	cfg32.Precision = PrecisionFloat32
+	m32, err := FromWeights(cfg32, m64.Weights)
+	if err != nil {
+		t.Fatal(err)
+	}
+	const n, lam, h = 200, 2.0, 2e-3
+	xs, _ := randomBatch(cfg, n, 32)
+	ls := [][]float64{{lam + h}, {lam - h}}
+	a, err := m64.LogProbMatrix(xs, n, ls, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := m32.LogProbMatrix(xs, n, ls, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var mean, sq, diff float64
+	d64 := make([]float64, n)
+	for i := range d64 {
+		d64[i] = (a[2*i] - a[2*i+1]) / (2 * h)
+		mean += d64[i] / n
+	}
+	for i := range d64 {
+		d32 := (b[2*i] - b[2*i+1]) / (2 * h)
+		sq += (d64[i] - mean) * (d64[i] - mean) / n
+		diff = math.Max(diff, math.Abs(d32-d64[i]))
+	}
+	spread := math.Sqrt(sq)
+	if diff > 1e-3*spread {
+		t.Errorf("∂λ log p: float32 differs from float64 by up to %.3g, spread over snapshots %.3g", diff, spread)
+	}
+	t.Logf("∂λ log p by central difference (h=%g): largest float32 error %.3g, spread over snapshots %.3g", h, diff, spread)
+}
