@@ -1,6 +1,11 @@
 package main
 
-import "github.com/spf13/cobra"
+import (
+	"fmt"
+	"strings"
+
+	"github.com/spf13/cobra"
+)
 
 // simulateCommands lists the constructors of the "simulate" sub-commands;
 // each generator's file adds its own in an init function.
@@ -13,7 +18,21 @@ func init() {
 			Short: "Generate snapshot datasets from reference models (Ising, spin chains)",
 			Example: `  tidemark simulate ising --size 16 --grid "T=1.5:3.5:21" --samples 1000 --seed 1 -o film.npz
   tidemark simulate chain --sites 12 --hamiltonian "-ZZ - h*X" --grid "h=0.2:2:19" --basis random --samples 1000 --seed 1 -o chain.npz`,
-			Args: cobra.NoArgs,
+			Args: cobra.ArbitraryArgs,
+			// Without RunE cobra prints the help and exits 0 for an unknown
+			// simulation; a typo must fail with status 2 instead.
+			RunE: func(cmd *cobra.Command, args []string) error {
+				if len(args) == 0 {
+					return cmd.Help()
+				}
+				var names []string
+				for _, sub := range cmd.Commands() {
+					if !sub.Hidden && sub.Name() != "help" {
+						names = append(names, sub.Name())
+					}
+				}
+				return fmt.Errorf("simulate: expected a model to simulate (%s), found %q", strings.Join(names, ", "), args[0])
+			},
 		}
 		for _, mk := range simulateCommands {
 			c.AddCommand(mk())
