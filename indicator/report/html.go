@@ -278,8 +278,7 @@ func trimFloat(v float64) string { return fmt.Sprintf("%.4g", v) }
 
 // pagePeak is one row of the peak table.
 type pagePeak struct {
-	Curve, What, At, Height string
-	Tested                  bool
+	Curve, What, At, Height, Noise string
 }
 
 // pageFigure is one picture of the page.
@@ -291,6 +290,7 @@ type pageFigure struct {
 type pageData struct {
 	*Page
 	Source, SourceNote string
+	ExactSumsNote      bool
 	Params             string
 	GridPoints         int
 	Scanned            int
@@ -328,7 +328,7 @@ func HTML(res *indicator.Result, sum *Summary, pics map[string][]byte, pg *Page)
 	d := pageData{
 		Page: pg, Source: sum.Source, Params: strings.Join(res.Names, ", "),
 		GridPoints: res.Data.K(), Scanned: res.Layout.K(), Bootstrap: res.Bootstrap, Sources: res.Sources,
-		Notes: res.Notes, Caution: indicator.Caution, Files: sum.Files,
+		Notes: res.Notes, Caution: indicator.Caution, Files: sum.Files, ExactSumsNote: res.ExactSums,
 	}
 	if d.Title == "" {
 		d.Title = "tidemark scan"
@@ -354,10 +354,18 @@ func HTML(res *indicator.Result, sum *Summary, pics map[string][]byte, pg *Page)
 			continue
 		}
 		for _, pk := range c.Peaks {
-			d.Peaks = append(d.Peaks, pagePeak{
-				Curve: c.Name, What: what, At: fmtPoint(res.Names, pk.At, pk.Err),
-				Height: fmt.Sprintf("%.4g ± %.2g", pk.Height, pk.HeightErr), Tested: pk.Tested,
-			})
+			h := fmt.Sprintf("%.4g", pk.Height)
+			if pk.HeightErr > 0 {
+				h += fmt.Sprintf(" ± %.2g", pk.HeightErr)
+			}
+			noise := "not tested (no errors)"
+			switch {
+			case res.ExactSums:
+				noise = "exact, no noise"
+			case pk.Tested:
+				noise = "yes"
+			}
+			d.Peaks = append(d.Peaks, pagePeak{Curve: c.Name, What: what, At: fmtPoint(res.Names, pk.At, pk.Err), Height: h, Noise: noise})
 		}
 	}
 	for _, z := range sum.Zoom {
@@ -477,10 +485,12 @@ Parameters: {{.Params}}; {{.GridPoints}} grid points{{if ne .Scanned .GridPoints
 {{if .Bootstrap}}errors are standard deviations over {{.Bootstrap}} bootstrap resamples{{else}}no bootstrap errors{{end}}{{if gt .Sources 1}}, with the spread of {{.Sources}} models added{{end}}.</p>
 <table>
 <tr><th>curve</th><th>what it measures</th><th>peak at</th><th>height</th><th>above noise</th></tr>
-{{range .Peaks}}<tr><td><code>{{.Curve}}</code></td><td>{{.What}}</td><td class="num">{{.At}}</td><td class="num">{{.Height}}</td><td>{{if .Height}}{{if .Tested}}<span class="good">yes</span>{{else}}not tested{{end}}{{end}}</td></tr>
+{{range .Peaks}}<tr><td><code>{{.Curve}}</code></td><td>{{.What}}</td><td class="num">{{.At}}</td><td class="num">{{.Height}}</td><td>{{if eq .Noise "yes"}}<span class="good">yes</span>{{else}}{{.Noise}}{{end}}</td></tr>
 {{end}}</table>
 {{with .Zoom}}<ul class="notes">{{range .}}<li>{{.}}</li>{{end}}</ul>{{end}}
 
+{{if eq .Source "exact"}}{{if not .Checks}}<h2>Check against exact results</h2>
+<p>The source of this scan is the exact density of the generator recorded in the dataset, so the curves above are themselves the exact reference{{if .ExactSumsNote}} (with exact sums over all states){{end}}. Scan the same dataset with <code>--model</code> to compare a trained model with them.</p>{{end}}{{end}}
 {{if .Checks}}<h2>Check against exact results</h2>
 <table>
 <tr><th>quantity</th><th>estimate</th><th>exact reference</th><th>difference</th><th>source of the reference</th></tr>

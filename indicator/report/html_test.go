@@ -197,3 +197,22 @@ func inked(img image.Image) (float64, int) {
 	total := b.Dx() * b.Dy()
 	return 1 - float64(top)/float64(total), len(count)
 }
+
+// TestReportHTMLExactSource checks that a scan of the exact density says that
+// its curves are the exact reference and that their peaks carry no noise.
+func TestReportHTMLExactSource(t *testing.T) {
+	res, _ := scan2D(t)
+	dir := filepath.Join(t.TempDir(), "scan")
+	if _, err := Write(dir, false, res, Info{Source: "exact"}); err != nil {
+		t.Fatal(err)
+	}
+	b, err := os.ReadFile(filepath.Join(dir, "report.html"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"themselves the exact reference", "exact, no noise", "exact sums over all states"} {
+		if !strings.Contains(string(b), want) {
+			t.Errorf("report.html lacks %q", want)
+		}
+	}
+}
