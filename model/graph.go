@@ -21,6 +21,10 @@ type Graph struct {
 	loss  *G.Node
 	grads []*G.Node
 	back  []*float64 // first element of each weight's backing array
+	// byWeight lists the masked-product operations of each weight; a
+	// weight with exactly one writes its gradient straight into the
+	// caller's slice (no copy).
+	byWeight [][]*maskedLinear
 
 	x, xf, phi, wr []float64 // input backing arrays
 }
@@ -39,7 +43,7 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 	c := m.Cfg
 	l := m.lay
 	B := batch
-	gr = &Graph{m: m, batch: B, g: G.NewGraph()}
+	gr = &Graph{m: m, batch: B, g: G.NewGraph(), byWeight: make([][]*maskedLinear, len(m.Weights))}
 	g := gr.g
 	must := func(n *G.Node, e error) *G.Node {
 		if e != nil {
@@ -71,15 +75,21 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 	// Each pass through the network (two with Symmetric) has its own
 	// operations, because they own their output buffers.
 	f32 := c.Precision == PrecisionFloat32
+	hiddenAct := actRelu
+	if c.Activation == "tanh" {
+		hiddenAct = actTanh
+	}
 	tiles := m.tiles
 	linears := func(pass string) ([]*maskedLinear, *maskedLinear) {
 		lin := make([]*maskedLinear, len(l.madeW))
 		for i, w := range l.madeW {
 			lin[i] = &maskedLinear{name: m.Weights[w].Name + pass, t: tiles[i], needDX: i > 0, f32: f32}
+			gr.byWeight[w] = append(gr.byWeight[w], lin[i])
 		}
 		var linD *maskedLinear
 		if l.direct >= 0 {
 			linD = &maskedLinear{name: m.Weights[l.direct].Name + pass, t: tiles[len(tiles)-1], f32: f32}
+			gr.byWeight[l.direct] = append(gr.byWeight[l.direct], linD)
 		}
 		return lin, linD
 	}
@@ -110,6 +120,7 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 	for i := range l.madeW {
 		v := m.Weights[l.condV[i]]
 		hl := &maskedLinear{name: v.Name, t: denseTiling(v.Shape[0], v.Shape[1]), needDX: len(c.CondHidden) > 0, f32: f32}
+		gr.byWeight[l.condV[i]] = append(gr.byWeight[l.condV[i]], hl)
 		heads[i] = addBias(must(maskedMul(u, wn[l.condV[i]], hl)), wn[l.madeB[i]])
 	}
 	L := len(c.Hidden)
@@ -117,9 +128,9 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 		lin, linD := linears(pass)
 		h := x
 		for i := 0; i < L; i++ {
-			h = act(must(G.Add(must(maskedMul(h, wn[l.madeW[i]], lin[i])), heads[i])))
+			h = must(maskedLayer(h, wn[l.madeW[i]], heads[i], lin[i], hiddenAct))
 		}
-		z := must(G.Add(must(maskedMul(h, wn[l.madeW[L]], lin[L])), heads[L]))
+		z := must(maskedLayer(h, wn[l.madeW[L]], heads[L], lin[L], actNone))
 		if linD != nil {
 			z = must(G.Add(z, must(maskedMul(x, wn[l.direct], linD))))
 		}
@@ -236,6 +247,18 @@ func (gr *Graph) LossGrad(xs []uint8, params []float64, n int, grads [][]float64
 	if err := gr.fill(xs, params, n); err != nil {
 		return 0, err
 	}
+	for i, ops := range gr.byWeight {
+		if len(ops) == 1 {
+			ops[0].dst = grads[i]
+		}
+	}
+	defer func() {
+		for _, ops := range gr.byWeight {
+			for _, ml := range ops {
+				ml.dst = nil
+			}
+		}
+	}()
 	gr.vm.Reset()
 	if err := gr.vm.RunAll(); err != nil {
 		return 0, fmt.Errorf("model: running the training graph: %w", err)
@@ -253,7 +276,9 @@ func (gr *Graph) LossGrad(xs []uint8, params []float64, n int, grads [][]float64
 		if !ok || len(data) != len(grads[i]) {
 			return 0, fmt.Errorf("model: gradient of %q has an unexpected form", gr.m.Weights[i].Name)
 		}
-		copy(grads[i], data)
+		if &data[0] != &grads[i][0] {
+			copy(grads[i], data)
+		}
 	}
 	if gr.m.Cfg.Symmetric {
 		loss += math.Ln2

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"hash"
 	"hash/fnv"
+	"math"
 
 	"github.com/chewxy/hm"
 	G "gorgonia.org/gorgonia"
@@ -108,7 +109,14 @@ type maskedLinear struct {
 	fx32   []float32 // the float32 input of the last forward product
 	y32    []float32
 	g32    []float32    // float32 weight gradient
-	bufs   [3][]float64 // output buffers of forward, dX, dW
+	bufs   [4][]float64 // output buffers of forward, dX, dW, activation gradient
+
+	// fused: the forward operation takes a third input, a bias matrix Hd
+	// [rows, out], and returns act(X·(W⊙M) + Hd), with act one of actNone,
+	// actRelu, actTanh.
+	fused bool
+	act   int
+	dst   []float64 // when set (len in·out), dW is written here instead
 }
 
 func (ml *maskedLinear) buf(i, n int) []float64 {
@@ -292,9 +300,18 @@ func (ml *maskedLinear) gradW(dw, x, dy []float64, b int) {
 	}
 }
 
-// maskedOp is one of the three gorgonia operations of a maskedLinear:
-// kind 0 is Y = X·(W⊙M) with inputs (X, W); kind 1 is dX with inputs
-// (dY, W); kind 2 is dW with inputs (X, dY).
+// The activations a fused forward operation can apply.
+const (
+	actNone = iota
+	actRelu
+	actTanh
+)
+
+// maskedOp is one of the gorgonia operations of a maskedLinear: kind 0 is
+// Y = X·(W⊙M) with inputs (X, W) — or act(X·(W⊙M) + Hd) with inputs
+// (X, W, Hd) when fused; kind 1 is dX with inputs (dY, W); kind 2 is dW
+// with inputs (X, dY); kind 3 is the gradient through the activation,
+// dY = dO ⊙ act'(O), with inputs (dO, O).
 type maskedOp struct {
 	ml   *maskedLinear
 	kind int
@@ -302,13 +319,23 @@ type maskedOp struct {
 
 var matF64 = G.TensorType{Dims: 2, Of: tensor.Float64}
 
-func (op maskedOp) Arity() int { return 2 }
+func (op maskedOp) Arity() int {
+	if op.kind == 0 && op.ml.fused {
+		return 3
+	}
+	return 2
+}
 
-func (op maskedOp) Type() hm.Type { return hm.NewFnType(matF64, matF64, matF64) }
+func (op maskedOp) Type() hm.Type {
+	if op.Arity() == 3 {
+		return hm.NewFnType(matF64, matF64, matF64, matF64)
+	}
+	return hm.NewFnType(matF64, matF64, matF64)
+}
 
 func (op maskedOp) InferShape(in ...G.DimSizer) (tensor.Shape, error) {
-	if len(in) != 2 {
-		return nil, fmt.Errorf("model: %v needs 2 inputs, found %d", op, len(in))
+	if len(in) != op.Arity() {
+		return nil, fmt.Errorf("model: %v needs %d inputs, found %d", op, op.Arity(), len(in))
 	}
 	s0, ok := in[0].(tensor.Shape)
 	if !ok || len(s0) != 2 {
@@ -319,6 +346,8 @@ func (op maskedOp) InferShape(in ...G.DimSizer) (tensor.Shape, error) {
 		return tensor.Shape{s0[0], op.ml.t.out}, nil
 	case 1:
 		return tensor.Shape{s0[0], op.ml.t.in}, nil
+	case 3:
+		return tensor.Shape{s0[0], op.ml.t.out}, nil
 	default:
 		return tensor.Shape{op.ml.t.in, op.ml.t.out}, nil
 	}
@@ -337,8 +366,8 @@ func f64Of(v G.Value) ([]float64, tensor.Shape, error) {
 }
 
 func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
-	if len(inputs) != 2 {
-		return nil, fmt.Errorf("model: %v needs 2 inputs, found %d", op, len(inputs))
+	if len(inputs) != op.Arity() {
+		return nil, fmt.Errorf("model: %v needs %d inputs, found %d", op, op.Arity(), len(inputs))
 	}
 	a, sa, err := f64Of(inputs[0])
 	if err != nil {
@@ -357,7 +386,47 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 	case 0:
 		ml.prepareW(b)
 		res = ml.buf(0, rows*out)
-		ml.forward(res, a, rows, false)
+		if ml.fused {
+			hd, _, err := f64Of(inputs[2])
+			if err != nil {
+				return nil, err
+			}
+			copy(res, hd[:rows*out])
+			ml.forward(res, a, rows, true)
+			switch ml.act {
+			case actRelu:
+				for i, v := range res {
+					if v < 0 {
+						res[i] = 0
+					}
+				}
+			case actTanh:
+				for i, v := range res {
+					res[i] = math.Tanh(v)
+				}
+			}
+		} else {
+			ml.forward(res, a, rows, false)
+		}
+		shape = tensor.Shape{rows, out}
+	case 3:
+		// a = dO, b = O.
+		res = ml.buf(3, rows*out)
+		switch ml.act {
+		case actRelu:
+			for i, o := range b[:rows*out] {
+				res[i] = 0
+				if o > 0 {
+					res[i] = a[i]
+				}
+			}
+		case actTanh:
+			for i, o := range b[:rows*out] {
+				res[i] = a[i] * (1 - o*o)
+			}
+		default:
+			copy(res, a[:rows*out])
+		}
 		shape = tensor.Shape{rows, out}
 	case 1:
 		// W⊙M was prepared by the forward operation of this step, which
@@ -366,7 +435,10 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 		ml.gradX(res, a, rows)
 		shape = tensor.Shape{rows, in}
 	default:
-		res = ml.buf(2, in*out)
+		res = ml.dst
+		if len(res) != in*out {
+			res = ml.buf(2, in*out)
+		}
 		ml.gradW(res, a, b, rows)
 		shape = tensor.Shape{in, out}
 	}
@@ -395,6 +467,9 @@ func (op maskedOp) DiffWRT(int) []bool {
 	if op.kind != 0 {
 		return []bool{false, false}
 	}
+	if op.ml.fused {
+		return []bool{op.ml.needDX, true, true}
+	}
 	return []bool{op.ml.needDX, true}
 }
 
@@ -402,6 +477,13 @@ func (op maskedOp) DiffWRT(int) []bool {
 func (op maskedOp) SymDiff(inputs G.Nodes, output, grad *G.Node) (G.Nodes, error) {
 	if op.kind != 0 {
 		return nil, fmt.Errorf("model: %v is not differentiable", op)
+	}
+	var err error
+	if op.ml.fused && op.ml.act != actNone {
+		// Gradient with respect to the pre-activation.
+		if grad, err = G.ApplyOp(maskedOp{op.ml, 3}, grad, output); err != nil {
+			return nil, err
+		}
 	}
 	dw, err := G.ApplyOp(maskedOp{op.ml, 2}, inputs[0], grad)
 	if err != nil {
@@ -412,6 +494,9 @@ func (op maskedOp) SymDiff(inputs G.Nodes, output, grad *G.Node) (G.Nodes, error
 		if dx, err = G.ApplyOp(maskedOp{op.ml, 1}, grad, inputs[1]); err != nil {
 			return nil, err
 		}
+	}
+	if op.ml.fused {
+		return G.Nodes{dx, dw, grad}, nil
 	}
 	return G.Nodes{dx, dw}, nil
 }
@@ -428,4 +513,11 @@ func denseTiling(in, out int) tiling {
 // maskedMul adds Y = X·(W⊙M) to the graph of X and the weight node W.
 func maskedMul(x, w *G.Node, ml *maskedLinear) (*G.Node, error) {
 	return G.ApplyOp(maskedOp{ml, 0}, x, w)
+}
+
+// maskedLayer adds act(X·(W⊙M) + hd) to the graph, hd a node of shape
+// [rows, out].
+func maskedLayer(x, w, hd *G.Node, ml *maskedLinear, act int) (*G.Node, error) {
+	ml.fused, ml.act = true, act
+	return G.ApplyOp(maskedOp{ml, 0}, x, w, hd)
 }
