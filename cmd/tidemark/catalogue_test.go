@@ -397,6 +397,7 @@ func TestCatalogueOfBadInputs(t *testing.T) {
 				}
 				r := runBin(t, dir, args...)
 				msg := strings.TrimSuffix(r.stderr, "\n")
+				t.Logf("status %d: %s", r.status, msg)
 				if r.status != 2 {
 					t.Errorf("exit status %d, want 2; stderr: %q", r.status, r.stderr)
 				}

@@ -77,6 +77,22 @@ func (c *trainChild) killAndWait() (exited bool, status int) {
 	return true, c.cmd.ProcessState.ExitCode()
 }
 
+// waitForTempFile polls dir until a temporary file not in old appears (a
+// checkpoint write has begun), or until timeout.
+func waitForTempFile(dir string, old []string, timeout time.Duration) bool {
+	pattern := filepath.Join(dir, ".*.tmp-*")
+	for end := time.Now().Add(timeout); time.Now().Before(end); {
+		m, _ := filepath.Glob(pattern)
+		for _, f := range m {
+			if !slices.Contains(old, f) {
+				return true
+			}
+		}
+		time.Sleep(20 * time.Microsecond)
+	}
+	return false
+}
+
 // checkEpochs fails unless ck's metrics list epochs 1..n once each, in
 // order, with n the epoch the optimiser state is at.
 func checkEpochs(t *testing.T, what string, ck *checkpoints.Checkpoint) {
@@ -109,18 +125,23 @@ func epochList(ms []checkpoints.EpochMetrics) []int {
 // documents resume as exact for the same seed and --threads).
 //
 // The kills come in three kinds: "early" (a random moment in the first
-// epoch-length after start, so that often no checkpoint exists yet),
-// "mid-epoch" (part of an epoch after an epoch line), and "write" (0–4 ms
-// after an epoch line, which is printed just before the checkpoint is
-// written). Whether a kill landed in a write is seen from the temporary file
+// half epoch after start, so that a first run leaves no checkpoint),
+// "mid-epoch" (a random part of an epoch after the first epoch line), and
+// "write" (after the first or second epoch line, which is printed just
+// before the checkpoint is written, as soon as the write's temporary file
+// appears). Whether a kill landed in a write is seen from the temporary file
 // it leaves; that is logged, not required, since it depends on timing. A
 // planted stale temporary file checks the clean-up deterministically.
 func TestCrashKilledTrainingResumes(t *testing.T) {
-	const (
-		epochs = 10
-		kills  = 8
-		seed   = 20261201
-	)
+	crashAndResume(t, 10, 3, 20261201)
+}
+
+// crashAndResume trains for epochs epochs and kills the run 1 + 3·each
+// times: first early, then each times of every kind in an order drawn
+// from seed. At least 5 kills must land before the run finishes: a write
+// kill lets the run advance at most two epochs, a mid-epoch kill about one
+// and an early kill none, so it needs each ≥ 2 and epochs > 3·each.
+func crashAndResume(t *testing.T, epochs, each int, seed uint64) {
 	dir := t.TempDir()
 	ds := filepath.Join(dir, "d.npz")
 	mustRunBin(t, dir, "simulate", "ising", "--size", "4", "--grid", "T=1:4:8", "--samples", "400",
@@ -149,12 +170,23 @@ func TestCrashKilledTrainingResumes(t *testing.T) {
 	os.Mkdir(crashDir, 0o755)
 	ck := filepath.Join(crashDir, "m.ckpt")
 	rng := rand.New(rand.NewPCG(seed, 0))
+	// The first kill comes early, so that the first run often leaves no
+	// checkpoint; the others in a seeded random order.
+	var kinds []string
+	for range each {
+		kinds = append(kinds, "early", "mid-epoch", "write")
+	}
+	rng.Shuffle(len(kinds), func(i, j int) { kinds[i], kinds[j] = kinds[j], kinds[i] })
+	kinds = append([]string{"early"}, kinds...)
+	kills := len(kinds)
 	var log []string
 	done := false
 	nKilled, inWrite, lastEpoch := 0, 0, 0
 	for i := 0; i < kills && !done; i++ {
 		args := append([]string{"train", ds, "-o", ck}, settings...)
+		how := "fresh"
 		if _, err := os.Stat(ck); err == nil {
+			how = "resumed"
 			args = []string{"train", ds, "--resume", ck}
 			if i == 3 {
 				// A stale temporary file, as a kill during a write leaves it.
@@ -163,22 +195,19 @@ func TestCrashKilledTrainingResumes(t *testing.T) {
 				}
 			}
 		}
-		kind := []string{"early", "mid-epoch", "write", "write"}[rng.IntN(4)]
-		if i == 0 {
-			kind = "early"
-		}
+		kind := kinds[i]
 		tmpBefore := tempFiles(t, crashDir)
 		c := startTrainChild(t, args...)
 		switch kind {
 		case "early":
-			time.Sleep(time.Duration(rng.Float64() * float64(epochTime)))
+			time.Sleep(time.Duration(rng.Float64() * 0.5 * float64(epochTime)))
 		case "mid-epoch":
-			if c.waitEpochLines(1 + rng.IntN(2)) {
+			if c.waitEpochLines(1) {
 				time.Sleep(time.Duration((0.1 + 0.5*rng.Float64()) * float64(epochTime)))
 			}
 		case "write":
 			if c.waitEpochLines(1 + rng.IntN(2)) {
-				time.Sleep(time.Duration(rng.Float64() * float64(4*time.Millisecond)))
+				waitForTempFile(crashDir, tmpBefore, 100*time.Millisecond)
 			}
 		}
 		exited, status := c.killAndWait()
@@ -210,7 +239,7 @@ func TestCrashKilledTrainingResumes(t *testing.T) {
 			t.Fatalf("after kill %d: checkpoint went back from epoch %d to %d", nKilled, lastEpoch, epochOnDisk)
 		}
 		lastEpoch = epochOnDisk
-		log = append(log, fmt.Sprintf("kill %d (%s): checkpoint at epoch %d%s", nKilled, kind, epochOnDisk, left))
+		log = append(log, fmt.Sprintf("kill %d (%s, %s run): checkpoint at epoch %d%s", nKilled, kind, how, epochOnDisk, left))
 	}
 	t.Logf("epoch ≈ %v; %d kills, %d of them during a checkpoint write:\n  %s", epochTime.Round(time.Millisecond), nKilled, inWrite, strings.Join(log, "\n  "))
 	if nKilled < 5 {
