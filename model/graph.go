@@ -135,9 +135,8 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 			z = must(G.Add(z, must(maskedMul(x, wn[l.direct], linD))))
 		}
 		if c.Alphabet == 2 {
-			// log p = x·z − log(1+e^z) per site (Bernoulli with logit z).
-			t := must(G.Sub(must(G.HadamardProd(x, z)), must(G.Softplus(z))))
-			return must(G.Sum(t, 1))
+			// log p = Σ_s x·z − log(1+e^z) (Bernoulli with logit z).
+			return must(bernoulliLogProb(x, z, "logp"+pass, c.Sites))
 		}
 		// log p = Σ_s (z[s, x_s] − logΣ_v exp z[s, v]). The log-sum-exp is
 		// shifted by the per-site maximum for stability; the shift's

@@ -1,0 +1,140 @@
+package model
+
+import (
+	"fmt"
+	"hash"
+	"hash/fnv"
+	"math"
+
+	"github.com/chewxy/hm"
+	G "gorgonia.org/gorgonia"
+	"gorgonia.org/tensor"
+)
+
+// bernoulli is the state of the gorgonia operations of the q = 2
+// log-likelihood: lp_i = Σ_s x_is·z_is − log(1+e^z_is) of inputs x (0/1)
+// and logits z [rows, N], and its gradient dz_is = g_i·(x_is − σ(z_is)).
+// One hand-written operation replaces the five elementwise gorgonia
+// operations (and their gradients) of the same formula and reuses its
+// buffers; the sums are float64.
+type bernoulli struct {
+	name   string
+	n      int // sites
+	lp, dz []float64
+}
+
+// bernoulliOp is kind 0 (lp from x, z) or kind 1 (dz from x, z, g).
+type bernoulliOp struct {
+	b    *bernoulli
+	kind int
+}
+
+var vecF64 = G.TensorType{Dims: 1, Of: tensor.Float64}
+
+func (op bernoulliOp) Arity() int { return 2 + op.kind }
+
+func (op bernoulliOp) Type() hm.Type {
+	if op.kind == 0 {
+		return hm.NewFnType(matF64, matF64, vecF64)
+	}
+	return hm.NewFnType(matF64, matF64, vecF64, matF64)
+}
+
+func (op bernoulliOp) InferShape(in ...G.DimSizer) (tensor.Shape, error) {
+	if len(in) != op.Arity() {
+		return nil, fmt.Errorf("model: %v needs %d inputs, found %d", op, op.Arity(), len(in))
+	}
+	s0, ok := in[0].(tensor.Shape)
+	if !ok || len(s0) != 2 {
+		return nil, fmt.Errorf("model: %v needs a matrix input, found %v", op, in[0])
+	}
+	if op.kind == 0 {
+		return tensor.Shape{s0[0]}, nil
+	}
+	return tensor.Shape{s0[0], op.b.n}, nil
+}
+
+func (op bernoulliOp) Do(inputs ...G.Value) (G.Value, error) {
+	if len(inputs) != op.Arity() {
+		return nil, fmt.Errorf("model: %v needs %d inputs, found %d", op, op.Arity(), len(inputs))
+	}
+	x, sx, err := f64Of(inputs[0])
+	if err != nil {
+		return nil, err
+	}
+	z, _, err := f64Of(inputs[1])
+	if err != nil {
+		return nil, err
+	}
+	rows, n := sx[0], op.b.n
+	if op.kind == 0 {
+		if cap(op.b.lp) < rows {
+			op.b.lp = make([]float64, rows)
+		}
+		lp := op.b.lp[:rows]
+		for i := range lp {
+			s := 0.0
+			zi, xi := z[i*n:(i+1)*n], x[i*n:(i+1)*n]
+			for k, v := range zi {
+				s += xi[k]*v - softplus(v)
+			}
+			lp[i] = s
+		}
+		return tensor.New(tensor.WithShape(rows), tensor.WithBacking(lp)), nil
+	}
+	g, _, err := f64Of(inputs[2])
+	if err != nil {
+		return nil, err
+	}
+	if cap(op.b.dz) < rows*n {
+		op.b.dz = make([]float64, rows*n)
+	}
+	dz := op.b.dz[:rows*n]
+	for i := 0; i < rows; i++ {
+		gi := g[i]
+		for k := i * n; k < (i+1)*n; k++ {
+			dz[k] = gi * (x[k] - 1/(1+math.Exp(-z[k])))
+		}
+	}
+	return tensor.New(tensor.WithShape(rows, n), tensor.WithBacking(dz)), nil
+}
+
+func (op bernoulliOp) ReturnsPtr() bool     { return false }
+func (op bernoulliOp) CallsExtern() bool    { return false }
+func (op bernoulliOp) OverwritesInput() int { return -1 }
+
+func (op bernoulliOp) WriteHash(h hash.Hash) { fmt.Fprint(h, op.String()) }
+
+func (op bernoulliOp) Hashcode() uint32 {
+	h := fnv.New32a()
+	op.WriteHash(h)
+	return h.Sum32()
+}
+
+func (op bernoulliOp) String() string { return fmt.Sprintf("bernoulli%d(%s)", op.kind, op.b.name) }
+
+// DiffWRT says the log-likelihood is differentiated by the logits only.
+func (op bernoulliOp) DiffWRT(int) []bool {
+	if op.kind != 0 {
+		return []bool{false, false, false}
+	}
+	return []bool{false, true}
+}
+
+// SymDiff returns the gradient node of the logits.
+func (op bernoulliOp) SymDiff(inputs G.Nodes, output, grad *G.Node) (G.Nodes, error) {
+	if op.kind != 0 {
+		return nil, fmt.Errorf("model: %v is not differentiable", op)
+	}
+	dz, err := G.ApplyOp(bernoulliOp{op.b, 1}, inputs[0], inputs[1], grad)
+	if err != nil {
+		return nil, err
+	}
+	return G.Nodes{nil, dz}, nil
+}
+
+// bernoulliLogProb adds the per-snapshot q = 2 log-likelihood of the 0/1
+// inputs x under the logits z to the graph.
+func bernoulliLogProb(x, z *G.Node, name string, n int) (*G.Node, error) {
+	return G.ApplyOp(bernoulliOp{&bernoulli{name: name, n: n}, 0}, x, z)
+}
