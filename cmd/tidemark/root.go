@@ -32,7 +32,24 @@ and uses its exact log-likelihoods in Bayes-optimal phase-transition indicators.
 	for _, mk := range commands {
 		root.AddCommand(mk())
 	}
+	nameArgErrors(root)
 	return root
+}
+
+// nameArgErrors makes a wrong number of arguments name the command, as flag
+// errors do ("tidemark inspect: accepts 1 arg(s), received 2 (see --help)").
+func nameArgErrors(c *cobra.Command) {
+	if check := c.Args; check != nil {
+		c.Args = func(cmd *cobra.Command, args []string) error {
+			if err := check(cmd, args); err != nil {
+				return usageError(cmd, err)
+			}
+			return nil
+		}
+	}
+	for _, sub := range c.Commands() {
+		nameArgErrors(sub)
+	}
 }
 
 // usageError prefixes a flag or argument error with the command's path so the
