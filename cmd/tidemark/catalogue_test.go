@@ -60,8 +60,8 @@ var catalogue = map[string][]badInput{
 		{"text file", []string{"inspect", "@txt"}, "expected a .npz dataset or a .ckpt checkpoint", nil},
 		{"empty file", []string{"inspect", "@empty"}, "expected a .npz dataset or a .ckpt checkpoint", nil},
 		{"single-point grid", []string{"inspect", "@one"}, "at least 2 distinct grid points", nil},
-		{"two files", []string{"inspect", "@ds4", "@ck"}, "accepts 1 arg", nil},
-		{"no file", []string{"inspect"}, "accepts 1 arg", nil},
+		{"two files", []string{"inspect", "@ds4", "@ck"}, "inspect: accepts 1 arg(s), received 2", nil},
+		{"no file", []string{"inspect"}, "inspect: accepts 1 arg(s), received 0", nil},
 		{"unknown flag", []string{"inspect", "@ds4", "--bogus"}, "unknown flag: --bogus", nil},
 	},
 	"simulate ising": {
@@ -123,6 +123,8 @@ var catalogue = map[string][]badInput{
 		{"no data", []string{"check", "@ck"}, "--data", nil},
 		{"3×3 data for a 4×4 model", []string{"check", "@ck", "--data", "@ds3"}, "the model has 16 sites, the dataset 9", nil},
 		{"data with other parameter names", []string{"check", "@ck", "--data", "@dsh"}, `"h"`, nil},
+		{"data with another alphabet", []string{"check", "@ck", "--data", "@imp3"}, "alphabet is 2 values per site, the dataset's 3", nil},
+		{"data on another lattice", []string{"check", "@ck", "--data", "@imp28"}, "lattice is [4 4], the dataset's [2 8]", nil},
 		{"data without an exact reference", []string{"check", "@ck", "--data", "@imp"}, "imported", nil},
 		{"single-point grid", []string{"check", "@ck", "--data", "@one"}, "at least 2 distinct grid points", nil},
 		{"threads not a number", []string{"check", "@ck", "--data", "@ds4", "--threads", "all"}, `invalid argument "all"`, nil},
@@ -135,6 +137,9 @@ var catalogue = map[string][]badInput{
 		{"text file given as data", []string{"score", "@ck", "@txt", "-o", "@out.npz"}, "expected a NumPy .npz", nil},
 		{"3×3 data for a 4×4 model", []string{"score", "@ck", "@ds3", "-o", "@out.npz"}, "the model has 16 sites, the dataset 9", nil},
 		{"data with other parameter names", []string{"score", "@ck", "@dsh", "-o", "@out.npz"}, `"h"`, nil},
+		{"data with one more parameter", []string{"score", "@ck", "@dsth", "-o", "@out.npz"}, `the dataset's ["T" "h"]`, nil},
+		{"data with another alphabet", []string{"score", "@ck", "@imp3", "-o", "@out.npz"}, "alphabet is 2 values per site, the dataset's 3", nil},
+		{"data on another lattice", []string{"score", "@ck", "@imp28", "-o", "@out.npz"}, "lattice is [4 4], the dataset's [2 8]", nil},
 		{"single-point grid", []string{"score", "@ck", "@one", "-o", "@out.npz"}, "at least 2 distinct grid points", nil},
 		{"point with another parameter", []string{"score", "@ck", "@ds4", "--at", "h=1", "-o", "@out.npz"}, `found "h"`, nil},
 		{"point without a value", []string{"score", "@ck", "@ds4", "--at", "T=", "-o", "@out.npz"}, "expected a finite number", nil},
@@ -147,7 +152,7 @@ var catalogue = map[string][]badInput{
 		{"dataset given as checkpoint", []string{"export", "@ds4", "-o", "@out.npz"}, "not a tidemark checkpoint", nil},
 		{"text file given as checkpoint", []string{"export", "@txt", "-o", "@out.npz"}, "not a tidemark checkpoint", nil},
 		{"folder given as checkpoint", []string{"export", "@dir", "-o", "@out.npz"}, "is a directory", nil},
-		{"two checkpoints", []string{"export", "@ck", "@ck", "-o", "@out.npz"}, "accepts 1 arg", nil},
+		{"two checkpoints", []string{"export", "@ck", "@ck", "-o", "@out.npz"}, "export: accepts 1 arg(s), received 2", nil},
 		{"unknown flag", []string{"export", "@ck", "--bogus", "-o", "@out.npz"}, "unknown flag: --bogus", nil},
 		{"output exists", []string{"export", "@ck", "-o", "@out.npz"}, "already exists", map[string]string{"out.npz": "earlier"}},
 		{"output is a folder", []string{"export", "@ck", "-o", "@out", "--force"}, "found a folder", map[string]string{"out/": ""}},
@@ -162,6 +167,8 @@ var catalogue = map[string][]badInput{
 		{"missing model", []string{"scan", "--data", "@ds4", "--model", "@none", "-o", "@out"}, "no such file", nil},
 		{"3×3 data for a 4×4 model", []string{"scan", "--data", "@ds3", "--model", "@ck", "-o", "@out"}, "the model has 16 sites, the dataset 9", nil},
 		{"data with other parameter names", []string{"scan", "--data", "@dsh", "--model", "@ck", "-o", "@out"}, `"h"`, nil},
+		{"data with another alphabet", []string{"scan", "--data", "@imp3", "--model", "@ck", "-o", "@out"}, "alphabet is 2 values per site, the dataset's 3", nil},
+		{"data on another lattice", []string{"scan", "--data", "@imp28", "--model", "@ck", "-o", "@out"}, "lattice is [4 4], the dataset's [2 8]", nil},
 		{"exact source for imported data", []string{"scan", "--data", "@imp", "--exact", "-o", "@out"}, "no exact reference", nil},
 		{"single-point grid", []string{"scan", "--data", "@one", "--exact", "-o", "@out"}, "at least 2 distinct grid points", nil},
 		{"unknown indicator", []string{"scan", "--data", "@ds4", "--exact", "--indicators", "entropy", "-o", "@out"}, "entropy", nil},
@@ -193,7 +200,7 @@ var catalogue = map[string][]badInput{
 func catalogueFixtures(t *testing.T, dir string) map[string]string {
 	t.Helper()
 	f := map[string]string{}
-	for _, name := range []string{"ds4", "ds3", "dsh", "imp", "q3", "one", "ck", "txt", "empty", "csv", "csv1", "dir", "none"} {
+	for _, name := range []string{"ds4", "ds3", "dsh", "dsth", "imp", "imp3", "imp28", "q3", "one", "ck", "txt", "empty", "csv", "csv1", "dir", "none"} {
 		ext := ".npz"
 		switch name {
 		case "ck":
@@ -213,6 +220,7 @@ func catalogueFixtures(t *testing.T, dir string) map[string]string {
 	sim(f["ds4"], "--size", "4", "--grid", "T=1:4:5")
 	sim(f["ds3"], "--size", "3", "--grid", "T=1:4:5")
 	sim(f["dsh"], "--size", "4", "--temperature", "2", "--grid", "h=-1:1:5")
+	sim(f["dsth"], "--size", "4", "--grid", "T=1:4:3,h=0;0.5")
 	mustRunBin(t, dir, "train", f["ds4"], "-o", f["ck"], "--epochs", "2", "--hidden", "16", "--cond-hidden", "8", "--batch", "32", "--quiet")
 
 	write := func(path, s string) {
@@ -228,21 +236,27 @@ func catalogueFixtures(t *testing.T, dir string) map[string]string {
 	if err := os.Mkdir(f["dir"], 0o755); err != nil {
 		t.Fatal(err)
 	}
-	// Imported data of 16 sites with the checkpoint's parameter T: it fits
-	// the model, but has no exact reference.
-	var rows strings.Builder
-	for k, T := range []string{"1", "4"} {
-		for s := range 3 {
-			rows.WriteString(T)
-			for i := range 16 {
-				fmt.Fprintf(&rows, ",%d", (i+s+k)%2)
+	// Imported data of 16 sites with the checkpoint's parameter T: imp fits
+	// the model but has no exact reference; imp3 has three site values,
+	// imp28 another lattice shape.
+	imp := func(out string, q int, lattice string) {
+		var rows strings.Builder
+		for k, T := range []string{"1", "4"} {
+			for s := range 3 {
+				rows.WriteString(T)
+				for i := range 16 {
+					fmt.Fprintf(&rows, ",%d", (i+s+k)%q)
+				}
+				rows.WriteString("\n")
 			}
-			rows.WriteString("\n")
 		}
+		csv16 := out + ".csv"
+		write(csv16, rows.String())
+		mustRunBin(t, dir, "import", csv16, "--params", "T", "--lattice", lattice, "-o", out)
 	}
-	csv16 := filepath.Join(dir, "imp.csv")
-	write(csv16, rows.String())
-	mustRunBin(t, dir, "import", csv16, "--params", "T", "--lattice", "4x4", "-o", f["imp"])
+	imp(f["imp"], 2, "4x4")
+	imp(f["imp3"], 3, "4x4")
+	imp(f["imp28"], 2, "2x8")
 	write(filepath.Join(dir, "q3.csv"), "1,0,1,2,0\n1,1,1,0,0\n2,0,0,1,2\n2,1,1,1,1\n")
 	mustRunBin(t, dir, "import", filepath.Join(dir, "q3.csv"), "--params", "T", "-o", f["q3"])
 
