@@ -188,11 +188,12 @@ func crashAndResume(t *testing.T, epochs, each int, seed uint64) {
 		if _, err := os.Stat(ck); err == nil {
 			how = "resumed"
 			args = []string{"train", ds, "--resume", ck}
-			if i == 3 {
-				// A stale temporary file, as a kill during a write leaves it.
-				if err := os.WriteFile(filepath.Join(crashDir, ".m.ckpt.tmp-123456"), []byte("half a checkpoint"), 0o600); err != nil {
-					t.Fatal(err)
-				}
+		}
+		if i == 3 {
+			// A stale temporary file, as a kill during a write leaves it;
+			// a later write of m.ckpt has to remove it.
+			if err := os.WriteFile(filepath.Join(crashDir, ".m.ckpt.tmp-123456"), []byte("half a checkpoint"), 0o600); err != nil {
+				t.Fatal(err)
 			}
 		}
 		kind := kinds[i]
