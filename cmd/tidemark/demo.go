@@ -340,8 +340,10 @@ func demo(w io.Writer, o *demoOptions) (*demoOutcome, error) {
 		Title: "tidemark demo: an easy-axis magnetic monolayer",
 		Lead: fmt.Sprintf("Snapshots of the 2-D Ising model on a %d×%d periodic lattice at %d temperatures were simulated, "+
 			"a conditioned autoregressive model was trained on them and the Bayes-optimal indicators were computed from its likelihoods. "+
-			"The %s peak puts the transition at T = %.4f ± %.2g; the exact heat-capacity maximum of this lattice is at T = %.4f (%+.1f%%).",
-			L, L, o.points, name, out.T, out.Err, out.Kaufman, 100*rel),
+			"The %s peak puts the transition at T = %.4f ± %.2g; the exact heat-capacity maximum of this lattice is at T = %.4f (%+.1f%%), "+
+			"the maximum of its exact Fisher information at T = %.4f, and Onsager's T_c of the infinite lattice is %.4f. "+
+			"The ± is the bootstrap error of this one model; models trained with other seeds spread further.",
+			L, L, o.points, name, out.T, out.Err, out.Kaufman, 100*rel, out.KaufmanF, onsagerTc),
 		Dataset: report.DatasetSummary(demoData, ds),
 		Models:  []report.ModelInfo{report.ModelSummary(demoModel, ck)},
 		Checks:  checks,
@@ -371,6 +373,7 @@ func demo(w io.Writer, o *demoOptions) (*demoOutcome, error) {
 	p("exact for this %d×%d lattice: heat-capacity maximum T = %.4f (Kaufman, Phys. Rev. 76, 1232 (1949)); difference %+.2f%%\n", L, L, out.Kaufman, 100*rel)
 	p("      and Fisher-information maximum T = %.4f (N·C/T², what the indicators measure; it lies below the heat-capacity maximum); difference %+.2f%%\n", out.KaufmanF, 100*relF)
 	p("infinite lattice: T_c = 2/ln(1+√2) = %.4f (Onsager, Phys. Rev. 65, 117 (1944)); difference %+.2f%% (a finite lattice's peaks lie above T_c)\n", onsagerTc, 100*relC)
+	p("(the ± is the bootstrap error of this one model; it leaves out the spread between models trained with other --seed values, which scan --model a.ckpt --model b.ckpt includes)\n")
 	p("report: %s (dataset %s, model %s, scan %s/)\n", out.Page, filepath.Join(o.out, demoData), filepath.Join(o.out, demoModel), filepath.Join(o.out, demoScan))
 	return out, nil
 }

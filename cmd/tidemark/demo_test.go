@@ -12,11 +12,15 @@ import (
 )
 
 // smallDemo is a smaller variant of the built-in scenario for tests: a 10×10
-// lattice, fewer snapshots, epochs and resamples.
+// lattice, 10 temperatures from 1.8 to 3.0, fewer snapshots, epochs and
+// resamples. Measured with seeds 1 to 4 it put the lbc peak at T = 2.274 to
+// 2.292; with 300–400 snapshots and 12–15 epochs per run the spread between
+// seeds was ±0.1 (under-trained models), which is why it is not smaller.
 func smallDemo(out string) demoOptions {
 	o := defaultDemo()
 	o.out, o.quiet, o.threads = out, true, 2
-	o.size, o.points, o.samples, o.epochs = 10, 12, 400, 15
+	o.size, o.points, o.samples, o.epochs = 10, 10, 500, 25
+	o.tLo, o.tHi = 1.8, 3.0
 	o.modelSamples, o.bootstrap = 200, 40
 	return o
 }
