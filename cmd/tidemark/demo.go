@@ -366,8 +366,17 @@ func demo(w io.Writer, o *demoOptions) (*demoOutcome, error) {
 	done = true
 	out.Page = filepath.Join(o.out, demoPage)
 
-	if err := printScan(w, filepath.Join(o.out, demoScan), res, sum); err != nil {
-		return nil, err
+	p("peaks (scan in %s, %d grid points):\n", filepath.Join(o.out, demoScan), sum.Grid.Points)
+	for _, c := range res.Curves {
+		if len(c.Peaks) == 0 {
+			p("  %-14s no peak above the noise\n", c.Name)
+		}
+		for _, pk := range c.Peaks {
+			p("  %-14s peak at %s, height %.4g ± %.2g\n", c.Name, peakString(res.Names, pk), pk.Height, pk.HeightErr)
+		}
+	}
+	for _, n := range res.Notes {
+		p("note: %s\n", n)
 	}
 	p("\ntransition: T = %.4f ± %.2g, from the %s peak (%s)\n", out.T, out.Err, name, why)
 	p("exact for this %d×%d lattice: heat-capacity maximum T = %.4f (Kaufman, Phys. Rev. 76, 1232 (1949)); difference %+.2f%%\n", L, L, out.Kaufman, 100*rel)
@@ -375,6 +384,7 @@ func demo(w io.Writer, o *demoOptions) (*demoOutcome, error) {
 	p("infinite lattice: T_c = 2/ln(1+√2) = %.4f (Onsager, Phys. Rev. 65, 117 (1944)); difference %+.2f%% (a finite lattice's peaks lie above T_c)\n", onsagerTc, 100*relC)
 	p("(the ± is the bootstrap error of this one model; it leaves out the spread between models trained with other --seed values, which scan --model a.ckpt --model b.ckpt includes)\n")
 	p("report: %s (dataset %s, model %s, scan %s/)\n", out.Page, filepath.Join(o.out, demoData), filepath.Join(o.out, demoModel), filepath.Join(o.out, demoScan))
+	p("caution: %s\n", indicator.Caution)
 	return out, nil
 }
 
