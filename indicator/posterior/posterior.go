@@ -102,6 +102,10 @@ type Summary struct {
 	// AtEdge is true when the first or last grid value holds more than
 	// (1−Mass)/2 of the mass, so the interval may be cut off by the grid.
 	AtEdge bool `json:"at_edge"`
+	// GridLimited is true when one grid value holds at least Mass of the
+	// posterior: the interval then reflects the grid spacing, not the data,
+	// and a finer grid is needed to resolve it.
+	GridLimited bool `json:"grid_limited"`
 }
 
 // Summarize summarises the posterior mass over ascending values (a
@@ -136,6 +140,7 @@ func Summarize(values, mass []float64, credible float64) (Summary, error) {
 		}
 		s.Mean += m * values[i]
 	}
+	s.GridLimited = best >= credible*tot
 	for i, m := range mass {
 		d := values[i] - s.Mean
 		s.Std += m * d * d

@@ -125,6 +125,18 @@ func TestNormalizeUnderflowAndErrors(t *testing.T) {
 	}
 }
 
+// TestGridLimited checks that a posterior held by one grid value is marked
+// as limited by the grid.
+func TestGridLimited(t *testing.T) {
+	s, err := Summarize([]float64{1, 2, 3}, []float64{0.1, 0.85, 0.05}, 0.68)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !s.GridLimited || s.MAP != 2 || !(s.Lo > 1.5 && s.Hi < 2.5) {
+		t.Errorf("summary %+v, want a grid-limited interval inside the cell of 2", s)
+	}
+}
+
 func TestSummarizeRefusesBadInput(t *testing.T) {
 	for _, tc := range []struct {
 		name     string
@@ -144,7 +156,8 @@ func TestSummarizeRefusesBadInput(t *testing.T) {
 }
 
 func TestMarginalAndEdge(t *testing.T) {
-	// A 2×3 product grid; the mass sits at the edge of axis 0.
+	// A 2×3 product grid; the mass sits at the edge of axis 0, 0.8 of it on
+	// one value (limited by the grid).
 	pts := [][]float64{{1, 10}, {1, 20}, {1, 30}, {2, 10}, {2, 20}, {2, 30}}
 	probs := []float64{0.5, 0.2, 0.1, 0.1, 0.05, 0.05}
 	v, m := Marginal(pts, 1, probs)
@@ -158,7 +171,7 @@ func TestMarginalAndEdge(t *testing.T) {
 	// Axis 1 has masses 0.6, 0.25, 0.15 on the cells [10, 15], [15, 25],
 	// [25, 30]: the 16% point lies 0.16/0.6 into the first cell, the 84%
 	// point 0.24/0.25 into the second.
-	if s[0].MAP != 1 || !s[0].AtEdge || math.Abs(s[1].Lo-(10+5*0.16/0.6)) > 1e-12 || math.Abs(s[1].Hi-(15+10*0.24/0.25)) > 1e-12 {
+	if s[0].MAP != 1 || !s[0].AtEdge || !s[0].GridLimited || s[1].GridLimited || math.Abs(s[1].Lo-(10+5*0.16/0.6)) > 1e-12 || math.Abs(s[1].Hi-(15+10*0.24/0.25)) > 1e-12 {
 		t.Errorf("summaries %+v", s)
 	}
 }
