@@ -251,14 +251,19 @@ func printGroups(w io.Writer, names []string, pr *posteriorResult) {
 			what = "labelled " + data.FormatPoint(names, g.Label)
 		}
 		parts := make([]string, len(names))
-		edge := false
+		var notes []string
 		for a, s := range g.Axes {
 			parts[a] = fmt.Sprintf("%s: maximum %.5g, 68%% interval [%.5g, %.5g], mean %.5g ± %.2g", names[a], s.MAP, s.Lo, s.Hi, s.Mean, s.Std)
-			edge = edge || s.AtEdge
+			if s.AtEdge {
+				notes = append(notes, names[a]+" reaches the end of the grid: the posterior may extend beyond it")
+			}
+			if s.GridLimited {
+				notes = append(notes, names[a]+" sits on one grid value: narrower than the grid spacing, use a finer --grid to resolve it")
+			}
 		}
 		note := ""
-		if edge {
-			note = " (interval reaches the end of the grid: the posterior may extend beyond it)"
+		if len(notes) > 0 {
+			note = " (" + strings.Join(notes, "; ") + ")"
 		}
 		fmt.Fprintf(w, "%s, %d snapshots: %s%s\n", what, len(g.Rows), strings.Join(parts, "; "), note)
 	}
@@ -294,15 +299,15 @@ func writePosteriorCSV(w io.Writer, names []string, ds *data.Dataset, pr *poster
 }
 
 // writeGroupsCSV writes one row per group: its label (empty when
-// unlabelled), its size, and per axis the maximum, the 68% interval, the mean
-// and the standard deviation of its posterior.
+// unlabelled), its size, and per axis the maximum, the 68% interval, the mean,
+// the standard deviation of its posterior and whether one grid value holds it.
 func writeGroupsCSV(w io.Writer, names []string, pr *posteriorResult) error {
 	bw := bufio.NewWriter(w)
 	g := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
 	head := append([]string{}, names...)
 	head = append(head, "count")
 	for _, n := range names {
-		head = append(head, "map_"+n, "lo68_"+n, "hi68_"+n, "mean_"+n, "std_"+n)
+		head = append(head, "map_"+n, "lo68_"+n, "hi68_"+n, "mean_"+n, "std_"+n, "grid_limited_"+n)
 	}
 	bw.WriteString(strings.Join(head, ",") + "\n")
 	for _, gr := range pr.Groups {
@@ -316,7 +321,7 @@ func writeGroupsCSV(w io.Writer, names []string, pr *posteriorResult) error {
 		}
 		rec = append(rec, strconv.Itoa(len(gr.Rows)))
 		for _, s := range gr.Axes {
-			rec = append(rec, g(s.MAP), g(s.Lo), g(s.Hi), g(s.Mean), g(s.Std))
+			rec = append(rec, g(s.MAP), g(s.Lo), g(s.Hi), g(s.Mean), g(s.Std), strconv.FormatBool(s.GridLimited))
 		}
 		bw.WriteString(strings.Join(rec, ",") + "\n")
 	}
