@@ -149,6 +149,9 @@ func curvePlot(c *indicator.Curve, xname string) (*plot.Plot, error) {
 	}
 	p.Legend.Top = true
 	p.Add(plotter.NewGrid())
+	// Leave room above the data for the legend (three lines) so it does not
+	// cover the curve or its error band.
+	p.Y.Max += 0.3 * (p.Y.Max - p.Y.Min)
 	return p, nil
 }
 
