@@ -133,7 +133,8 @@ type workspace struct {
 func (w *workspace) lin(p *prep, l int) *maskedLinear {
 	ml := w.lins[l]
 	ml.weff = p.eff[l]
-	if p.eff32 != nil {
+	ml.f32 = p.eff32 != nil
+	if ml.f32 {
 		ml.weff32 = p.eff32[l]
 	}
 	return ml
@@ -195,7 +196,7 @@ func (m *Model) gather(p *prep, w *workspace, xs []uint8, r int, flip bool, a0, 
 		w.lin(p, 0).forward(a0, xin, r, false)
 		if p.effD != nil {
 			ml := w.linD
-			ml.weff, ml.weff32 = p.effD, p.effD32
+			ml.weff, ml.weff32, ml.f32 = p.effD, p.effD32, p.effD32 != nil
 			ml.forward(dx, xin, r, false)
 		}
 		return
