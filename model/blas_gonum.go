@@ -1,7 +1,8 @@
-//go:build !openblas
+//go:build !openblas || !cgo
 
 package model
 
 // BLAS names the BLAS implementation the build uses, for reports: gonum's
-// pure-Go BLAS unless the program was built with the tag openblas.
+// pure-Go BLAS unless the program was built with the tag openblas and cgo
+// enabled (without cgo the tag has no effect).
 const BLAS = "gonum (pure Go)"

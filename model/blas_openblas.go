@@ -1,4 +1,4 @@
-//go:build openblas
+//go:build openblas && cgo
 
 package model
 
