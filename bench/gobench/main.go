@@ -236,22 +236,19 @@ func newAdam(w []model.Tensor) *adam {
 	return a
 }
 
-func (a *adam) step(w []model.Tensor, g [][]float64, lr float64) {
-	a.t++
-	step := lr / (1 - math.Pow(0.9, float64(a.t)))
-	ic2 := 1 / (1 - math.Pow(0.999, float64(a.t)))
-	for i, t := range w {
-		m, v, gi := a.m[i], a.v[i], g[i]
-		d := t.Data[:len(m)]
-		v = v[:len(m)]
-		gi = gi[:len(m)]
-		for k := range m {
-			g := gi[k]
-			mk := 0.9*m[k] + 0.1*g
-			vk := 0.999*v[k] + 0.001*g*g
-			m[k], v[k] = mk, vk
-			d[k] -= step * mk / (math.Sqrt(vk*ic2) + 1e-8)
-		}
+// update applies one Adam step (step number a.t+1) to entries lo..hi of
+// weight i.
+func (a *adam) update(i int, d, g []float64, lo, hi int, lr float64) {
+	t := float64(a.t + 1)
+	step := lr / (1 - math.Pow(0.9, t))
+	ic2 := 1 / (1 - math.Pow(0.999, t))
+	m, v := a.m[i], a.v[i]
+	for k := lo; k < hi; k++ {
+		gk := g[k]
+		mk := 0.9*m[k] + 0.1*gk
+		vk := 0.999*v[k] + 0.001*gk*gk
+		m[k], v[k] = mk, vk
+		d[k] -= step * mk / (math.Sqrt(vk*ic2) + 1e-8)
 	}
 }
 
@@ -340,22 +337,33 @@ func measureShape(n, h int, prec string, threads, reps, matRows int, budget time
 			}()
 		}
 		wg.Wait()
-		// sum = Σ_c (n_c/batch)·grads[c], in one pass (sum aliases grads[0]).
-		w0 := float64(min(chunk, batch)) / batch
-		for i := range sum {
-			s0 := sum[i]
-			for k := range s0 {
-				s0[k] *= w0
-			}
-			for c := 1; c < len(grads); c++ {
-				wc := float64(min((c+1)*chunk, batch)-c*chunk) / batch
-				gc := grads[c][i]
-				for k := range s0 {
-					s0[k] += wc * gc[k]
+		// sum = Σ_c (n_c/batch)·grads[c] (sum aliases grads[0]), then Adam;
+		// both over the tensors split across the threads.
+		var wg2 sync.WaitGroup
+		for t := range threads {
+			wg2.Add(1)
+			go func() {
+				defer wg2.Done()
+				w0 := float64(min(chunk, batch)) / batch
+				for i := range sum {
+					s0 := sum[i]
+					lo, hi := t*len(s0)/threads, (t+1)*len(s0)/threads
+					for k := lo; k < hi; k++ {
+						s0[k] *= w0
+					}
+					for c := 1; c < len(grads); c++ {
+						wc := float64(min((c+1)*chunk, batch)-c*chunk) / batch
+						gc := grads[c][i]
+						for k := lo; k < hi; k++ {
+							s0[k] += wc * gc[k]
+						}
+					}
+					opt.update(i, m.Weights[i].Data, s0, lo, hi, 1e-4)
 				}
-			}
+			}()
 		}
-		opt.step(m.Weights, sum, 1e-4)
+		wg2.Wait()
+		opt.t++
 	}
 	steps := 2
 	third := budget / 3
