@@ -316,5 +316,20 @@ func Decode(b []byte, name string) (*Checkpoint, error) {
 	if len(c.Best) == 0 || len(c.Last) != len(c.Best) {
 		return nil, fail(ErrHeader, "expected sections %q and %q with the same tensors, found %d and %d tensors", SectionBest, SectionLast, len(c.Best), len(c.Last))
 	}
+	if (c.AdamM == nil) != (c.AdamV == nil) {
+		return nil, fail(ErrHeader, "expected both sections %q and %q or neither, found %d and %d tensors", SectionAdamM, SectionAdamV, len(c.AdamM), len(c.AdamV))
+	}
+	// Every section holds the tensors of "best", so that the checkpoint can
+	// be written again (found by FuzzDecode).
+	for _, sec := range c.sections() {
+		if len(sec.ts) != len(c.Best) {
+			return nil, fail(ErrHeader, "section %q has %d tensors, expected %d as in %q", sec.name, len(sec.ts), len(c.Best), SectionBest)
+		}
+		for i, t := range sec.ts {
+			if t.Name != c.Best[i].Name || !slices.Equal(t.Shape, c.Best[i].Shape) {
+				return nil, fail(ErrHeader, "section %q tensor %d is %s%v, expected %s%v as in %q", sec.name, i, t.Name, t.Shape, c.Best[i].Name, c.Best[i].Shape, SectionBest)
+			}
+		}
+	}
 	return c, nil
 }
