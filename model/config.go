@@ -15,18 +15,23 @@ import (
 // range the model sees features it also saw inside it: probabilities there
 // stay exactly normalised but are extrapolations, not predictions.
 type Config struct {
-	Sites      int       `json:"sites"`       // N
-	Alphabet   int       `json:"alphabet"`    // q ≥ 2
-	ParamDim   int       `json:"param_dim"`   // d ≥ 1
-	Hidden     []int     `json:"hidden"`      // masked hidden widths, e.g. [256, 256]
-	CondHidden []int     `json:"cond_hidden"` // conditioning net hidden widths, e.g. [64]; may be empty
-	Fourier    int       `json:"fourier"`     // F: features t, sin(πft), cos(πft), f=1..F
-	Activation string    `json:"activation"`  // "relu" or "tanh"
-	Direct     bool      `json:"direct"`      // direct masked input→output connection
-	Order      []int     `json:"order"`       // Order[i] = site at autoregressive position i (a permutation of 0..N-1)
-	Symmetric  bool      `json:"symmetric"`   // q=2 only: log p_sym(x) = log((p(x)+p(1-x))/2)
-	ParamLo    []float64 `json:"param_lo"`    // per-axis range of the training data, mapped to [-1, 1]
-	ParamHi    []float64 `json:"param_hi"`
+	Sites      int    `json:"sites"`       // N
+	Alphabet   int    `json:"alphabet"`    // q ≥ 2
+	ParamDim   int    `json:"param_dim"`   // d ≥ 1
+	Hidden     []int  `json:"hidden"`      // masked hidden widths, e.g. [256, 256]
+	CondHidden []int  `json:"cond_hidden"` // conditioning net hidden widths, e.g. [64]; may be empty
+	Fourier    int    `json:"fourier"`     // F: features t, sin(πft), cos(πft), f=1..F
+	Activation string `json:"activation"`  // "relu" or "tanh", for the masked hidden layers
+	// CondActivation is the conditioning net's activation; "" means the
+	// same as Activation. tanh (the default) makes the biases smooth in λ,
+	// so derivatives in λ (fisher) and neighbour differences (local) carry
+	// no kinks from relu's piecewise-linear pieces.
+	CondActivation string    `json:"cond_activation,omitempty"`
+	Direct         bool      `json:"direct"`    // direct masked input→output connection
+	Order          []int     `json:"order"`     // Order[i] = site at autoregressive position i (a permutation of 0..N-1)
+	Symmetric      bool      `json:"symmetric"` // q=2 only: log p_sym(x) = log((p(x)+p(1-x))/2)
+	ParamLo        []float64 `json:"param_lo"`  // per-axis range of the training data, mapped to [-1, 1]
+	ParamHi        []float64 `json:"param_hi"`
 	// Precision is the arithmetic of the masked matrix products, where
 	// nearly all the work is: "" or "float64" (the default), or "float32"
 	// (products rounded to single precision, about 1e-6 relative; every
@@ -82,10 +87,13 @@ func DefaultConfig(n, q, d int, lo, hi []float64) Config {
 		CondHidden: []int{64},
 		Fourier:    2,
 		Activation: "relu",
-		Direct:     true,
-		Order:      RowMajorOrder(n),
-		ParamLo:    append([]float64(nil), lo...),
-		ParamHi:    append([]float64(nil), hi...),
+		// A 4×4 Ising scan with relu here gave several spurious local and
+		// fisher peaks between grid points; tanh gave one.
+		CondActivation: "tanh",
+		Direct:         true,
+		Order:          RowMajorOrder(n),
+		ParamLo:        append([]float64(nil), lo...),
+		ParamHi:        append([]float64(nil), hi...),
 	}
 }
 
@@ -145,11 +153,22 @@ func (c Config) Validate() error {
 			return fmt.Errorf("model config: cond_hidden[%d] must be ≥ 1, found %d", i, h)
 		}
 	}
+	if c.Fourier > 1<<10 || c.ParamDim > 1<<10 {
+		return fmt.Errorf("model config: expected at most 1024 parameters and Fourier frequencies, found %d and %d", c.ParamDim, c.Fourier)
+	}
+	// A bound on the weight count keeps a damaged or hostile configuration
+	// from exhausting memory before anything else is checked.
+	if n := c.approxParams(); n > MaxParams {
+		return fmt.Errorf("model config: expected at most %d weights (%d GB), found about %.3g", int64(MaxParams), int64(MaxParams)*8>>30, n)
+	}
 	if c.Fourier < 0 {
 		return fmt.Errorf("model config: fourier must be ≥ 0, found %d", c.Fourier)
 	}
 	if actIndex(c.Activation) < 0 {
 		return fmt.Errorf("model config: activation must be one of %v, found %q", Activations, c.Activation)
+	}
+	if c.CondActivation != "" && actIndex(c.CondActivation) < 0 {
+		return fmt.Errorf("model config: cond_activation must be one of %v, found %q", Activations, c.CondActivation)
 	}
 	if len(c.Order) != c.Sites {
 		return fmt.Errorf("model config: order must have %d entries (one per site), found %d", c.Sites, len(c.Order))
@@ -229,4 +248,43 @@ func (c Config) features(dst, lambda []float64) {
 			k += 2
 		}
 	}
+}
+
+// condAct returns the conditioning net's activation name.
+func (c Config) condAct() string {
+	if c.CondActivation == "" {
+		return c.Activation
+	}
+	return c.CondActivation
+}
+
+// MaxParams bounds a model's weight count (2 GB of float64 weights).
+const MaxParams = 1 << 28
+
+// approxParams estimates the weight count in float64, so that absurd widths
+// cannot overflow the estimate.
+func (c Config) approxParams() float64 {
+	in := float64(c.Sites) * float64(c.Alphabet)
+	out := in
+	if c.Alphabet == 2 {
+		in, out = float64(c.Sites), float64(c.Sites)
+	}
+	feat := float64(c.ParamDim) * float64(1+2*c.Fourier)
+	var n float64
+	prev := feat
+	for _, h := range c.CondHidden {
+		n += (prev + 1) * float64(h)
+		prev = float64(h)
+	}
+	cond := prev
+	prev = in
+	for _, h := range c.Hidden {
+		n += (prev+1)*float64(h) + cond*float64(h)
+		prev = float64(h)
+	}
+	n += (prev+1)*out + cond*out
+	if c.Direct {
+		n += in * out
+	}
+	return n
 }

@@ -38,6 +38,8 @@ func TestValidate(t *testing.T) {
 		{"hiddenwidth", func(c *Config) { c.Hidden = []int{4, 0} }, "hidden[1]"},
 		{"cond", func(c *Config) { c.CondHidden = []int{-1} }, "cond_hidden"},
 		{"activation", func(c *Config) { c.Activation = "swish" }, "activation"},
+		{"cond activation", func(c *Config) { c.CondActivation = "swish" }, "cond_activation"},
+		{"too large", func(c *Config) { c.Hidden = []int{1 << 30, 1 << 30} }, "at most"},
 		{"orderlen", func(c *Config) { c.Order = []int{0, 1} }, "order"},
 		{"orderperm", func(c *Config) { c.Order = []int{0, 1, 1, 3} }, "permutation"},
 		{"symmetric", func(c *Config) { c.Alphabet = 3; c.Symmetric = true }, "symmetric"},

@@ -93,8 +93,8 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 		}
 		return lin, linD
 	}
-	act := func(n *G.Node) *G.Node {
-		if c.Activation == "tanh" {
+	condAct := func(n *G.Node) *G.Node {
+		if c.condAct() == "tanh" {
 			return must(G.Tanh(n))
 		}
 		return must(G.Rectify(n))
@@ -112,7 +112,7 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 	// Conditioning net and its additive bias for every masked layer.
 	u := Phi
 	for i, w := range l.condW {
-		u = act(addBias(must(G.Mul(u, wn[w])), wn[l.condB[i]]))
+		u = condAct(addBias(must(G.Mul(u, wn[w])), wn[l.condB[i]]))
 	}
 	// The conditioning heads u·V are dense products; they go through the
 	// same hand-written operation (in the model's precision).

@@ -110,6 +110,13 @@ func TestGradientFiniteDifference(t *testing.T) {
 			c.Order = SnakeOrder(2, 2)
 		})},
 		{"q2-relu", smallConfig(5, 2, 1, func(c *Config) { c.Hidden = []int{6, 5}; c.CondHidden = []int{3} })},
+		{"q2-relu-cond-relu", smallConfig(5, 2, 1, func(c *Config) { c.Hidden = []int{6, 5}; c.CondHidden = []int{3}; c.CondActivation = "relu" })},
+		{"q2-tanh-cond-relu", smallConfig(5, 2, 1, func(c *Config) {
+			c.Activation = "tanh"
+			c.CondActivation = "relu"
+			c.Hidden = []int{6, 5}
+			c.CondHidden = []int{3}
+		})},
 		{"q4-relu-direct", smallConfig(3, 4, 1, func(c *Config) { c.Direct = true; c.Hidden = []int{5}; c.CondHidden = []int{3} })},
 	}
 	for _, tc := range tests {

@@ -74,7 +74,7 @@ func (m *Model) condBias(lambda []float64) [][]float64 {
 	l := m.lay
 	u := make([]float64, c.featDim())
 	c.features(u, lambda)
-	act := actFunc(c.Activation)
+	act := actFunc(c.condAct())
 	for i, w := range l.condW {
 		W := m.Weights[w]
 		out := append([]float64(nil), m.Weights[l.condB[i]].Data...)

@@ -220,8 +220,12 @@ func New(cfg Config, seed uint64) (*Model, error) {
 			t.Data[k] = sd * rng.NormFloat64()
 		}
 	}
+	condGain := 1.0
+	if cfg.condAct() == "relu" {
+		condGain = 2
+	}
 	for _, w := range l.condW {
-		fill(w, hiddenGain)
+		fill(w, condGain)
 	}
 	last := len(l.madeW) - 1
 	for i, w := range l.madeW {

@@ -25,8 +25,11 @@ type Arch struct {
 	CondHidden []int
 	// Fourier is the number of Fourier frequencies of the λ features.
 	Fourier int
-	// Activation is "relu" or "tanh".
+	// Activation is "relu" or "tanh", for the masked hidden layers.
 	Activation string
+	// CondActivation is the conditioning net's activation; "" means the
+	// model's default (tanh, smooth in λ).
+	CondActivation string
 	// Direct adds the masked direct input→output connection.
 	Direct bool
 	// Order is "rowmajor" or "snake" (boustrophedon on a 2-D lattice).
@@ -77,7 +80,7 @@ type Settings struct {
 // tuning.
 func DefaultSettings() Settings {
 	return Settings{
-		Arch:            Arch{Fourier: 1, Activation: "relu", Direct: true, Order: "rowmajor"},
+		Arch:            Arch{Fourier: 1, Activation: "relu", CondActivation: "tanh", Direct: true, Order: "rowmajor"},
 		Epochs:          60,
 		Batch:           128,
 		LR:              2e-3,
@@ -277,6 +280,9 @@ func (r *run) start(fp string) error {
 	cfg.Fourier = a.Fourier
 	if a.Activation != "" {
 		cfg.Activation = a.Activation
+	}
+	if a.CondActivation != "" {
+		cfg.CondActivation = a.CondActivation
 	}
 	cfg.Direct = a.Direct
 	cfg.Symmetric = a.Symmetric

@@ -26,6 +26,7 @@ type trainOptions struct {
 	hidden, condHidden string
 	fourier            int
 	activation         string
+	condActivation     string
 	direct             bool
 	order              string
 	symmetric          bool
@@ -88,7 +89,8 @@ thread counts change results only by floating-point summation order.`,
 	f.StringVar(&o.hidden, "hidden", "", "masked hidden layer widths in units, comma-separated (default: two layers of the smallest multiple of 32 ≥ sites, 32 to 256)")
 	f.StringVar(&o.condHidden, "cond-hidden", "64", `hidden widths of the conditioning net in units, comma-separated, or "none"`)
 	f.IntVar(&o.fourier, "fourier", d.Arch.Fourier, "Fourier frequencies of the normalised parameters fed to the conditioning net")
-	f.StringVar(&o.activation, "activation", d.Arch.Activation, "activation function: relu or tanh")
+	f.StringVar(&o.activation, "activation", d.Arch.Activation, "activation of the masked hidden layers: relu or tanh")
+	f.StringVar(&o.condActivation, "cond-activation", d.Arch.CondActivation, "activation of the conditioning net: tanh (smooth in the parameters) or relu")
 	f.BoolVar(&o.direct, "direct", d.Arch.Direct, "add the masked direct input→output connection")
 	f.StringVar(&o.order, "order", d.Arch.Order, "autoregressive site order: rowmajor or snake (boustrophedon, 2-D lattices)")
 	f.BoolVar(&o.symmetric, "symmetric", false, "make the model invariant under flipping every spin (alphabet 2 only)")
@@ -151,6 +153,7 @@ func (o *trainOptions) settings() (train.Settings, error) {
 	}
 	st.Arch.Fourier = o.fourier
 	st.Arch.Activation = o.activation
+	st.Arch.CondActivation = o.condActivation
 	st.Arch.Direct = o.direct
 	st.Arch.Order = o.order
 	st.Arch.Symmetric = o.symmetric
@@ -190,7 +193,7 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 		if fl.Changed("threads") {
 			res.Threads = threadsOrDefault(o.threads)
 		}
-		for _, name := range []string{"hidden", "cond-hidden", "fourier", "activation", "direct", "order", "symmetric", "batch", "lr", "min-lr", "seed", "val-frac", "schedule", "weight-decay", "clip", "holdout"} {
+		for _, name := range []string{"hidden", "cond-hidden", "fourier", "activation", "cond-activation", "direct", "order", "symmetric", "batch", "lr", "min-lr", "seed", "val-frac", "schedule", "weight-decay", "clip", "holdout"} {
 			if fl.Changed(name) {
 				return fmt.Errorf("--%s: cannot be changed when resuming; the run keeps the settings saved in %s (only --epochs, --patience and --threads may change)", name, o.resume)
 			}
