@@ -10,6 +10,7 @@ import (
 
 	"tidemark/checkpoints"
 	"tidemark/data"
+	"tidemark/model"
 )
 
 func init() { inspectHooks = append(inspectHooks, inspectCheckpoint) }
@@ -45,6 +46,7 @@ type archReport struct {
 	CondHidden []int     `json:"cond_hidden"`
 	Fourier    int       `json:"fourier"`
 	Activation string    `json:"activation"`
+	CondAct    string    `json:"cond_activation"`
 	Direct     bool      `json:"direct"`
 	Order      string    `json:"order"`
 	Symmetric  bool      `json:"symmetric"`
@@ -77,7 +79,7 @@ func inspectCheckpoint(path string, asJSON bool, w io.Writer) (bool, error) {
 	c := h.Model
 	r := checkpointReport{
 		Kind: "checkpoint", File: path, FileBytes: st.Size(), Software: h.Software, Created: h.Created,
-		Architecture: archReport{Hidden: c.Hidden, CondHidden: c.CondHidden, Fourier: c.Fourier, Activation: c.Activation,
+		Architecture: archReport{Hidden: c.Hidden, CondHidden: c.CondHidden, Fourier: c.Fourier, Activation: c.Activation, CondAct: condActivation(c),
 			Direct: c.Direct, Order: h.Training.OrderName, Symmetric: c.Symmetric, ParamLo: c.ParamLo, ParamHi: c.ParamHi},
 		Parameters: ck.NumParams(), Sites: c.Sites, Alphabet: c.Alphabet, Lattice: h.Lattice, ParamNames: h.ParamNames,
 		Dataset: h.Dataset, HeldOut: h.HeldOut, HoldoutSpec: h.HoldoutSpec,
@@ -101,8 +103,8 @@ func inspectCheckpoint(path string, asJSON bool, w io.Writer) (bool, error) {
 	if len(a.CondHidden) > 0 {
 		cond = intsString(a.CondHidden, ",")
 	}
-	fmt.Fprintf(tw, "architecture\tMADE, hidden %s, %s; conditioning net %s with %d Fourier frequencies; direct %v; order %s; symmetric %v\n",
-		intsString(a.Hidden, ","), a.Activation, cond, a.Fourier, a.Direct, a.Order, a.Symmetric)
+	fmt.Fprintf(tw, "architecture\tMADE, hidden %s, %s; conditioning net %s, %s, with %d Fourier frequencies; direct %v; order %s; symmetric %v\n",
+		intsString(a.Hidden, ","), a.Activation, cond, a.CondAct, a.Fourier, a.Direct, a.Order, a.Symmetric)
 	fmt.Fprintf(tw, "parameters\t%d trainable values\n", r.Parameters)
 	fmt.Fprintf(tw, "sites\t%d (lattice %s), alphabet %d\n", r.Sites, intsString(r.Lattice, "×"), r.Alphabet)
 	for i, name := range r.ParamNames {
@@ -158,4 +160,13 @@ func intsString(v []int, sep string) string {
 		s[i] = fmt.Sprint(x)
 	}
 	return strings.Join(s, sep)
+}
+
+// condActivation is the conditioning net's activation ("" in a configuration
+// means the same as the hidden layers').
+func condActivation(c model.Config) string {
+	if c.CondActivation == "" {
+		return c.Activation
+	}
+	return c.CondActivation
 }
