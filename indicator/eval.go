@@ -67,14 +67,19 @@ func ExactWeights(mx *Matrix) ([][]int, [][]float64) {
 
 // BootstrapWeights returns the weights of bootstrap replicate b: the slots
 // of each point are resampled with replacement (n_k draws among n_k slots),
-// and a slot drawn c times weighs c/n_k. The stream of point k depends only
-// on (seed, b, k).
+// and a slot drawn c times weighs c/n_k. Every point uses the same stream,
+// which depends only on (seed, b): points with equal n_k resample the same
+// slot numbers (a paired bootstrap). Samples drawn with common random
+// numbers (slot i at every point from the same uniforms) stay paired in each
+// replicate, as they are in the estimate; independent samples (data at
+// different points) are unaffected, since each point's resample is still a
+// resample of its own independent set.
 func BootstrapWeights(idx [][]int, seed uint64, b int) [][]float64 {
 	w := make([][]float64, len(idx))
 	for k, ix := range idx {
 		n := len(ix)
 		w[k] = make([]float64, n)
-		rng := rand.New(rand.NewPCG(seed^(0x9e3779b97f4a7c15*uint64(b+1)), uint64(k)))
+		rng := rand.New(rand.NewPCG(seed^(0x9e3779b97f4a7c15*uint64(b+1)), 0))
 		for j := 0; j < n; j++ {
 			w[k][rng.IntN(n)] += 1 / float64(n)
 		}

@@ -455,7 +455,11 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 			}
 			n := cfg.ModelSamples
 			buf := make([]uint8, n*N)
-			rng := rand.New(rand.NewPCG(cfg.Seed, uint64(pass)<<32|uint64(k)))
+			// Common random numbers: every point draws from the same stream,
+			// so that ancestral samples at neighbouring λ are coupled and the
+			// curves are not roughened by independent sampling noise at each
+			// point (the paired bootstrap in BootstrapWeights matches this).
+			rng := rand.New(rand.NewPCG(cfg.Seed, uint64(pass)<<32))
 			if err := sampler.Sample(buf, n, pts[k], rng); err != nil {
 				return nil, nil, fmt.Errorf("scan: drawing samples at %s: %w", data.FormatPoint(lo.Names, pts[k]), err)
 			}
@@ -482,7 +486,7 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 		dxs = make([]uint8, K*n*N)
 		evD = &EvalSet{Idx: make([][]int, K)}
 		for k := 0; k < K; k++ {
-			rng := rand.New(rand.NewPCG(cfg.Seed, uint64(pass)<<32|uint64(k)))
+			rng := rand.New(rand.NewPCG(cfg.Seed, uint64(pass)<<32|1<<31)) // common random numbers, as above
 			if err := sampler.Sample(dxs[k*n*N:(k+1)*n*N], n, pts[k], rng); err != nil {
 				return nil, nil, fmt.Errorf("scan: drawing samples at %s: %w", data.FormatPoint(lo.Names, pts[k]), err)
 			}
