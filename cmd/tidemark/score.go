@@ -1,10 +1,7 @@
 package main
 
 import (
-	"archive/zip"
 	"bufio"
-	"encoding/binary"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
@@ -14,7 +11,6 @@ import (
 	"strconv"
 	"strings"
 	"sync"
-	"time"
 
 	"github.com/spf13/cobra"
 
@@ -28,30 +24,59 @@ import (
 func init() { commands = append(commands, newScoreCmd) }
 
 type scoreOptions struct {
-	out     string
-	at      string
-	last    bool
-	threads int
-	force   bool
-	quiet   bool
+	out       string
+	at        string
+	last      bool
+	posterior bool
+	grid      string
+	seed      uint64
+	threads   int
+	force     bool
+	quiet     bool
 }
 
 func newScoreCmd() *cobra.Command {
 	var o scoreOptions
 	c := &cobra.Command{
 		Use:   "score MODEL.ckpt DATA.npz -o SCORES.npz|SCORES.csv",
-		Short: "Write the model's log-likelihood of every snapshot of a dataset",
+		Short: "Score every snapshot of a dataset with the model, or infer the parameters it came from",
 		Long: `score writes log p(x|λ) in nats (natural log) of every snapshot of DATA under the
 model, each at its own parameters λ, or with --at at one given λ for all of them
-(then DATA may be unlabelled). The output format follows the extension: .npz
-holds the arrays "logp" (M) and "params" (M × d, the λ used); .csv has a header
-line and one row per snapshot: index, the parameters, logp.
+(then DATA may be unlabelled). For each point λ it prints the number of
+snapshots, their mean negative log-likelihood (NLL, nats per snapshot), its
+standard deviation and standard error, and the mean in bits per site.
+
+Snapshots are flagged when their NLL lies outside the 0.1%–99.9% range of the
+NLLs of 500 snapshots the model draws itself at that λ (stream (--seed, point
+index)): such a snapshot is unlike anything the model expects there (the
+checkpoint keeps no per-snapshot validation scores, so the model's own samples
+are the reference). With a few thousand snapshots a handful of flags is
+expected by chance (0.2% of them).
+
+The output format follows the extension: .npz holds the arrays "logp" (M),
+"params" (M × d, the λ used), "bits_per_site" (M), "flagged" (M, 0/1) and the
+per-point table (point_params, point_count, point_mean_nll, point_std_nll,
+point_sem_nll, point_ref_lo, point_ref_hi, point_flagged); .csv has a header
+line and one row per snapshot (index, the parameters, logp), and the per-point
+table goes to SCORES.points.csv beside it.
+
+--posterior --grid "T=1.5:3.5:81" asks instead which parameters the snapshots
+came from: with a uniform prior over the grid points, the posterior of every
+snapshot, and of every group of snapshots that share a label (or of the whole
+file when DATA is unlabelled), is the product of their likelihoods normalised
+over the grid. For each it reports the grid value of largest posterior and a
+central (equal-tailed) 68% credible interval per axis, limited by the grid
+spacing. Groups are printed; .npz holds grid, log_posterior (M × K), map, lo68,
+hi68 (M × d) and the group_* arrays; .csv holds one row per snapshot (index,
+label, map_, lo68_, hi68_ per axis) and the groups go to SCORES.groups.csv.
 
 DATA must match the model: the same number of sites, alphabet, lattice and
 parameter names. Scoring at a λ outside the range the model was trained on
-(printed by "tidemark inspect MODEL.ckpt") extrapolates and may mislead.`,
+(printed by "tidemark inspect MODEL.ckpt") extrapolates and may mislead; so
+does a posterior grid that reaches beyond it.`,
 		Example: `  tidemark score film.ckpt film.npz -o scores.npz
-  tidemark score film.ckpt film.npz --at "T=2.5" -o at25.csv`,
+  tidemark score film.ckpt film.npz --at "T=2.5" -o at25.csv
+  tidemark score film.ckpt old-images.npz --posterior --grid "T=1.5:3.5:81" -o which-T.csv`,
 		Args: cobra.ExactArgs(2),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return runScore(cmd, args[0], args[1], &o)
@@ -61,6 +86,9 @@ parameter names. Scoring at a λ outside the range the model was trained on
 	f.StringVarP(&o.out, "output", "o", "", "output file: .npz (arrays logp, params) or .csv")
 	f.StringVar(&o.at, "at", "", `score every snapshot at this parameter point, e.g. "T=2.5" or "T=2.3,h=0.1"`)
 	f.BoolVar(&o.last, "last", false, "use the weights of the last epoch instead of the best")
+	f.BoolVar(&o.posterior, "posterior", false, "infer the parameters of each snapshot and each label group: posterior over the points of --grid")
+	f.StringVar(&o.grid, "grid", "", `parameter grid of --posterior, e.g. "T=1.5:3.5:81" (the model's parameter names)`)
+	f.Uint64Var(&o.seed, "seed", 1, "seed of the model's reference samples behind the outlier flags")
 	f.IntVar(&o.threads, "threads", 0, "goroutines (0: number of CPUs); results do not depend on it")
 	f.BoolVar(&o.force, "force", false, "overwrite the output file if it exists")
 	f.BoolVar(&o.quiet, "quiet", false, "draw no progress bar")
@@ -105,6 +133,21 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 	if err := checkOutput(o.out, o.force); err != nil {
 		return err
 	}
+	if ext == ".csv" {
+		side := sidecar(o.out, "points")
+		if o.posterior {
+			side = sidecar(o.out, "groups")
+		}
+		if err := checkOutput(side, o.force); err != nil {
+			return err
+		}
+	}
+	if o.posterior && o.at != "" {
+		return errors.New("score: --posterior and --at exclude each other (--posterior scores every snapshot at every point of --grid)")
+	}
+	if !o.posterior && o.grid != "" {
+		return errors.New("score: --grid is the grid of --posterior; without --posterior every snapshot is scored at its own λ or at --at")
+	}
 	ck, err := checkpoints.Load(ckPath)
 	if err != nil {
 		return err
@@ -116,13 +159,20 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 			return err
 		}
 	}
-	ds, err := data.ReadWith(dataPath, data.ReadOptions{Unlabelled: at != nil})
+	var grid [][]float64
+	if o.posterior {
+		if grid, err = parsePosteriorGrid(o.grid, names); err != nil {
+			return err
+		}
+	}
+	ds, err := data.ReadWith(dataPath, data.ReadOptions{Unlabelled: at != nil || o.posterior})
 	if err != nil {
 		return err
 	}
 	chk := ds
 	if ds.D == 0 {
-		// Unlabelled data scored at --at: check everything but the names.
+		// Unlabelled data scored at --at or for --posterior: check everything
+		// but the names.
 		c := *ds
 		c.Meta.ParamNames = names
 		chk = &c
@@ -140,6 +190,9 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 	if err != nil {
 		return fmt.Errorf("%s: %w", ckPath, err)
 	}
+	if o.posterior {
+		return runPosterior(cmd, m, ds, grid, names, ckPath, dataPath, ext, o)
+	}
 	bar := progress.New(ds.M, "score", o.quiet)
 	logp, params, err := scoreDataset(m, ds, at, threadsOrDefault(o.threads), bar.Func())
 	bar.Done()
@@ -147,10 +200,34 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 		return fmt.Errorf("score: %w", err)
 	}
 	d := len(names)
+	npts := 1
+	if at == nil {
+		npts = data.NewGrid(ds).K()
+	}
+	pbar := progress.New(npts, "reference", o.quiet)
+	pts, flags, err := scoreStats(m, logp, params, d, o.seed, pbar.Func())
+	pbar.Done()
+	if err != nil {
+		return fmt.Errorf("score: %w", err)
+	}
+	bps := make([]float64, len(logp))
+	for i, v := range logp {
+		bps[i] = -v / float64(ds.N) / math.Ln2
+	}
 	if ext == ".csv" {
 		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return writeScoresCSV(w, names, logp, params) })
+		if err == nil {
+			err = safefile.Write(sidecar(o.out, "points"), o.force, func(w io.Writer) error { return writePointsCSV(w, names, pts, ds.N) })
+		}
 	} else {
-		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return writeScoresNPZ(w, logp, params, d, names, ckPath, dataPath) })
+		err = safefile.Write(o.out, o.force, func(w io.Writer) error {
+			arrays := []npzArray{
+				f64Array("logp", logp, len(logp)), f64Array("params", params, len(logp), d),
+				f64Array("bits_per_site", bps, len(logp)), {"flagged", "|u1", []int{len(flags)}, flags},
+			}
+			arrays = append(arrays, pointArrays(pts, d)...)
+			return writeNPZ(w, arrays, map[string]any{"param_names": names, "checkpoint": ckPath, "data": dataPath, "units": "nats", "software_version": version})
+		})
 	}
 	if err != nil {
 		return err
@@ -160,7 +237,94 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 		mean += v
 	}
 	mean /= float64(len(logp))
-	fmt.Fprintf(cmd.OutOrStdout(), "wrote %s: log p of %d snapshots, mean %.4f nats (%.5f bits per site)\n", o.out, len(logp), mean, -mean/float64(ds.N)/math.Ln2)
+	w := cmd.OutOrStdout()
+	printScoreStats(w, names, pts, ds.N)
+	nflag := 0
+	for _, f := range flags {
+		nflag += int(f)
+	}
+	fmt.Fprintf(w, "wrote %s: log p of %d snapshots, mean %.4f nats (%.5f bits per site); %d flagged\n", o.out, len(logp), mean, -mean/float64(ds.N)/math.Ln2, nflag)
+	if ext == ".csv" {
+		fmt.Fprintf(w, "wrote %s: the per-point table\n", sidecar(o.out, "points"))
+	}
+	return nil
+}
+
+// sidecar returns the name of a second output file beside out:
+// "scores.csv" → "scores.<what>.csv".
+func sidecar(out, what string) string {
+	ext := filepath.Ext(out)
+	return strings.TrimSuffix(out, ext) + "." + what + ext
+}
+
+// parsePosteriorGrid parses --grid for --posterior: the model's parameter
+// names, each once, in any order; the points are returned in the model's
+// order of parameters.
+func parsePosteriorGrid(s string, names []string) ([][]float64, error) {
+	if s == "" {
+		return nil, fmt.Errorf(`--posterior: expected --grid with the model's parameters %q, e.g. "%s=1.5:3.5:81", found none`, names, names[0])
+	}
+	spec, err := data.ParseGridSpec(s)
+	if err != nil {
+		return nil, fmt.Errorf("--grid: %w", err)
+	}
+	gn := spec.Names()
+	if len(gn) != len(names) {
+		return nil, fmt.Errorf("--grid %q: expected the model's parameters %q, found %q", s, names, gn)
+	}
+	perm := make([]int, len(names))
+	for i, n := range names {
+		j := slices.Index(gn, n)
+		if j < 0 {
+			return nil, fmt.Errorf("--grid %q: expected the model's parameters %q, found %q", s, names, gn)
+		}
+		perm[i] = j
+	}
+	var out [][]float64
+	for _, p := range spec.Points() {
+		q := make([]float64, len(names))
+		for i := range names {
+			q[i] = p[perm[i]]
+		}
+		out = append(out, q)
+	}
+	if len(out) < 2 {
+		return nil, fmt.Errorf("--grid %q: expected at least 2 points, found %d", s, len(out))
+	}
+	return out, nil
+}
+
+// runPosterior is score --posterior.
+func runPosterior(cmd *cobra.Command, m *model.Model, ds *data.Dataset, grid [][]float64, names []string, ckPath, dataPath, ext string, o *scoreOptions) error {
+	bar := progress.New(ds.M, "posterior", o.quiet)
+	pr, err := scorePosteriors(m, ds, grid, threadsOrDefault(o.threads), bar.Func())
+	bar.Done()
+	if err != nil {
+		return fmt.Errorf("score --posterior: %w", err)
+	}
+	d := len(names)
+	if ext == ".csv" {
+		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return writePosteriorCSV(w, names, ds, pr) })
+		if err == nil {
+			err = safefile.Write(sidecar(o.out, "groups"), o.force, func(w io.Writer) error { return writeGroupsCSV(w, names, pr) })
+		}
+	} else {
+		err = safefile.Write(o.out, o.force, func(w io.Writer) error {
+			return writeNPZ(w, posteriorArrays(pr, ds.M, d), map[string]any{
+				"param_names": names, "checkpoint": ckPath, "data": dataPath, "prior": "uniform over the grid points",
+				"grid": o.grid, "credible_mass": scoreCredible, "interval": "central (equal-tailed)", "units": "nats", "software_version": version,
+			})
+		})
+	}
+	if err != nil {
+		return err
+	}
+	w := cmd.OutOrStdout()
+	printGroups(w, names, pr)
+	fmt.Fprintf(w, "wrote %s: posteriors of %d snapshots over %d grid points\n", o.out, ds.M, len(grid))
+	if ext == ".csv" {
+		fmt.Fprintf(w, "wrote %s: the groups\n", sidecar(o.out, "groups"))
+	}
 	return nil
 }
 
@@ -247,40 +411,4 @@ func writeScoresCSV(w io.Writer, names []string, logp, params []float64) error {
 		bw.WriteByte('\n')
 	}
 	return bw.Flush()
-}
-
-func writeScoresNPZ(w io.Writer, logp, params []float64, d int, names []string, ckPath, dataPath string) error {
-	meta, err := json.Marshal(map[string]any{"param_names": names, "checkpoint": ckPath, "data": dataPath, "units": "nats", "software_version": version})
-	if err != nil {
-		return err
-	}
-	zw := zip.NewWriter(w)
-	put := func(name, descr string, shape []int, body []byte) error {
-		f, err := zw.CreateHeader(&zip.FileHeader{Name: name + ".npy", Method: zip.Deflate, Modified: time.Now()})
-		if err != nil {
-			return err
-		}
-		if _, err := f.Write(exportNPYHeader(descr, shape)); err != nil {
-			return err
-		}
-		_, err = f.Write(body)
-		return err
-	}
-	f64 := func(v []float64) []byte {
-		b := make([]byte, 0, 8*len(v))
-		for _, x := range v {
-			b = binary.LittleEndian.AppendUint64(b, math.Float64bits(x))
-		}
-		return b
-	}
-	if err := put("logp", "<f8", []int{len(logp)}, f64(logp)); err != nil {
-		return err
-	}
-	if err := put("params", "<f8", []int{len(logp), d}, f64(params)); err != nil {
-		return err
-	}
-	if err := put("meta", "|u1", []int{len(meta)}, meta); err != nil {
-		return err
-	}
-	return zw.Close()
 }
