@@ -303,7 +303,10 @@ func demo(w io.Writer, o *demoOptions) (*demoOutcome, error) {
 	out := &demoOutcome{Indicator: name, T: pk.At[0], Err: pk.Err[0]}
 	why := "learning by confusion weighs the whole grid in every cut, so local misfits of the model move its peak least"
 	if name != indicator.LBC {
-		why = "lbc has no peak above the noise; this is the peak with the smallest position error"
+		why = "lbc has no peak above the noise; this is the next global indicator with one"
+		if name != indicator.PBM && name != indicator.SL {
+			why = "lbc, pbm and sl have no peak above the noise; this is the peak with the smallest position error"
+		}
 	}
 	out.Kaufman, _ = ising.KaufmanPeak(L, L, 1, 1, o.tLo, o.tHi)
 	out.KaufmanF = fisherPeak(L, o.tLo, o.tHi)
@@ -389,18 +392,21 @@ func demo(w io.Writer, o *demoOptions) (*demoOutcome, error) {
 }
 
 // bestPeak returns the indicator whose peak gives the demo's estimate, and
-// that peak: lbc when it has a peak above the noise, otherwise the curve
-// whose highest peak has the smallest position error. lbc is preferred
+// that peak: lbc when it has a peak above the noise, else pbm, else sl (the
+// other indicators that weigh the whole grid), else the curve whose highest
+// peak has the smallest position error. lbc is preferred
 // because every cut weighs the snapshots of the whole grid, so a misfit of
 // the model at a few points moves its single peak least, whereas the local
 // indicators (local, fisher, fisher_deriv) follow the model point by point
 // and a local misfit can make a sharp peak whose bootstrap error is small
 // but which is wrong (measured on 10×10 and 12×12 runs).
 func bestPeak(res *indicator.Result) (string, indicator.Peak, bool) {
-	for _, c := range res.Curves {
-		if c.Name == indicator.LBC {
-			if pk, ok := topPeak(c); ok {
-				return c.Name, pk, true
+	for _, want := range []string{indicator.LBC, indicator.PBM, indicator.SL} {
+		for _, c := range res.Curves {
+			if c.Name == want {
+				if pk, ok := topPeak(c); ok {
+					return c.Name, pk, true
+				}
 			}
 		}
 	}
