@@ -28,7 +28,7 @@ type Arch struct {
 	// Activation is "relu" or "tanh", for the masked hidden layers.
 	Activation string
 	// CondActivation is the conditioning net's activation; "" means the
-	// model's default (tanh, smooth in λ).
+	// same as Activation.
 	CondActivation string
 	// Direct adds the masked direct input→output connection.
 	Direct bool
@@ -80,7 +80,7 @@ type Settings struct {
 // tuning.
 func DefaultSettings() Settings {
 	return Settings{
-		Arch:            Arch{Fourier: 1, Activation: "relu", CondActivation: "tanh", Direct: true, Order: "rowmajor"},
+		Arch:            Arch{Fourier: 1, Activation: "relu", Direct: true, Order: "rowmajor"},
 		Epochs:          60,
 		Batch:           128,
 		LR:              2e-3,

@@ -90,7 +90,7 @@ thread counts change results only by floating-point summation order.`,
 	f.StringVar(&o.condHidden, "cond-hidden", "64", `hidden widths of the conditioning net in units, comma-separated, or "none"`)
 	f.IntVar(&o.fourier, "fourier", d.Arch.Fourier, "Fourier frequencies of the normalised parameters fed to the conditioning net")
 	f.StringVar(&o.activation, "activation", d.Arch.Activation, "activation of the masked hidden layers: relu or tanh")
-	f.StringVar(&o.condActivation, "cond-activation", d.Arch.CondActivation, "activation of the conditioning net: tanh (smooth in the parameters) or relu")
+	f.StringVar(&o.condActivation, "cond-activation", d.Arch.CondActivation, "activation of the conditioning net: relu or tanh (smooth in the parameters); default: as --activation")
 	f.BoolVar(&o.direct, "direct", d.Arch.Direct, "add the masked direct input→output connection")
 	f.StringVar(&o.order, "order", d.Arch.Order, "autoregressive site order: rowmajor or snake (boustrophedon, 2-D lattices)")
 	f.BoolVar(&o.symmetric, "symmetric", false, "make the model invariant under flipping every spin (alphabet 2 only)")
