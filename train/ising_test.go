@@ -4,11 +4,47 @@ import (
 	"context"
 	"math"
 	"math/rand/v2"
+	"sync"
 	"testing"
 
+	"tidemark/checkpoints"
 	"tidemark/data"
 	"tidemark/data/ising"
+	"tidemark/model"
 )
+
+// ising4x4Fixture is the model of TestIsingAgainstEnumeration, trained once
+// and shared with the indicator comparison.
+type ising4x4Fixture struct {
+	temps []float64
+	ds    *data.Dataset
+	src   *ising.Source
+	ck    *checkpoints.Checkpoint
+	m     *model.Model
+	err   error
+}
+
+var (
+	ising4x4Once sync.Once
+	ising4x4Fx   ising4x4Fixture
+)
+
+// ising4x4 trains (once per test binary) on exact samples of the 4×4
+// periodic Ising model at 12 temperatures in [1, 4], two held out.
+func ising4x4(t *testing.T) *ising4x4Fixture {
+	ising4x4Once.Do(func() {
+		fx := &ising4x4Fx
+		fx.temps = linspace(1, 4, 12)
+		fx.ds, fx.src = isingDataset(t, 4, 4, fx.temps, isingPerPoint, 11)
+		st := DefaultSettings()
+		st.Epochs = isingEpochs
+		fx.ck, fx.err = Run(context.Background(), fx.ds, Options{Settings: st, Holdout: "T=2.0909090909;2.6363636364"})
+		if fx.err == nil {
+			fx.m, fx.err = fx.ck.Model()
+		}
+	})
+	return &ising4x4Fx
+}
 
 // isingDataset draws exact i.i.d. samples of the periodic Ly×Lx Ising model
 // (Jx = Jy = 1, h = 0) at each temperature, perPoint at each.
@@ -48,15 +84,8 @@ func linspace(a, b float64, n int) []float64 {
 // Phys. Rev. 65, 117 (1944)), and compares the model with exact enumeration
 // of all 2^16 states.
 func TestIsingAgainstEnumeration(t *testing.T) {
-	temps := linspace(1, 4, 12)
-	ds, src := isingDataset(t, 4, 4, temps, isingPerPoint, 11)
-	st := DefaultSettings()
-	st.Epochs = isingEpochs
-	ck, err := Run(context.Background(), ds, Options{Settings: st, Holdout: "T=2.0909090909;2.6363636364"})
-	if err != nil {
-		t.Fatal(err)
-	}
-	m, err := ck.Model()
+	fx := ising4x4(t)
+	temps, src, ck, m, err := fx.temps, fx.src, fx.ck, fx.m, fx.err
 	if err != nil {
 		t.Fatal(err)
 	}
