@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"errors"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"slices"
 	"strings"
@@ -12,29 +11,9 @@ import (
 	"testing"
 
 	"tidemark/checkpoints"
+	"tidemark/data/safefile/disktest"
 	"tidemark/model"
 )
-
-// mountSmall mounts a tmpfs of 64 KiB on a fresh folder, unmounted when the
-// test ends, failed or not; it skips the test, saying why, where mounting
-// is not possible.
-func mountSmall(t *testing.T) string {
-	t.Helper()
-	if os.Geteuid() != 0 {
-		t.Skip("skipped: mounting a small tmpfs needs root; full-disk and read-only behaviour is untested here")
-	}
-	dir := t.TempDir()
-	if out, err := exec.Command("mount", "-t", "tmpfs", "-o", "size=64k", "tmpfs", dir).CombinedOutput(); err != nil {
-		t.Skipf("skipped: cannot mount a tmpfs (%v: %s)", err, bytes.TrimSpace(out))
-	}
-	t.Cleanup(func() {
-		if out, err := exec.Command("umount", dir).CombinedOutput(); err != nil {
-			t.Logf("umount %s: %v: %s; detaching lazily", dir, err, out)
-			exec.Command("umount", "-l", dir).Run()
-		}
-	})
-	return dir
-}
 
 // bigCheckpoint returns a real checkpoint of a 16×16-site model, several
 // hundred kilobytes, too large for a 64 KiB file system.
@@ -63,28 +42,12 @@ func clones(ts []model.Tensor) []model.Tensor {
 	return out
 }
 
-// onlyEntries fails unless dir holds exactly the named files.
-func onlyEntries(t *testing.T, dir string, names ...string) {
-	t.Helper()
-	ents, err := os.ReadDir(dir)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var got []string
-	for _, e := range ents {
-		got = append(got, e.Name())
-	}
-	if !slices.Equal(got, names) {
-		t.Fatalf("folder holds %q, want only %q", got, names)
-	}
-}
-
 // TestSaveFullDisk saves a checkpoint larger than a 64 KiB tmpfs over an
 // earlier one and as a new file: both fail naming the path and "no space
 // left on device", the earlier checkpoint still loads with its bytes, and
 // no temporary file is left.
 func TestSaveFullDisk(t *testing.T) {
-	dir := mountSmall(t)
+	dir := disktest.Small(t)
 	path := filepath.Join(dir, "model.ckpt")
 	if err := smallCheckpoint(t, true).Save(path, false); err != nil {
 		t.Fatal(err)
@@ -114,7 +77,7 @@ func TestSaveFullDisk(t *testing.T) {
 			if _, err := checkpoints.Load(path); err != nil {
 				t.Fatalf("earlier checkpoint no longer loads: %v", err)
 			}
-			onlyEntries(t, dir, "model.ckpt")
+			disktest.OnlyFiles(t, dir, "model.ckpt")
 		})
 	}
 }
@@ -124,24 +87,7 @@ func TestSaveFullDisk(t *testing.T) {
 // through permission bits; otherwise chmod 0555): both fail naming the path
 // and the reason, and the earlier checkpoint is intact.
 func TestSaveReadOnly(t *testing.T) {
-	var dir string
-	var freeze func()
-	if os.Geteuid() == 0 {
-		dir = mountSmall(t)
-		freeze = func() {
-			if out, err := exec.Command("mount", "-o", "remount,ro", dir).CombinedOutput(); err != nil {
-				t.Skipf("skipped: cannot remount the tmpfs read-only (%v: %s)", err, bytes.TrimSpace(out))
-			}
-		}
-	} else {
-		dir = t.TempDir()
-		freeze = func() {
-			if err := os.Chmod(dir, 0o555); err != nil {
-				t.Fatal(err)
-			}
-			t.Cleanup(func() { os.Chmod(dir, 0o755) })
-		}
-	}
+	dir, freeze := disktest.ReadOnly(t)
 	path := filepath.Join(dir, "model.ckpt")
 	c := smallCheckpoint(t, true)
 	if err := c.Save(path, false); err != nil {
@@ -169,7 +115,7 @@ func TestSaveReadOnly(t *testing.T) {
 			if b, err := os.ReadFile(path); err != nil || !bytes.Equal(b, earlier) {
 				t.Fatalf("earlier checkpoint changed (%v)", err)
 			}
-			onlyEntries(t, dir, "model.ckpt")
+			disktest.OnlyFiles(t, dir, "model.ckpt")
 		})
 	}
 }

@@ -5,7 +5,6 @@ import (
 	"errors"
 	"math/rand/v2"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"strings"
 	"syscall"
@@ -13,69 +12,8 @@ import (
 
 	"tidemark/data"
 	"tidemark/data/safefile"
+	"tidemark/data/safefile/disktest"
 )
-
-// smallFS mounts a tmpfs of 64 KiB on a fresh folder and unmounts it when
-// the test ends, failed or not. It skips the test, saying why, where
-// mounting is not possible (not root, or no mount permission).
-func smallFS(t *testing.T) string {
-	t.Helper()
-	if os.Geteuid() != 0 {
-		t.Skip("skipped: mounting a small tmpfs needs root; full-disk behaviour is untested here")
-	}
-	dir := t.TempDir()
-	if out, err := exec.Command("mount", "-t", "tmpfs", "-o", "size=64k", "tmpfs", dir).CombinedOutput(); err != nil {
-		t.Skipf("skipped: cannot mount a tmpfs (%v: %s); full-disk behaviour is untested here", err, bytes.TrimSpace(out))
-	}
-	t.Cleanup(func() {
-		if out, err := exec.Command("umount", dir).CombinedOutput(); err != nil {
-			// A busy mount is detached lazily so the folder can go.
-			t.Logf("umount %s: %v: %s; detaching lazily", dir, err, out)
-			exec.Command("umount", "-l", dir).Run()
-		}
-	})
-	return dir
-}
-
-// readOnly makes dir read-only until the test ends. As root, permission
-// bits do not stop writes, so dir is then a tmpfs remounted read-only;
-// otherwise it is chmod 0555. It returns a function that makes dir
-// read-only, to be called after the earlier files are written.
-func readOnly(t *testing.T) (dir string, freeze func()) {
-	t.Helper()
-	if os.Geteuid() == 0 {
-		dir = smallFS(t)
-		return dir, func() {
-			if out, err := exec.Command("mount", "-o", "remount,ro", dir).CombinedOutput(); err != nil {
-				t.Skipf("skipped: cannot remount the tmpfs read-only (%v: %s)", err, bytes.TrimSpace(out))
-			}
-		}
-	}
-	dir = t.TempDir()
-	return dir, func() {
-		if err := os.Chmod(dir, 0o555); err != nil {
-			t.Fatal(err)
-		}
-		t.Cleanup(func() { os.Chmod(dir, 0o755) })
-	}
-}
-
-// onlyFiles fails unless dir holds exactly the named files (no temporary
-// file left behind).
-func onlyFiles(t *testing.T, dir string, names ...string) {
-	t.Helper()
-	ents, err := os.ReadDir(dir)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var got []string
-	for _, e := range ents {
-		got = append(got, e.Name())
-	}
-	if strings.Join(got, ",") != strings.Join(names, ",") {
-		t.Fatalf("folder holds %q, want only %q", got, names)
-	}
-}
 
 // incompressible returns n random bytes.
 func incompressible(n int, seed uint64) []byte {
@@ -119,7 +57,7 @@ func smallDataset(t *testing.T) *data.Dataset {
 // "no space left on device", the earlier file keeps its bytes and no
 // temporary file is left.
 func TestWriteFullDisk(t *testing.T) {
-	dir := smallFS(t)
+	dir := disktest.Small(t)
 	old := filepath.Join(dir, "old.bin")
 	earlier := []byte("earlier content\n")
 	if err := safefile.WriteBytes(old, false, earlier); err != nil {
@@ -140,7 +78,7 @@ func TestWriteFullDisk(t *testing.T) {
 			if b, err := os.ReadFile(old); err != nil || !bytes.Equal(b, earlier) {
 				t.Fatalf("earlier file now %q (%v), want %q", b, err, earlier)
 			}
-			onlyFiles(t, dir, "old.bin")
+			disktest.OnlyFiles(t, dir, "old.bin")
 		})
 	}
 }
@@ -148,7 +86,7 @@ func TestWriteFullDisk(t *testing.T) {
 // TestDatasetWriteFullDisk does the same through ds.Write, and checks that
 // the earlier dataset still reads back whole.
 func TestDatasetWriteFullDisk(t *testing.T) {
-	dir := smallFS(t)
+	dir := disktest.Small(t)
 	path := filepath.Join(dir, "snap.npz")
 	small := smallDataset(t)
 	if err := small.Write(path, false); err != nil {
@@ -166,14 +104,14 @@ func TestDatasetWriteFullDisk(t *testing.T) {
 	if !bytes.Equal(back.States, small.States) || back.M != small.M {
 		t.Fatalf("earlier dataset changed: %d snapshots %v", back.M, back.States)
 	}
-	onlyFiles(t, dir, "snap.npz")
+	disktest.OnlyFiles(t, dir, "snap.npz")
 }
 
 // TestWriteReadOnly writes into a read-only folder, replacing an earlier
 // file and creating a new one, directly and through ds.Write: every write
 // fails naming the path and the reason, and the earlier file is intact.
 func TestWriteReadOnly(t *testing.T) {
-	dir, freeze := readOnly(t)
+	dir, freeze := disktest.ReadOnly(t)
 	path := filepath.Join(dir, "snap.npz")
 	small := smallDataset(t)
 	if err := small.Write(path, false); err != nil {
@@ -206,7 +144,7 @@ func TestWriteReadOnly(t *testing.T) {
 			if b, err := os.ReadFile(path); err != nil || !bytes.Equal(b, earlier) {
 				t.Fatalf("earlier file changed (%v)", err)
 			}
-			onlyFiles(t, dir, "snap.npz")
+			disktest.OnlyFiles(t, dir, "snap.npz")
 		})
 	}
 }
