@@ -190,7 +190,32 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 	if err != nil {
 		return fmt.Errorf("%s: %w", ckPath, err)
 	}
+	// Say so where the user reads it when the scores extrapolate.
+	lo, hi := m.Cfg.ParamLo, m.Cfg.ParamHi
+	outside := func(p []float64) int {
+		for i, v := range p {
+			if i < len(lo) && (v < lo[i] || v > hi[i]) {
+				return i
+			}
+		}
+		return -1
+	}
+	warnOutside := func(what string, p []float64) {
+		if i := outside(p); i >= 0 {
+			fmt.Fprintf(cmd.ErrOrStderr(), "tidemark: warning: %s reaches %s=%g, outside the range [%g, %g] the model was trained on; the scores there are extrapolations\n",
+				what, names[i], p[i], lo[i], hi[i])
+		}
+	}
+	if at != nil {
+		warnOutside("--at", at)
+	}
 	if o.posterior {
+		for _, p := range grid {
+			if outside(p) >= 0 {
+				warnOutside("--grid", p)
+				break
+			}
+		}
 		return runPosterior(cmd, m, ds, grid, names, ckPath, dataPath, ext, o)
 	}
 	bar := progress.New(ds.M, "score", o.quiet)

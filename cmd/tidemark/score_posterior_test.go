@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bytes"
 	"encoding/csv"
 	"math"
 	"os"
@@ -80,6 +81,29 @@ func TestScore(t *testing.T) {
 	t.Run("posterior finds the temperature", func(t *testing.T) { testScorePosteriorFindsTemperature(t, dir, ck, old) })
 	t.Run("statistics and flags", func(t *testing.T) { testScoreStatsAndFlags(t, dir, ck, old) })
 	t.Run("refuses bad input", func(t *testing.T) { testScorePosteriorRefusesBadInput(t, dir, ck, old) })
+	t.Run("warns when extrapolating", func(t *testing.T) { testScoreWarnsOutsideRange(t, dir, ck, old) })
+}
+
+// testScoreWarnsOutsideRange scores at a λ outside the training range
+// ([1.5, 3.5]) and inside it: only the first warns on stderr.
+func testScoreWarnsOutsideRange(t *testing.T, dir, ck, old string) {
+	for _, tc := range []struct {
+		at   string
+		warn bool
+	}{{"T=9", true}, {"T=1", true}, {"T=2.5", false}} {
+		root := newRootCmd()
+		var out, errOut bytes.Buffer
+		root.SetOut(&out)
+		root.SetErr(&errOut)
+		root.SetArgs([]string{"score", ck, old, "--at", tc.at, "--quiet", "-o", filepath.Join(dir, "warn.csv"), "--force"})
+		if err := root.Execute(); err != nil {
+			t.Fatalf("--at %s: %v", tc.at, err)
+		}
+		got := strings.Contains(errOut.String(), "extrapolations")
+		if got != tc.warn {
+			t.Errorf("--at %s: warning %v, want %v (stderr %q)", tc.at, got, tc.warn, errOut.String())
+		}
+	}
 }
 
 // testScorePosteriorFindsTemperature is the done-when of score --posterior:
