@@ -3,6 +3,7 @@ package data
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 )
@@ -91,6 +92,9 @@ func ParseGridSpec(s string) (GridSpec, error) {
 			if n == 1 && a != b {
 				return fail(ccol, "count 1 needs start = stop, found %v and %v", a, b)
 			}
+			if n > 1 && a == b {
+				return fail(ccol, "count %d needs start ≠ stop (else every value repeats %v), found start = stop", n, a)
+			}
 			if math.IsInf(b-a, 0) {
 				return fail(bstart, "expected start and stop close enough to space evenly, found %v and %v", a, b)
 			}
@@ -119,6 +123,9 @@ func ParseGridSpec(s string) (GridSpec, error) {
 				x, err := parseNum(v)
 				if err != nil {
 					return fail(col, "%v", err)
+				}
+				if slices.Contains(vals, x) {
+					return fail(col, "value %v listed twice", x)
 				}
 				vals = append(vals, x)
 				col += len(v) + 1

@@ -71,6 +71,8 @@ func TestParseGridSpecErrors(t *testing.T) {
 		{"T=1:2:x", 7, "whole number"},
 		{"T=1:2:0", 7, "count"},
 		{"T=1:2:1", 7, "start = stop"},
+		{"T=1:1:5", 7, "start ≠ stop"},
+		{"T=1;2;1", 7, "listed twice"},
 		{"T=1;2;zz", 7, "finite number"},
 		{"T=1;NaN", 5, "finite number"},
 		{"T=1:2:3,T=4;5", 9, "given twice"},
