@@ -31,7 +31,7 @@ func newCheckCmd() *cobra.Command {
 	var o checkOptions
 	c := &cobra.Command{
 		Use:   "check MODEL.ckpt --data DATA.npz",
-		Short: "Compare a trained model with the exact distribution by enumerating every state",
+		Short: "Compare a trained model with the exact distribution (every state, or Kaufman's entropy for large Ising lattices)",
 		Long: `check compares the model with the exact snapshot distribution of the system the
 dataset was generated from, at every grid point of DATA and every point held out
 in training (flagged), by summing over all q^N states. It needs an exact
