@@ -342,18 +342,7 @@ func (ds *Dataset) Encode(w io.Writer) error {
 		return flate.NewWriter(out, flate.BestSpeed)
 	})
 	put := func(name, descr string, shape []int, body func(io.Writer) error) error {
-		f, err := zw.CreateHeader(&zip.FileHeader{Name: name, Method: zip.Deflate, Modified: time.Now()})
-		if err != nil {
-			return fmt.Errorf("%s: %w", name, err)
-		}
-		bw := bufio.NewWriterSize(f, 1<<20)
-		if _, err := bw.Write(npyHeader(descr, shape)); err != nil {
-			return fmt.Errorf("%s: %w", name, err)
-		}
-		if err := body(bw); err != nil {
-			return fmt.Errorf("%s: %w", name, err)
-		}
-		return bw.Flush()
+		return PutNPY(zw, name, zip.Deflate, descr, shape, body)
 	}
 	if err := put("states.npy", "|u1", []int{ds.M, ds.N}, func(w io.Writer) error {
 		_, err := w.Write(ds.States)
@@ -363,14 +352,7 @@ func (ds *Dataset) Encode(w io.Writer) error {
 	}
 	if ds.D > 0 {
 		if err := put("params.npy", "<f8", []int{ds.M, ds.D}, func(w io.Writer) error {
-			var buf [8]byte
-			for _, v := range ds.Params {
-				binary.LittleEndian.PutUint64(buf[:], math.Float64bits(v))
-				if _, err := w.Write(buf[:]); err != nil {
-					return err
-				}
-			}
-			return nil
+			return WriteFloat64s(w, ds.Params)
 		}); err != nil {
 			return err
 		}
@@ -382,6 +364,37 @@ func (ds *Dataset) Encode(w io.Writer) error {
 		return err
 	}
 	return zw.Close()
+}
+
+// PutNPY adds the entry name (ending in .npy) to an .npz archive being
+// written: an NPY 1.0 array of dtype descr ("|u1", "<f8", …) and the given
+// C-order shape, whose little-endian data body writes. method is
+// zip.Deflate or zip.Store.
+func PutNPY(zw *zip.Writer, name string, method uint16, descr string, shape []int, body func(io.Writer) error) error {
+	f, err := zw.CreateHeader(&zip.FileHeader{Name: name, Method: method, Modified: time.Now()})
+	if err != nil {
+		return fmt.Errorf("%s: %w", name, err)
+	}
+	bw := bufio.NewWriterSize(f, 1<<20)
+	if _, err := bw.Write(npyHeader(descr, shape)); err != nil {
+		return fmt.Errorf("%s: %w", name, err)
+	}
+	if err := body(bw); err != nil {
+		return fmt.Errorf("%s: %w", name, err)
+	}
+	return bw.Flush()
+}
+
+// WriteFloat64s writes v as little-endian float64 values (an NPY "<f8" body).
+func WriteFloat64s(w io.Writer, v []float64) error {
+	var buf [8]byte
+	for _, x := range v {
+		binary.LittleEndian.PutUint64(buf[:], math.Float64bits(x))
+		if _, err := w.Write(buf[:]); err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 // npyHeader returns the NPY 1.0 preamble for a C-order array: magic,

@@ -2,19 +2,14 @@ package main
 
 import (
 	"archive/zip"
-	"bufio"
-	"encoding/binary"
 	"encoding/json"
 	"fmt"
 	"io"
-	"math"
-	"strconv"
-	"strings"
-	"time"
 
 	"github.com/spf13/cobra"
 
 	"tidemark/checkpoints"
+	"tidemark/data"
 	"tidemark/data/safefile"
 	"tidemark/model"
 )
@@ -119,18 +114,7 @@ func runExport(cmd *cobra.Command, path string, o *exportOptions) error {
 func writeTensorsNPZ(w io.Writer, ts []model.Tensor, config []byte) error {
 	zw := zip.NewWriter(w)
 	put := func(name, descr string, shape []int, body func(io.Writer) error) error {
-		f, err := zw.CreateHeader(&zip.FileHeader{Name: name + ".npy", Method: zip.Store, Modified: time.Now()})
-		if err != nil {
-			return fmt.Errorf("%s: %w", name, err)
-		}
-		bw := bufio.NewWriter(f)
-		if _, err := bw.Write(exportNPYHeader(descr, shape)); err != nil {
-			return err
-		}
-		if err := body(bw); err != nil {
-			return err
-		}
-		return bw.Flush()
+		return data.PutNPY(zw, name+".npy", zip.Store, descr, shape, body)
 	}
 	seen := map[string]bool{"config": true}
 	for _, t := range ts {
@@ -139,14 +123,7 @@ func writeTensorsNPZ(w io.Writer, ts []model.Tensor, config []byte) error {
 		}
 		seen[t.Name] = true
 		if err := put(t.Name, "<f8", t.Shape, func(w io.Writer) error {
-			var b [8]byte
-			for _, v := range t.Data {
-				binary.LittleEndian.PutUint64(b[:], math.Float64bits(v))
-				if _, err := w.Write(b[:]); err != nil {
-					return err
-				}
-			}
-			return nil
+			return data.WriteFloat64s(w, t.Data)
 		}); err != nil {
 			return err
 		}
@@ -158,25 +135,4 @@ func writeTensorsNPZ(w io.Writer, ts []model.Tensor, config []byte) error {
 		return err
 	}
 	return zw.Close()
-}
-
-// exportNPYHeader returns the NPY 1.0 preamble of a C-order array, padded
-// to a multiple of 64 bytes as NumPy does (the layout of the NPY format
-// specification, numpy.lib.format).
-func exportNPYHeader(descr string, shape []int) []byte {
-	parts := make([]string, len(shape))
-	for i, s := range shape {
-		parts[i] = strconv.Itoa(s)
-	}
-	sh := "(" + strings.Join(parts, ", ")
-	if len(shape) == 1 {
-		sh += ","
-	}
-	sh += ")"
-	dict := fmt.Sprintf("{'descr': '%s', 'fortran_order': False, 'shape': %s, }", descr, sh)
-	pad := (64 - (10+len(dict)+1)%64) % 64
-	dict += strings.Repeat(" ", pad) + "\n"
-	out := append([]byte("\x93NUMPY"), 1, 0)
-	out = binary.LittleEndian.AppendUint16(out, uint16(len(dict)))
-	return append(out, dict...)
 }

@@ -12,7 +12,6 @@ import (
 	"sort"
 	"strconv"
 	"strings"
-	"time"
 
 	"tidemark/data"
 	"tidemark/indicator/posterior"
@@ -362,14 +361,10 @@ func writeNPZ(w io.Writer, arrays []npzArray, meta map[string]any) error {
 	arrays = append(arrays, npzArray{"meta", "|u1", []int{len(js)}, js})
 	zw := zip.NewWriter(w)
 	for _, a := range arrays {
-		f, err := zw.CreateHeader(&zip.FileHeader{Name: a.name + ".npy", Method: zip.Deflate, Modified: time.Now()})
-		if err != nil {
+		if err := data.PutNPY(zw, a.name+".npy", zip.Deflate, a.descr, a.shape, func(w io.Writer) error {
+			_, err := w.Write(a.body)
 			return err
-		}
-		if _, err := f.Write(exportNPYHeader(a.descr, a.shape)); err != nil {
-			return err
-		}
-		if _, err := f.Write(a.body); err != nil {
+		}); err != nil {
 			return err
 		}
 	}
