@@ -4,7 +4,8 @@ import (
 	"context"
 	"fmt"
 	"math/rand/v2"
-	"sync"
+
+	"tidemark/data"
 )
 
 // Result holds the snapshots drawn over a grid.
@@ -26,9 +27,6 @@ func Simulate(ctx context.Context, s *Source, points [][]float64, samples int, s
 	if samples < 1 {
 		return nil, fmt.Errorf("chain: samples: expected at least 1, found %d", samples)
 	}
-	if threads < 1 {
-		threads = 1
-	}
 	n, d := s.Sites(), s.ParamDim()
 	res := &Result{
 		States: make([]uint8, len(points)*samples*n),
@@ -43,47 +41,23 @@ func Simulate(ctx context.Context, s *Source, points [][]float64, samples int, s
 			copy(res.Params[(k*samples+m)*d:], p)
 		}
 	}
-	jobs := make(chan int)
-	errs := make([]error, len(points))
-	var wg sync.WaitGroup
-	for w := 0; w < threads; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for k := range jobs {
-				if ctx.Err() != nil {
-					errs[k] = ctx.Err()
-					continue
-				}
-				st, err := s.GroundState(points[k])
-				if err != nil {
-					errs[k] = err
-					continue
-				}
-				res.Points[k] = PointMeta{Params: append([]float64(nil), points[k]...), E0: st.E0, Gap: st.Gap}
-				rng := rand.New(rand.NewPCG(seed, uint64(k)))
-				if err := s.Sample(res.States[k*samples*n:(k+1)*samples*n], samples, points[k], rng); err != nil {
-					errs[k] = err
-					continue
-				}
-				if progress != nil {
-					progress(samples)
-				}
-			}
-		}()
-	}
-	for k := range points {
-		jobs <- k
-	}
-	close(jobs)
-	wg.Wait()
-	if err := ctx.Err(); err != nil {
-		return nil, err
-	}
-	for _, err := range errs {
+	err := data.ForEachPoint(ctx, len(points), threads, func(k int) error {
+		st, err := s.GroundState(points[k])
 		if err != nil {
-			return nil, err
+			return err
 		}
+		res.Points[k] = PointMeta{Params: append([]float64(nil), points[k]...), E0: st.E0, Gap: st.Gap}
+		rng := rand.New(rand.NewPCG(seed, uint64(k)))
+		if err := s.Sample(res.States[k*samples*n:(k+1)*samples*n], samples, points[k], rng); err != nil {
+			return err
+		}
+		if progress != nil {
+			progress(samples)
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, err
 	}
 	return res, nil
 }

@@ -5,7 +5,8 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"sync"
+
+	"tidemark/data"
 )
 
 // Burn-in settings of Simulate.
@@ -90,40 +91,18 @@ func Simulate(ctx context.Context, cfg Config) (*Result, error) {
 		Params: make([]float64, len(cfg.Points)*per*d),
 		Points: make([]PointInfo, len(cfg.Points)),
 	}
-	threads := max(cfg.Threads, 1)
-	jobs := make(chan int)
-	errs := make([]error, len(cfg.Points))
-	var wg sync.WaitGroup
-	for w := 0; w < threads; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for k := range jobs {
-				dst := res.States[k*per*n : (k+1)*per*n]
-				info, err := samplePoint(ctx, cfg, exact, coup[k], uint64(k), dst)
-				info.Params = append([]float64(nil), cfg.Points[k]...)
-				res.Points[k], errs[k] = info, err
-				for j := 0; j < per; j++ {
-					copy(res.Params[(k*per+j)*d:], cfg.Points[k])
-				}
-			}
-		}()
-	}
-	for k := range cfg.Points {
-		if ctx.Err() != nil {
-			break
+	err := data.ForEachPoint(ctx, len(cfg.Points), cfg.Threads, func(k int) error {
+		dst := res.States[k*per*n : (k+1)*per*n]
+		info, err := samplePoint(ctx, cfg, exact, coup[k], uint64(k), dst)
+		info.Params = append([]float64(nil), cfg.Points[k]...)
+		res.Points[k] = info
+		for j := 0; j < per; j++ {
+			copy(res.Params[(k*per+j)*d:], cfg.Points[k])
 		}
-		jobs <- k
-	}
-	close(jobs)
-	wg.Wait()
-	if err := ctx.Err(); err != nil {
+		return err
+	})
+	if err != nil {
 		return nil, err
-	}
-	for _, err := range errs {
-		if err != nil {
-			return nil, err
-		}
 	}
 	return res, nil
 }
