@@ -41,16 +41,13 @@ type kaufmanReport struct {
 }
 
 // kaufmanEntropy returns the exact entropy per site of the periodic Ly×Lx
-// Ising model at zero field, s = ln Z/N + ⟨E⟩/(N T), from Kaufman's
-// partition function (B. Kaufman, Phys. Rev. 76, 1232 (1949)); ok is false
-// where the formula does not apply.
+// Ising model (ising.KaufmanEntropy, B. Kaufman, Phys. Rev. 76, 1232
+// (1949)); ok is false where the formula does not apply (a field, T ≤ 0).
 func kaufmanEntropy(ly, lx int, c ising.Couplings) (float64, bool) {
 	if c.H != 0 || c.T <= 0 {
 		return 0, false
 	}
-	lnZ := ising.KaufmanLogZ(ly, lx, c.T, c.Jx, c.Jy)
-	e := ising.KaufmanEnergy(ly, lx, c.T, c.Jx, c.Jy)
-	s := lnZ/float64(ly*lx) + e/c.T
+	s := ising.KaufmanEntropy(ly, lx, c.T, c.Jx, c.Jy)
 	if math.IsNaN(s) || math.IsInf(s, 0) {
 		return 0, false
 	}
@@ -79,18 +76,9 @@ func checkKaufman(w io.Writer, asJSON bool, path, dataPath string, ck *checkpoin
 	}
 	var sum float64
 	for k, p := range g.Points {
-		c := sm.Fixed()
-		for a, name := range ds.Meta.ParamNames {
-			switch name {
-			case "T":
-				c.T = p[a]
-			case "Jx":
-				c.Jx = p[a]
-			case "Jy":
-				c.Jy = p[a]
-			case "h":
-				c.H = p[a]
-			}
+		c, err := sm.Couplings(p)
+		if err != nil {
+			return false, nil
 		}
 		s, ok := kaufmanEntropy(sm.Lattice[0], sm.Lattice[1], c)
 		if !ok {

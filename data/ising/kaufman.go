@@ -127,6 +127,13 @@ func KaufmanLogZ(ly, lx int, T, jx, jy float64) float64 {
 	return z
 }
 
+// KaufmanEntropy returns the exact entropy per site at h = 0,
+// s = ln Z/N + ⟨H⟩/(N T), from Kaufman's ln Z and its energy; NaN where the
+// formula does not apply (see KaufmanLogZ).
+func KaufmanEntropy(ly, lx int, T, jx, jy float64) float64 {
+	return KaufmanLogZ(ly, lx, T, jx, jy)/float64(ly*lx) + KaufmanEnergy(ly, lx, T, jx, jy)/T
+}
+
 // KaufmanEnergy returns the exact mean energy per site ⟨H⟩/N at h = 0, from
 // the analytic β-derivative of Kaufman's ln Z: ⟨H⟩ = −∂ln Z/∂β.
 func KaufmanEnergy(ly, lx int, T, jx, jy float64) float64 {

@@ -153,6 +153,13 @@ func (m SourceMeta) Fixed() Couplings {
 	return Couplings{T: m.Temperature, Jx: m.Jx, Jy: m.Jy, H: m.Field}
 }
 
+// Couplings returns the couplings at grid point lambda, whose components
+// are named by m.Axes; the rest are fixed by m. It checks λ's length and
+// that T > 0.
+func (m SourceMeta) Couplings(lambda []float64) (Couplings, error) {
+	return withParams(m.Fixed(), m.Axes, lambda)
+}
+
 // ParseSourceMeta reads meta.source of an Ising dataset.
 func ParseSourceMeta(m data.Meta) (SourceMeta, error) {
 	var sm SourceMeta
