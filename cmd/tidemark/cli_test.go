@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"os"
 	"strings"
 	"testing"
 
@@ -79,5 +80,25 @@ func TestRunExitStatus(t *testing.T) {
 	}
 	if got := run([]string{"no-such-command"}); got != exitUsage {
 		t.Errorf("unknown command: status %d, want %d", got, exitUsage)
+	}
+}
+
+// wantOneLineError runs the command line args and requires it to fail with a
+// one-line error mentioning want, leaving no file at out.
+func wantOneLineError(t *testing.T, args []string, want, out string) {
+	t.Helper()
+	root := newRootCmd()
+	root.SetArgs(args)
+	root.SetOut(new(strings.Builder))
+	root.SetErr(new(strings.Builder))
+	err := root.Execute()
+	if err == nil || !strings.Contains(err.Error(), want) {
+		t.Fatalf("error %v, want one mentioning %q", err, want)
+	}
+	if strings.Contains(err.Error(), "\n") {
+		t.Errorf("error spans several lines: %q", err)
+	}
+	if _, err := os.Stat(out); err == nil {
+		t.Errorf("output written despite the error")
 	}
 }

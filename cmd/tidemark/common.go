@@ -1,10 +1,14 @@
 package main
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
 	"io"
+	"os"
+	"os/signal"
 	"runtime"
+	"syscall"
 
 	"tidemark/data/safefile"
 )
@@ -34,4 +38,10 @@ func writeJSON(w io.Writer, v any) error {
 		return fmt.Errorf("writing JSON: %w", err)
 	}
 	return nil
+}
+
+// signalContext returns a context that is cancelled by SIGINT or SIGTERM, so
+// long work can stop cleanly (saving what it must) instead of dying.
+func signalContext() (context.Context, context.CancelFunc) {
+	return signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 }

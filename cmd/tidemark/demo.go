@@ -1,15 +1,12 @@
 package main
 
 import (
-	"context"
 	"errors"
 	"fmt"
 	"io"
 	"math"
 	"os"
-	"os/signal"
 	"path/filepath"
-	"syscall"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -154,7 +151,7 @@ func demo(w io.Writer, o *demoOptions) (*demoOutcome, error) {
 	}
 	threads := threadsOrDefault(o.threads)
 	p := func(format string, a ...any) { fmt.Fprintf(w, format, a...) }
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := signalContext()
 	defer stop()
 	interrupted := func() error {
 		return fmt.Errorf("demo: stopped; nothing was written to %s: %w", o.out, errInterrupted)

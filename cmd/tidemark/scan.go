@@ -1,16 +1,12 @@
 package main
 
 import (
-	"context"
 	"errors"
 	"fmt"
 	"io"
-	"os"
-	"os/signal"
 	"sort"
 	"strconv"
 	"strings"
-	"syscall"
 
 	"github.com/spf13/cobra"
 
@@ -241,7 +237,7 @@ func runScan(w io.Writer, o *scanOptions) error {
 	}
 	// The scan writes nothing until it is complete, so a signal can simply
 	// stop it: nothing is lost and nothing half-written is left.
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := signalContext()
 	defer stop()
 	type outcome struct {
 		res *indicator.Result

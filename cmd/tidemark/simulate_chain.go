@@ -1,13 +1,9 @@
 package main
 
 import (
-	"context"
 	"errors"
 	"fmt"
-	"os"
-	"os/signal"
 	"strings"
-	"syscall"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -172,7 +168,7 @@ func runSimulateChain(cmd *cobra.Command, o *simulateChainOptions) error {
 	if err := checkOutput(o.out, o.force); err != nil {
 		return err
 	}
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := signalContext()
 	defer stop()
 	points := spec.Points()
 	bar := progress.New(len(points)*o.samples, "chain", o.quiet)

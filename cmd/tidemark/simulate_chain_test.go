@@ -3,7 +3,6 @@ package main
 import (
 	"encoding/json"
 	"math"
-	"os"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -40,20 +39,7 @@ func TestSimulateChainBadFlags(t *testing.T) {
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			args := append([]string{"simulate", "chain", "-o", out, "--quiet"}, tc.args...)
-			root := newRootCmd()
-			root.SetArgs(args)
-			root.SetOut(new(strings.Builder))
-			root.SetErr(new(strings.Builder))
-			err := root.Execute()
-			if err == nil || !strings.Contains(err.Error(), tc.want) {
-				t.Fatalf("error %v, want one mentioning %q", err, tc.want)
-			}
-			if strings.Contains(err.Error(), "\n") {
-				t.Errorf("error spans several lines: %q", err)
-			}
-			if _, err := os.Stat(out); err == nil {
-				t.Errorf("output written despite the error")
-			}
+			wantOneLineError(t, args, tc.want, out)
 		})
 	}
 	if st := run([]string{"simulate", "chain", "--sites", "1", "--hamiltonian", "-ZZ - h*X", "--grid", "h=0:1:3", "-o", out}); st != exitUsage {

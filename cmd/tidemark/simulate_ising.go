@@ -1,14 +1,10 @@
 package main
 
 import (
-	"context"
 	"errors"
 	"fmt"
 	"math"
-	"os"
-	"os/signal"
 	"strings"
-	"syscall"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -178,7 +174,7 @@ func runSimulateIsing(cmd *cobra.Command, o *simulateIsingOptions) error {
 	if err := checkOutput(o.out, o.force); err != nil {
 		return err
 	}
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := signalContext()
 	defer stop()
 	bar := progress.New(len(cfg.Points)*cfg.Samples, "ising", o.quiet)
 	cfg.Progress = bar.Func()

@@ -34,20 +34,7 @@ func TestSimulateIsingBadFlags(t *testing.T) {
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			args := append([]string{"simulate", "ising", "-o", out, "--quiet"}, tc.args...)
-			root := newRootCmd()
-			root.SetArgs(args)
-			root.SetOut(new(strings.Builder))
-			root.SetErr(new(strings.Builder))
-			err := root.Execute()
-			if err == nil || !strings.Contains(err.Error(), tc.want) {
-				t.Fatalf("error %v, want one mentioning %q", err, tc.want)
-			}
-			if strings.Contains(err.Error(), "\n") {
-				t.Errorf("error spans several lines: %q", err)
-			}
-			if _, err := os.Stat(out); err == nil {
-				t.Errorf("output written despite the error")
-			}
+			wantOneLineError(t, args, tc.want, out)
 		})
 	}
 	// run maps the error to exit status 2 (common practice for usage errors).
