@@ -21,6 +21,7 @@ type bernoulli struct {
 	name   string
 	n      int // sites
 	lp, dz []float64
+	e      []float64 // e^−|z| of the forward pass, reused by the gradient
 }
 
 // bernoulliOp is kind 0 (lp from x, z) or kind 1 (dz from x, z, g).
@@ -71,12 +72,22 @@ func (op bernoulliOp) Do(inputs ...G.Value) (G.Value, error) {
 		if cap(op.b.lp) < rows {
 			op.b.lp = make([]float64, rows)
 		}
+		if cap(op.b.e) < rows*n {
+			op.b.e = make([]float64, rows*n)
+		}
 		lp := op.b.lp[:rows]
 		for i := range lp {
 			s := 0.0
-			zi, xi := z[i*n:(i+1)*n], x[i*n:(i+1)*n]
+			zi, xi, ei := z[i*n:(i+1)*n], x[i*n:(i+1)*n], op.b.e[i*n:(i+1)*n]
 			for k, v := range zi {
-				s += xi[k]*v - softplus(v)
+				// softplus(v) = max(v, 0) + log(1 + e^−|v|), as in softplus.
+				e := math.Exp(-math.Abs(v))
+				ei[k] = e
+				sp := math.Log(1 + e)
+				if v > 0 {
+					sp += v
+				}
+				s += xi[k]*v - sp
 			}
 			lp[i] = s
 		}
@@ -90,10 +101,17 @@ func (op bernoulliOp) Do(inputs ...G.Value) (G.Value, error) {
 		op.b.dz = make([]float64, rows*n)
 	}
 	dz := op.b.dz[:rows*n]
+	// σ(z) from the e^−|z| of the forward pass of this step, which always
+	// runs first (g depends on it): 1/(1+e) for z ≥ 0, e/(1+e) below.
+	e := op.b.e[:rows*n]
 	for i := 0; i < rows; i++ {
 		gi := g[i]
 		for k := i * n; k < (i+1)*n; k++ {
-			dz[k] = gi * (x[k] - 1/(1+math.Exp(-z[k])))
+			s := 1 / (1 + e[k])
+			if z[k] < 0 {
+				s *= e[k]
+			}
+			dz[k] = gi * (x[k] - s)
 		}
 	}
 	return tensor.New(tensor.WithShape(rows, n), tensor.WithBacking(dz)), nil

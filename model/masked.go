@@ -35,9 +35,17 @@ type tiling struct {
 	cols    []tile // column blocks: rows lo..hi are the nonzero ones
 	rows    []tile // row blocks: columns lo..hi are the nonzero ones
 	mask    []float64
+	// allCols (allRows) says the column (row) blocks cover every column
+	// (row): a product written block by block then needs no clearing first.
+	allCols, allRows bool
 }
 
 func newTiling(mask []float64, in, out int) tiling {
+	return newTilingSize(mask, in, out, tileSize)
+}
+
+// newTilingSize is newTiling with blocks of the given width.
+func newTilingSize(mask []float64, in, out, tileSize int) tiling {
 	t := tiling{in: in, out: out, mask: mask}
 	for c0 := 0; c0 < out; c0 += tileSize {
 		c1 := min(c0+tileSize, out)
@@ -75,6 +83,8 @@ func newTiling(mask []float64, in, out int) tiling {
 			t.rows = append(t.rows, tile{r0, r1, lo, hi})
 		}
 	}
+	t.allCols = len(t.cols) == (out+tileSize-1)/tileSize
+	t.allRows = len(t.rows) == (in+tileSize-1)/tileSize
 	return t
 }
 
@@ -108,6 +118,8 @@ type maskedLinear struct {
 	x32    []float32 // scratch for float32 operands
 	fx32   []float32 // the float32 input of the last forward product
 	y32    []float32
+	dy32   []float32    // float32 copy of this step's output gradient dY
+	dyOK   bool         // dy32 holds this step's dY (reset by forward)
 	g32    []float32    // float32 weight gradient
 	bufs   [4][]float64 // output buffers of forward, dX, dW, activation gradient
 
@@ -214,14 +226,9 @@ func sub32(d []float32, s, r0, c0, rows, cols int) bmat {
 // prepareW must have run (or weff and weff32 be set).
 func (ml *maskedLinear) forward(y, x []float64, b int, acc bool) {
 	in, out := ml.t.in, ml.t.out
+	ml.dyOK = false
 	if ml.f32 {
-		ml.fx32 = to32(ml.fx32, x[:b*in])
-		ml.y32 = grow32(ml.y32, b*out)
-		clear(ml.y32)
-		for _, c := range ml.t.cols {
-			gemm(blas.NoTrans, blas.NoTrans, 1, sub32(ml.fx32, in, 0, c.lo, b, c.hi-c.lo),
-				sub32(ml.weff32, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0), 0, sub32(ml.y32, out, 0, c.a0, b, c.a1-c.a0))
-		}
+		ml.forward32(x, b)
 		if acc {
 			for i, v := range ml.y32 {
 				y[i] += float64(v)
@@ -244,15 +251,43 @@ func (ml *maskedLinear) forward(y, x []float64, b int, acc bool) {
 	}
 }
 
+// forward32 computes ml.y32 = float32(x)·(W⊙M) for b rows in single
+// precision, keeping the rounded input in ml.fx32 for the weight gradient.
+func (ml *maskedLinear) forward32(x []float64, b int) {
+	in, out := ml.t.in, ml.t.out
+	ml.fx32 = to32(ml.fx32, x[:b*in])
+	ml.y32 = grow32(ml.y32, b*out)
+	if !ml.t.allCols {
+		clear(ml.y32)
+	}
+	for _, c := range ml.t.cols {
+		gemm(blas.NoTrans, blas.NoTrans, 1, sub32(ml.fx32, in, 0, c.lo, b, c.hi-c.lo),
+			sub32(ml.weff32, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0), 0, sub32(ml.y32, out, 0, c.a0, b, c.a1-c.a0))
+	}
+}
+
+// dyOf returns the float32 copy of the output gradient dy of b rows,
+// converting it only once per step (the input and the weight gradient
+// read the same dY).
+func (ml *maskedLinear) dyOf(dy []float64, b int) []float32 {
+	if !ml.dyOK {
+		ml.dy32 = to32(ml.dy32, dy[:b*ml.t.out])
+		ml.dyOK = true
+	}
+	return ml.dy32[:b*ml.t.out]
+}
+
 // gradX computes dx = dy·(W⊙M)ᵀ for b rows, block row by block row.
 func (ml *maskedLinear) gradX(dx, dy []float64, b int) {
 	in, out := ml.t.in, ml.t.out
 	if ml.f32 {
-		ml.y32 = to32(ml.y32, dy[:b*out])
+		dy32 := ml.dyOf(dy, b)
 		ml.x32 = grow32(ml.x32, b*in)
-		clear(ml.x32)
+		if !ml.t.allRows {
+			clear(ml.x32)
+		}
 		for _, r := range ml.t.rows {
-			gemm(blas.NoTrans, blas.Trans, 1, sub32(ml.y32, out, 0, r.lo, b, r.hi-r.lo),
+			gemm(blas.NoTrans, blas.Trans, 1, sub32(dy32, out, 0, r.lo, b, r.hi-r.lo),
 				sub32(ml.weff32, out, r.a0, r.lo, r.a1-r.a0, r.hi-r.lo), 0, sub32(ml.x32, in, 0, r.a0, b, r.a1-r.a0))
 		}
 		for i, v := range ml.x32 {
@@ -267,23 +302,29 @@ func (ml *maskedLinear) gradX(dx, dy []float64, b int) {
 	}
 }
 
-// gradW computes dw = (xᵀ·dy)⊙M for b rows.
+// gradW computes dw = (xᵀ·dy)⊙M for b rows. Every entry of dw is
+// written: the products inside the nonzero blocks, zeros outside.
 func (ml *maskedLinear) gradW(dw, x, dy []float64, b int) {
 	in, out := ml.t.in, ml.t.out
-	clear(dw)
+	mask := ml.t.mask
+	if !ml.t.allCols {
+		clear(dw)
+	}
 	if ml.f32 {
 		// The forward product of this step has already rounded x.
 		x32 := ml.fx32[:b*in]
-		y32 := to32(ml.y32, dy[:b*out])
-		ml.y32 = y32
+		y32 := ml.dyOf(dy, b)
 		w32 := grow32(ml.g32, in*out)
 		ml.g32 = w32
 		for _, c := range ml.t.cols {
 			gemm(blas.Trans, blas.NoTrans, 1, sub32(x32, in, 0, c.lo, b, c.hi-c.lo),
 				sub32(y32, out, 0, c.a0, b, c.a1-c.a0), 0, sub32(w32, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0))
+			ml.zeroOutside(dw, c)
 			for j := c.lo; j < c.hi; j++ {
-				for k := c.a0; k < c.a1; k++ {
-					dw[j*out+k] = float64(w32[j*out+k]) * ml.t.mask[j*out+k]
+				r := j * out
+				d, g, mk := dw[r+c.a0:r+c.a1], w32[r+c.a0:r+c.a1], mask[r+c.a0:r+c.a1]
+				for k := range d {
+					d[k] = float64(g[k]) * mk[k]
 				}
 			}
 		}
@@ -292,11 +333,27 @@ func (ml *maskedLinear) gradW(dw, x, dy []float64, b int) {
 	for _, c := range ml.t.cols {
 		gemm(blas.Trans, blas.NoTrans, 1, sub64(x, in, 0, c.lo, b, c.hi-c.lo),
 			sub64(dy, out, 0, c.a0, b, c.a1-c.a0), 0, sub64(dw, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0))
+		ml.zeroOutside(dw, c)
 		for j := c.lo; j < c.hi; j++ {
-			for k := c.a0; k < c.a1; k++ {
-				dw[j*out+k] *= ml.t.mask[j*out+k]
+			r := j * out
+			d, mk := dw[r+c.a0:r+c.a1], mask[r+c.a0:r+c.a1]
+			for k := range d {
+				d[k] *= mk[k]
 			}
 		}
+	}
+}
+
+// zeroOutside clears the rows of column block c of dw that lie outside
+// its nonzero rows c.lo..c.hi.
+func (ml *maskedLinear) zeroOutside(dw []float64, c tile) {
+	out := ml.t.out
+	for j := 0; j < ml.t.in; j++ {
+		if j == c.lo {
+			j = c.hi - 1
+			continue
+		}
+		clear(dw[j*out+c.a0 : j*out+c.a1])
 	}
 }
 
@@ -306,6 +363,30 @@ const (
 	actRelu
 	actTanh
 )
+
+// fusedAct writes res = act(float64(y32) + hd).
+func fusedAct(res []float64, y32 []float32, hd []float64, act int) {
+	hd = hd[:len(y32)]
+	res = res[:len(y32)]
+	switch act {
+	case actRelu:
+		for i, v := range y32 {
+			t := float64(v) + hd[i]
+			if t < 0 {
+				t = 0
+			}
+			res[i] = t
+		}
+	case actTanh:
+		for i, v := range y32 {
+			res[i] = math.Tanh(float64(v) + hd[i])
+		}
+	default:
+		for i, v := range y32 {
+			res[i] = float64(v) + hd[i]
+		}
+	}
+}
 
 // maskedOp is one of the gorgonia operations of a maskedLinear: kind 0 is
 // Y = X·(W⊙M) with inputs (X, W) — or act(X·(W⊙M) + Hd) with inputs
@@ -391,6 +472,15 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 			if err != nil {
 				return nil, err
 			}
+			if ml.f32 {
+				// One pass widens the product, adds the bias and applies
+				// the activation.
+				ml.dyOK = false
+				ml.forward32(a, rows)
+				fusedAct(res, ml.y32[:rows*out], hd[:rows*out], ml.act)
+				shape = tensor.Shape{rows, out}
+				break
+			}
 			copy(res, hd[:rows*out])
 			ml.forward(res, a, rows, true)
 			switch ml.act {
@@ -412,15 +502,29 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 	case 3:
 		// a = dO, b = O.
 		res = ml.buf(3, rows*out)
-		switch ml.act {
-		case actRelu:
+		switch {
+		case ml.act == actRelu && ml.f32:
+			// The input and weight gradients of this product read the
+			// float32 copy, written here in the same pass.
+			d32 := grow32(ml.dy32, rows*out)
+			ml.dy32 = d32
+			for i, o := range b[:rows*out] {
+				v := 0.0
+				if o > 0 {
+					v = a[i]
+				}
+				res[i] = v
+				d32[i] = float32(v)
+			}
+			ml.dyOK = true
+		case ml.act == actRelu:
 			for i, o := range b[:rows*out] {
 				res[i] = 0
 				if o > 0 {
 					res[i] = a[i]
 				}
 			}
-		case actTanh:
+		case ml.act == actTanh:
 			for i, o := range b[:rows*out] {
 				res[i] = a[i] * (1 - o*o)
 			}
@@ -501,13 +605,14 @@ func (op maskedOp) SymDiff(inputs G.Nodes, output, grad *G.Node) (G.Nodes, error
 	return G.Nodes{dx, dw}, nil
 }
 
-// denseTiling is the tiling of an all-ones mask [in, out].
+// denseTiling is the tiling of an all-ones mask [in, out]: one block, so
+// a dense product (a conditioning head) is one GEMM.
 func denseTiling(in, out int) tiling {
 	ones := make([]float64, in*out)
 	for i := range ones {
 		ones[i] = 1
 	}
-	return newTiling(ones, in, out)
+	return newTilingSize(ones, in, out, max(in, out))
 }
 
 // maskedMul adds Y = X·(W⊙M) to the graph of X and the weight node W.
