@@ -157,3 +157,34 @@ func BenchmarkLogProbMatrixStream(b *testing.B) {
 	}
 	b.ReportMetric(float64(b.N*n*K)/b.Elapsed().Seconds(), "snapshot·λ/s")
 }
+
+// BenchmarkLogProbMatrix64Float32 is BenchmarkLogProbMatrix64 with
+// Precision float32.
+func BenchmarkLogProbMatrix64Float32(b *testing.B) {
+	m := benchModel(b)
+	m.Cfg.Precision = PrecisionFloat32
+	xs, _ := benchData(m, benchBatch)
+	ls := lambdas(64)
+	b.ResetTimer()
+	for b.Loop() {
+		if _, err := m.LogProbMatrix(xs, benchBatch, ls, 1); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(b.N*benchBatch*64)/b.Elapsed().Seconds(), "snapshot·λ/s")
+}
+
+// BenchmarkLogProbFloat32 is BenchmarkLogProb with Precision float32.
+func BenchmarkLogProbFloat32(b *testing.B) {
+	m := benchModel(b)
+	m.Cfg.Precision = PrecisionFloat32
+	xs, _ := benchData(m, benchBatch)
+	dst := make([]float64, benchBatch)
+	b.ResetTimer()
+	for b.Loop() {
+		if err := m.LogProb(dst, xs, []float64{2.5}); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "snapshots/s")
+}

@@ -79,17 +79,25 @@ func (op bernoulliOp) Do(inputs ...G.Value) (G.Value, error) {
 		for i := range lp {
 			s := 0.0
 			zi, xi, ei := z[i*n:(i+1)*n], x[i*n:(i+1)*n], op.b.e[i*n:(i+1)*n]
+			// softplus(v) = max(v, 0) + log(1 + e^−|v|); the logarithms
+			// of up to prodTerms sites are taken as one logarithm of their
+			// product, as in rowLogProbs.
+			prod := 1.0
 			for k, v := range zi {
-				// softplus(v) = max(v, 0) + log(1 + e^−|v|), as in softplus.
 				e := math.Exp(-math.Abs(v))
 				ei[k] = e
-				sp := math.Log(1 + e)
+				t := xi[k] * v
 				if v > 0 {
-					sp += v
+					t -= v
 				}
-				s += xi[k]*v - sp
+				s += t
+				prod *= 1 + e
+				if k%prodTerms == prodTerms-1 {
+					s -= math.Log(prod)
+					prod = 1
+				}
 			}
-			lp[i] = s
+			lp[i] = s - math.Log(prod)
 		}
 		return tensor.New(tensor.WithShape(rows), tensor.WithBacking(lp)), nil
 	}

@@ -254,8 +254,14 @@ func (ml *maskedLinear) forward(y, x []float64, b int, acc bool) {
 // forward32 computes ml.y32 = float32(x)·(W⊙M) for b rows in single
 // precision, keeping the rounded input in ml.fx32 for the weight gradient.
 func (ml *maskedLinear) forward32(x []float64, b int) {
+	ml.fx32 = to32(ml.fx32, x[:b*ml.t.in])
+	ml.product32(b)
+}
+
+// product32 computes ml.y32 = ml.fx32·(W⊙M) for b rows in single
+// precision, the float32 input already in ml.fx32.
+func (ml *maskedLinear) product32(b int) {
 	in, out := ml.t.in, ml.t.out
-	ml.fx32 = to32(ml.fx32, x[:b*in])
 	ml.y32 = grow32(ml.y32, b*out)
 	if !ml.t.allCols {
 		clear(ml.y32)
