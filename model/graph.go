@@ -25,6 +25,9 @@ type Graph struct {
 	// weight with exactly one writes its gradient straight into the
 	// caller's slice (no copy).
 	byWeight [][]*maskedLinear
+	// prepared says a BatchGraph has already computed W⊙M for this run
+	// (in buffers shared by its graphs).
+	prepared bool
 
 	x, xf, phi, wr []float64 // input backing arrays
 }
@@ -163,7 +166,20 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 		return nil, fmt.Errorf("model: building the gradient graph: %w", err)
 	}
 	gr.vm = G.NewTapeMachine(g)
+	for _, mls := range gr.byWeight {
+		shareW(mls)
+	}
 	return gr, nil
+}
+
+// prepare computes W⊙M of every masked weight once for the next run, for
+// all the operations (passes) that read it.
+func (gr *Graph) prepare() {
+	for w, mls := range gr.byWeight {
+		if len(mls) > 0 {
+			mls[0].prepareW(gr.m.Weights[w].Data)
+		}
+	}
 }
 
 // Batch returns the maximum number of snapshots per call.
@@ -258,6 +274,9 @@ func (gr *Graph) LossGrad(xs []uint8, params []float64, n int, grads [][]float64
 			}
 		}
 	}()
+	if !gr.prepared {
+		gr.prepare()
+	}
 	gr.vm.Reset()
 	if err := gr.vm.RunAll(); err != nil {
 		return 0, fmt.Errorf("model: running the training graph: %w", err)
@@ -293,6 +312,7 @@ func (gr *Graph) ForwardLoss(xs []uint8, params []float64, n int) (loss float64,
 	if err := gr.fill(xs, params, n); err != nil {
 		return 0, err
 	}
+	gr.prepare()
 	gr.vm.Reset()
 	if err := gr.vm.RunAll(); err != nil {
 		return 0, fmt.Errorf("model: running the training graph: %w", err)

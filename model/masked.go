@@ -160,6 +160,12 @@ func grow32(b []float32, n int) []float32 {
 // (the float64 copy is then not kept); entries outside the blocks are zero
 // and never read.
 func (ml *maskedLinear) prepareW(w []float64) {
+	ml.prepareCols(w, 0, len(ml.t.cols))
+}
+
+// prepareCols is prepareW for the column blocks c0..c1−1 only, so that
+// the blocks of one weight can be prepared by several goroutines.
+func (ml *maskedLinear) prepareCols(w []float64, c0, c1 int) {
 	n := ml.t.in * ml.t.out
 	mask := ml.t.mask
 	out := ml.t.out
@@ -167,11 +173,12 @@ func (ml *maskedLinear) prepareW(w []float64) {
 		if ml.weff32 == nil {
 			ml.weff32 = make([]float32, n)
 		}
-		for _, c := range ml.t.cols {
+		for _, c := range ml.t.cols[c0:c1] {
 			for j := c.lo; j < c.hi; j++ {
-				row := j * out
-				for k := c.a0; k < c.a1; k++ {
-					ml.weff32[row+k] = float32(w[row+k] * mask[row+k])
+				r := j * out
+				d, src, mk := ml.weff32[r+c.a0:r+c.a1], w[r+c.a0:r+c.a1], mask[r+c.a0:r+c.a1]
+				for k := range d {
+					d[k] = float32(src[k] * mk[k])
 				}
 			}
 		}
@@ -180,13 +187,33 @@ func (ml *maskedLinear) prepareW(w []float64) {
 	if ml.weff == nil {
 		ml.weff = make([]float64, n)
 	}
-	for _, c := range ml.t.cols {
+	for _, c := range ml.t.cols[c0:c1] {
 		for j := c.lo; j < c.hi; j++ {
-			row := j * out
-			for k := c.a0; k < c.a1; k++ {
-				ml.weff[row+k] = w[row+k] * mask[row+k]
+			r := j * out
+			d, src, mk := ml.weff[r+c.a0:r+c.a1], w[r+c.a0:r+c.a1], mask[r+c.a0:r+c.a1]
+			for k := range d {
+				d[k] = src[k] * mk[k]
 			}
 		}
+	}
+}
+
+// shareW gives all masked products of one weight one W⊙M buffer, which
+// the first of them prepares once per step (see Graph.prepare).
+func shareW(mls []*maskedLinear) {
+	if len(mls) == 0 {
+		return
+	}
+	n := mls[0].t.in * mls[0].t.out
+	var w64 []float64
+	var w32 []float32
+	if mls[0].f32 {
+		w32 = make([]float32, n)
+	} else {
+		w64 = make([]float64, n)
+	}
+	for _, ml := range mls {
+		ml.weff, ml.weff32 = w64, w32
 	}
 }
 
@@ -471,7 +498,7 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 	var shape tensor.Shape
 	switch op.kind {
 	case 0:
-		ml.prepareW(b)
+		// W⊙M (b) was prepared before the run (Graph.prepare).
 		res = ml.buf(0, rows*out)
 		if ml.fused {
 			hd, _, err := f64Of(inputs[2])

@@ -1,6 +1,9 @@
 package train
 
-import "math"
+import (
+	"math"
+	"sync"
+)
 
 // Adam is the Adam optimiser of Kingma & Ba (ICLR 2015, Algorithm 1) over a
 // list of weight slices, with optional decoupled weight decay as in AdamW
@@ -42,13 +45,36 @@ func NewAdam(sizes []int, beta1, beta2, eps, weightDecay float64) *Adam {
 //	m ← β1 m + (1−β1) g,  v ← β2 v + (1−β2) g²,
 //	w ← w − lr·( m/(1−β1^t) / (√(v/(1−β2^t)) + ε) + λ w ).
 func (a *Adam) Update(w, g [][]float64, lr float64) {
+	a.UpdateThreads(w, g, lr, 1)
+}
+
+// UpdateThreads is Update with the entries of every slice split over
+// threads goroutines. Each entry is updated on its own, so the result is
+// the same for every thread count.
+func (a *Adam) UpdateThreads(w, g [][]float64, lr float64, threads int) {
 	a.Step++
 	t := float64(a.Step)
 	bc1 := 1 - math.Pow(a.Beta1, t)
 	bc2 := 1 - math.Pow(a.Beta2, t)
+	if threads <= 1 {
+		a.update(w, g, lr, bc1, bc2, 0, 1)
+		return
+	}
+	var wg sync.WaitGroup
+	for k := 1; k < threads; k++ {
+		wg.Add(1)
+		go func() { defer wg.Done(); a.update(w, g, lr, bc1, bc2, k, threads) }()
+	}
+	a.update(w, g, lr, bc1, bc2, 0, threads)
+	wg.Wait()
+}
+
+// update applies the step to part k of parts of every slice.
+func (a *Adam) update(w, g [][]float64, lr, bc1, bc2 float64, k, parts int) {
 	b1, b2 := a.Beta1, a.Beta2
 	for i := range w {
-		wi, gi, mi, vi := w[i], g[i], a.M[i], a.V[i]
+		lo, hi := k*len(g[i])/parts, (k+1)*len(g[i])/parts
+		wi, gi, mi, vi := w[i][lo:hi], g[i][lo:hi], a.M[i][lo:hi], a.V[i][lo:hi]
 		decay := a.WeightDecay != 0 && (a.Decay == nil || a.Decay[i])
 		wd := lr * a.WeightDecay
 		for j, gj := range gi {

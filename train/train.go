@@ -190,12 +190,11 @@ type run struct {
 	st       Settings
 	opt      Options
 	m        *model.Model
-	graphs   []*model.Graph
+	bg       *model.BatchGraph // the minibatch split over Threads graphs
 	adam     *Adam
 	w        [][]float64 // views of m.Weights[i].Data
 	best     [][]float64
-	grads    [][][]float64 // per thread
-	gsum     [][]float64
+	gsum     [][]float64 // gradient of the mean NLL per site of a minibatch
 	trainIdx []int
 	valIdx   [][]int // per grid point
 	heldIdx  [][]int // per held-out point
@@ -447,20 +446,11 @@ func (r *run) finishSetup(best [][]float64) error {
 		}
 	}
 	r.best = best
-	T := min(r.st.Threads, r.st.Batch)
-	per := (r.st.Batch + T - 1) / T
-	for t := 0; t < T; t++ {
-		g, err := model.NewGraph(r.m, per)
-		if err != nil {
-			return err
-		}
-		r.graphs = append(r.graphs, g)
-		gr := make([][]float64, len(r.w))
-		for i, w := range r.w {
-			gr[i] = make([]float64, len(w))
-		}
-		r.grads = append(r.grads, gr)
+	bg, err := model.NewBatchGraph(r.m, r.st.Batch, r.st.Threads)
+	if err != nil {
+		return err
 	}
+	r.bg = bg
 	r.gsum = make([][]float64, len(r.w))
 	for i, w := range r.w {
 		r.gsum[i] = make([]float64, len(w))
@@ -626,11 +616,8 @@ func (r *run) epoch(ctx context.Context, epoch int) (float64, error) {
 	rng := rand.New(rand.NewPCG(r.st.Seed^shuffleSalt, uint64(epoch)))
 	rng.Shuffle(len(order), func(i, j int) { order[i], order[j] = order[j], order[i] })
 	B := r.st.Batch
-	T := len(r.graphs)
 	xs := make([]uint8, B*N)
 	ps := make([]float64, B*D)
-	losses := make([]float64, T)
-	errs := make([]error, T)
 	sum := 0.0
 	for b := 0; b < len(order); b += B {
 		if ctx.Err() != nil {
@@ -642,47 +629,11 @@ func (r *run) epoch(ctx context.Context, epoch int) (float64, error) {
 			copy(xs[i*N:(i+1)*N], ds.States[m*N:(m+1)*N])
 			copy(ps[i*D:(i+1)*D], ds.Params[m*D:(m+1)*D])
 		}
-		var wg sync.WaitGroup
-		for t := 0; t < T; t++ {
-			lo, hi := t*n/T, (t+1)*n/T
-			losses[t], errs[t] = 0, nil
-			if hi == lo {
-				continue
-			}
-			run := func() {
-				losses[t], errs[t] = r.graphs[t].LossGrad(xs[lo*N:hi*N], ps[lo*D:hi*D], hi-lo, r.grads[t])
-			}
-			if T == 1 {
-				run()
-				continue
-			}
-			wg.Add(1)
-			go func() { defer wg.Done(); run() }()
-		}
-		wg.Wait()
-		loss := 0.0
-		for i := range r.gsum {
-			clear(r.gsum[i])
-		}
-		for t := 0; t < T; t++ {
-			if errs[t] != nil {
-				return 0, errs[t]
-			}
-			lo, hi := t*n/T, (t+1)*n/T
-			if hi == lo {
-				continue
-			}
-			f := float64(hi-lo) / float64(n)
-			loss += f * losses[t]
-			// The gradient of the mean NLL per site: each chunk's mean
-			// per-snapshot gradient weighted by its share, divided by N.
-			f /= float64(N)
-			for i, g := range r.grads[t] {
-				s := r.gsum[i]
-				for j, v := range g {
-					s[j] += f * v
-				}
-			}
+		// The minibatch is split over the threads' graphs; gsum is the
+		// gradient of the mean NLL per site (the mean per snapshot over N).
+		loss, err := r.bg.LossGrad(xs[:n*N], ps[:n*D], n, 1/float64(N), r.gsum)
+		if err != nil {
+			return 0, err
 		}
 		if b == 0 && faultHook != nil && faultHook(epoch) {
 			loss = math.NaN()
@@ -691,7 +642,7 @@ func (r *run) epoch(ctx context.Context, epoch int) (float64, error) {
 		if math.IsNaN(loss) || math.IsInf(loss, 0) || math.IsNaN(norm) || math.IsInf(norm, 0) {
 			return math.NaN(), nil
 		}
-		r.adam.Update(r.w, r.gsum, r.lr)
+		r.adam.UpdateThreads(r.w, r.gsum, r.lr, r.st.Threads)
 		sum += loss * float64(n)
 		if r.opt.Progress != nil {
 			r.opt.Progress(n)

@@ -299,70 +299,40 @@ func measureShape(n, h int, prec string, threads, reps, matRows int, budget time
 	for i := range ps {
 		ps[i] = rng.Float64()
 	}
-	// Training: the batch is split into one chunk per thread, each with its
-	// own graph; the chunk gradients are summed (weighted by chunk size)
-	// into one Adam update.
+	// Training as in package train: the batch is split over one graph per
+	// thread (model.BatchGraph: W⊙M prepared once per step by all threads,
+	// chunk gradients combined by all threads), then one Adam update over
+	// all weights, split across the threads.
 	nc := threads
 	if *chunksFlag > 0 {
 		nc = *chunksFlag
 	}
-	chunk := (batch + nc - 1) / nc
-	var graphs []*model.Graph
-	var grads [][][]float64
-	for c := 0; c*chunk < batch; c++ {
-		g, err := model.NewGraph(m, chunk)
-		if err != nil {
-			fmt.Fprintln(os.Stderr, "gobench:", err)
-			os.Exit(1)
-		}
-		graphs = append(graphs, g)
-		gr := make([][]float64, len(m.Weights))
-		for i, t := range m.Weights {
-			gr[i] = make([]float64, len(t.Data))
-		}
-		grads = append(grads, gr)
+	bg, err := model.NewBatchGraph(m, batch, nc)
+	if err != nil {
+		fmt.Fprintln(os.Stderr, "gobench:", err)
+		os.Exit(1)
+	}
+	sum := make([][]float64, len(m.Weights))
+	for i, t := range m.Weights {
+		sum[i] = make([]float64, len(t.Data))
 	}
 	opt := newAdam(m.Weights)
-	sum := grads[0]
 	trainStep := func() {
+		if _, err := bg.LossGrad(xs, ps, batch, 1, sum); err != nil {
+			panic(err)
+		}
 		var wg sync.WaitGroup
-		for c, g := range graphs {
+		for t := range threads {
 			wg.Add(1)
 			go func() {
 				defer wg.Done()
-				lo, hi := c*chunk, min((c+1)*chunk, batch)
-				if _, err := g.LossGrad(xs[lo*n:hi*n], ps[lo:hi], hi-lo, grads[c]); err != nil {
-					panic(err)
+				for i := range sum {
+					lo, hi := t*len(sum[i])/threads, (t+1)*len(sum[i])/threads
+					opt.update(i, m.Weights[i].Data, sum[i], lo, hi, 1e-4)
 				}
 			}()
 		}
 		wg.Wait()
-		// sum = Σ_c (n_c/batch)·grads[c] (sum aliases grads[0]), then Adam;
-		// both over the tensors split across the threads.
-		var wg2 sync.WaitGroup
-		for t := range threads {
-			wg2.Add(1)
-			go func() {
-				defer wg2.Done()
-				w0 := float64(min(chunk, batch)) / batch
-				for i := range sum {
-					s0 := sum[i]
-					lo, hi := t*len(s0)/threads, (t+1)*len(s0)/threads
-					for k := lo; k < hi; k++ {
-						s0[k] *= w0
-					}
-					for c := 1; c < len(grads); c++ {
-						wc := float64(min((c+1)*chunk, batch)-c*chunk) / batch
-						gc := grads[c][i]
-						for k := lo; k < hi; k++ {
-							s0[k] += wc * gc[k]
-						}
-					}
-					opt.update(i, m.Weights[i].Data, s0, lo, hi, 1e-4)
-				}
-			}()
-		}
-		wg2.Wait()
 		opt.t++
 	}
 	steps := 2
