@@ -29,7 +29,13 @@ type prep struct {
 // prepare multiplies the current weights by their masks. The kernel applies
 // the masks itself, so the autoregressive property never depends on how a
 // trainer treated the entries outside the masks.
-func (m *Model) prepare() *prep {
+func (m *Model) prepare() *prep { return m.prepareFor(true) }
+
+// prepareFor is prepare. With Precision float32 and q = 2, scoring reads
+// only the float32 copies, inside the nonzero blocks of each mask, so
+// unless need64 is set only those are computed (the float64 eff is then
+// stale and must not be read).
+func (m *Model) prepareFor(need64 bool) *prep {
 	p, _ := m.pool.Get().(*prep)
 	l := m.lay
 	if p == nil {
@@ -41,13 +47,26 @@ func (m *Model) prepare() *prep {
 			p.effD = make([]float64, len(m.Weights[l.direct].Data))
 		}
 	}
+	f32 := m.Cfg.Precision == PrecisionFloat32
+	if f32 && !need64 && m.Cfg.Alphabet == 2 {
+		if p.eff32 == nil {
+			p.eff32 = make([][]float32, len(p.eff))
+		}
+		for i, w := range l.madeW {
+			p.eff32[i] = blocks32(p.eff32[i], m.Weights[w].Data, m.tiles[i])
+		}
+		if l.direct >= 0 {
+			p.effD32 = blocks32(p.effD32, m.Weights[l.direct].Data, m.tiles[len(m.tiles)-1])
+		}
+		return p
+	}
 	for i, w := range l.madeW {
 		mul(p.eff[i], m.Weights[w].Data, m.masks[i].Data)
 	}
 	if l.direct >= 0 {
 		mul(p.effD, m.Weights[l.direct].Data, m.masks[len(m.masks)-1].Data)
 	}
-	if m.Cfg.Precision == PrecisionFloat32 {
+	if f32 {
 		if p.eff32 == nil {
 			p.eff32 = make([][]float32, len(p.eff))
 		}
@@ -59,6 +78,27 @@ func (m *Model) prepare() *prep {
 		}
 	}
 	return p
+}
+
+// prepareScore is prepare for the scoring paths (LogProb, LogProbMatrix),
+// which need no float64 weights in single precision.
+func (m *Model) prepareScore() *prep { return m.prepareFor(false) }
+
+// blocks32 writes float32(W⊙M) into dst (grown to the size of w) inside
+// the column blocks of t, the only entries a forward product reads.
+func blocks32(dst []float32, w []float64, t tiling) []float32 {
+	dst = grow32(dst, len(w))
+	out := t.out
+	for _, c := range t.cols {
+		for j := c.lo; j < c.hi; j++ {
+			r := j * out
+			d, src, mk := dst[r+c.a0:r+c.a1], w[r+c.a0:r+c.a1], t.mask[r+c.a0:r+c.a1]
+			for k := range d {
+				d[k] = float32(src[k] * mk[k])
+			}
+		}
+	}
+	return dst
 }
 
 func mul(dst, a, b []float64) {
@@ -476,7 +516,7 @@ func (m *Model) LogProb(dst []float64, xs []uint8, lambda []float64) (err error)
 	if n == 0 {
 		return nil
 	}
-	p := m.prepare()
+	p := m.prepareScore()
 	defer m.pool.Put(p)
 	cb := [][][]float64{m.condBias(lambda)}
 	w := m.getWorkspace()
@@ -519,7 +559,7 @@ func (m *Model) LogProbMatrix(xs []uint8, n int, lambdas [][]float64, threads in
 	if threads <= 0 {
 		threads = runtime.NumCPU()
 	}
-	p := m.prepare()
+	p := m.prepareScore()
 	defer m.pool.Put(p)
 	cbs := make([][][][]float64, K)
 	for k, l := range lambdas {
@@ -712,7 +752,7 @@ func recoverTo(err *error) {
 // logProbRows writes log p(x_i|λ_i) for n snapshots, each with its own λ
 // (params holds n·d values). Inputs are assumed valid.
 func (m *Model) logProbRows(dst []float64, xs []uint8, params []float64, n int) {
-	p := m.prepare()
+	p := m.prepareScore()
 	defer m.pool.Put(p)
 	N, d := m.Cfg.Sites, m.Cfg.ParamDim
 	w := m.getWorkspace()
