@@ -118,22 +118,23 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 		u = condAct(addBias(must(G.Mul(u, wn[w])), wn[l.condB[i]]))
 	}
 	// The conditioning heads u·V are dense products; they go through the
-	// same hand-written operation (in the model's precision).
+	// same hand-written operation (in the model's precision). The biases
+	// made.bL are added inside the masked layers.
 	heads := make([]*G.Node, len(l.madeW))
 	for i := range l.madeW {
 		v := m.Weights[l.condV[i]]
 		hl := &maskedLinear{name: v.Name, t: denseTiling(v.Shape[0], v.Shape[1]), needDX: len(c.CondHidden) > 0, f32: f32}
 		gr.byWeight[l.condV[i]] = append(gr.byWeight[l.condV[i]], hl)
-		heads[i] = addBias(must(maskedMul(u, wn[l.condV[i]], hl)), wn[l.madeB[i]])
+		heads[i] = must(maskedMul(u, wn[l.condV[i]], hl))
 	}
 	L := len(c.Hidden)
 	logp := func(x *G.Node, pass string) *G.Node {
 		lin, linD := linears(pass)
 		h := x
 		for i := 0; i < L; i++ {
-			h = must(maskedLayer(h, wn[l.madeW[i]], heads[i], lin[i], hiddenAct))
+			h = must(maskedLayer(h, wn[l.madeW[i]], heads[i], wn[l.madeB[i]], lin[i], hiddenAct))
 		}
-		z := must(maskedLayer(h, wn[l.madeW[L]], heads[L], lin[L], actNone))
+		z := must(maskedLayer(h, wn[l.madeW[L]], heads[L], wn[l.madeB[L]], lin[L], actNone))
 		if linD != nil {
 			z = must(G.Add(z, must(maskedMul(x, wn[l.direct], linD))))
 		}

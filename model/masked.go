@@ -121,11 +121,11 @@ type maskedLinear struct {
 	dy32   []float32    // float32 copy of this step's output gradient dY
 	dyOK   bool         // dy32 holds this step's dY (reset by forward)
 	g32    []float32    // float32 weight gradient
-	bufs   [4][]float64 // output buffers of forward, dX, dW, activation gradient
+	bufs   [5][]float64 // output buffers of forward, dX, dW, activation gradient, bias gradient
 
-	// fused: the forward operation takes a third input, a bias matrix Hd
-	// [rows, out], and returns act(X·(W⊙M) + Hd), with act one of actNone,
-	// actRelu, actTanh.
+	// fused: the forward operation takes two more inputs, a bias matrix Hd
+	// [rows, out] and a bias vector b [out], and returns
+	// act(X·(W⊙M) + Hd + b), with act one of actNone, actRelu, actTanh.
 	fused bool
 	act   int
 	dst   []float64 // when set (len in·out), dW is written here instead
@@ -397,35 +397,39 @@ const (
 	actTanh
 )
 
-// fusedAct writes res = act(float64(y32) + hd).
-func fusedAct(res []float64, y32 []float32, hd []float64, act int) {
-	hd = hd[:len(y32)]
-	res = res[:len(y32)]
-	switch act {
-	case actRelu:
-		for i, v := range y32 {
-			t := float64(v) + hd[i]
-			if t < 0 {
-				t = 0
+// fusedAct writes res = act(float64(y32) + hd + b), b broadcast over the
+// rows.
+func fusedAct(res []float64, y32 []float32, hd, b []float64, act int) {
+	out := len(b)
+	for i := 0; i < len(y32)/out; i++ {
+		r, y, h := res[i*out:(i+1)*out], y32[i*out:(i+1)*out], hd[i*out:(i+1)*out]
+		switch act {
+		case actRelu:
+			for k, v := range y {
+				t := float64(v) + h[k] + b[k]
+				if t < 0 {
+					t = 0
+				}
+				r[k] = t
 			}
-			res[i] = t
-		}
-	case actTanh:
-		for i, v := range y32 {
-			res[i] = math.Tanh(float64(v) + hd[i])
-		}
-	default:
-		for i, v := range y32 {
-			res[i] = float64(v) + hd[i]
+		case actTanh:
+			for k, v := range y {
+				r[k] = math.Tanh(float64(v) + h[k] + b[k])
+			}
+		default:
+			for k, v := range y {
+				r[k] = float64(v) + h[k] + b[k]
+			}
 		}
 	}
 }
 
 // maskedOp is one of the gorgonia operations of a maskedLinear: kind 0 is
-// Y = X·(W⊙M) with inputs (X, W) — or act(X·(W⊙M) + Hd) with inputs
-// (X, W, Hd) when fused; kind 1 is dX with inputs (dY, W); kind 2 is dW
+// Y = X·(W⊙M) with inputs (X, W) — or act(X·(W⊙M) + Hd + b) with inputs
+// (X, W, Hd, b) when fused; kind 1 is dX with inputs (dY, W); kind 2 is dW
 // with inputs (X, dY); kind 3 is the gradient through the activation,
-// dY = dO ⊙ act'(O), with inputs (dO, O).
+// dY = dO ⊙ act'(O), with inputs (dO, O); kind 4 is the bias gradient
+// db = Σ_rows dY with input dY.
 type maskedOp struct {
 	ml   *maskedLinear
 	kind int
@@ -434,15 +438,21 @@ type maskedOp struct {
 var matF64 = G.TensorType{Dims: 2, Of: tensor.Float64}
 
 func (op maskedOp) Arity() int {
-	if op.kind == 0 && op.ml.fused {
-		return 3
+	switch {
+	case op.kind == 0 && op.ml.fused:
+		return 4
+	case op.kind == 4:
+		return 1
 	}
 	return 2
 }
 
 func (op maskedOp) Type() hm.Type {
-	if op.Arity() == 3 {
-		return hm.NewFnType(matF64, matF64, matF64, matF64)
+	switch op.Arity() {
+	case 4:
+		return hm.NewFnType(matF64, matF64, matF64, vecF64, matF64)
+	case 1:
+		return hm.NewFnType(matF64, vecF64)
 	}
 	return hm.NewFnType(matF64, matF64, matF64)
 }
@@ -462,6 +472,8 @@ func (op maskedOp) InferShape(in ...G.DimSizer) (tensor.Shape, error) {
 		return tensor.Shape{s0[0], op.ml.t.in}, nil
 	case 3:
 		return tensor.Shape{s0[0], op.ml.t.out}, nil
+	case 4:
+		return tensor.Shape{op.ml.t.out}, nil
 	default:
 		return tensor.Shape{op.ml.t.in, op.ml.t.out}, nil
 	}
@@ -487,13 +499,23 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 	if err != nil {
 		return nil, err
 	}
+	ml := op.ml
+	in, out := ml.t.in, ml.t.out
+	rows := sa[0]
+	if op.kind == 4 {
+		db := ml.buf(4, out)
+		clear(db)
+		for i := 0; i < rows; i++ {
+			for k, v := range a[i*out : (i+1)*out] {
+				db[k] += v
+			}
+		}
+		return tensor.New(tensor.WithShape(out), tensor.WithBacking(db)), nil
+	}
 	b, _, err := f64Of(inputs[1])
 	if err != nil {
 		return nil, err
 	}
-	ml := op.ml
-	in, out := ml.t.in, ml.t.out
-	rows := sa[0]
 	var res []float64
 	var shape tensor.Shape
 	switch op.kind {
@@ -505,16 +527,25 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 			if err != nil {
 				return nil, err
 			}
+			bias, _, err := f64Of(inputs[3])
+			if err != nil {
+				return nil, err
+			}
 			if ml.f32 {
-				// One pass widens the product, adds the bias and applies
-				// the activation.
+				// One pass widens the product, adds the biases and
+				// applies the activation.
 				ml.dyOK = false
 				ml.forward32(a, rows)
-				fusedAct(res, ml.y32[:rows*out], hd[:rows*out], ml.act)
+				fusedAct(res, ml.y32[:rows*out], hd[:rows*out], bias[:out], ml.act)
 				shape = tensor.Shape{rows, out}
 				break
 			}
-			copy(res, hd[:rows*out])
+			for i := 0; i < rows; i++ {
+				r, h := res[i*out:(i+1)*out], hd[i*out:(i+1)*out]
+				for k := range r {
+					r[k] = h[k] + bias[k]
+				}
+			}
 			ml.forward(res, a, rows, true)
 			switch ml.act {
 			case actRelu:
@@ -605,7 +636,7 @@ func (op maskedOp) DiffWRT(int) []bool {
 		return []bool{false, false}
 	}
 	if op.ml.fused {
-		return []bool{op.ml.needDX, true, true}
+		return []bool{op.ml.needDX, true, true, true}
 	}
 	return []bool{op.ml.needDX, true}
 }
@@ -633,7 +664,11 @@ func (op maskedOp) SymDiff(inputs G.Nodes, output, grad *G.Node) (G.Nodes, error
 		}
 	}
 	if op.ml.fused {
-		return G.Nodes{dx, dw, grad}, nil
+		db, err := G.ApplyOp(maskedOp{op.ml, 4}, grad)
+		if err != nil {
+			return nil, err
+		}
+		return G.Nodes{dx, dw, grad, db}, nil
 	}
 	return G.Nodes{dx, dw}, nil
 }
@@ -653,9 +688,9 @@ func maskedMul(x, w *G.Node, ml *maskedLinear) (*G.Node, error) {
 	return G.ApplyOp(maskedOp{ml, 0}, x, w)
 }
 
-// maskedLayer adds act(X·(W⊙M) + hd) to the graph, hd a node of shape
-// [rows, out].
-func maskedLayer(x, w, hd *G.Node, ml *maskedLinear, act int) (*G.Node, error) {
+// maskedLayer adds act(X·(W⊙M) + hd + b) to the graph, hd a node of shape
+// [rows, out] and b a bias vector [out].
+func maskedLayer(x, w, hd, b *G.Node, ml *maskedLinear, act int) (*G.Node, error) {
 	ml.fused, ml.act = true, act
-	return G.ApplyOp(maskedOp{ml, 0}, x, w, hd)
+	return G.ApplyOp(maskedOp{ml, 0}, x, w, hd, b)
 }
