@@ -175,3 +175,62 @@ func TestIsingAnisotropicBoundary(t *testing.T) {
 	}
 	t.Logf("fisher_deriv ridge along T: %v (Beale peak at Jy=1: %.4f)", along.Points, bealePeak())
 }
+
+// TestIsingAnisotropicZoom zooms along T around the fisher_deriv ridge of
+// the anisotropic 4×4 Ising model with exact sums: every window runs along
+// T at one of the grid's Jy values, and at Jy = Jx = 1 the metric's T–T
+// component at the window's points between grid temperatures is Var(E)/T⁴
+// from Beale's exact density of states (P. D. Beale, Phys. Rev. Lett. 76,
+// 78 (1996)).
+func TestIsingAnisotropicZoom(t *testing.T) {
+	src, err := ising.NewSource(ising.Lattice{Ly: 4, Lx: 4}, []string{"T", "Jy"}, ising.Couplings{Jx: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ts := linspace(1.5, 3.5, 6)
+	js := []float64{0.5, 1, 1.5}
+	var pts [][]float64
+	for _, x := range ts {
+		for _, y := range js {
+			pts = append(pts, []float64{x, y})
+		}
+	}
+	ds := gridDataset(t, 16, []string{"T", "Jy"}, pts)
+	res, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{ExactSums: true, Zoom: true, Indicators: []string{indicator.Fisher}, Threads: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Zoom) == 0 {
+		t.Fatal("no zoom windows")
+	}
+	checked := 0
+	for _, z := range res.Zoom {
+		other := 1 - z.Axis
+		if len(z.Layout.Axes[other]) != 1 || z.Layout.Axes[other][0] != z.Around[other] || len(z.Layout.Axes[z.Axis]) != 5 {
+			t.Errorf("zoom window %v around %v: want 5 points along axis %d at the peak's fixed value", z.Layout.Axes, z.Around, z.Axis)
+		}
+		if z.Axis != 0 || z.Around[1] != 1 {
+			continue
+		}
+		ftt := curveByName(t, z.Curves, "fisher_deriv_T_T")
+		for i, p := range ftt.Pos {
+			checked++
+			if w := bealeFisher(p[0]); math.Abs(ftt.Val[i]-w) > 1e-4*w {
+				t.Errorf("zoom F_TT at T=%.6g, Jy=1: %.8g, Beale %.8g", p[0], ftt.Val[i], w)
+			}
+		}
+	}
+	if checked == 0 {
+		t.Error("no zoom window along T at Jy = 1")
+	}
+	// Windows follow only the lines through the data's grid values.
+	for _, z := range res.Zoom {
+		other, on := 1-z.Axis, false
+		for _, v := range [][]float64{ts, js}[other] {
+			on = on || math.Abs(v-z.Around[other]) < 1e-9
+		}
+		if !on {
+			t.Errorf("zoom window around %v lies on an inserted line", z.Around)
+		}
+	}
+}

@@ -44,9 +44,9 @@ type Config struct {
 	// ModelSamples is the number of snapshots drawn per point from a Sampler
 	// (refined and zoom points); ≤ 0 means 1000.
 	ModelSamples int
-	// Zoom re-scans a finer grid around each peak (1-D grids, Sampler
-	// sources only): 2R+1 points (R = max(Refine, 2)) over ±1 step of the
-	// scanned (refined) grid.
+	// Zoom re-scans a finer grid around each peak (Sampler sources, or
+	// exact sums): 2R+1 points (R = max(Refine, 2)) over ±1 step of the
+	// scanned (refined) grid, along the peak's line on a 2-D grid.
 	Zoom bool
 	// Bootstrap is the number of bootstrap replicates B (0: no errors).
 	Bootstrap int
@@ -93,6 +93,8 @@ type Result struct {
 type ZoomResult struct {
 	// Around is the first-pass peak position; Layout the zoom grid.
 	Around []float64
+	// Axis is the axis the zoom window runs along (0 on a 1-D grid).
+	Axis   int
 	Layout Layout
 	// Curves are the zoom-pass curves.
 	Curves []*Curve
@@ -149,7 +151,7 @@ func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
 		for _, s := range sources {
 			e, ok := s.(Enumerable)
 			if !ok || !e.Enumerable() {
-				return nil, errors.New("scan: exact sums need a source whose q^N states can all be listed (an exact source of a small system)")
+				return nil, errors.New("scan: exact sums need a source whose q^N states can all be listed (an exact source or a model of a small system, at most 2^20 states)")
 			}
 		}
 	}
@@ -498,7 +500,7 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 		}
 		evD.W = SampleWeights(evD.Idx)
 	}
-	grad, err := gradients(src, dxs, evD, lo, cfg)
+	grad, err := gradients(src, dxs, evD, lo, g.Axes, cfg)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -529,13 +531,17 @@ func computeWithProgress(src Source, xs []uint8, n int, pts [][]float64, cfg Con
 
 // gradients computes ∂_a log p(x|λ_k) for the slots of every point by a
 // central difference with step h_a = Δ_a/100 (Δ_a the smallest spacing of
-// axis a; error O(h²)).
-func gradients(src Source, xs []uint8, ev *EvalSet, lo Layout, cfg Config) ([][]float64, error) {
+// axis a; error O(h²)). An axis with a single value in lo (a zoom window
+// along the other axis) takes its spacing from the data grid's axes.
+func gradients(src Source, xs []uint8, ev *EvalSet, lo Layout, dataAxes [][]float64, cfg Config) ([][]float64, error) {
 	N := src.Sites()
 	d := lo.Dim()
 	K := lo.K()
 	h := make([]float64, d)
 	for a, ax := range lo.Axes {
+		if len(ax) < 2 && a < len(dataAxes) {
+			ax = dataAxes[a]
+		}
 		dm := math.Inf(1)
 		for i := 1; i < len(ax); i++ {
 			dm = math.Min(dm, ax[i]-ax[i-1])
@@ -653,38 +659,93 @@ func gradients(src Source, xs []uint8, ev *EvalSet, lo Layout, cfg Config) ([][]
 	return grad, nil
 }
 
-// zoomPass runs the finer second pass around every first-pass peak of a
-// 1-D scan.
+// zoomPass runs the finer second pass around every first-pass peak. On a
+// 1-D grid the window is 2R+1 points over ±1 step of the scanned grid
+// around the peak. On a 2-D grid a peak lies on a line along one axis at a
+// fixed value of the other, and its window runs along that line only (the
+// other axis holds the one fixed value): it refines where the line crosses
+// the boundary, at a cost linear in R rather than quadratic. Only lines
+// through the data's grid values are zoomed.
 func zoomPass(res *Result, sources []Source, ds *data.Dataset, g *data.Grid, cfg Config, ind map[string]bool) error {
-	if g.Dim() != 1 {
-		res.Notes = append(res.Notes, "zoom skipped: it is available for 1-D grids only")
-		return nil
-	}
 	for _, s := range sources {
 		if _, ok := s.(Sampler); (!ok && !cfg.ExactSums) || gOnly(s) {
 			res.Notes = append(res.Notes, "zoom skipped: it needs a source that can draw samples between grid points (a model or an exact source)")
 			return nil
 		}
 	}
-	var xs []float64
+	// A centre is a peak position with the axis its line runs along.
+	type centre struct {
+		axis int
+		at   []float64
+	}
+	// On a 2-D grid only the lines through the data's grid values are
+	// zoomed (a refined grid's inserted lines would multiply the windows).
+	onDataLine := func(axis int, at []float64) bool {
+		for a, v := range at {
+			if a == axis {
+				continue
+			}
+			found := false
+			for _, u := range g.Axes[a] {
+				found = found || math.Abs(u-v) <= 1e-9*math.Max(1, math.Abs(u))
+			}
+			if !found {
+				return false
+			}
+		}
+		return true
+	}
+	var cs []centre
 	for _, c := range res.Curves {
 		for _, p := range c.Peaks {
-			xs = append(xs, p.At[0])
+			if ax := c.Lines[p.Line].Axis; onDataLine(ax, p.At) {
+				cs = append(cs, centre{axis: ax, at: p.At})
+			}
 		}
 	}
-	sort.Float64s(xs)
-	ax := res.Layout.Axes[0]
-	step := func(x float64) float64 {
+	// Sort by axis, then by the fixed coordinates, then along the axis, so
+	// that peaks of several curves on one line become one window.
+	key := func(c centre) []float64 {
+		k := []float64{float64(c.axis)}
+		for a, v := range c.at {
+			if a != c.axis {
+				k = append(k, v)
+			}
+		}
+		return append(k, c.at[c.axis])
+	}
+	sort.SliceStable(cs, func(i, j int) bool {
+		ki, kj := key(cs[i]), key(cs[j])
+		for n := range ki {
+			if ki[n] != kj[n] {
+				return ki[n] < kj[n]
+			}
+		}
+		return false
+	})
+	step := func(axis int, x float64) float64 {
+		ax := res.Layout.Axes[axis]
 		i := sort.SearchFloat64s(ax, x)
 		i = max(1, min(len(ax)-1, i))
 		return ax[i] - ax[i-1]
 	}
-	var centres []float64
-	for _, x := range xs {
-		if len(centres) > 0 && x-centres[len(centres)-1] < 0.5*step(x) {
+	sameLine := func(a, b centre) bool {
+		if a.axis != b.axis {
+			return false
+		}
+		for n := range a.at {
+			if n != a.axis && a.at[n] != b.at[n] {
+				return false
+			}
+		}
+		return true
+	}
+	var centres []centre
+	for _, c := range cs {
+		if n := len(centres); n > 0 && sameLine(centres[n-1], c) && c.at[c.axis]-centres[n-1].at[c.axis] < 0.5*step(c.axis, c.at[c.axis]) {
 			continue
 		}
-		centres = append(centres, x)
+		centres = append(centres, c)
 	}
 	R := max(cfg.Refine, 2)
 	zc := cfg
@@ -699,18 +760,27 @@ func zoomPass(res *Result, sources []Source, ds *data.Dataset, g *data.Grid, cfg
 	if ind[SL] {
 		res.Notes = append(res.Notes, "zoom: sl is not re-scanned (its classifier is trained on the end regions of the whole grid)")
 	}
-	for z, x := range centres {
-		dx := step(x)
-		var axis []float64
-		for j := -R; j <= R; j++ {
-			axis = append(axis, x+dx*float64(j)/float64(R))
+	if g.Dim() > 1 && len(centres) > 0 {
+		res.Notes = append(res.Notes, "zoom on a 2-D grid: each window runs along the line of its peak, at the fixed value of the other parameter")
+	}
+	for z, c := range centres {
+		x := c.at[c.axis]
+		dx := step(c.axis, x)
+		lo := Layout{Names: res.Names, Axes: make([][]float64, len(c.at))}
+		for a, v := range c.at {
+			if a != c.axis {
+				lo.Axes[a] = []float64{v}
+				continue
+			}
+			for j := -R; j <= R; j++ {
+				lo.Axes[a] = append(lo.Axes[a], x+dx*float64(j)/float64(R))
+			}
 		}
-		lo := Layout{Names: res.Names, Axes: [][]float64{axis}}
 		curves, err := runPass(sources, ds, g, res.Data, lo, zc, zind, z+1)
 		if err != nil {
-			return fmt.Errorf("zoom around %s: %w", data.FormatPoint(res.Names, []float64{x}), err)
+			return fmt.Errorf("zoom around %s: %w", data.FormatPoint(res.Names, c.at), err)
 		}
-		res.Zoom = append(res.Zoom, ZoomResult{Around: []float64{x}, Layout: lo, Curves: curves})
+		res.Zoom = append(res.Zoom, ZoomResult{Around: append([]float64(nil), c.at...), Axis: c.axis, Layout: lo, Curves: curves})
 	}
 	return nil
 }

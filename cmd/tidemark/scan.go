@@ -87,9 +87,9 @@ each second pass gets its own zoom-<i>.csv.`,
 	f.IntVar(&o.refine, "refine", 1, "insert R−1 points between neighbouring grid points on every axis (needs a source that samples)")
 	f.IntVar(&o.modelSamples, "model-samples", 1000, "snapshots drawn from the source at every point of a refined or zoomed grid, and at every point for fisher_deriv")
 	f.BoolVar(&o.dataAtGrid, "data-at-grid", false, "on a refined grid, keep the data snapshots at the data's grid points (default: the source's own samples everywhere, for a consistent curve)")
-	f.BoolVar(&o.zoom, "zoom", false, "re-scan a finer grid (2R+1 points over ±1 step of the scanned grid, R = max(refine, 2)) around each peak (1-D grids)")
+	f.BoolVar(&o.zoom, "zoom", false, "re-scan a finer grid (2R+1 points over ±1 step of the scanned grid, R = max(refine, 2)) around each peak; on a 2-D grid along the line of the peak")
 	f.IntVar(&o.bootstrap, "bootstrap", 100, "bootstrap resamples for the errors (0: no errors)")
-	f.BoolVar(&o.exactSums, "exact-sums", false, "replace sample means by exact sums over all q^N states (small exact sources)")
+	f.BoolVar(&o.exactSums, "exact-sums", false, "replace sample means by exact sums over all q^N states (exact sources and models of at most 2^20 states)")
 	f.IntVar(&o.window, "window", 1, "window of the local indicator, in grid points on each side")
 	f.StringVar(&o.slRegions, "sl-regions", "", `end regions of sl as two parameter ranges "lo:hi,lo:hi" (default: first and last 10% of the points; 1-D)`)
 	f.IntVar(&o.threads, "threads", 0, "worker threads (default: all CPUs)")
@@ -291,7 +291,7 @@ func printScan(w io.Writer, out string, res *indicator.Result, sum *report.Summa
 		p("  boundary from %s (ridge along %s): %d points\n", b.Indicator, b.Axis, len(b.Points))
 	}
 	for _, z := range sum.Zoom {
-		p("  zoom around %s (%d points from %.6g to %.6g):\n", data.FormatPoint(res.Names, z.Around), z.Points, z.From, z.To)
+		p("  zoom around %s (%d points of %s from %.6g to %.6g):\n", data.FormatPoint(res.Names, z.Around), z.Points, z.Axis, z.From, z.To)
 		names := make([]string, 0, len(z.Indicators))
 		for name := range z.Indicators {
 			names = append(names, name)

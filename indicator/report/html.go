@@ -376,8 +376,8 @@ func HTML(res *indicator.Result, sum *Summary, pics map[string][]byte, pg *Page)
 		sort.Strings(names)
 		for _, n := range names {
 			for _, pk := range z.Indicators[n].Peaks {
-				d.Zoom = append(d.Zoom, fmt.Sprintf("zoom around %s (%d points from %.6g to %.6g): %s peak at %s",
-					data.FormatPoint(res.Names, z.Around), z.Points, z.From, z.To, n, fmtPoint(res.Names, pk.At, pk.Err)))
+				d.Zoom = append(d.Zoom, fmt.Sprintf("zoom around %s (%d points of %s from %.6g to %.6g): %s peak at %s",
+					data.FormatPoint(res.Names, z.Around), z.Points, z.Axis, z.From, z.To, n, fmtPoint(res.Names, pk.At, pk.Err)))
 			}
 		}
 	}

@@ -58,7 +58,9 @@ type PeakSummary struct {
 
 // ZoomSummary is the second pass around one peak.
 type ZoomSummary struct {
-	Around     []float64                   `json:"around"`
+	Around []float64 `json:"around"`
+	// Axis is the parameter the window runs along.
+	Axis       string                      `json:"axis"`
 	From       float64                     `json:"from"`
 	To         float64                     `json:"to"`
 	Points     int                         `json:"points"`
@@ -103,8 +105,8 @@ func NewSummary(res *indicator.Result, info Info) *Summary {
 		s.Grid.Shape = append(s.Grid.Shape, len(a))
 	}
 	for _, z := range res.Zoom {
-		ax := z.Layout.Axes[0]
-		s.Zoom = append(s.Zoom, ZoomSummary{Around: z.Around, From: ax[0], To: ax[len(ax)-1], Points: len(ax), Indicators: summarize(z.Curves, res.Names)})
+		ax := z.Layout.Axes[z.Axis]
+		s.Zoom = append(s.Zoom, ZoomSummary{Around: z.Around, Axis: res.Names[z.Axis], From: ax[0], To: ax[len(ax)-1], Points: len(ax), Indicators: summarize(z.Curves, res.Names)})
 	}
 	return s
 }
