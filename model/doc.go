@@ -35,14 +35,20 @@
 // triangular: both implementations split each masked product into blocks of
 // 64 columns and multiply only the rows that hold a nonzero mask entry
 // (about half the work of a dense product). In the training graph these
-// products, and the conditioning heads, are hand-written gorgonia
-// operations (forward, input gradient, weight gradient on BLAS) that reuse
-// their buffers from step to step; gorgonia still builds the graph and
-// differentiates the rest. Config.Precision "float32" runs these products in
-// single precision while every per-site term, sum and gradient outside them
-// stays float64; log-likelihoods then agree with float64 to about 1e-7
-// relative. The scoring kernel streams snapshots in blocks of 64, so
-// LogProbMatrix needs memory for its n·K output and a few MB besides.
+// products, the conditioning heads and the layer biases are hand-written
+// gorgonia operations (forward, input gradient, weight and bias gradient
+// on BLAS) that reuse their buffers from step to step; gorgonia still
+// builds the graph and differentiates the rest. W⊙M is prepared once per
+// step for all passes; BatchGraph splits a minibatch over one graph per
+// thread, prepares W⊙M once for all of them (the threads together) and
+// combines their gradients in parallel. Config.Precision "float32" runs
+// these products in single precision while every per-site term, sum and
+// gradient outside them stays float64; log-likelihoods then agree with
+// float64 to about 1e-7 relative. For q = 2 the per-site terms
+// x·z − log(1+e^z) take one logarithm per 512 sites (of the product of the
+// factors 1+e^−|z|, which cannot overflow) instead of one per site. The
+// scoring kernel streams snapshots in blocks of 64, so LogProbMatrix needs
+// memory for its n·K output and a few MB besides.
 //
 // BLAS. The default build uses gonum's pure-Go BLAS. Built with the tag
 // openblas (CGO_ENABLED=1, OpenBLAS installed, e.g. Debian libopenblas-dev),
