@@ -397,6 +397,17 @@ const (
 	actTanh
 )
 
+// reluGrad is d when the ReLU output o is positive, else 0, without a
+// branch (o ≥ 0 is +0 exactly where the unit is off; the activations are
+// written by max(·, 0), which gives +0, never −0).
+func reluGrad(d, o float64) float64 {
+	m := uint64(0)
+	if math.Float64bits(o) != 0 {
+		m = ^uint64(0)
+	}
+	return math.Float64frombits(math.Float64bits(d) & m)
+}
+
 // fusedAct writes res = act(float64(y32) + hd + b), b broadcast over the
 // rows.
 func fusedAct(res []float64, y32 []float32, hd, b []float64, act int) {
@@ -406,11 +417,9 @@ func fusedAct(res []float64, y32 []float32, hd, b []float64, act int) {
 		switch act {
 		case actRelu:
 			for k, v := range y {
-				t := float64(v) + h[k] + b[k]
-				if t < 0 {
-					t = 0
-				}
-				r[k] = t
+				// The builtin max compiles without a branch, which
+				// matters on random signs.
+				r[k] = max(float64(v)+h[k]+b[k], 0)
 			}
 		case actTanh:
 			for k, v := range y {
@@ -550,9 +559,7 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 			switch ml.act {
 			case actRelu:
 				for i, v := range res {
-					if v < 0 {
-						res[i] = 0
-					}
+					res[i] = max(v, 0) // +0, never −0: see reluGrad
 				}
 			case actTanh:
 				for i, v := range res {
@@ -572,21 +579,17 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 			// float32 copy, written here in the same pass.
 			d32 := grow32(ml.dy32, rows*out)
 			ml.dy32 = d32
+			a := a[:rows*out]
 			for i, o := range b[:rows*out] {
-				v := 0.0
-				if o > 0 {
-					v = a[i]
-				}
+				v := reluGrad(a[i], o)
 				res[i] = v
 				d32[i] = float32(v)
 			}
 			ml.dyOK = true
 		case ml.act == actRelu:
+			a := a[:rows*out]
 			for i, o := range b[:rows*out] {
-				res[i] = 0
-				if o > 0 {
-					res[i] = a[i]
-				}
+				res[i] = reluGrad(a[i], o)
 			}
 		case ml.act == actTanh:
 			for i, o := range b[:rows*out] {
