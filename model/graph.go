@@ -130,6 +130,9 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 	L := len(c.Hidden)
 	logp := func(x *G.Node, pass string) *G.Node {
 		lin, linD := linears(pass)
+		for i := 0; i < L; i++ {
+			lin[i].next = lin[i+1]
+		}
 		h := x
 		for i := 0; i < L; i++ {
 			h = must(maskedLayer(h, wn[l.madeW[i]], heads[i], wn[l.madeB[i]], lin[i], hiddenAct))

@@ -93,6 +93,12 @@ func blocks32(dst []float32, w []float64, t tiling) []float32 {
 		for j := c.lo; j < c.hi; j++ {
 			r := j * out
 			d, src, mk := dst[r+c.a0:r+c.a1], w[r+c.a0:r+c.a1], t.mask[r+c.a0:r+c.a1]
+			if c.full[j-c.lo] {
+				for k := range d {
+					d[k] = float32(src[k])
+				}
+				continue
+			}
 			for k := range d {
 				d[k] = float32(src[k] * mk[k])
 			}

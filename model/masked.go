@@ -22,7 +22,13 @@ const tileSize = 64
 // tile is one block of a masked weight [in, out]: the columns (or rows)
 // a0..a1 and the range lo..hi of rows (or columns) that hold every nonzero
 // mask entry of the block.
-type tile struct{ a0, a1, lo, hi int }
+type tile struct {
+	a0, a1, lo, hi int
+	// full[j−lo] says row j of a column block has mask 1 in every column
+	// a0..a1−1, so multiplying by the mask can be skipped there (most rows
+	// of a triangular mask); only column blocks set it.
+	full []bool
+}
 
 // tiling is the block structure of one mask. Because hidden units are
 // sorted by degree (and inputs are in site order, which is degree order for
@@ -59,7 +65,17 @@ func newTilingSize(mask []float64, in, out, tileSize int) tiling {
 			}
 		}
 		if hi > lo {
-			t.cols = append(t.cols, tile{c0, c1, lo, hi})
+			full := make([]bool, hi-lo)
+			for j := lo; j < hi; j++ {
+				full[j-lo] = true
+				for k := c0; k < c1; k++ {
+					if mask[j*out+k] != 1 {
+						full[j-lo] = false
+						break
+					}
+				}
+			}
+			t.cols = append(t.cols, tile{c0, c1, lo, hi, full})
 		}
 	}
 	for r0 := 0; r0 < in; r0 += tileSize {
@@ -80,7 +96,7 @@ func newTilingSize(mask []float64, in, out, tileSize int) tiling {
 			}
 		}
 		if hi > lo {
-			t.rows = append(t.rows, tile{r0, r1, lo, hi})
+			t.rows = append(t.rows, tile{a0: r0, a1: r1, lo: lo, hi: hi})
 		}
 	}
 	t.allCols = len(t.cols) == (out+tileSize-1)/tileSize
@@ -118,10 +134,12 @@ type maskedLinear struct {
 	x32    []float32 // scratch for float32 operands
 	fx32   []float32 // the float32 input of the last forward product
 	y32    []float32
-	dy32   []float32    // float32 copy of this step's output gradient dY
-	dyOK   bool         // dy32 holds this step's dY (reset by forward)
-	g32    []float32    // float32 weight gradient
-	bufs   [5][]float64 // output buffers of forward, dX, dW, activation gradient, bias gradient
+	dy32   []float32     // float32 copy of this step's output gradient dY
+	next   *maskedLinear // the product that reads this layer's output, if any
+	fxOK   bool          // fx32 already holds this step's input (written by the layer below)
+	dyOK   bool          // dy32 holds this step's dY (reset by forward)
+	g32    []float32     // float32 weight gradient
+	bufs   [5][]float64  // output buffers of forward, dX, dW, activation gradient, bias gradient
 
 	// fused: the forward operation takes two more inputs, a bias matrix Hd
 	// [rows, out] and a bias vector b [out], and returns
@@ -177,6 +195,12 @@ func (ml *maskedLinear) prepareCols(w []float64, c0, c1 int) {
 			for j := c.lo; j < c.hi; j++ {
 				r := j * out
 				d, src, mk := ml.weff32[r+c.a0:r+c.a1], w[r+c.a0:r+c.a1], mask[r+c.a0:r+c.a1]
+				if c.full[j-c.lo] {
+					for k := range d {
+						d[k] = float32(src[k])
+					}
+					continue
+				}
 				for k := range d {
 					d[k] = float32(src[k] * mk[k])
 				}
@@ -191,6 +215,10 @@ func (ml *maskedLinear) prepareCols(w []float64, c0, c1 int) {
 		for j := c.lo; j < c.hi; j++ {
 			r := j * out
 			d, src, mk := ml.weff[r+c.a0:r+c.a1], w[r+c.a0:r+c.a1], mask[r+c.a0:r+c.a1]
+			if c.full[j-c.lo] {
+				copy(d, src)
+				continue
+			}
 			for k := range d {
 				d[k] = src[k] * mk[k]
 			}
@@ -281,7 +309,10 @@ func (ml *maskedLinear) forward(y, x []float64, b int, acc bool) {
 // forward32 computes ml.y32 = float32(x)·(W⊙M) for b rows in single
 // precision, keeping the rounded input in ml.fx32 for the weight gradient.
 func (ml *maskedLinear) forward32(x []float64, b int) {
-	ml.fx32 = to32(ml.fx32, x[:b*ml.t.in])
+	if !ml.fxOK || len(ml.fx32) != b*ml.t.in {
+		ml.fx32 = to32(ml.fx32, x[:b*ml.t.in])
+	}
+	ml.fxOK = false
 	ml.product32(b)
 }
 
@@ -356,6 +387,12 @@ func (ml *maskedLinear) gradW(dw, x, dy []float64, b int) {
 			for j := c.lo; j < c.hi; j++ {
 				r := j * out
 				d, g, mk := dw[r+c.a0:r+c.a1], w32[r+c.a0:r+c.a1], mask[r+c.a0:r+c.a1]
+				if c.full[j-c.lo] {
+					for k := range d {
+						d[k] = float64(g[k])
+					}
+					continue
+				}
 				for k := range d {
 					d[k] = float64(g[k]) * mk[k]
 				}
@@ -369,6 +406,9 @@ func (ml *maskedLinear) gradW(dw, x, dy []float64, b int) {
 		ml.zeroOutside(dw, c)
 		for j := c.lo; j < c.hi; j++ {
 			r := j * out
+			if c.full[j-c.lo] {
+				continue
+			}
 			d, mk := dw[r+c.a0:r+c.a1], mask[r+c.a0:r+c.a1]
 			for k := range d {
 				d[k] *= mk[k]
@@ -409,25 +449,37 @@ func reluGrad(d, o float64) float64 {
 }
 
 // fusedAct writes res = act(float64(y32) + hd + b), b broadcast over the
-// rows.
-func fusedAct(res []float64, y32 []float32, hd, b []float64, act int) {
+// rows, and its float32 rounding into r32 unless r32 is nil.
+func fusedAct(res []float64, r32 []float32, y32 []float32, hd, b []float64, act int) {
 	out := len(b)
 	for i := 0; i < len(y32)/out; i++ {
 		r, y, h := res[i*out:(i+1)*out], y32[i*out:(i+1)*out], hd[i*out:(i+1)*out]
-		switch act {
-		case actRelu:
+		switch {
+		case act == actRelu && r32 != nil:
+			q := r32[i*out : (i+1)*out]
+			for k, v := range y {
+				t := max(float64(v)+h[k]+b[k], 0)
+				r[k], q[k] = t, float32(t)
+			}
+		case act == actRelu:
 			for k, v := range y {
 				// The builtin max compiles without a branch, which
 				// matters on random signs.
 				r[k] = max(float64(v)+h[k]+b[k], 0)
 			}
-		case actTanh:
+		case act == actTanh:
 			for k, v := range y {
 				r[k] = math.Tanh(float64(v) + h[k] + b[k])
 			}
 		default:
 			for k, v := range y {
 				r[k] = float64(v) + h[k] + b[k]
+			}
+		}
+		if r32 != nil && act != actRelu {
+			q := r32[i*out : (i+1)*out]
+			for k, v := range r {
+				q[k] = float32(v)
 			}
 		}
 	}
@@ -545,7 +597,14 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 				// applies the activation.
 				ml.dyOK = false
 				ml.forward32(a, rows)
-				fusedAct(res, ml.y32[:rows*out], hd[:rows*out], bias[:out], ml.act)
+				var next32 []float32
+				if nx := ml.next; nx != nil && nx.f32 {
+					// The layer above reads this output rounded to
+					// float32: write that copy in the same pass.
+					nx.fx32 = grow32(nx.fx32, rows*out)
+					next32, nx.fxOK = nx.fx32, true
+				}
+				fusedAct(res, next32, ml.y32[:rows*out], hd[:rows*out], bias[:out], ml.act)
 				shape = tensor.Shape{rows, out}
 				break
 			}
