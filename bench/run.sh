@@ -51,6 +51,22 @@ if ! /usr/bin/python3 -c 'import torch' 2>/dev/null; then
 	exit 2
 fi
 sides="$sides peer"
+# The OpenBLAS kernels our openblas build runs (it re-selects them when
+# OpenBLAS's CPU detection fell back to its generic ones); the peer's torch
+# links the same OpenBLAS, so it gets the same kernels through
+# OPENBLAS_CORETYPE, unless that is set already.
+blascore=""
+peercore=${OPENBLAS_CORETYPE:-}
+if [ -x "$tmp/gobench_openblas" ]; then
+	blascore=$("$tmp/gobench_openblas" -blascore)
+	if [ -z "$peercore" ]; then
+		peercore=$(echo "$blascore" | cut -d' ' -f1)
+	fi
+fi
+peerenv=""
+if [ -n "$peercore" ]; then
+	peerenv="OPENBLAS_CORETYPE=$peercore"
+fi
 
 load_before=$(cut -d' ' -f1-3 /proc/loadavg)
 start=$(date -u '+%Y-%m-%d %H:%M UTC')
@@ -62,7 +78,7 @@ while [ $round -le "$rounds" ]; do
 	if [ -x "$tmp/gobench_openblas" ]; then
 		OPENBLAS_NUM_THREADS=$threads "$tmp/gobench_openblas" -threads $threads -reps $reps -shapes "" -gemm 1024 >>"$raw"
 	fi
-	OMP_WAIT_POLICY=PASSIVE /usr/bin/python3 bench/peer/made_peer.py --threads $threads --reps $reps --shapes "" --gemm 1024 >>"$raw"
+	env $peerenv OMP_WAIT_POLICY=PASSIVE /usr/bin/python3 bench/peer/made_peer.py --threads $threads --reps $reps --shapes "" --gemm 1024 >>"$raw"
 	for shape in $(echo "$shapes" | tr ',' ' '); do
 		n=${shape%x*}
 		rows=256
@@ -72,7 +88,7 @@ while [ $round -le "$rounds" ]; do
 			case $side in
 			gonum) "$tmp/gobench" -threads $threads -reps $reps -budget "$budget" -gemm 0 -shapes "$shape" -matrows $rows >>"$raw" ;;
 			openblas) OPENBLAS_NUM_THREADS=1 "$tmp/gobench_openblas" -threads $threads -reps $reps -budget "$budget" -gemm 0 -shapes "$shape" -matrows $rows >>"$raw" ;;
-			peer) OMP_WAIT_POLICY=PASSIVE /usr/bin/python3 bench/peer/made_peer.py --threads $threads --reps $reps --budget "$budget" --gemm 0 --shapes "$shape" --matrows $rows >>"$raw" ;;
+			peer) env $peerenv OMP_WAIT_POLICY=PASSIVE /usr/bin/python3 bench/peer/made_peer.py --threads $threads --reps $reps --budget "$budget" --gemm 0 --shapes "$shape" --matrows $rows >>"$raw" ;;
 			esac
 		done
 	done
@@ -84,6 +100,7 @@ echo "bench: streaming benchmark" >&2
 go test ./model -run XXX -bench LogProbMatrixStream -benchtime 1x -benchmem | grep '^Benchmark' >"$tmp/stream.txt" || true
 cp "$raw" bench/last-run.jsonl
 /usr/bin/python3 bench/summarize.py "$raw" --start "$start" --load-before "$load_before" --load-after "$load_after" \
-	--threads $threads --budget "$budget" --reps "$reps" --rounds "$rounds" --stream "$tmp/stream.txt" >"$tmp/results.md"
+	--threads $threads --budget "$budget" --reps "$reps" --rounds "$rounds" --stream "$tmp/stream.txt" \
+	--blascore "$blascore" --peercore "$peercore" >"$tmp/results.md"
 mv "$tmp/results.md" "$out"
 cat "$out"

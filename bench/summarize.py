@@ -26,6 +26,8 @@ def main():
     ap.add_argument("--reps", default="")
     ap.add_argument("--rounds", default="")
     ap.add_argument("--stream", default="")
+    ap.add_argument("--blascore", default="", help="OpenBLAS kernels of our openblas build (model.BLASCore)")
+    ap.add_argument("--peercore", default="", help="OPENBLAS_CORETYPE given to the peer")
     a = ap.parse_args()
     rows = [json.loads(l) for l in open(a.raw) if l.strip()]
     groups = collections.defaultdict(list)
@@ -91,6 +93,14 @@ def main():
       "default Config.Precision; `float32` runs the masked products in single precision (the peer's "
       "precision) with float64 per-site terms and sums.")
     p()
+    if a.blascore:
+        p(f"OpenBLAS kernels: ours `{a.blascore}`"
+          + (f"; the peer's torch links the same OpenBLAS and ran with OPENBLAS_CORETYPE={a.peercore}, "
+             "so both sides use the same kernels" if a.peercore else "")
+          + ". (OpenBLAS 0.3.21 does not recognise this CPU and falls back to its generic Prescott kernels, "
+          "with sgemm 3–4× slower; tidemark's openblas build re-selects the kernels itself, the peer gets "
+          "them through the variable.)")
+        p()
     def table(title, m, note):
         p(title)
         p()

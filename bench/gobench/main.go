@@ -62,7 +62,12 @@ func main() {
 	chunksFlag = flag.Int("chunks", 0, "graphs the training batch is split over (0 = one per thread)")
 	matRows := flag.Int("matrows", 256, "snapshots scored at 64 λ by LogProbMatrix")
 	cpuprof := flag.String("cpuprofile", "", "write a CPU profile to this file")
+	blasCore := flag.Bool("blascore", false, "print the OpenBLAS kernels in use (model.BLASCore) and exit")
 	flag.Parse()
+	if *blasCore {
+		fmt.Println(model.BLASCore())
+		return
+	}
 	if *cpuprof != "" {
 		f, err := os.Create(*cpuprof)
 		if err == nil {
@@ -78,6 +83,9 @@ func main() {
 	enc := json.NewEncoder(os.Stdout)
 	emit := func(r result) {
 		r.Side, r.Threads, r.BLAS = "ours", *threads, model.BLAS
+		if c := model.BLASCore(); c != "" {
+			r.BLAS += ", " + c
+		}
 		if err := enc.Encode(r); err != nil {
 			fmt.Fprintln(os.Stderr, "gobench:", err)
 			os.Exit(1)
