@@ -15,7 +15,7 @@ type BatchGraph struct {
 	m      *Model
 	batch  int
 	graphs []*Graph
-	grads  [][][]float64 // per graph but the first when there are several
+	grads  [][][]float64 // per graph when there are several
 	losses []float64
 	errs   []error
 	jobs   [][]prepJob // per thread: the column blocks it prepares
@@ -55,9 +55,16 @@ func NewBatchGraph(m *Model, batch, threads int) (*BatchGraph, error) {
 	}
 	// All graphs read the W⊙M buffers of the first, which the threads
 	// prepare together, split by column blocks in proportion to their work.
+	// Their weight gradients go to private arrays, so the zeros outside
+	// the mask blocks are written only once.
 	g0 := bg.graphs[0]
 	for _, g := range bg.graphs {
 		g.prepared = true
+		for _, mls := range g.byWeight {
+			for _, ml := range mls {
+				ml.privDst = true
+			}
+		}
 		for w, mls := range g.byWeight {
 			for k, ml := range mls {
 				ml.weff, ml.weff32 = g0.byWeight[w][k].weff, g0.byWeight[w][k].weff32
@@ -96,7 +103,7 @@ func NewBatchGraph(m *Model, batch, threads int) (*BatchGraph, error) {
 		bg.jobs[t] = js
 		done += b.work
 	}
-	for range T - 1 {
+	for range T {
 		gr := make([][]float64, len(m.Weights))
 		for i, w := range m.Weights {
 			gr[i] = make([]float64, len(w.Data))
@@ -151,15 +158,10 @@ func (bg *BatchGraph) LossGrad(xs []uint8, params []float64, n int, scale float6
 			return 0, fmt.Errorf("model: gradient slice %d (%q) must have length %d, found %d", i, t.Name, len(t.Data), len(grads[i]))
 		}
 	}
-	// The first graph writes its gradient into grads, the others into
-	// their own slices; the weights of a chunk are n_t/n.
+	// Each graph writes its gradient into its own slices; the weights of
+	// a chunk are n_t/n.
 	chunk := func(t int) (int, int) { return t * n / T, (t + 1) * n / T }
-	gradsOf := func(t int) [][]float64 {
-		if t == 0 {
-			return grads
-		}
-		return bg.grads[t-1]
-	}
+	gradsOf := func(t int) [][]float64 { return bg.grads[t] }
 	parallel := func(f func(t int)) {
 		var wg sync.WaitGroup
 		for t := 1; t < T; t++ {
@@ -221,11 +223,19 @@ func (bg *BatchGraph) LossGrad(xs []uint8, params []float64, n int, scale float6
 		for i, g := range grads {
 			lo, hi := t*len(g)/T, (t+1)*len(g)/T
 			s := g[lo:hi]
+			g0, f0 := bg.grads[0][i][lo:hi], f[0]
+			if T == 2 {
+				g1, f1 := bg.grads[1][i][lo:hi], f[1]
+				for j := range s {
+					s[j] = f0*g0[j] + f1*g1[j]
+				}
+				continue
+			}
 			for j := range s {
-				s[j] *= f[0]
+				s[j] = f0 * g0[j]
 			}
 			for c := 1; c < T; c++ {
-				gc := bg.grads[c-1][i][lo:hi]
+				gc := bg.grads[c][i][lo:hi]
 				fc := f[c]
 				for j, v := range gc {
 					s[j] += fc * v

@@ -8,7 +8,8 @@ import (
 // TestBatchGraphMatchesGraph checks that splitting a batch over 1, 2 and 3
 // graphs with shared, jointly prepared weights gives the loss and gradient
 // of one graph over the whole batch (to summation rounding), bit for bit
-// with one thread, and that scale multiplies the gradient.
+// with one thread, and that scale multiplies the gradient, on the second
+// step of a BatchGraph.
 func TestBatchGraphMatchesGraph(t *testing.T) {
 	type tc struct {
 		name string
@@ -55,6 +56,13 @@ func TestBatchGraphMatchesGraph(t *testing.T) {
 					}
 					const scale = 0.25 // a power of two: scaling is exact
 					got := zeroGrads(m)
+					// A step on other data first: the second step reuses
+					// the graphs' buffers (and the zeros written outside
+					// the mask blocks).
+					xo, po := randomBatch(tc.cfg, 40, 33)
+					if _, err := bg.LossGrad(xo, po, 40, scale, got); err != nil {
+						t.Fatal(err)
+					}
 					gl, err := bg.LossGrad(xs, ps, n, scale, got)
 					if err != nil {
 						t.Fatal(err)

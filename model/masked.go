@@ -147,6 +147,11 @@ type maskedLinear struct {
 	fused bool
 	act   int
 	dst   []float64 // when set (len in·out), dW is written here instead
+	// privDst says dst is private to this graph (nobody else writes it),
+	// so its entries outside the blocks stay zero once written; clean is
+	// the first element of the dW array last written with those zeros.
+	privDst bool
+	clean   *float64
 }
 
 func (ml *maskedLinear) buf(i, n int) []float64 {
@@ -371,7 +376,10 @@ func (ml *maskedLinear) gradX(dx, dy []float64, b int) {
 func (ml *maskedLinear) gradW(dw, x, dy []float64, b int) {
 	in, out := ml.t.in, ml.t.out
 	mask := ml.t.mask
-	if !ml.t.allCols {
+	// The zeros outside the blocks need writing only once into an array
+	// nobody else writes.
+	zero := ml.clean == nil || &dw[0] != ml.clean
+	if zero && !ml.t.allCols {
 		clear(dw)
 	}
 	if ml.f32 {
@@ -383,7 +391,9 @@ func (ml *maskedLinear) gradW(dw, x, dy []float64, b int) {
 		for _, c := range ml.t.cols {
 			gemm(blas.Trans, blas.NoTrans, 1, sub32(x32, in, 0, c.lo, b, c.hi-c.lo),
 				sub32(y32, out, 0, c.a0, b, c.a1-c.a0), 0, sub32(w32, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0))
-			ml.zeroOutside(dw, c)
+			if zero {
+				ml.zeroOutside(dw, c)
+			}
 			for j := c.lo; j < c.hi; j++ {
 				r := j * out
 				d, g, mk := dw[r+c.a0:r+c.a1], w32[r+c.a0:r+c.a1], mask[r+c.a0:r+c.a1]
@@ -403,7 +413,9 @@ func (ml *maskedLinear) gradW(dw, x, dy []float64, b int) {
 	for _, c := range ml.t.cols {
 		gemm(blas.Trans, blas.NoTrans, 1, sub64(x, in, 0, c.lo, b, c.hi-c.lo),
 			sub64(dy, out, 0, c.a0, b, c.a1-c.a0), 0, sub64(dw, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0))
-		ml.zeroOutside(dw, c)
+		if zero {
+			ml.zeroOutside(dw, c)
+		}
 		for j := c.lo; j < c.hi; j++ {
 			r := j * out
 			if c.full[j-c.lo] {
@@ -665,11 +677,18 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 		ml.gradX(res, a, rows)
 		shape = tensor.Shape{rows, in}
 	default:
+		// (ml.buf(2) is not trusted: gorgonia may reuse a gradient node's
+		// value, as it does other intermediate values.)
 		res = ml.dst
+		private := ml.privDst
 		if len(res) != in*out {
-			res = ml.buf(2, in*out)
+			res, private = ml.buf(2, in*out), false
 		}
 		ml.gradW(res, a, b, rows)
+		ml.clean = nil
+		if private {
+			ml.clean = &res[0]
+		}
 		shape = tensor.Shape{in, out}
 	}
 	return tensor.New(tensor.WithShape(shape...), tensor.WithBacking(res)), nil
