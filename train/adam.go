@@ -78,6 +78,12 @@ func (a *Adam) update(w, g [][]float64, lr, bc1, bc2 float64, k, parts int) {
 		decay := a.WeightDecay != 0 && (a.Decay == nil || a.Decay[i])
 		wd := lr * a.WeightDecay
 		for j, gj := range gi {
+			if gj == 0 && !decay && mi[j] == 0 && vi[j] == 0 {
+				// The step would be exactly 0 and the moments stay 0: the
+				// entries outside a weight's mask, whose gradient is
+				// always 0, cost no square root and division.
+				continue
+			}
 			mj := b1*mi[j] + (1-b1)*gj
 			vj := b2*vi[j] + (1-b2)*gj*gj
 			mi[j], vi[j] = mj, vj

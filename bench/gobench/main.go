@@ -253,6 +253,11 @@ func (a *adam) update(i int, d, g []float64, lo, hi int, lr float64) {
 	m, v := a.m[i], a.v[i]
 	for k := lo; k < hi; k++ {
 		gk := g[k]
+		if gk == 0 && m[k] == 0 && v[k] == 0 {
+			// The step would be exactly 0 (as in train.Adam): the entries
+			// outside the masks, whose gradient is always 0.
+			continue
+		}
 		mk := 0.9*m[k] + 0.1*gk
 		vk := 0.999*v[k] + 0.001*gk*gk
 		m[k], v[k] = mk, vk
