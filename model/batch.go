@@ -19,6 +19,9 @@ type BatchGraph struct {
 	losses []float64
 	errs   []error
 	jobs   [][]prepJob // per thread: the column blocks it prepares
+	// deferred[w], when set, are the float32 products of weight w in each
+	// graph, whose float32 gradients LossGrad combines itself.
+	deferred [][]*maskedLinear
 }
 
 // prepJob is the column blocks c0..c1−1 of the masked weight w.
@@ -58,6 +61,18 @@ func NewBatchGraph(m *Model, batch, threads int) (*BatchGraph, error) {
 	// Their weight gradients go to private arrays, so the zeros outside
 	// the mask blocks are written only once.
 	g0 := bg.graphs[0]
+	bg.deferred = make([][]*maskedLinear, len(m.Weights))
+	for w, mls := range g0.byWeight {
+		// A float32 weight read by one product per graph: the chunks'
+		// float32 gradients are combined without widening each first.
+		if len(mls) == 1 && mls[0].f32 {
+			for _, g := range bg.graphs {
+				ml := g.byWeight[w][0]
+				ml.defer32 = true
+				bg.deferred[w] = append(bg.deferred[w], ml)
+			}
+		}
+	}
 	for _, g := range bg.graphs {
 		g.prepared = true
 		for _, mls := range g.byWeight {
@@ -221,6 +236,11 @@ func (bg *BatchGraph) LossGrad(xs []uint8, params []float64, n int, scale float6
 	}
 	parallel(func(t int) {
 		for i, g := range grads {
+			if mls := bg.deferred[i]; mls != nil {
+				in := mls[0].t.in
+				combine32(g, mls, f, t*in/T, (t+1)*in/T)
+				continue
+			}
 			lo, hi := t*len(g)/T, (t+1)*len(g)/T
 			s := g[lo:hi]
 			g0, f0 := bg.grads[0][i][lo:hi], f[0]

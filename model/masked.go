@@ -152,6 +152,9 @@ type maskedLinear struct {
 	// the first element of the dW array last written with those zeros.
 	privDst bool
 	clean   *float64
+	// defer32: gradW leaves its float32 result in g32 and dW untouched;
+	// the BatchGraph combines the chunks' g32 itself (see combine32).
+	defer32 bool
 }
 
 func (ml *maskedLinear) buf(i, n int) []float64 {
@@ -379,7 +382,7 @@ func (ml *maskedLinear) gradW(dw, x, dy []float64, b int) {
 	// The zeros outside the blocks need writing only once into an array
 	// nobody else writes.
 	zero := ml.clean == nil || &dw[0] != ml.clean
-	if zero && !ml.t.allCols {
+	if zero && !ml.t.allCols && !ml.defer32 {
 		clear(dw)
 	}
 	if ml.f32 {
@@ -391,6 +394,9 @@ func (ml *maskedLinear) gradW(dw, x, dy []float64, b int) {
 		for _, c := range ml.t.cols {
 			gemm(blas.Trans, blas.NoTrans, 1, sub32(x32, in, 0, c.lo, b, c.hi-c.lo),
 				sub32(y32, out, 0, c.a0, b, c.a1-c.a0), 0, sub32(w32, out, c.lo, c.a0, c.hi-c.lo, c.a1-c.a0))
+			if ml.defer32 {
+				continue
+			}
 			if zero {
 				ml.zeroOutside(dw, c)
 			}
@@ -424,6 +430,60 @@ func (ml *maskedLinear) gradW(dw, x, dy []float64, b int) {
 			d, mk := dw[r+c.a0:r+c.a1], mask[r+c.a0:r+c.a1]
 			for k := range d {
 				d[k] *= mk[k]
+			}
+		}
+	}
+}
+
+// combine32 writes dst = Σ_c f[c]·float64(g32 of mls[c]) ⊙ M for the rows
+// r0..r1−1 of the weight the products mls (one per chunk graph, same
+// tiling) share: their float32 weight gradients of this step, combined
+// without widening each first. Chunks with f[c] = 0 did not run and are
+// left out.
+func combine32(dst []float64, mls []*maskedLinear, f []float64, r0, r1 int) {
+	t := mls[0].t
+	out := t.out
+	if !t.allCols {
+		clear(dst[r0*out : r1*out])
+	}
+	var gs [][]float32
+	var fs []float64
+	for c, ml := range mls {
+		if f[c] != 0 {
+			gs, fs = append(gs, ml.g32), append(fs, f[c])
+		}
+	}
+	for _, b := range t.cols {
+		for j := r0; j < r1; j++ {
+			r := j*out + b.a0
+			d := dst[r : r+b.a1-b.a0]
+			if j < b.lo || j >= b.hi || len(gs) == 0 {
+				clear(d)
+				continue
+			}
+			g0, f0 := gs[0][r:r+len(d)], fs[0]
+			switch {
+			case len(gs) == 2:
+				g1, f1 := gs[1][r:r+len(d)], fs[1]
+				for k := range d {
+					d[k] = f0*float64(g0[k]) + f1*float64(g1[k])
+				}
+			default:
+				for k := range d {
+					d[k] = f0 * float64(g0[k])
+				}
+				for c := 1; c < len(gs); c++ {
+					gc, fc := gs[c][r:r+len(d)], fs[c]
+					for k := range d {
+						d[k] += fc * float64(gc[k])
+					}
+				}
+			}
+			if !b.full[j-b.lo] {
+				mk := t.mask[r : r+len(d)]
+				for k := range d {
+					d[k] *= mk[k]
+				}
 			}
 		}
 	}
