@@ -56,7 +56,12 @@
 //	go build -tags openblas ./cmd/tidemark
 //
 // gonum's and gorgonia's BLAS calls go to OpenBLAS through cgo
-// (gonum.org/v1/netlib); see the constant BLAS. Training and LogProbMatrix
-// already run one goroutine per thread, so OpenBLAS is limited to one
-// thread of its own unless OPENBLAS_NUM_THREADS is set.
+// (gonum.org/v1/netlib); see the constant BLAS and BLASCore. Training and
+// LogProbMatrix already run one goroutine per thread, so OpenBLAS is
+// limited to one thread of its own unless OPENBLAS_NUM_THREADS is set.
+// OpenBLAS 0.3.21 (Debian 12) does not recognise some newer CPUs and falls
+// back to generic kernels with a 3–4× slower sgemm; when that happens on a
+// CPU with AVX-512 or AVX2 and OPENBLAS_CORETYPE is unset, the openblas
+// build selects the matching kernels itself (BLASCore then says
+// "re-selected").
 package model
