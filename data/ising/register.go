@@ -2,6 +2,7 @@ package ising
 
 import (
 	"fmt"
+	"slices"
 
 	"tidemark/data"
 	"tidemark/data/exact"
@@ -9,9 +10,9 @@ import (
 )
 
 // init makes Ising datasets rebuildable through exact.FromMeta. A lattice
-// too large to enumerate has no exact density (Kaufman's formula gives ln Z
-// but not the probability of every snapshot under a field), so it reports
-// exact.ErrNoExact.
+// too large to enumerate still has an exact density at zero field
+// (KaufmanSource, which scores snapshots but cannot list or draw them);
+// under a field it has none, and reports exact.ErrNoExact.
 func init() {
 	exact.Register("ising", func(m data.Meta) (indicator.Source, error) {
 		sm, err := ParseSourceMeta(m)
@@ -19,8 +20,15 @@ func init() {
 			return nil, err
 		}
 		if n := sm.Lattice[0] * sm.Lattice[1]; n > MaxExactSites {
-			return nil, fmt.Errorf("%w: the %d×%d Ising lattice has %d sites; exact enumeration is limited to %d",
-				exact.ErrNoExact, sm.Lattice[0], sm.Lattice[1], n, MaxExactSites)
+			if sm.Field != 0 || slices.Contains(sm.Axes, "h") {
+				return nil, fmt.Errorf("%w: the %d×%d Ising lattice has %d sites, more than the %d that can be enumerated, and its field is not zero (Kaufman's exact formula is for h = 0)",
+					exact.ErrNoExact, sm.Lattice[0], sm.Lattice[1], n, MaxExactSites)
+			}
+			s, err := NewKaufmanSource(Lattice{Ly: sm.Lattice[0], Lx: sm.Lattice[1]}, sm.Axes, sm.Fixed())
+			if err != nil {
+				return nil, fmt.Errorf("exact reference from meta.source: %w", err)
+			}
+			return s, nil
 		}
 		s, err := SourceFromMeta(m)
 		if err != nil {

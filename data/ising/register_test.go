@@ -7,19 +7,29 @@ import (
 
 	"tidemark/data"
 	"tidemark/data/exact"
+	"tidemark/indicator"
 )
 
 func TestRegisteredWithExact(t *testing.T) {
 	for _, tc := range []struct {
 		lattice []int
-		wantErr bool
-	}{{[]int{4, 4}, false}, {[]int{8, 8}, true}} {
-		src, _ := json.Marshal(SourceMeta{Generator: "ising", Lattice: tc.lattice, Boundary: "periodic", Jx: 1, Jy: 1, Axes: []string{"T"}})
-		m := data.Meta{ParamNames: []string{"T"}, Alphabet: 2, Lattice: tc.lattice, Source: src}
+		axes    []string
+		field   float64
+		// want: "enumerable", "kaufman" or "none" (ErrNoExact)
+		want string
+	}{
+		{[]int{4, 4}, []string{"T"}, 0, "enumerable"},
+		{[]int{8, 8}, []string{"T"}, 0, "kaufman"},
+		{[]int{8, 8}, []string{"T", "Jy"}, 0, "kaufman"},
+		{[]int{8, 8}, []string{"T"}, 0.5, "none"},
+		{[]int{8, 8}, []string{"h"}, 0, "none"},
+	} {
+		src, _ := json.Marshal(SourceMeta{Generator: "ising", Lattice: tc.lattice, Boundary: "periodic", Jx: 1, Jy: 1, Temperature: 2, Field: tc.field, Axes: tc.axes})
+		m := data.Meta{ParamNames: tc.axes, Alphabet: 2, Lattice: tc.lattice, Source: src}
 		s, err := exact.FromMeta(m)
-		if tc.wantErr {
+		if tc.want == "none" {
 			if !errors.Is(err, exact.ErrNoExact) {
-				t.Errorf("%v: err = %v, want ErrNoExact", tc.lattice, err)
+				t.Errorf("%v %v h=%g: err = %v, want ErrNoExact", tc.lattice, tc.axes, tc.field, err)
 			}
 			continue
 		}
@@ -28,6 +38,11 @@ func TestRegisteredWithExact(t *testing.T) {
 		}
 		if s.Sites() != tc.lattice[0]*tc.lattice[1] {
 			t.Errorf("%v: sites = %d", tc.lattice, s.Sites())
+		}
+		_, enum := s.(indicator.Enumerable)
+		_, kauf := s.(*KaufmanSource)
+		if (tc.want == "enumerable") != enum || (tc.want == "kaufman") != kauf {
+			t.Errorf("%v %v: source %T, want %s", tc.lattice, tc.axes, s, tc.want)
 		}
 	}
 }
