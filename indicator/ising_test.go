@@ -1,6 +1,7 @@
 package indicator_test
 
 import (
+	"context"
 	"math"
 	"testing"
 
@@ -231,6 +232,50 @@ func TestIsingAnisotropicZoom(t *testing.T) {
 		}
 		if !on {
 			t.Errorf("zoom window around %v lies on an inserted line", z.Around)
+		}
+	}
+}
+
+// TestKaufmanSourceFisherOnMonteCarlo scans Monte Carlo snapshots of the
+// 8×8 periodic Ising model (too large to enumerate) with the Kaufman source:
+// fisher_deriv at each grid temperature, the mean of (∂_T ln p)² over the
+// snapshots, must agree within its bootstrap error with the exact Fisher
+// information N·C/T², C the heat capacity per site from Kaufman's partition
+// function (B. Kaufman, Phys. Rev. 76, 1232 (1949); F_T = Var(E)/T⁴ for a
+// Boltzmann distribution, common practice).
+func TestKaufmanSourceFisherOnMonteCarlo(t *testing.T) {
+	const L = 8
+	lat := ising.Lattice{Ly: L, Lx: L}
+	temps := linspace(1.8, 3, 7)
+	var pts [][]float64
+	for _, T := range temps {
+		pts = append(pts, []float64{T})
+	}
+	sim, err := ising.Simulate(context.Background(), ising.Config{Lattice: lat, Fixed: ising.Couplings{Jx: 1, Jy: 1}, Axes: []string{"T"},
+		Points: pts, Samples: 1500, Seed: 4, Threads: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ds, err := data.New(len(sim.Params), L*L, []string{"T"}, 2, []int{L, L}, map[string]any{"generator": "test-mc"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ds.States, ds.Params = sim.States, sim.Params
+	src, err := ising.NewKaufmanSource(lat, []string{"T"}, ising.Couplings{Jx: 1, Jy: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{Indicators: []string{indicator.Fisher}, Bootstrap: 60, Threads: 2, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	fd := curveByName(t, res.Curves, "fisher_deriv")
+	for i, p := range fd.Pos {
+		T := p[0]
+		want := L * L * ising.KaufmanHeatCapacity(L, L, T, 1, 1) / (T * T)
+		t.Logf("T=%.2f fisher_deriv %.3f ± %.3f, exact %.3f", T, fd.Val[i], fd.Err[i], want)
+		if d := math.Abs(fd.Val[i] - want); d > 4*fd.Err[i] {
+			t.Errorf("T=%.2f: fisher_deriv %.4g ± %.2g, exact N·C/T² %.4g", T, fd.Val[i], fd.Err[i], want)
 		}
 	}
 }

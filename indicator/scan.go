@@ -161,7 +161,7 @@ func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
 			return nil, errors.New("scan: the histogram is defined only at the grid points; refinement needs a model (train a model)")
 		}
 		if _, ok := s.(Sampler); needSampler && !ok {
-			return nil, fmt.Errorf("scan: refinement needs samples between grid points, and this source cannot draw them (use a model or an exact source, or --refine 1)")
+			return nil, fmt.Errorf("scan: refinement needs samples between grid points, and this source cannot draw them (a model or the exact source of a small system can; the exact source of a lattice too large to enumerate only scores snapshots), or use --refine 1")
 		}
 	}
 	curves, err := runPass(sources, ds, g, res.Data, res.Layout, cfg, ind, 0)

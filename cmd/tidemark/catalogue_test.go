@@ -170,6 +170,9 @@ var catalogue = map[string][]badInput{
 		{"data with another alphabet", []string{"scan", "--data", "@imp3", "--model", "@ck", "-o", "@out"}, "alphabet is 2 values per site, the dataset's 3", nil},
 		{"data on another lattice", []string{"scan", "--data", "@imp28", "--model", "@ck", "-o", "@out"}, "lattice is [4 4], the dataset's [2 8]", nil},
 		{"exact source for imported data", []string{"scan", "--data", "@imp", "--exact", "-o", "@out"}, "no exact reference", nil},
+		{"refined grid, lattice too large to sample exactly", []string{"scan", "--data", "@ds6", "--exact", "--refine", "2", "-o", "@out"}, "cannot draw them", nil},
+		{"exact sums, lattice too large to list", []string{"scan", "--data", "@ds6", "--exact", "--exact-sums", "-o", "@out"}, "states can all be listed", nil},
+		{"large lattice under a field", []string{"scan", "--data", "@ds6h", "--exact", "-o", "@out"}, "field is not zero", nil},
 		{"single-point grid", []string{"scan", "--data", "@one", "--exact", "-o", "@out"}, "at least 2 distinct grid points", nil},
 		{"unknown indicator", []string{"scan", "--data", "@ds4", "--exact", "--indicators", "entropy", "-o", "@out"}, "entropy", nil},
 		{"negative bootstrap", []string{"scan", "--data", "@ds4", "--exact", "--bootstrap", "-3", "-o", "@out"}, "--bootstrap", nil},
@@ -200,7 +203,7 @@ var catalogue = map[string][]badInput{
 func catalogueFixtures(t *testing.T, dir string) map[string]string {
 	t.Helper()
 	f := map[string]string{}
-	for _, name := range []string{"ds4", "ds3", "dsh", "dsth", "imp", "imp3", "imp28", "q3", "one", "ck", "txt", "empty", "csv", "csv1", "dir", "none"} {
+	for _, name := range []string{"ds4", "ds3", "dsh", "dsth", "ds6", "ds6h", "imp", "imp3", "imp28", "q3", "one", "ck", "txt", "empty", "csv", "csv1", "dir", "none"} {
 		ext := ".npz"
 		switch name {
 		case "ck":
@@ -221,6 +224,9 @@ func catalogueFixtures(t *testing.T, dir string) map[string]string {
 	sim(f["ds3"], "--size", "3", "--grid", "T=1:4:5")
 	sim(f["dsh"], "--size", "4", "--temperature", "2", "--grid", "h=-1:1:5")
 	sim(f["dsth"], "--size", "4", "--grid", "T=1:4:3,h=0;0.5")
+	// 6×6 (36 sites) is too large to enumerate: Monte Carlo samples.
+	mustRunBin(t, dir, "simulate", "ising", "--size", "6", "--grid", "T=1:4:5", "--samples", "40", "--quiet", "-o", f["ds6"])
+	mustRunBin(t, dir, "simulate", "ising", "--size", "6", "--temperature", "2", "--grid", "h=0:1:3", "--samples", "40", "--quiet", "-o", f["ds6h"])
 	mustRunBin(t, dir, "train", f["ds4"], "-o", f["ck"], "--epochs", "2", "--hidden", "16", "--cond-hidden", "8", "--batch", "32", "--quiet")
 
 	write := func(path, s string) {
