@@ -49,7 +49,7 @@ const (
 )
 
 // Activations lists the supported activation names.
-var Activations = []string{"relu", "tanh"}
+var Activations = []string{"relu", "tanh", "softplus"}
 
 // DefaultHiddenWidth returns the default masked hidden width for n sites:
 // the smallest multiple of 32 that is at least n, clamped to [32, 256].

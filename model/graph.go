@@ -79,8 +79,11 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 	// operations, because they own their output buffers.
 	f32 := c.Precision == PrecisionFloat32
 	hiddenAct := actRelu
-	if c.Activation == "tanh" {
+	switch c.Activation {
+	case "tanh":
 		hiddenAct = actTanh
+	case "softplus":
+		hiddenAct = actSoftplus
 	}
 	tiles := m.tiles
 	linears := func(pass string) ([]*maskedLinear, *maskedLinear) {
@@ -97,8 +100,11 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 		return lin, linD
 	}
 	condAct := func(n *G.Node) *G.Node {
-		if c.condAct() == "tanh" {
+		switch c.condAct() {
+		case "tanh":
 			return must(G.Tanh(n))
+		case "softplus":
+			return must(G.Softplus(n))
 		}
 		return must(G.Rectify(n))
 	}

@@ -118,6 +118,18 @@ func TestGradientFiniteDifference(t *testing.T) {
 			c.CondHidden = []int{3}
 		})},
 		{"q4-relu-direct", smallConfig(3, 4, 1, func(c *Config) { c.Direct = true; c.Hidden = []int{5}; c.CondHidden = []int{3} })},
+		{"q2-softplus-direct", smallConfig(5, 2, 1, func(c *Config) {
+			c.Activation = "softplus"
+			c.Direct = true
+			c.Hidden = []int{6, 5}
+			c.CondHidden = []int{3}
+		})},
+		{"q2-softplus-sym", smallConfig(4, 2, 2, func(c *Config) {
+			c.Activation = "softplus"
+			c.Symmetric = true
+			c.Hidden = []int{5, 5}
+			c.CondHidden = []int{3}
+		})},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {

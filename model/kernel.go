@@ -146,8 +146,11 @@ func gen(t Tensor) blas64.General {
 func vec(x []float64) blas64.Vector { return blas64.Vector{N: len(x), Inc: 1, Data: x} }
 
 func actFunc(name string) func(float64) float64 {
-	if name == "tanh" {
+	switch name {
+	case "tanh":
 		return math.Tanh
+	case "softplus":
+		return softplus
 	}
 	return func(x float64) float64 { return math.Max(x, 0) }
 }

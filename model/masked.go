@@ -507,6 +507,7 @@ const (
 	actNone = iota
 	actRelu
 	actTanh
+	actSoftplus
 )
 
 // reluGrad is d when the ReLU output o is positive, else 0, without a
@@ -542,6 +543,10 @@ func fusedAct(res []float64, r32 []float32, y32 []float32, hd, b []float64, act 
 		case act == actTanh:
 			for k, v := range y {
 				r[k] = math.Tanh(float64(v) + h[k] + b[k])
+			}
+		case actSoftplus:
+			for k, v := range y {
+				r[k] = softplus(float64(v) + h[k] + b[k])
 			}
 		default:
 			for k, v := range y {
@@ -696,6 +701,10 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 				for i, v := range res {
 					res[i] = math.Tanh(v)
 				}
+			case actSoftplus:
+				for i, v := range res {
+					res[i] = softplus(v)
+				}
 			}
 		} else {
 			ml.forward(res, a, rows, false)
@@ -725,6 +734,11 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 		case ml.act == actTanh:
 			for i, o := range b[:rows*out] {
 				res[i] = a[i] * (1 - o*o)
+			}
+		case ml.act == actSoftplus:
+			// softplus'(z) = σ(z) = 1 − e^(−softplus(z)).
+			for i, o := range b[:rows*out] {
+				res[i] = -a[i] * math.Expm1(-o)
 			}
 		default:
 			copy(res, a[:rows*out])

@@ -197,7 +197,7 @@ func New(cfg Config, seed uint64) (*Model, error) {
 		m.Weights[i] = Tensor{Name: l.names[i], Shape: append([]int(nil), l.shapes[i]...), Data: make([]float64, shapeSize(l.shapes[i]))}
 	}
 	hiddenGain := 1.0
-	if cfg.Activation == "relu" {
+	if cfg.Activation == "relu" || cfg.Activation == "softplus" {
 		hiddenGain = 2
 	}
 	fill := func(w int, gain float64) {
@@ -221,7 +221,7 @@ func New(cfg Config, seed uint64) (*Model, error) {
 		}
 	}
 	condGain := 1.0
-	if cfg.condAct() == "relu" {
+	if cfg.condAct() == "relu" || cfg.condAct() == "softplus" {
 		condGain = 2
 	}
 	for _, w := range l.condW {
