@@ -180,8 +180,8 @@ func (m *Model) maskOf(w int) []float64 {
 
 // New returns a model with configuration cfg and random weights drawn
 // deterministically from seed: masked and output matrices from a normal
-// distribution with variance gain/fan-in (gain 2 for relu hidden layers,
-// He et al., ICCV 2015; 1 otherwise), where fan-in counts the unmasked
+// distribution with variance gain/fan-in (gain 2 for relu and softplus
+// hidden layers, He et al., ICCV 2015; 1 for tanh), where fan-in counts the unmasked
 // inputs of a unit on average; all biases zero. Entries outside the masks
 // are zero.
 func New(cfg Config, seed uint64) (*Model, error) {

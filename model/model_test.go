@@ -27,6 +27,7 @@ func smallConfig(n, q, d int, mod func(*Config)) Config {
 	c.Hidden = []int{12, 9}
 	c.CondHidden = []int{5}
 	c.Direct = false
+	c.Activation = "relu"
 	if mod != nil {
 		mod(&c)
 	}

@@ -17,7 +17,7 @@ func TestFloat32AgreesWithFloat64(t *testing.T) {
 		name string
 		mod  func(c *Config)
 	}{
-		{"q2-relu", func(c *Config) {}},
+		{"q2-relu", func(c *Config) { c.Activation = "relu" }},
 		{"q2-tanh-sym", func(c *Config) { c.Activation = "tanh"; c.Symmetric = true }},
 		{"q2-softplus", func(c *Config) { c.Activation = "softplus" }},
 		{"q3-snake", func(c *Config) { c.Alphabet = 3; c.Order = SnakeOrder(10, 10) }},

@@ -25,7 +25,7 @@ type Arch struct {
 	CondHidden []int
 	// Fourier is the number of Fourier frequencies of the λ features.
 	Fourier int
-	// Activation is "relu" or "tanh", for the masked hidden layers.
+	// Activation is "softplus", "relu" or "tanh", for the masked hidden layers.
 	Activation string
 	// CondActivation is the conditioning net's activation; "" means the
 	// same as Activation.
