@@ -1,0 +1,140 @@
+//go:build ablation
+
+package train
+
+import (
+	"context"
+	"fmt"
+	"os"
+	"strconv"
+	"strings"
+	"testing"
+
+	"tidemark/indicator"
+)
+
+// TestAblation trains one architecture variant on exact samples of the 4×4
+// Ising model (12 temperatures in [1, 4], two held out, as the training
+// tests) and prints, for each indicator, the largest |model − exact| as a
+// fraction of the exact curve's range: at the grid points on the data
+// snapshots, on a 4× refined grid with model snapshots, and on the refined
+// grid with exact sums over all states for both. It asserts nothing; it is
+// how the figures in model.DefaultConfig's comment and in
+// TestModelIndicatorsMatchExact were measured. The variant comes from the
+// environment:
+//
+//	PER (snapshots per point, 2000)   EPOCHS (30)   SEEDS (models averaged, 1)
+//	ACT, CONDACT (activations)        HIDDEN, COND (widths, "16,16"; COND=none)
+//	FOURIER (1)   SYM=1 (flip symmetry)   WD (weight decay)   LR
+//
+// Run: ACT=softplus PER=4000 go test -tags ablation ./train -run TestAblation -v
+func TestAblation(t *testing.T) {
+	temps := linspace(1, 4, 12)
+	ds, src := isingDataset(t, 4, 4, temps, envInt(t, "PER", 2000), 11)
+	st := DefaultSettings()
+	st.Epochs = envInt(t, "EPOCHS", 30)
+	st.Arch.Fourier = envInt(t, "FOURIER", st.Arch.Fourier)
+	st.Arch.Symmetric = os.Getenv("SYM") == "1"
+	st.Arch.Activation = envString("ACT", st.Arch.Activation)
+	st.Arch.CondActivation = envString("CONDACT", st.Arch.CondActivation)
+	st.Arch.Hidden = envWidths(t, "HIDDEN", st.Arch.Hidden)
+	st.Arch.CondHidden = envWidths(t, "COND", st.Arch.CondHidden)
+	st.WeightDecay = envFloat(t, "WD", st.WeightDecay)
+	st.LR = envFloat(t, "LR", st.LR)
+	var models []indicator.Source
+	for s := 1; s <= envInt(t, "SEEDS", 1); s++ {
+		st.Seed = uint64(s)
+		ck, err := Run(context.Background(), ds, Options{Settings: st, Holdout: "T=2.0909090909;2.6363636364"})
+		if err != nil {
+			t.Fatal(err)
+		}
+		m, err := ck.Model()
+		if err != nil {
+			t.Fatal(err)
+		}
+		var kl []string
+		for _, T := range temps {
+			d, err := ExactDivergence(src, m, []float64{T}, 2, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			kl = append(kl, fmt.Sprintf("%.4f", d.KL/16))
+		}
+		t.Logf("seed %d: best epoch %d of %d, KL/site %s", s, ck.Header.BestEpoch, len(ck.Header.Metrics), strings.Join(kl, " "))
+		models = append(models, m)
+	}
+	for _, pass := range []struct {
+		name      string
+		refine    int
+		exactSums bool
+	}{{"grid points", 1, false}, {"refined, model snapshots", 4, false}, {"refined, exact sums", 4, true}} {
+		cfg := indicator.Config{Refine: pass.refine, ExactSums: pass.exactSums, ModelSamples: 4000, Threads: 2, Seed: 5}
+		mres, err := indicator.Run(models, ds, cfg)
+		if err != nil {
+			t.Fatal(err)
+		}
+		// The exact reference takes exact sums whenever the model scan does
+		// not use the data snapshots.
+		cfg.ExactSums = pass.refine > 1
+		eres, err := indicator.Run([]indicator.Source{src}, ds, cfg)
+		if err != nil {
+			t.Fatal(err)
+		}
+		line := pass.name + ":"
+		for i, mc := range mres.Curves {
+			rel, _ := relDiff(mc, eres.Curves[i])
+			line += fmt.Sprintf(" %s=%.3f", mc.Name, rel)
+		}
+		t.Log(line)
+	}
+}
+
+func envString(k, d string) string {
+	if v := os.Getenv(k); v != "" {
+		return v
+	}
+	return d
+}
+
+func envInt(t *testing.T, k string, d int) int {
+	v := os.Getenv(k)
+	if v == "" {
+		return d
+	}
+	n, err := strconv.Atoi(v)
+	if err != nil {
+		t.Fatalf("%s: expected an integer, found %q", k, v)
+	}
+	return n
+}
+
+func envFloat(t *testing.T, k string, d float64) float64 {
+	v := os.Getenv(k)
+	if v == "" {
+		return d
+	}
+	f, err := strconv.ParseFloat(v, 64)
+	if err != nil {
+		t.Fatalf("%s: expected a number, found %q", k, v)
+	}
+	return f
+}
+
+func envWidths(t *testing.T, k string, d []int) []int {
+	v := os.Getenv(k)
+	switch v {
+	case "":
+		return d
+	case "none":
+		return []int{}
+	}
+	var w []int
+	for _, f := range strings.Split(v, ",") {
+		n, err := strconv.Atoi(f)
+		if err != nil {
+			t.Fatalf("%s: expected comma-separated widths, found %q", k, v)
+		}
+		w = append(w, n)
+	}
+	return w
+}
