@@ -11,6 +11,7 @@ import (
 func benchModel(b *testing.B) *Model {
 	cfg := DefaultConfig(256, 2, 1, []float64{1}, []float64{4})
 	cfg.Hidden = []int{512, 512}
+	cfg.Activation = "relu" // the model of bench/run.sh and its PyTorch peer
 	m, err := New(cfg, 1)
 	if err != nil {
 		b.Fatal(err)

@@ -63,8 +63,8 @@ func DefaultHiddenWidth(n int) int {
 // DefaultConfig fills defaults for n sites, alphabet q, d params and the
 // given per-axis parameter ranges: two masked hidden layers of
 // DefaultHiddenWidth(n) units, a conditioning net with one hidden layer of
-// 64 units, F = 2 Fourier frequencies, relu, a direct connection, row-major
-// order and no flip symmetry. lo and hi are copied.
+// 64 units, F = 2 Fourier frequencies, softplus, a direct connection,
+// row-major order and no flip symmetry. lo and hi are copied.
 //
 // How they were chosen: two hidden layers is the depth Germain et al.
 // (ICML 2015) found to help over one; the width rule is explained at
@@ -74,21 +74,22 @@ func DefaultHiddenWidth(n int) int {
 // quarter of the training range (a transition region) while keeping the
 // feature count at 5 per axis.
 //
-// relu stays the default activation, although softplus, log(1+e^z)
-// (C. Dugas et al., NIPS 2000), smooth like tanh and unbounded like relu,
-// makes log p a smooth function of λ, which the indicators that compare
-// neighbouring points (local, fisher) and the derivative in λ
-// (fisher_deriv) need. On exact samples of the 4×4 Ising model (12
-// temperatures, two held out, 2000 snapshots each) local and fisher
-// differed from exact by 0.37 and 0.66 of their range with relu and 0.18
-// and 0.18 with softplus; with four times the data relu did not improve
-// (0.48, 1.3) while softplus did (0.10, 0.08); tanh lay in between. But on
-// the small Monte Carlo demos (10×10 and 12×12, 500–600 snapshots per
-// temperature, 25–30 epochs) softplus models put the lbc peak about 3%
-// lower than relu models (below the exact Fisher-information maximum on
-// 10×10) and changed more between 25 and 50 epochs (lbc lost its peak),
-// so the better default is not settled; train with softplus when local or fisher matter and check the
-// result against a second model. The direct
+// softplus, log(1+e^z) (C. Dugas et al., NIPS 2000), is the default
+// activation: smooth like tanh and unbounded like relu, it makes log p a
+// smooth function of λ, which the indicators that compare neighbouring
+// points (local, fisher) and the derivative in λ (fisher_deriv) need. relu
+// fits the trained points as well but interpolates between them with
+// kinks. On exact samples of the 4×4 Ising model (12 temperatures, two held
+// out, 2000 snapshots each) local and fisher differed from exact by 0.37
+// and 0.66 of their range with relu and 0.18 and 0.18 with softplus; with
+// four times the data relu did not improve (0.48, 1.3) while softplus did
+// (0.10, 0.08); tanh lay in between. On the Monte Carlo demos (10×10 and
+// 12×12, against the exact density of the same snapshots) relu's local,
+// fisher and fisher_deriv curves were 1.6–5.8 of their range off, softplus's
+// 0.22–0.53; the lbc and pbm curves were as close or closer with softplus,
+// sl a little farther (0.21–0.28 against 0.21–0.23), and the position of
+// the flat-topped lbc maximum came out lower (by 1.2–3.9%, relu's by
+// +0.4–0.7%). The direct
 // connection adds a masked logistic-regression term x_<i → x_i, which alone
 // already captures nearest-neighbour couplings and costs N·N weights.
 func DefaultConfig(n, q, d int, lo, hi []float64) Config {
@@ -100,7 +101,7 @@ func DefaultConfig(n, q, d int, lo, hi []float64) Config {
 		Hidden:     []int{w, w},
 		CondHidden: []int{64},
 		Fourier:    2,
-		Activation: "relu",
+		Activation: "softplus",
 		Direct:     true,
 		Order:      RowMajorOrder(n),
 		ParamLo:    append([]float64(nil), lo...),

@@ -544,7 +544,7 @@ func fusedAct(res []float64, r32 []float32, y32 []float32, hd, b []float64, act 
 			for k, v := range y {
 				r[k] = math.Tanh(float64(v) + h[k] + b[k])
 			}
-		case actSoftplus:
+		case act == actSoftplus:
 			for k, v := range y {
 				r[k] = softplus(float64(v) + h[k] + b[k])
 			}

@@ -7,8 +7,8 @@ import (
 	"tidemark/indicator"
 )
 
-// TestModelIndicatorsMatchExact scans a softplus model trained on the data
-// of TestIsingAgainstEnumeration and the exact 4×4 enumeration (the reference; P. D. Beale, Phys. Rev. Lett.
+// TestModelIndicatorsMatchExact scans the model of TestIsingAgainstEnumeration
+// and the exact 4×4 enumeration (the reference; P. D. Beale, Phys. Rev. Lett.
 // 76, 78 (1996) checks the enumeration itself) and compares every indicator
 // curve with the exact one, as a fraction of the exact curve's range, and
 // the highest peaks, which must lie within one grid step of each other.
@@ -22,11 +22,11 @@ import (
 // The bar the task sets is 0.05 of the range for every curve. The global
 // indicators (sl, lbc, pbm) meet it at the grid points, and lbc on the
 // refined grid too. The indicators that compare neighbouring points do
-// not: with 4000 snapshots per temperature, a softplus model differed by
+// not: with 4000 snapshots per temperature, the (softplus) model differed by
 // about 0.12 (local), 0.14 (fisher) and 0.33 (fisher_deriv) of the range at
 // the grid points, and 0.13–0.37 between them (2026-12-01); the limits
-// below hold those figures with some room, and a model with the default
-// relu activation fails them (0.37, 0.66 and 1.55 at the grid points with
+// below hold those figures with some room, and a model with the relu
+// activation fails them (0.37, 0.66 and 1.55 at the grid points with
 // 2000 snapshots per point, 0.6–1.8 between them; see model.DefaultConfig). The
 // remaining error comes from the training data, not the optimiser: it fell
 // by about 1.5× for each fourfold increase in snapshots per point, and
@@ -38,7 +38,7 @@ func TestModelIndicatorsMatchExact(t *testing.T) {
 	if testing.Short() {
 		t.Skip("trains a model")
 	}
-	fx := ising4x4Smooth(t)
+	fx := ising4x4(t)
 	if fx.err != nil {
 		t.Fatal(fx.err)
 	}

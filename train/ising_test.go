@@ -13,8 +13,8 @@ import (
 	"tidemark/model"
 )
 
-// ising4x4Fixture is a model trained on exact samples of the 4×4 Ising
-// model, shared by the tests that compare it with exact enumeration.
+// ising4x4Fixture is the model of TestIsingAgainstEnumeration, trained once
+// and shared with the indicator comparison.
 type ising4x4Fixture struct {
 	temps []float64
 	ds    *data.Dataset
@@ -25,48 +25,26 @@ type ising4x4Fixture struct {
 }
 
 var (
-	ising4x4Once, ising4x4SmoothOnce sync.Once
-	ising4x4Fx, ising4x4SmoothFx     ising4x4Fixture
-	ising4x4DataOnce                 sync.Once
-	ising4x4Data                     ising4x4Fixture
+	ising4x4Once sync.Once
+	ising4x4Fx   ising4x4Fixture
 )
 
-// ising4x4Dataset draws (once per test binary) the exact samples of the 4×4
-// periodic Ising model at 12 temperatures in [1, 4] that both fixtures
-// train on.
-func ising4x4Dataset(t *testing.T) ising4x4Fixture {
-	ising4x4DataOnce.Do(func() {
-		ising4x4Data.temps = linspace(1, 4, 12)
-		ising4x4Data.ds, ising4x4Data.src = isingDataset(t, 4, 4, ising4x4Data.temps, isingPerPoint, 11)
-	})
-	return ising4x4Data
-}
-
-// ising4x4 trains (once per test binary) a model with the default settings
-// on the 4×4 samples, two temperatures held out.
+// ising4x4 trains (once per test binary), with the default settings, on
+// exact samples of the 4×4 periodic Ising model at 12 temperatures in
+// [1, 4], two held out.
 func ising4x4(t *testing.T) *ising4x4Fixture {
-	ising4x4Once.Do(func() { trainIsing4x4(t, &ising4x4Fx, "") })
+	ising4x4Once.Do(func() {
+		fx := &ising4x4Fx
+		fx.temps = linspace(1, 4, 12)
+		fx.ds, fx.src = isingDataset(t, 4, 4, fx.temps, isingPerPoint, 11)
+		st := DefaultSettings()
+		st.Epochs = isingEpochs
+		fx.ck, fx.err = Run(context.Background(), fx.ds, Options{Settings: st, Holdout: "T=2.0909090909;2.6363636364"})
+		if fx.err == nil {
+			fx.m, fx.err = fx.ck.Model()
+		}
+	})
 	return &ising4x4Fx
-}
-
-// ising4x4Smooth trains (once per test binary) the same model with the
-// softplus activation, which is smooth in λ.
-func ising4x4Smooth(t *testing.T) *ising4x4Fixture {
-	ising4x4SmoothOnce.Do(func() { trainIsing4x4(t, &ising4x4SmoothFx, "softplus") })
-	return &ising4x4SmoothFx
-}
-
-func trainIsing4x4(t *testing.T, fx *ising4x4Fixture, activation string) {
-	*fx = ising4x4Dataset(t)
-	st := DefaultSettings()
-	st.Epochs = isingEpochs
-	if activation != "" {
-		st.Arch.Activation = activation
-	}
-	fx.ck, fx.err = Run(context.Background(), fx.ds, Options{Settings: st, Holdout: "T=2.0909090909;2.6363636364"})
-	if fx.err == nil {
-		fx.m, fx.err = fx.ck.Model()
-	}
 }
 
 // isingDataset draws exact i.i.d. samples of the periodic Ly×Lx Ising model

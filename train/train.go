@@ -80,7 +80,7 @@ type Settings struct {
 // tuning.
 func DefaultSettings() Settings {
 	return Settings{
-		Arch:            Arch{Fourier: 1, Activation: "relu", Direct: true, Order: "rowmajor"},
+		Arch:            Arch{Fourier: 1, Activation: "softplus", Direct: true, Order: "rowmajor"},
 		Epochs:          60,
 		Batch:           128,
 		LR:              2e-3,

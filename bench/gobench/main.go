@@ -297,6 +297,7 @@ func measure(f func(), units float64, reps int, budget time.Duration) (float64, 
 func measureShape(n, h int, prec string, threads, reps, matRows int, budget time.Duration) []result {
 	cfg := model.DefaultConfig(n, 2, 1, []float64{0}, []float64{1})
 	cfg.Hidden = []int{h, h}
+	cfg.Activation = "relu" // the peer's model (bench/peer/made_peer.py)
 	cfg.Precision = prec
 	m, err := model.New(cfg, 1)
 	if err != nil {

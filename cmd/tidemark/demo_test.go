@@ -13,11 +13,11 @@ import (
 
 // smallDemo is a smaller variant of the built-in scenario for tests: a 10×10
 // lattice, 10 temperatures from 1.8 to 3.0, fewer snapshots, epochs and
-// resamples. Measured with seeds 1 to 4 it put the lbc peak at T = 2.274 to
-// 2.292 (relu conditioning net) and at 2.295 to 2.336 (tanh, the default
-// since 20:16; seed 4 then had no lbc peak above the noise and pbm gave
-// 2.347); with 300–400 snapshots and 12–15 epochs per run the spread between
-// seeds was ±0.1 (under-trained models), which is why it is not smaller.
+// resamples. With seed 1 its softplus model put the lbc peak at T = 2.194,
+// 3.9% below the lbc peak of the exact density on the same snapshots
+// (2.283); a relu model gave 2.292 (2026-12-01). With 300–400 snapshots
+// and 12–15 epochs per run the spread between seeds was ±0.1
+// (under-trained models), which is why it is not smaller.
 func smallDemo(out string) demoOptions {
 	o := defaultDemo()
 	o.out, o.quiet, o.threads = out, true, 2
@@ -28,11 +28,13 @@ func smallDemo(out string) demoOptions {
 }
 
 // TestDemoSmall runs the whole job on a 10×10 lattice and checks the folder
-// and that the estimate lies within 5% of the exact heat-capacity maximum of
-// the periodic 10×10 lattice (B. Kaufman, Phys. Rev. 76, 1232 (1949),
-// computed by ising.KaufmanPeak; about T = 2.345) and within 5% of the
-// maximum of the exact Fisher information N·C/T² (from the same C, about
-// T = 2.279), which is what the indicators measure.
+// and that the estimate lies within 5% of the same indicator's peak
+// computed with the exact density of the same snapshots (ln p = −E/T − ln Z,
+// Z from B. Kaufman, Phys. Rev. 76, 1232 (1949)) and within 5% of the
+// maximum of the exact Fisher information N·C/T² of the periodic 10×10
+// lattice (from Kaufman's heat capacity; about T = 2.279), which is what the
+// indicators measure. The heat-capacity maximum (ising.KaufmanPeak, about
+// T = 2.345) is only logged: it lies 3% above the Fisher maximum here.
 func TestDemoSmall(t *testing.T) {
 	dir := filepath.Join(t.TempDir(), "demo")
 	o := smallDemo(dir)
@@ -50,15 +52,15 @@ func TestDemoSmall(t *testing.T) {
 	if math.Abs(res.Kaufman-kp) > 1e-9 {
 		t.Errorf("reference %v, want KaufmanPeak %v", res.Kaufman, kp)
 	}
-	if rel := math.Abs(res.T-kp) / kp; rel > 0.05 {
-		t.Errorf("estimate T = %.4f ± %.2g from %s is %.1f%% from the exact 10×10 peak %.4f, want within 5%%\n%s", res.T, res.Err, res.Indicator, 100*rel, kp, out.String())
+	if rel := math.Abs(res.T-res.Same) / res.Same; !(rel <= 0.05) {
+		t.Errorf("estimate T = %.4f ± %.2g from %s is %.1f%% from the exact density's %s peak %.4f on the same snapshots, want within 5%%\n%s", res.T, res.Err, res.Indicator, 100*rel, res.Indicator, res.Same, out.String())
 	}
 	if rel := math.Abs(res.T-res.KaufmanF) / res.KaufmanF; rel > 0.05 {
 		t.Errorf("estimate T = %.4f ± %.2g from %s is %.1f%% from the exact Fisher-information peak %.4f, want within 5%%", res.T, res.Err, res.Indicator, 100*rel, res.KaufmanF)
 	}
 	text := out.String()
 	t.Logf("estimate T = %.4f ± %.2g from %s; exact 10×10 peak %.4f\n%s", res.T, res.Err, res.Indicator, kp, out.String())
-	for _, want := range []string{"transition: T = ", "Kaufman", "Onsager", "2.2692", "report: " + filepath.Join(dir, demoPage), "caution: "} {
+	for _, want := range []string{"transition: T = ", "exact density on the same snapshots", "Kaufman", "Onsager", "2.2692", "report: " + filepath.Join(dir, demoPage), "caution: "} {
 		if !strings.Contains(text, want) {
 			t.Errorf("output lacks %q:\n%s", want, text)
 		}
