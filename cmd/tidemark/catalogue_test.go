@@ -99,6 +99,7 @@ var catalogue = map[string][]badInput{
 		{"holdout of every point", []string{"train", "@ds4", "--holdout", "T=0:10", "-o", "@out.ckpt"}, "at least 2 left", nil},
 		{"holdout of a value off the grid", []string{"train", "@ds4", "--holdout", "T=7", "-o", "@out.ckpt"}, "not a grid value", nil},
 		{"zero epochs", []string{"train", "@ds4", "--epochs", "0", "-o", "@out.ckpt"}, "--epochs", nil},
+		{"unknown precision", []string{"train", "@ds4", "--precision", "float16", "-o", "@out.ckpt"}, "precision", nil},
 		{"batch not a number", []string{"train", "@ds4", "--batch", "many", "-o", "@out.ckpt"}, `invalid argument "many"`, nil},
 		{"validation fraction out of range", []string{"train", "@ds4", "--val-frac", "2", "-o", "@out.ckpt"}, "--val-frac", nil},
 		{"bad widths", []string{"train", "@ds4", "--hidden", "16,x", "-o", "@out.ckpt"}, "--hidden", nil},

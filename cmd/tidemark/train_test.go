@@ -22,6 +22,7 @@ import (
 	"tidemark/data/ising"
 	"tidemark/data/safefile"
 	"tidemark/indicator"
+	"tidemark/model"
 )
 
 // ensureIsingExact registers the Ising enumeration as the exact reference
@@ -335,5 +336,52 @@ func TestTrainSignal(t *testing.T) {
 	}
 	if c.Header.Stopped != "interrupted" || c.Header.Optimizer.Epoch < 1 || len(c.Header.Metrics) != c.Header.Optimizer.Epoch {
 		t.Fatalf("after SIGINT: stopped %q at epoch %d with %d metrics", c.Header.Stopped, c.Header.Optimizer.Epoch, len(c.Header.Metrics))
+	}
+}
+
+// TestTrainFloat32Precision trains with --precision float32: the checkpoint
+// records it, and the model scores the data like a float64 copy of itself
+// to single-precision rounding.
+func TestTrainFloat32Precision(t *testing.T) {
+	dir := t.TempDir()
+	dsPath := ckptTestData(t, dir, "d.npz", 1)
+	ck := filepath.Join(dir, "m32.ckpt")
+	if _, err := execTidemark(t, append([]string{"train", dsPath, "-o", ck, "--precision", "float32"}, tinyTrain...)...); err != nil {
+		t.Fatal(err)
+	}
+	c, err := checkpoints.Load(ck)
+	if err != nil {
+		t.Fatal(err)
+	}
+	m32, err := c.Model()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m32.Cfg.Precision != "float32" {
+		t.Fatalf("checkpoint precision %q, want float32", m32.Cfg.Precision)
+	}
+	cfg := m32.Cfg
+	cfg.Precision = "float64"
+	m64, err := model.FromWeights(cfg, m32.Weights)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ds, err := data.Read(dsPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := min(ds.M, 64)
+	a, b := make([]float64, n), make([]float64, n)
+	lam := ds.Params[:ds.D]
+	if err := m32.LogProb(a, ds.States[:n*ds.N], lam); err != nil {
+		t.Fatal(err)
+	}
+	if err := m64.LogProb(b, ds.States[:n*ds.N], lam); err != nil {
+		t.Fatal(err)
+	}
+	for i := range a {
+		if math.Abs(a[i]-b[i]) > 1e-4*math.Max(1, math.Abs(b[i])) {
+			t.Fatalf("snapshot %d: float32 %.8g, float64 %.8g", i, a[i], b[i])
+		}
 	}
 }
