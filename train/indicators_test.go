@@ -42,24 +42,37 @@ func TestModelIndicatorsMatchExact(t *testing.T) {
 	if fx.err != nil {
 		t.Fatal(fx.err)
 	}
-	step := fx.temps[1] - fx.temps[0]
-	for _, tc := range []struct {
-		name   string
-		refine int
-		// exactSums: both sides take exact sums over all states; otherwise
-		// both are evaluated on the data snapshots.
-		exactSums bool
-		tol       map[string]float64
-		// peaks lists the indicators whose highest peak must match.
-		peaks map[string]bool
-	}{
+	compareWithExact(t, fx, []exactCase{
 		{"grid points, data snapshots", 1, false,
 			map[string]float64{"sl": 0.05, "lbc": 0.05, "pbm": 0.05, "local": 0.2, "fisher": 0.2, "fisher_deriv": 0.5},
 			map[string]bool{"sl": true, "lbc": true, "pbm": true, "local": true, "fisher": true}},
 		{"refined 4x, exact sums", 4, true,
 			map[string]float64{"sl": 0.2, "lbc": 0.05, "pbm": 0.2, "local": 0.25, "fisher": 0.5, "fisher_deriv": 0.5},
 			map[string]bool{"sl": true, "lbc": true, "pbm": true, "local": true}},
-	} {
+	})
+}
+
+// exactCase is one comparison of a model's indicator curves with the exact
+// ones.
+type exactCase struct {
+	name   string
+	refine int
+	// exactSums: both sides take exact sums over all states; otherwise
+	// both are evaluated on the data snapshots.
+	exactSums bool
+	// tol is the largest |model − exact| allowed, as a fraction of the
+	// exact curve's range, for each curve.
+	tol map[string]float64
+	// peaks lists the curves whose highest peak must lie within one grid
+	// step of the exact one.
+	peaks map[string]bool
+}
+
+// compareWithExact scans fx's model and its exact source in each case and
+// checks every curve against its limits.
+func compareWithExact(t *testing.T, fx *ising4x4Fixture, cases []exactCase) {
+	step := fx.temps[1] - fx.temps[0]
+	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			cfg := indicator.Config{Refine: tc.refine, ExactSums: tc.exactSums, ModelSamples: 4000, Threads: 2, Seed: 5}
 			mres, err := indicator.Run([]indicator.Source{fx.m}, fx.ds, cfg)
