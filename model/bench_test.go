@@ -189,3 +189,41 @@ func BenchmarkLogProbFloat32(b *testing.B) {
 	}
 	b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "snapshots/s")
 }
+
+// BenchmarkActivation compares the cost of the activations on the benchmark
+// shape (N = 256, H = 512, batch 256): one training step (LossGrad) and one
+// scoring call (LogProb) each. Compare the sub-benchmarks of one run.
+func BenchmarkActivation(b *testing.B) {
+	for _, act := range Activations {
+		cfg := DefaultConfig(256, 2, 1, []float64{1}, []float64{4})
+		cfg.Hidden = []int{512, 512}
+		cfg.Activation = act
+		m, err := New(cfg, 1)
+		if err != nil {
+			b.Fatal(err)
+		}
+		xs, ps := benchData(m, benchBatch)
+		b.Run(act+"/LossGrad", func(b *testing.B) {
+			g, err := NewGraph(m, benchBatch)
+			if err != nil {
+				b.Fatal(err)
+			}
+			grads := zeroGrads(m)
+			for b.Loop() {
+				if _, err := g.LossGrad(xs, ps, benchBatch, grads); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "snapshots/s")
+		})
+		b.Run(act+"/LogProb", func(b *testing.B) {
+			dst := make([]float64, benchBatch)
+			for b.Loop() {
+				if err := m.LogProb(dst, xs, ps[:1]); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "logp/s")
+		})
+	}
+}
