@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -13,6 +14,7 @@ import (
 	"tidemark/cmd/internal/progress"
 	"tidemark/data"
 	"tidemark/data/exact"
+	"tidemark/data/ising"
 	"tidemark/indicator"
 	"tidemark/indicator/report"
 )
@@ -264,6 +266,9 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if err != nil {
 		return err
 	}
+	if kind == "model" && hasIsingExact(ds) {
+		res.Notes = append(res.Notes, fmt.Sprintf("this dataset has an exact reference: `tidemark scan --data %s --exact` scores the same snapshots with the exact density; a misfit of the model (a spurious peak in the ordered phase, say) shows only in that comparison, not in the bootstrap errors", o.data))
+	}
 	sum, err := report.Write(o.out, o.force, res, report.Info{Source: kind, Data: o.data, Models: o.models, Refine: o.refine, Seed: o.seed})
 	if err != nil {
 		return fmt.Errorf("scan: %w", err)
@@ -320,4 +325,18 @@ func peakString(names []string, pk indicator.Peak) string {
 		}
 	}
 	return strings.Join(parts, ", ")
+}
+
+// hasIsingExact reports whether ds is an Ising dataset that scan --exact can
+// score: small enough to enumerate, or at zero field (Kaufman). It reads the
+// meta only and builds nothing.
+func hasIsingExact(ds *data.Dataset) bool {
+	sm, err := ising.ParseSourceMeta(ds.Meta)
+	if err != nil {
+		return false
+	}
+	if sm.Lattice[0]*sm.Lattice[1] <= ising.MaxExactSites {
+		return true
+	}
+	return sm.Field == 0 && !slices.Contains(sm.Axes, "h")
 }

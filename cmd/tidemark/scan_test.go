@@ -244,3 +244,31 @@ func TestParseSLRegions(t *testing.T) {
 		}
 	}
 }
+
+// TestScanModelPointsToExact scans a model on an Ising dataset that has an
+// exact reference: the notes (printed and in summary.json) point to
+// scan --exact.
+func TestScanModelPointsToExact(t *testing.T) {
+	dir := t.TempDir()
+	ds := ckptTestData(t, dir, "d.npz", 1)
+	ck := filepath.Join(dir, "m.ckpt")
+	if _, err := execTidemark(t, append([]string{"train", ds, "-o", ck}, tinyTrain...)...); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "scan")
+	msg, err := execTidemark(t, "scan", "--model", ck, "--data", ds, "--indicators", "lbc", "--bootstrap", "0", "-o", out, "--quiet")
+	if err != nil {
+		t.Fatal(err)
+	}
+	const want = "this dataset has an exact reference"
+	if !strings.Contains(msg, want) {
+		t.Errorf("output lacks %q:\n%s", want, msg)
+	}
+	b, err := os.ReadFile(filepath.Join(out, "summary.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(b), want) {
+		t.Errorf("summary.json lacks %q", want)
+	}
+}
