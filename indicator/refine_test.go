@@ -73,3 +73,29 @@ func TestSeveralSourcesAddTheirSpread(t *testing.T) {
 		t.Errorf("combined peak at %g, want between the sources' 1.0 and 1.3", x)
 	}
 }
+
+// TestRefinedScanIndependentOfThreads: the snapshots drawn at refined
+// points (in parallel over points) and the curves do not depend on the
+// number of threads.
+func TestRefinedScanIndependentOfThreads(t *testing.T) {
+	src := &bernoulli{n: 12, d: 1, a: 5, c: 1}
+	ds := bernoulliData(src, linspace(0, 2, 5), nil, 300, 2)
+	var ref []*Curve
+	for _, threads := range []int{1, 3} {
+		res, err := Run([]Source{src}, ds, Config{Refine: 3, ModelSamples: 200, Bootstrap: 10, Threads: threads, Seed: 4})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if ref == nil {
+			ref = res.Curves
+			continue
+		}
+		for i, c := range res.Curves {
+			for j := range c.Val {
+				if c.Val[j] != ref[i].Val[j] || c.Err[j] != ref[i].Err[j] {
+					t.Fatalf("%s at %v: %v ± %v with %d threads, %v ± %v with 1", c.Name, c.Pos[j], c.Val[j], c.Err[j], threads, ref[i].Val[j], ref[i].Err[j])
+				}
+			}
+		}
+	}
+}

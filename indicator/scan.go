@@ -449,6 +449,11 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 		// On a refined or zoomed layout a sampler supplies every point (see
 		// Config.Refine); otherwise the data's snapshots serve their points.
 		everywhere := sampler != nil && !gOnly(src) && (lo.K() != g.K() || pass > 0) && !cfg.DataAtGridPoints
+		if everywhere {
+			// No data snapshot is read: do not score them.
+			xs, rows = nil, 0
+		}
+		var drawn []int // the points that draw their own snapshots
 		for k := 0; k < K; k++ {
 			if dk := g.Find(pts[k]); dk >= 0 && !everywhere {
 				ev.Idx[k] = g.Index[dk]
@@ -457,19 +462,21 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 			if sampler == nil {
 				return nil, nil, fmt.Errorf("scan: point %s has no data and the source cannot draw samples", data.FormatPoint(lo.Names, pts[k]))
 			}
-			n := cfg.ModelSamples
-			buf := make([]uint8, n*N)
-			// Common random numbers: every point draws from the same stream,
-			// so that ancestral samples at neighbouring λ are coupled and the
-			// curves are not roughened by independent sampling noise at each
-			// point (the paired bootstrap in BootstrapWeights matches this).
-			rng := rand.New(rand.NewPCG(cfg.Seed, uint64(pass)<<32))
-			if err := sampler.Sample(buf, n, pts[k], rng); err != nil {
-				return nil, nil, fmt.Errorf("scan: drawing samples at %s: %w", data.FormatPoint(lo.Names, pts[k]), err)
-			}
-			xs = append(xs, buf...)
-			for i := 0; i < n; i++ {
-				ev.Idx[k] = append(ev.Idx[k], rows+i)
+			drawn = append(drawn, k)
+		}
+		n := cfg.ModelSamples
+		// Common random numbers: every point draws from the same stream, so
+		// that ancestral samples at neighbouring λ are coupled and the
+		// curves are not roughened by independent sampling noise at each
+		// point (the paired bootstrap in BootstrapWeights matches this).
+		bufs, err := drawAll(sampler, drawn, pts, n, N, cfg, rand.NewPCG(cfg.Seed, uint64(pass)<<32), lo.Names)
+		if err != nil {
+			return nil, nil, err
+		}
+		for i, k := range drawn {
+			xs = append(xs, bufs[i]...)
+			for j := 0; j < n; j++ {
+				ev.Idx[k] = append(ev.Idx[k], rows+j)
 			}
 			rows += n
 		}
@@ -487,13 +494,18 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 	evD, dxs := ev, xs
 	if sampler, ok := src.(Sampler); ok && !cfg.ExactSums {
 		n := cfg.ModelSamples
-		dxs = make([]uint8, K*n*N)
+		all := make([]int, K)
+		for k := range all {
+			all[k] = k
+		}
+		bufs, err := drawAll(sampler, all, pts, n, N, cfg, rand.NewPCG(cfg.Seed, uint64(pass)<<32|1<<31), lo.Names) // common random numbers, as above
+		if err != nil {
+			return nil, nil, err
+		}
+		dxs = make([]uint8, 0, K*n*N)
 		evD = &EvalSet{Idx: make([][]int, K)}
 		for k := 0; k < K; k++ {
-			rng := rand.New(rand.NewPCG(cfg.Seed, uint64(pass)<<32|1<<31)) // common random numbers, as above
-			if err := sampler.Sample(dxs[k*n*N:(k+1)*n*N], n, pts[k], rng); err != nil {
-				return nil, nil, fmt.Errorf("scan: drawing samples at %s: %w", data.FormatPoint(lo.Names, pts[k]), err)
-			}
+			dxs = append(dxs, bufs[k]...)
 			for i := 0; i < n; i++ {
 				evD.Idx[k] = append(evD.Idx[k], k*n+i)
 			}
@@ -783,4 +795,47 @@ func zoomPass(res *Result, sources []Source, ds *data.Dataset, g *data.Grid, cfg
 		res.Zoom = append(res.Zoom, ZoomResult{Around: append([]float64(nil), c.at...), Axis: c.axis, Layout: lo, Curves: curves})
 	}
 	return nil
+}
+
+// drawAll draws n snapshots at each of the points pts[k], k in ks, on up to
+// cfg.Threads goroutines. Every point starts from a copy of the same
+// generator state (common random numbers), so the result does not depend on
+// the number of threads.
+func drawAll(sampler Sampler, ks []int, pts [][]float64, n, N int, cfg Config, seed *rand.PCG, names []string) ([][]uint8, error) {
+	state, err := seed.MarshalBinary()
+	if err != nil {
+		return nil, err
+	}
+	bufs := make([][]uint8, len(ks))
+	errs := make([]error, len(ks))
+	jobs := make(chan int)
+	var wg sync.WaitGroup
+	for w := 0; w < max(1, min(cfg.Threads, len(ks))); w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range jobs {
+				src := new(rand.PCG)
+				if err := src.UnmarshalBinary(state); err != nil {
+					errs[i] = err
+					continue
+				}
+				bufs[i] = make([]uint8, n*N)
+				if err := sampler.Sample(bufs[i], n, pts[ks[i]], rand.New(src)); err != nil {
+					errs[i] = fmt.Errorf("scan: drawing samples at %s: %w", data.FormatPoint(names, pts[ks[i]]), err)
+				}
+			}
+		}()
+	}
+	for i := range ks {
+		jobs <- i
+	}
+	close(jobs)
+	wg.Wait()
+	for _, err := range errs {
+		if err != nil {
+			return nil, err
+		}
+	}
+	return bufs, nil
 }
