@@ -1,6 +1,7 @@
 package indicator
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -798,7 +799,7 @@ func zoomPass(res *Result, sources []Source, ds *data.Dataset, g *data.Grid, cfg
 }
 
 // drawAll draws n snapshots at each of the points pts[k], k in ks, on up to
-// cfg.Threads goroutines. Every point starts from a copy of the same
+// cfg.Threads goroutines (data.ForEachPoint). Every point starts from a copy of the same
 // generator state (common random numbers), so the result does not depend on
 // the number of threads.
 func drawAll(sampler Sampler, ks []int, pts [][]float64, n, N int, cfg Config, seed *rand.PCG, names []string) ([][]uint8, error) {
@@ -807,35 +808,19 @@ func drawAll(sampler Sampler, ks []int, pts [][]float64, n, N int, cfg Config, s
 		return nil, err
 	}
 	bufs := make([][]uint8, len(ks))
-	errs := make([]error, len(ks))
-	jobs := make(chan int)
-	var wg sync.WaitGroup
-	for w := 0; w < max(1, min(cfg.Threads, len(ks))); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := range jobs {
-				src := new(rand.PCG)
-				if err := src.UnmarshalBinary(state); err != nil {
-					errs[i] = err
-					continue
-				}
-				bufs[i] = make([]uint8, n*N)
-				if err := sampler.Sample(bufs[i], n, pts[ks[i]], rand.New(src)); err != nil {
-					errs[i] = fmt.Errorf("scan: drawing samples at %s: %w", data.FormatPoint(names, pts[ks[i]]), err)
-				}
-			}
-		}()
-	}
-	for i := range ks {
-		jobs <- i
-	}
-	close(jobs)
-	wg.Wait()
-	for _, err := range errs {
-		if err != nil {
-			return nil, err
+	err = data.ForEachPoint(context.Background(), len(ks), cfg.Threads, func(i int) error {
+		src := new(rand.PCG)
+		if err := src.UnmarshalBinary(state); err != nil {
+			return err
 		}
+		bufs[i] = make([]uint8, n*N)
+		if err := sampler.Sample(bufs[i], n, pts[ks[i]], rand.New(src)); err != nil {
+			return fmt.Errorf("scan: drawing samples at %s: %w", data.FormatPoint(names, pts[ks[i]]), err)
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, err
 	}
 	return bufs, nil
 }
