@@ -2,7 +2,6 @@ package ising
 
 import (
 	"fmt"
-	"slices"
 
 	"tidemark/data"
 	"tidemark/data/exact"
@@ -20,7 +19,7 @@ func init() {
 			return nil, err
 		}
 		if n := sm.Lattice[0] * sm.Lattice[1]; n > MaxExactSites {
-			if sm.Field != 0 || slices.Contains(sm.Axes, "h") {
+			if !sm.HasExact() {
 				return nil, fmt.Errorf("%w: the %d×%d Ising lattice has %d sites, more than the %d that can be enumerated, and its field is not zero (Kaufman's exact formula is for h = 0)",
 					exact.ErrNoExact, sm.Lattice[0], sm.Lattice[1], n, MaxExactSites)
 			}
@@ -37,3 +36,4 @@ func init() {
 		return s, nil
 	})
 }
+

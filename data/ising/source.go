@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"math/rand/v2"
+	"slices"
 	"strings"
 
 	"tidemark/data"
@@ -158,6 +159,13 @@ func (m SourceMeta) Fixed() Couplings {
 // that T > 0.
 func (m SourceMeta) Couplings(lambda []float64) (Couplings, error) {
 	return withParams(m.Fixed(), m.Axes, lambda)
+}
+
+// HasExact reports whether the dataset m describes (as ParseSourceMeta
+// returns it) has an exact reference: its lattice can be enumerated, or its
+// field is zero (KaufmanSource). It builds nothing.
+func (m SourceMeta) HasExact() bool {
+	return m.Lattice[0]*m.Lattice[1] <= MaxExactSites || (m.Field == 0 && !slices.Contains(m.Axes, "h"))
 }
 
 // ParseSourceMeta reads meta.source of an Ising dataset.
