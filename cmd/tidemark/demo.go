@@ -256,43 +256,14 @@ func demo(w io.Writer, o *demoOptions) (*demoOutcome, error) {
 
 	// 3. Scan.
 	start = time.Now()
-	var bars []*progress.Bar
-	scfg := indicator.Config{
-		ModelSamples: o.modelSamples, Bootstrap: o.bootstrap, Threads: threads, Seed: o.seed,
-		Progress: func(stage string, total int) func(int) {
-			for _, b := range bars {
-				b.Done()
-			}
-			b := progress.New(total, stage, o.quiet)
-			bars = append(bars[:0], b)
-			return b.Func()
-		},
-	}
-	type outcome struct {
-		res *indicator.Result
-		err error
-	}
-	ch := make(chan outcome, 1)
-	go func() {
-		r, e := indicator.Run([]indicator.Source{mdl}, ds, scfg)
-		ch <- outcome{r, e}
-	}()
-	var oc outcome
-	select {
-	case oc = <-ch:
-	case <-ctx.Done():
-		for _, b := range bars {
-			b.Done()
-		}
+	scfg := indicator.Config{ModelSamples: o.modelSamples, Bootstrap: o.bootstrap, Threads: threads, Seed: o.seed}
+	res, stopped, err := scanWithProgress(ctx, []indicator.Source{mdl}, ds, scfg, o.quiet)
+	if stopped {
 		return nil, interrupted()
 	}
-	for _, b := range bars {
-		b.Done()
+	if err != nil {
+		return nil, fmt.Errorf("demo: scan: %w", err)
 	}
-	if oc.err != nil {
-		return nil, fmt.Errorf("demo: scan: %w", oc.err)
-	}
-	res := oc.res
 	p("scanned %d indicators in %.0f s (%d bootstrap resamples)\n", len(res.Curves), time.Since(start).Seconds(), res.Bootstrap)
 
 	// The same scan with the exact density of these snapshots (Kaufman's
@@ -302,9 +273,7 @@ func demo(w io.Writer, o *demoOptions) (*demoOutcome, error) {
 	if err != nil {
 		return nil, fmt.Errorf("demo: %w", err)
 	}
-	ecfg := scfg
-	ecfg.Progress = nil
-	eres, err := indicator.Run([]indicator.Source{ksrc}, ds, ecfg)
+	eres, err := indicator.Run([]indicator.Source{ksrc}, ds, scfg)
 	if err != nil {
 		return nil, fmt.Errorf("demo: exact scan: %w", err)
 	}

@@ -4,14 +4,12 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"slices"
 	"sort"
 	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
 
-	"tidemark/cmd/internal/progress"
 	"tidemark/data"
 	"tidemark/data/exact"
 	"tidemark/data/ising"
@@ -223,50 +221,23 @@ func runScan(w io.Writer, o *scanOptions) error {
 			sources = append(sources, src)
 		}
 	}
-	var bars []*progress.Bar
 	cfg := indicator.Config{
 		Indicators: inds, Refine: o.refine, ModelSamples: o.modelSamples, Zoom: o.zoom,
 		Bootstrap: o.bootstrap, ExactSums: o.exactSums, DataAtGridPoints: o.dataAtGrid, Window: o.window, SLRegions: reg,
 		Threads: threadsOrDefault(o.threads), Seed: o.seed,
-		Progress: func(stage string, total int) func(int) {
-			for _, b := range bars {
-				b.Done()
-			}
-			b := progress.New(total, stage, o.quiet)
-			bars = append(bars[:0], b)
-			return b.Func()
-		},
 	}
 	// The scan writes nothing until it is complete, so a signal can simply
 	// stop it: nothing is lost and nothing half-written is left.
 	ctx, stop := signalContext()
 	defer stop()
-	type outcome struct {
-		res *indicator.Result
-		err error
-	}
-	done := make(chan outcome, 1)
-	go func() {
-		r, e := indicator.Run(sources, ds, cfg)
-		done <- outcome{r, e}
-	}()
-	var oc outcome
-	select {
-	case oc = <-done:
-	case <-ctx.Done():
-		for _, b := range bars {
-			b.Done()
-		}
+	res, stopped, err := scanWithProgress(ctx, sources, ds, cfg, o.quiet)
+	if stopped {
 		return fmt.Errorf("scan: stopped before any output was written: %w", errInterrupted)
 	}
-	for _, b := range bars {
-		b.Done()
-	}
-	res, err := oc.res, oc.err
 	if err != nil {
 		return err
 	}
-	if kind == "model" && hasIsingExact(ds) {
+	if sm, err := ising.ParseSourceMeta(ds.Meta); kind == "model" && err == nil && sm.HasExact() {
 		res.Notes = append(res.Notes, fmt.Sprintf("this dataset has an exact reference: `tidemark scan --data %s --exact` scores the same snapshots with the exact density; a misfit of the model (a spurious peak in the ordered phase, say) shows only in that comparison, not in the bootstrap errors", o.data))
 	}
 	sum, err := report.Write(o.out, o.force, res, report.Info{Source: kind, Data: o.data, Models: o.models, Refine: o.refine, Seed: o.seed})
@@ -325,18 +296,4 @@ func peakString(names []string, pk indicator.Peak) string {
 		}
 	}
 	return strings.Join(parts, ", ")
-}
-
-// hasIsingExact reports whether ds is an Ising dataset that scan --exact can
-// score: small enough to enumerate, or at zero field (Kaufman). It reads the
-// meta only and builds nothing.
-func hasIsingExact(ds *data.Dataset) bool {
-	sm, err := ising.ParseSourceMeta(ds.Meta)
-	if err != nil {
-		return false
-	}
-	if sm.Lattice[0]*sm.Lattice[1] <= ising.MaxExactSites {
-		return true
-	}
-	return sm.Field == 0 && !slices.Contains(sm.Axes, "h")
 }
