@@ -34,8 +34,14 @@ func lambdas(k int) [][]float64 {
 }
 
 // BenchmarkLogProb scores 256 snapshots at one λ per operation.
-func BenchmarkLogProb(b *testing.B) {
-	m := benchModel(b)
+func BenchmarkLogProb(b *testing.B) { benchLogProb(b, benchModel(b)) }
+
+// BenchmarkLossGrad is one training step: loss and gradient of a batch of
+// 256 snapshots through the gorgonia graph.
+func BenchmarkLossGrad(b *testing.B) { benchLossGrad(b, benchModel(b)) }
+
+// benchLogProb scores a batch of snapshots at one λ per operation.
+func benchLogProb(b *testing.B, m *Model) {
 	xs, _ := benchData(m, benchBatch)
 	dst := make([]float64, benchBatch)
 	b.ResetTimer()
@@ -47,10 +53,9 @@ func BenchmarkLogProb(b *testing.B) {
 	b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "snapshots/s")
 }
 
-// BenchmarkLossGrad is one training step: loss and gradient of a batch of
-// 256 snapshots through the gorgonia graph.
-func BenchmarkLossGrad(b *testing.B) {
-	m := benchModel(b)
+// benchLossGrad runs one training step (loss and gradient of a batch) per
+// operation.
+func benchLossGrad(b *testing.B, m *Model) {
 	g, err := NewGraph(m, benchBatch)
 	if err != nil {
 		b.Fatal(err)
@@ -202,28 +207,7 @@ func BenchmarkActivation(b *testing.B) {
 		if err != nil {
 			b.Fatal(err)
 		}
-		xs, ps := benchData(m, benchBatch)
-		b.Run(act+"/LossGrad", func(b *testing.B) {
-			g, err := NewGraph(m, benchBatch)
-			if err != nil {
-				b.Fatal(err)
-			}
-			grads := zeroGrads(m)
-			for b.Loop() {
-				if _, err := g.LossGrad(xs, ps, benchBatch, grads); err != nil {
-					b.Fatal(err)
-				}
-			}
-			b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "snapshots/s")
-		})
-		b.Run(act+"/LogProb", func(b *testing.B) {
-			dst := make([]float64, benchBatch)
-			for b.Loop() {
-				if err := m.LogProb(dst, xs, ps[:1]); err != nil {
-					b.Fatal(err)
-				}
-			}
-			b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "logp/s")
-		})
+		b.Run(act+"/LossGrad", func(b *testing.B) { benchLossGrad(b, m) })
+		b.Run(act+"/LogProb", func(b *testing.B) { benchLogProb(b, m) })
 	}
 }
