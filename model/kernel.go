@@ -88,8 +88,15 @@ func (m *Model) prepareScore() *prep { return m.prepareFor(false) }
 // the column blocks of t, the only entries a forward product reads.
 func blocks32(dst []float32, w []float64, t tiling) []float32 {
 	dst = grow32(dst, len(w))
+	masked32(dst, w, t, t.cols)
+	return dst
+}
+
+// masked32 writes float32(W⊙M) into dst inside the column blocks cols of
+// t (rows whose mask is all ones are only rounded).
+func masked32(dst []float32, w []float64, t tiling, cols []tile) {
 	out := t.out
-	for _, c := range t.cols {
+	for _, c := range cols {
 		for j := c.lo; j < c.hi; j++ {
 			r := j * out
 			d, src, mk := dst[r+c.a0:r+c.a1], w[r+c.a0:r+c.a1], t.mask[r+c.a0:r+c.a1]
@@ -104,7 +111,6 @@ func blocks32(dst []float32, w []float64, t tiling) []float32 {
 			}
 		}
 	}
-	return dst
 }
 
 func mul(dst, a, b []float64) {

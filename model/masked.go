@@ -199,21 +199,7 @@ func (ml *maskedLinear) prepareCols(w []float64, c0, c1 int) {
 		if ml.weff32 == nil {
 			ml.weff32 = make([]float32, n)
 		}
-		for _, c := range ml.t.cols[c0:c1] {
-			for j := c.lo; j < c.hi; j++ {
-				r := j * out
-				d, src, mk := ml.weff32[r+c.a0:r+c.a1], w[r+c.a0:r+c.a1], mask[r+c.a0:r+c.a1]
-				if c.full[j-c.lo] {
-					for k := range d {
-						d[k] = float32(src[k])
-					}
-					continue
-				}
-				for k := range d {
-					d[k] = float32(src[k] * mk[k])
-				}
-			}
-		}
+		masked32(ml.weff32, w, ml.t, ml.t.cols[c0:c1])
 		return
 	}
 	if ml.weff == nil {
