@@ -36,4 +36,3 @@ func init() {
 		return s, nil
 	})
 }
-
