@@ -53,6 +53,20 @@ func benchLogProb(b *testing.B, m *Model) {
 	b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "snapshots/s")
 }
 
+// benchLogProbMatrix64 scores a batch at 64 λ in one call on one thread per
+// operation.
+func benchLogProbMatrix64(b *testing.B, m *Model) {
+	xs, _ := benchData(m, benchBatch)
+	ls := lambdas(64)
+	b.ResetTimer()
+	for b.Loop() {
+		if _, err := m.LogProbMatrix(xs, benchBatch, ls, 1); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(b.N*benchBatch*64)/b.Elapsed().Seconds(), "snapshot·λ/s")
+}
+
 // benchLossGrad runs one training step (loss and gradient of a batch) per
 // operation.
 func benchLossGrad(b *testing.B, m *Model) {
@@ -75,15 +89,7 @@ func benchLossGrad(b *testing.B, m *Model) {
 // thread (the first-layer product is shared by all λ).
 func BenchmarkLogProbMatrix64(b *testing.B) {
 	m := benchModel(b)
-	xs, _ := benchData(m, benchBatch)
-	ls := lambdas(64)
-	b.ResetTimer()
-	for b.Loop() {
-		if _, err := m.LogProbMatrix(xs, benchBatch, ls, 1); err != nil {
-			b.Fatal(err)
-		}
-	}
-	b.ReportMetric(float64(b.N*benchBatch*64)/b.Elapsed().Seconds(), "snapshot·λ/s")
+	benchLogProbMatrix64(b, m)
 }
 
 // BenchmarkLogProbSeparate64 is the same work as BenchmarkLogProbMatrix64
@@ -169,30 +175,14 @@ func BenchmarkLogProbMatrixStream(b *testing.B) {
 func BenchmarkLogProbMatrix64Float32(b *testing.B) {
 	m := benchModel(b)
 	m.Cfg.Precision = PrecisionFloat32
-	xs, _ := benchData(m, benchBatch)
-	ls := lambdas(64)
-	b.ResetTimer()
-	for b.Loop() {
-		if _, err := m.LogProbMatrix(xs, benchBatch, ls, 1); err != nil {
-			b.Fatal(err)
-		}
-	}
-	b.ReportMetric(float64(b.N*benchBatch*64)/b.Elapsed().Seconds(), "snapshot·λ/s")
+	benchLogProbMatrix64(b, m)
 }
 
 // BenchmarkLogProbFloat32 is BenchmarkLogProb with Precision float32.
 func BenchmarkLogProbFloat32(b *testing.B) {
 	m := benchModel(b)
 	m.Cfg.Precision = PrecisionFloat32
-	xs, _ := benchData(m, benchBatch)
-	dst := make([]float64, benchBatch)
-	b.ResetTimer()
-	for b.Loop() {
-		if err := m.LogProb(dst, xs, []float64{2.5}); err != nil {
-			b.Fatal(err)
-		}
-	}
-	b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "snapshots/s")
+	benchLogProb(b, m)
 }
 
 // BenchmarkActivation compares the cost of the activations on the benchmark
