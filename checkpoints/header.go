@@ -86,9 +86,12 @@ type Training struct {
 	Eps             float64 `json:"eps"`
 	Threads         int     `json:"threads"`
 	OrderName       string  `json:"order_name"`
-	TrainSnapshots  int     `json:"train_snapshots"`
-	ValSnapshots    int     `json:"val_snapshots"`
-	HeldSnapshots   int     `json:"heldout_snapshots"`
+	// Augment lists the symmetries the training snapshots were augmented
+	// with (see train.ParseAugment); empty for none.
+	Augment        []string `json:"augment,omitempty"`
+	TrainSnapshots int      `json:"train_snapshots"`
+	ValSnapshots   int      `json:"val_snapshots"`
+	HeldSnapshots  int      `json:"heldout_snapshots"`
 }
 
 // EpochMetrics are the figures of one epoch. The training NLL is the

@@ -26,6 +26,7 @@ import (
 //	PER (snapshots per point, 2000)   EPOCHS (30)   SEEDS (models averaged, 1)
 //	ACT, CONDACT (activations)        HIDDEN, COND (widths, "16,16"; COND=none)
 //	FOURIER (1)   SYM=1 (flip symmetry)   WD (weight decay)   LR
+//	AUG (symmetries to augment with, e.g. "translate,mirror,rotate,flip")
 //
 // Run: ACT=softplus PER=4000 go test -tags ablation ./train -run TestAblation -v
 func TestAblation(t *testing.T) {
@@ -41,6 +42,11 @@ func TestAblation(t *testing.T) {
 	st.Arch.CondHidden = envWidths(t, "COND", st.Arch.CondHidden)
 	st.WeightDecay = envFloat(t, "WD", st.WeightDecay)
 	st.LR = envFloat(t, "LR", st.LR)
+	aug, err := ParseAugment(os.Getenv("AUG"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	st.Augment = aug
 	var models []indicator.Source
 	for s := 1; s <= envInt(t, "SEEDS", 1); s++ {
 		st.Seed = uint64(s)

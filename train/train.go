@@ -7,6 +7,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+	"strings"
 	"sync"
 	"time"
 
@@ -77,6 +78,12 @@ type Settings struct {
 	// Threads is the number of gorgonia graphs each minibatch is split
 	// across (≥ 1).
 	Threads int
+	// Augment names the symmetries of the data's distribution ("translate",
+	// "mirror", "rotate", "flip"; see ParseAugment): each training snapshot
+	// enters its minibatch mapped through a random element of the group they
+	// generate. Only symmetries the system has at every grid point may be
+	// named; a wrong one biases the model.
+	Augment []string
 }
 
 // DefaultSettings returns settings that train the demo-sized systems
@@ -133,6 +140,9 @@ func (s Settings) Validate() error {
 	case s.Arch.Order != "rowmajor" && s.Arch.Order != "snake":
 		return fmt.Errorf("order: expected rowmajor or snake, found %q", s.Arch.Order)
 	}
+	if _, err := ParseAugment(strings.Join(s.Augment, ",")); err != nil {
+		return err
+	}
 	return nil
 }
 
@@ -188,6 +198,9 @@ var faultHook func(epoch int) bool
 // streams drawn from the same seed.
 const shuffleSalt = 0x7464_6d6b_7368_7566
 
+// augmentSalt separates the augmentation streams from the others.
+const augmentSalt = 0x7464_6d6b_6175_6721
+
 type run struct {
 	ds       *data.Dataset
 	grid     *data.Grid
@@ -195,6 +208,7 @@ type run struct {
 	opt      Options
 	m        *model.Model
 	bg       *model.BatchGraph // the minibatch split over Threads graphs
+	aug      *augmenter        // nil without Settings.Augment
 	adam     *Adam
 	w        [][]float64 // views of m.Weights[i].Data
 	best     [][]float64
@@ -357,7 +371,7 @@ func (r *run) trainingRecord() checkpoints.Training {
 		ValFrac: st.ValFrac, Patience: st.Patience, Schedule: st.Schedule,
 		PlateauPatience: st.PlateauPatience, PlateauFactor: st.PlateauFactor,
 		WeightDecay: st.WeightDecay, Clip: st.Clip, Beta1: st.Beta1, Beta2: st.Beta2, Eps: st.Eps,
-		Threads: st.Threads, OrderName: st.Arch.Order,
+		Threads: st.Threads, OrderName: st.Arch.Order, Augment: slices.Clone(st.Augment),
 		TrainSnapshots: len(r.trainIdx), ValSnapshots: nv, HeldSnapshots: nh,
 	}
 }
@@ -381,6 +395,7 @@ func (r *run) resume(fp string) error {
 		Epochs: t.Epochs, Batch: t.Batch, LR: t.LR, MinLR: t.MinLR, Seed: t.Seed, ValFrac: t.ValFrac,
 		Patience: t.Patience, Schedule: t.Schedule, PlateauPatience: t.PlateauPatience, PlateauFactor: t.PlateauFactor,
 		WeightDecay: t.WeightDecay, Clip: t.Clip, Beta1: t.Beta1, Beta2: t.Beta2, Eps: t.Eps, Threads: t.Threads,
+		Augment: slices.Clone(t.Augment),
 	}
 	if res.Epochs > 0 {
 		r.st.Epochs = res.Epochs
@@ -456,6 +471,9 @@ func (r *run) finishSetup(best [][]float64) error {
 		return err
 	}
 	r.bg = bg
+	if r.aug, err = newAugmenter(r.st.Augment, r.ds.Meta.Lattice, r.ds.Meta.Alphabet); err != nil {
+		return err
+	}
 	r.gsum = make([][]float64, len(r.w))
 	for i, w := range r.w {
 		r.gsum[i] = make([]float64, len(w))
@@ -620,6 +638,9 @@ func (r *run) epoch(ctx context.Context, epoch int) (float64, error) {
 	order := slices.Clone(r.trainIdx)
 	rng := rand.New(rand.NewPCG(r.st.Seed^shuffleSalt, uint64(epoch)))
 	rng.Shuffle(len(order), func(i, j int) { order[i], order[j] = order[j], order[i] })
+	// The symmetry elements come from their own stream, so that adding
+	// augmentation leaves the shuffle unchanged.
+	arng := rand.New(rand.NewPCG(r.st.Seed^augmentSalt, uint64(epoch)))
 	B := r.st.Batch
 	xs := make([]uint8, B*N)
 	ps := make([]float64, B*D)
@@ -631,7 +652,11 @@ func (r *run) epoch(ctx context.Context, epoch int) (float64, error) {
 		idx := order[b:min(b+B, len(order))]
 		n := len(idx)
 		for i, m := range idx {
-			copy(xs[i*N:(i+1)*N], ds.States[m*N:(m+1)*N])
+			if r.aug != nil {
+				r.aug.apply(xs[i*N:(i+1)*N], ds.States[m*N:(m+1)*N], arng)
+			} else {
+				copy(xs[i*N:(i+1)*N], ds.States[m*N:(m+1)*N])
+			}
 			copy(ps[i*D:(i+1)*D], ds.Params[m*D:(m+1)*D])
 		}
 		// The minibatch is split over the threads' graphs; gsum is the

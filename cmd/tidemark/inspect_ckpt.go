@@ -129,6 +129,9 @@ func inspectCheckpoint(path string, asJSON bool, w io.Writer) (bool, error) {
 	fmt.Fprintf(tw, "training\tseed %d, batch %d, lr %g (%s schedule), val-frac %g, patience %d, clip %g, weight decay %g, threads %d\n",
 		t.Seed, t.Batch, t.LR, t.Schedule, t.ValFrac, t.Patience, t.Clip, t.WeightDecay, t.Threads)
 	fmt.Fprintf(tw, "samples\t%d training, %d validation, %d held out\n", t.TrainSnapshots, t.ValSnapshots, t.HeldSnapshots)
+	if len(t.Augment) > 0 {
+		fmt.Fprintf(tw, "augmented\tby %s\n", strings.Join(t.Augment, ", "))
+	}
 	stopped := r.Stopped
 	if stopped == "" {
 		stopped = "still running or killed"

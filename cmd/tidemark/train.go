@@ -28,6 +28,7 @@ type trainOptions struct {
 	order              string
 	symmetric          bool
 	precision          string
+	augment            string
 
 	epochs, batch   int
 	lr, minLR       float64
@@ -93,6 +94,7 @@ thread counts change results only by floating-point summation order.`,
 	f.StringVar(&o.order, "order", d.Arch.Order, "autoregressive site order: rowmajor or snake (boustrophedon, 2-D lattices)")
 	f.BoolVar(&o.symmetric, "symmetric", false, "make the model invariant under flipping every spin (alphabet 2 only)")
 	f.StringVar(&o.precision, "precision", "float64", "arithmetic of the masked matrix products: float64, or float32 (faster, above all in the OpenBLAS build; sums stay float64)")
+	f.StringVar(&o.augment, "augment", "none", `symmetries of the system to augment the training snapshots with, comma-separated: translate (periodic boundaries), mirror, rotate (square lattices), flip (alphabet 2); name only symmetries every grid point has`)
 	f.IntVar(&o.epochs, "epochs", d.Epochs, "maximum number of passes over the training samples")
 	f.IntVar(&o.batch, "batch", d.Batch, "minibatch size in snapshots")
 	f.Float64Var(&o.lr, "lr", d.LR, "initial learning rate (per Adam step)")
@@ -157,6 +159,11 @@ func (o *trainOptions) settings() (train.Settings, error) {
 	st.Arch.Order = o.order
 	st.Arch.Symmetric = o.symmetric
 	st.Arch.Precision = o.precision
+	aug, err := train.ParseAugment(o.augment)
+	if err != nil {
+		return st, fmt.Errorf("--%w", err)
+	}
+	st.Augment = aug
 	st.Epochs, st.Batch, st.LR, st.MinLR, st.Seed = o.epochs, o.batch, o.lr, o.minLR, o.seed
 	st.ValFrac, st.Patience, st.Schedule = o.valFrac, o.patience, o.schedule
 	st.WeightDecay, st.Clip = o.weightDecay, o.clip
@@ -193,7 +200,7 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 		if fl.Changed("threads") {
 			res.Threads = threadsOrDefault(o.threads)
 		}
-		for _, name := range []string{"hidden", "cond-hidden", "fourier", "activation", "cond-activation", "direct", "order", "symmetric", "precision", "batch", "lr", "min-lr", "seed", "val-frac", "schedule", "weight-decay", "clip", "holdout"} {
+		for _, name := range []string{"hidden", "cond-hidden", "fourier", "activation", "cond-activation", "direct", "order", "symmetric", "precision", "augment", "batch", "lr", "min-lr", "seed", "val-frac", "schedule", "weight-decay", "clip", "holdout"} {
 			if fl.Changed(name) {
 				return fmt.Errorf("--%s: cannot be changed when resuming; the run keeps the settings saved in %s (only --epochs, --patience and --threads may change)", name, o.resume)
 			}

@@ -138,6 +138,9 @@ func ModelSummary(path string, ck *checkpoints.Checkpoint) ModelInfo {
 	if h.Training.OrderName != "" {
 		arch += ", " + h.Training.OrderName + " order"
 	}
+	if len(h.Training.Augment) > 0 {
+		arch += ", trained with snapshots augmented by " + strings.Join(h.Training.Augment, ", ")
+	}
 	m := ModelInfo{
 		Path: path, Architecture: arch, Params: ck.NumParams(),
 		Epochs: h.Optimizer.Epoch, BestEpoch: h.BestEpoch, Stopped: h.Stopped,
