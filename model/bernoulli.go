@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"hash"
 	"hash/fnv"
-	"math"
 
 	"github.com/chewxy/hm"
 	G "gorgonia.org/gorgonia"
@@ -76,29 +75,7 @@ func (op bernoulliOp) Do(inputs ...G.Value) (G.Value, error) {
 			op.b.e = make([]float64, rows*n)
 		}
 		lp := op.b.lp[:rows]
-		for i := range lp {
-			s := 0.0
-			zi, xi, ei := z[i*n:(i+1)*n], x[i*n:(i+1)*n], op.b.e[i*n:(i+1)*n]
-			// softplus(v) = max(v, 0) + log(1 + e^−|v|); the logarithms
-			// of up to prodTerms sites are taken as one logarithm of their
-			// product, as in rowLogProbs.
-			prod := 1.0
-			for k, v := range zi {
-				e := math.Exp(-math.Abs(v))
-				ei[k] = e
-				t := xi[k] * v
-				if v > 0 {
-					t -= v
-				}
-				s += t
-				prod *= 1 + e
-				if k%prodTerms == prodTerms-1 {
-					s -= math.Log(prod)
-					prod = 1
-				}
-			}
-			lp[i] = s - math.Log(prod)
-		}
+		vBernFwd(lp, op.b.e[:rows*n], x[:rows*n], z[:rows*n], rows, n)
 		return tensor.New(tensor.WithShape(rows), tensor.WithBacking(lp)), nil
 	}
 	g, _, err := f64Of(inputs[2])
@@ -110,18 +87,8 @@ func (op bernoulliOp) Do(inputs ...G.Value) (G.Value, error) {
 	}
 	dz := op.b.dz[:rows*n]
 	// σ(z) from the e^−|z| of the forward pass of this step, which always
-	// runs first (g depends on it): 1/(1+e) for z ≥ 0, e/(1+e) below.
-	e := op.b.e[:rows*n]
-	for i := 0; i < rows; i++ {
-		gi := g[i]
-		for k := i * n; k < (i+1)*n; k++ {
-			s := 1 / (1 + e[k])
-			if z[k] < 0 {
-				s *= e[k]
-			}
-			dz[k] = gi * (x[k] - s)
-		}
-	}
+	// runs first (g depends on it).
+	vBernBwd(dz, x[:rows*n], z[:rows*n], op.b.e[:rows*n], g[:rows], rows, n)
 	return tensor.New(tensor.WithShape(rows, n), tensor.WithBacking(dz)), nil
 }
 

@@ -95,21 +95,8 @@ func blocks32(dst []float32, w []float64, t tiling) []float32 {
 // masked32 writes float32(W⊙M) into dst inside the column blocks cols of
 // t (rows whose mask is all ones are only rounded).
 func masked32(dst []float32, w []float64, t tiling, cols []tile) {
-	out := t.out
 	for _, c := range cols {
-		for j := c.lo; j < c.hi; j++ {
-			r := j * out
-			d, src, mk := dst[r+c.a0:r+c.a1], w[r+c.a0:r+c.a1], t.mask[r+c.a0:r+c.a1]
-			if c.full[j-c.lo] {
-				for k := range d {
-					d[k] = float32(src[k])
-				}
-				continue
-			}
-			for k := range d {
-				d[k] = float32(src[k] * mk[k])
-			}
-		}
+		vMasked32(dst, w, t.mask, c, t.out)
 	}
 }
 
@@ -182,6 +169,7 @@ type workspace struct {
 	lins     []*maskedLinear // block-skipping products of the masked layers
 	linD     *maskedLinear   // and of the direct connection
 	xin      []float64       // 0/1 inputs of a block (q = 2)
+	e        []float64       // scratch of one row's per-site terms (q = 2)
 }
 
 // lin returns the masked product of layer l reading the weights of p.
@@ -217,6 +205,7 @@ func (m *Model) newWorkspace(rows int) *workspace {
 	}
 	if c.Alphabet == 2 {
 		w.xin = make([]float64, rows*c.Sites)
+		w.e = make([]float64, c.Sites)
 	}
 	return w
 }
@@ -331,6 +320,26 @@ func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r 
 				w.lin(p, l).forward(h, w.h[l-1], r, false)
 			}
 		}
+		if f32 && relu {
+			// The rows in one call when they share a bias.
+			var s64 []float64
+			if l == 0 {
+				s64 = a0[:r*hw]
+			}
+			if len(cb) == 1 {
+				vBiasRelu32(next, s64, y32, cb[0][l], r, hw)
+				continue
+			}
+			for i := 0; i < r; i++ {
+				lo, hi := i*hw, (i+1)*hw
+				if l == 0 {
+					vBiasRelu32(next[lo:hi], s64[lo:hi], nil, cb[min(i, len(cb)-1)][l], 1, hw)
+				} else {
+					vBiasRelu32(next[lo:hi], nil, y32[lo:hi], cb[min(i, len(cb)-1)][l], 1, hw)
+				}
+			}
+			continue
+		}
 		for i := 0; i < r; i++ {
 			b := cb[min(i, len(cb)-1)][l]
 			lo, hi := i*hw, (i+1)*hw
@@ -348,22 +357,12 @@ func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r 
 			case l == 0:
 				src, dst := a0[lo:hi], next[lo:hi]
 				for k := range dst {
-					v := src[k] + b[k]
-					if relu {
-						dst[k] = float32(relu0(v))
-					} else {
-						dst[k] = float32(act(v))
-					}
+					dst[k] = float32(act(src[k] + b[k]))
 				}
 			default:
 				src, dst := y32[lo:hi], next[lo:hi]
 				for k := range dst {
-					v := float64(src[k]) + b[k]
-					if relu {
-						dst[k] = float32(relu0(v))
-					} else {
-						dst[k] = float32(act(v))
-					}
+					dst[k] = float32(act(float64(src[k]) + b[k]))
 				}
 			}
 		}
@@ -380,6 +379,14 @@ func (m *Model) logits(p *prep, cb [][][]float64, w *workspace, dx []float64, r 
 	if p.eff32 != nil {
 		w.lin(p, L).product32(r)
 		y32 := w.lins[L].y32[:r*dout]
+		var dxr []float64
+		if p.effD != nil {
+			dxr = dx[:r*dout]
+		}
+		if len(cb) == 1 {
+			vLogits32(z, dxr, y32, cb[0][L], r, dout)
+			return
+		}
 		for i := 0; i < r; i++ {
 			b := cb[min(i, len(cb)-1)][L]
 			lo, hi := i*dout, (i+1)*dout
@@ -422,43 +429,25 @@ const prodTerms = 512
 func (m *Model) rowLogProbs(dst []float64, xs []uint8, w *workspace, r int, flip bool) {
 	c := m.Cfg
 	n, q, dout := c.Sites, c.Alphabet, m.lay.dout
+	if q == 2 {
+		vRowLP2(dst[:r], w.z[:r*dout], dout, xs[:r*n], n, r, flip, w.e)
+		return
+	}
 	for i := 0; i < r; i++ {
 		x := xs[i*n : (i+1)*n]
 		z := w.z[i*dout : (i+1)*dout]
 		s := 0.0
-		if q == 2 {
-			z = z[:len(x)]
-			prod := 1.0
-			for j, v := range x {
-				zj := z[j]
-				t := 0.0
-				if zj > 0 {
-					t = -zj
-				}
-				if (v == 1) != flip {
-					t += zj
-				}
-				s += t
-				prod *= 1 + math.Exp(-math.Abs(zj))
-				if j%prodTerms == prodTerms-1 {
-					s -= math.Log(prod)
-					prod = 1
-				}
+		for j, v := range x {
+			zs := z[j*q : (j+1)*q]
+			mx := zs[0]
+			for _, t := range zs[1:] {
+				mx = math.Max(mx, t)
 			}
-			s -= math.Log(prod)
-		} else {
-			for j, v := range x {
-				zs := z[j*q : (j+1)*q]
-				mx := zs[0]
-				for _, t := range zs[1:] {
-					mx = math.Max(mx, t)
-				}
-				e := 0.0
-				for _, t := range zs {
-					e += math.Exp(t - mx)
-				}
-				s += zs[v] - mx - math.Log(e)
+			e := 0.0
+			for _, t := range zs {
+				e += math.Exp(t - mx)
 			}
+			s += zs[v] - mx - math.Log(e)
 		}
 		dst[i] = s
 	}

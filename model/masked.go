@@ -169,9 +169,7 @@ func to32(dst []float32, src []float64) []float32 {
 		dst = make([]float32, len(src))
 	}
 	dst = dst[:len(src)]
-	for i, v := range src {
-		dst[i] = float32(v)
-	}
+	vTo32(dst, src)
 	return dst
 }
 
@@ -278,15 +276,7 @@ func (ml *maskedLinear) forward(y, x []float64, b int, acc bool) {
 	ml.dyOK = false
 	if ml.f32 {
 		ml.forward32(x, b)
-		if acc {
-			for i, v := range ml.y32 {
-				y[i] += float64(v)
-			}
-		} else {
-			for i, v := range ml.y32 {
-				y[i] = float64(v)
-			}
-		}
+		vTo64(y, ml.y32, acc)
 		return
 	}
 	beta := 1.0
@@ -348,9 +338,7 @@ func (ml *maskedLinear) gradX(dx, dy []float64, b int) {
 			gemm(blas.NoTrans, blas.Trans, 1, sub32(dy32, out, 0, r.lo, b, r.hi-r.lo),
 				sub32(ml.weff32, out, r.a0, r.lo, r.a1-r.a0, r.hi-r.lo), 0, sub32(ml.x32, in, 0, r.a0, b, r.a1-r.a0))
 		}
-		for i, v := range ml.x32 {
-			dx[i] = float64(v)
-		}
+		vTo64(dx, ml.x32, false)
 		return
 	}
 	clear(dx[:b*in])
@@ -447,22 +435,25 @@ func combine32(dst []float64, mls []*maskedLinear, f []float64, r0, r1 int) {
 				clear(d)
 				continue
 			}
-			g0, f0 := gs[0][r:r+len(d)], fs[0]
-			switch {
-			case len(gs) == 2:
-				g1, f1 := gs[1][r:r+len(d)], fs[1]
-				for k := range d {
-					d[k] = f0*float64(g0[k]) + f1*float64(g1[k])
+			if len(gs) <= 2 {
+				// The rows of the block in one call.
+				j1 := min(r1, b.hi)
+				var g1 []float32
+				f1 := 0.0
+				if len(gs) == 2 {
+					g1, f1 = gs[1], fs[1]
 				}
-			default:
+				vCombine32(dst, gs[0], g1, fs[0], f1, t.mask, b, out, j, j1)
+				j = j1 - 1
+				continue
+			}
+			for k := range d {
+				d[k] = fs[0] * float64(gs[0][r+k])
+			}
+			for c := 1; c < len(gs); c++ {
+				gc, fc := gs[c][r:r+len(d)], fs[c]
 				for k := range d {
-					d[k] = f0 * float64(g0[k])
-				}
-				for c := 1; c < len(gs); c++ {
-					gc, fc := gs[c][r:r+len(d)], fs[c]
-					for k := range d {
-						d[k] += fc * float64(gc[k])
-					}
+					d[k] += fc * float64(gc[k])
 				}
 			}
 			if !b.full[j-b.lo] {
@@ -511,26 +502,18 @@ func reluGrad(d, o float64) float64 {
 // rows, and its float32 rounding into r32 unless r32 is nil.
 func fusedAct(res []float64, r32 []float32, y32 []float32, hd, b []float64, act int) {
 	out := len(b)
+	if act == actRelu {
+		vFusedRelu(res, r32, y32, hd, b, len(y32)/out, out)
+		return
+	}
 	for i := 0; i < len(y32)/out; i++ {
 		r, y, h := res[i*out:(i+1)*out], y32[i*out:(i+1)*out], hd[i*out:(i+1)*out]
-		switch {
-		case act == actRelu && r32 != nil:
-			q := r32[i*out : (i+1)*out]
-			for k, v := range y {
-				t := max(float64(v)+h[k]+b[k], 0)
-				r[k], q[k] = t, float32(t)
-			}
-		case act == actRelu:
-			for k, v := range y {
-				// The builtin max compiles without a branch, which
-				// matters on random signs.
-				r[k] = max(float64(v)+h[k]+b[k], 0)
-			}
-		case act == actTanh:
+		switch act {
+		case actTanh:
 			for k, v := range y {
 				r[k] = math.Tanh(float64(v) + h[k] + b[k])
 			}
-		case act == actSoftplus:
+		case actSoftplus:
 			for k, v := range y {
 				r[k] = softplus(float64(v) + h[k] + b[k])
 			}
@@ -539,7 +522,7 @@ func fusedAct(res []float64, r32 []float32, y32 []float32, hd, b []float64, act 
 				r[k] = float64(v) + h[k] + b[k]
 			}
 		}
-		if r32 != nil && act != actRelu {
+		if r32 != nil {
 			q := r32[i*out : (i+1)*out]
 			for k, v := range r {
 				q[k] = float32(v)
@@ -629,11 +612,7 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 	if op.kind == 4 {
 		db := ml.buf(4, out)
 		clear(db)
-		for i := 0; i < rows; i++ {
-			for k, v := range a[i*out : (i+1)*out] {
-				db[k] += v
-			}
-		}
+		vColSum(db, a[:rows*out], rows, out)
 		return tensor.New(tensor.WithShape(out), tensor.WithBacking(db)), nil
 	}
 	b, _, err := f64Of(inputs[1])
@@ -705,18 +684,10 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 			// float32 copy, written here in the same pass.
 			d32 := grow32(ml.dy32, rows*out)
 			ml.dy32 = d32
-			a := a[:rows*out]
-			for i, o := range b[:rows*out] {
-				v := reluGrad(a[i], o)
-				res[i] = v
-				d32[i] = float32(v)
-			}
+			vReluGrad(res, d32, a[:rows*out], b[:rows*out])
 			ml.dyOK = true
 		case ml.act == actRelu:
-			a := a[:rows*out]
-			for i, o := range b[:rows*out] {
-				res[i] = reluGrad(a[i], o)
-			}
+			vReluGrad(res, nil, a[:rows*out], b[:rows*out])
 		case ml.act == actTanh:
 			for i, o := range b[:rows*out] {
 				res[i] = a[i] * (1 - o*o)

@@ -1,0 +1,291 @@
+//go:build openblas && cgo
+
+// Elementwise loops of the openblas build, in C so that gcc vectorises them
+// (AVX-512 or AVX2 where the CPU has it, chosen at load time by
+// target_clones, so the binary still runs on any x86-64). The pure-Go
+// build runs the Go loops of loops.go instead; vec_openblas.go calls these
+// once per large slice, never per element.
+//
+// fp-contract=off keeps gcc from fusing a·b+c into one FMA, so every loop
+// here except the exponential ones rounds exactly as its Go counterpart
+// (Go on amd64 does not fuse either) and gives bit-identical results;
+// no-math-errno and no-trapping-math (Go never reads the floating-point
+// exception flags) let gcc vectorise the comparisons and selects.
+#pragma GCC optimize("O3", "no-math-errno", "fp-contract=off", "no-trapping-math")
+
+#include <math.h>
+#include <stdint.h>
+#include <string.h>
+
+#if defined(__x86_64__) && defined(__GNUC__) && !defined(__clang__)
+#define CLONES __attribute__((target_clones("avx512f", "avx2", "default")))
+#else
+#define CLONES
+#endif
+
+// tm_expneg is e^x for x ≤ 0 (NaN passes through), written so that gcc can
+// vectorise a loop of it: the range reduction and rational approximation
+// of S. L. Moshier's Cephes exp (Cephes Mathematical Library, 1984–2000,
+// exp.c; also in Moshier, "Methods and Programs for Mathematical
+// Functions", Ellis Horwood 1989): x = n·ln2 + r with |r| ≤ ln2/2 (ln2 split
+// in two parts, C1 exact in few bits), e^r = 1 + 2r·P(r²)/(Q(r²) − r·P(r²)),
+// then scaled by 2^n built from its exponent bits. n is rounded to nearest
+// by adding and subtracting 1.5·2^52 instead of calling floor. Below −708
+// the result would be subnormal and is returned as 0 (absolute error below
+// 3.4e-308). Relative error against Go's math.Exp is checked in
+// vec_openblas_test.go.
+static inline double tm_expneg(double x) {
+	const double LOG2E = 1.4426950408889634073599;
+	const double C1 = 6.93145751953125E-1;
+	const double C2 = 1.42860682030941723212E-6;
+	const double SHIFT = 6755399441055744.0; // 1.5·2^52
+	const double P0 = 1.26177193074810590878E-4, P1 = 3.02994407707441961300E-2, P2 = 9.99999999999999999910E-1;
+	const double Q0 = 3.00198505138664455042E-6, Q1 = 2.52448340349684104192E-3, Q2 = 2.27265548208155028766E-1,
+	             Q3 = 2.00000000000000000009E0;
+	int under = x < -708.0;
+	double xc = under ? -708.0 : x;
+	double t = xc * LOG2E + SHIFT;
+	double fn = t - SHIFT;
+	int64_t tb, sb;
+	memcpy(&tb, &t, 8);
+	double shift = SHIFT;
+	memcpy(&sb, &shift, 8);
+	int64_t eb = (tb - sb + 1023) << 52;
+	double scale;
+	memcpy(&scale, &eb, 8);
+	double r = xc - fn * C1;
+	r = r - fn * C2;
+	double rr = r * r;
+	double px = r * ((P0 * rr + P1) * rr + P2);
+	double qx = ((Q0 * rr + Q1) * rr + Q2) * rr + Q3;
+	double y = px / (qx - px);
+	y = 1.0 + 2.0 * y;
+	y = y * scale;
+	return under ? 0.0 : y;
+}
+
+// tm_expneg_n writes e^x[k] (x[k] ≤ 0) for n values, for the accuracy test.
+CLONES void tm_expneg_n(double *dst, const double *x, long n) {
+	for (long k = 0; k < n; k++) dst[k] = tm_expneg(x[k]);
+}
+
+#define LANES 8
+#define PROD_TERMS 512
+
+// tm_rowsum returns Σ_k x_k·z_k − softplus(z_k) of one row of n sites given
+// e_k = e^−|z_k|: softplus(z) = max(z, 0) + log(1+e). The sum runs in
+// LANES interleaved partial sums (so it vectorises; the pure-Go loop sums in
+// site order, so the two differ in rounding), and the logarithms are taken
+// of products of up to PROD_TERMS factors 1+e ∈ (1, 2], as in the Go loop.
+// xon(k) is 1 where site k is "on".
+#define ROWSUM_BODY(XON)                                                                \
+	double s[LANES], p[LANES];                                                      \
+	for (int l = 0; l < LANES; l++) s[l] = 0.0;                                     \
+	double logs = 0.0;                                                              \
+	for (long b0 = 0; b0 < n; b0 += PROD_TERMS) {                                   \
+		long b1 = b0 + PROD_TERMS < n ? b0 + PROD_TERMS : n;                     \
+		for (int l = 0; l < LANES; l++) p[l] = 1.0;                             \
+		long k = b0;                                                            \
+		for (; k + LANES <= b1; k += LANES) {                                   \
+			for (int l = 0; l < LANES; l++) {                               \
+				double zz = z[k + l];                                   \
+				double mz = zz > 0 ? zz : 0.0;                          \
+				s[l] += (XON(k + l) ? zz : 0.0) - mz;                   \
+				p[l] *= 1.0 + e[k + l];                                 \
+			}                                                               \
+		}                                                                       \
+		for (; k < b1; k++) {                                                   \
+			double zz = z[k];                                               \
+			double mz = zz > 0 ? zz : 0.0;                                  \
+			s[0] += (XON(k) ? zz : 0.0) - mz;                               \
+			p[0] *= 1.0 + e[k];                                             \
+		}                                                                       \
+		double q = ((p[0] * p[1]) * (p[2] * p[3])) * ((p[4] * p[5]) * (p[6] * p[7])); \
+		logs += log(q);                                                         \
+	}                                                                               \
+	return (((s[0] + s[1]) + (s[2] + s[3])) + ((s[4] + s[5]) + (s[6] + s[7]))) - logs;
+
+#define XON_F64(k) (x[k] != 0.0)
+static inline double tm_rowsum_f64(const double *z, const double *x, const double *e, long n) {
+	ROWSUM_BODY(XON_F64)
+}
+
+#define XON_U8(k) ((x[k] == 1) != flip)
+static inline double tm_rowsum_u8(const double *z, const uint8_t *x, int flip, const double *e, long n) {
+	ROWSUM_BODY(XON_U8)
+}
+
+// tm_bern_fwd is the forward pass of the training graph's q = 2
+// log-likelihood: for each of rows rows of n sites, e = e^−|z| (kept for the
+// gradient) and lp_i = Σ_k x·z − softplus(z), x 0/1.
+CLONES void tm_bern_fwd(double *lp, double *e, const double *x, const double *z, long rows, long n) {
+	for (long i = 0; i < rows; i++) {
+		const double *zi = z + i * n;
+		double *ei = e + i * n;
+		for (long k = 0; k < n; k++) ei[k] = tm_expneg(-fabs(zi[k]));
+		lp[i] = tm_rowsum_f64(zi, x + i * n, ei, n);
+	}
+}
+
+// tm_bern_bwd is its gradient dz = g_i·(x − σ(z)), σ(z) from e = e^−|z|:
+// 1/(1+e) for z ≥ 0, e/(1+e) below (the same arithmetic as the Go loop).
+CLONES void tm_bern_bwd(double *dz, const double *x, const double *z, const double *e, const double *g, long rows, long n) {
+	for (long i = 0; i < rows; i++) {
+		double gi = g[i];
+		const double *xi = x + i * n, *zi = z + i * n, *ei = e + i * n;
+		double *d = dz + i * n;
+		for (long k = 0; k < n; k++) {
+			double s = 1.0 / (1.0 + ei[k]);
+			s = zi[k] < 0 ? s * ei[k] : s;
+			d[k] = gi * (xi[k] - s);
+		}
+	}
+}
+
+// tm_rowlp2 is the scoring kernel's q = 2 log-likelihood of rows snapshots
+// of n sites (uint8 states, flipped when flip is set) from logits z with row
+// stride zs; scratch holds n values.
+CLONES void tm_rowlp2(double *dst, const double *z, long zs, const uint8_t *x, long n, long rows, int flip, double *scratch) {
+	double *e = scratch;
+	for (long i = 0; i < rows; i++) {
+		const double *zi = z + i * zs;
+		for (long k = 0; k < n; k++) e[k] = tm_expneg(-fabs(zi[k]));
+		dst[i] = tm_rowsum_u8(zi, x + i * n, flip, e, n);
+	}
+}
+
+// relu0 is Go's max(v, 0): NaN stays NaN, −0 becomes +0.
+static inline double relu0(double v) { return v <= 0 ? 0.0 : v; }
+
+// tm_to32 is dst[k] = float32(src[k]).
+CLONES void tm_to32(float *dst, const double *src, long n) {
+	for (long k = 0; k < n; k++) dst[k] = (float)src[k];
+}
+
+// tm_to64 is dst[k] = float64(src[k]), or dst[k] += float64(src[k]) with acc.
+CLONES void tm_to64(double *dst, const float *src, long n, int acc) {
+	if (acc) {
+		for (long k = 0; k < n; k++) dst[k] += (double)src[k];
+		return;
+	}
+	for (long k = 0; k < n; k++) dst[k] = (double)src[k];
+}
+
+// tm_bias_relu32 is the scoring kernel's activation pass of rows rows of
+// width w: dst = float32(relu(src + b)), src float64 (src64) or float32
+// (src32, the other nil), b the same for every row.
+CLONES void tm_bias_relu32(float *dst, const double *src64, const float *src32, const double *b, long rows, long w) {
+	for (long i = 0; i < rows; i++) {
+		float *d = dst + i * w;
+		if (src64) {
+			const double *s = src64 + i * w;
+			for (long k = 0; k < w; k++) d[k] = (float)relu0(s[k] + b[k]);
+		} else {
+			const float *s = src32 + i * w;
+			for (long k = 0; k < w; k++) d[k] = (float)relu0((double)s[k] + b[k]);
+		}
+	}
+}
+
+// tm_logits32 is z = (dx + float64(y)) + b (dx may be nil: z = float64(y) +
+// b) for rows rows of width w, b the same for every row.
+CLONES void tm_logits32(double *z, const double *dx, const float *y, const double *b, long rows, long w) {
+	for (long i = 0; i < rows; i++) {
+		double *zr = z + i * w;
+		const float *yr = y + i * w;
+		if (dx) {
+			const double *dr = dx + i * w;
+			for (long k = 0; k < w; k++) zr[k] = (dr[k] + (double)yr[k]) + b[k];
+		} else {
+			for (long k = 0; k < w; k++) zr[k] = (double)yr[k] + b[k];
+		}
+	}
+}
+
+// tm_fused_relu is the training graph's fused activation: res =
+// relu((float64(y) + hd) + b) for rows rows of width w, and its float32
+// copy in r32 unless r32 is nil.
+CLONES void tm_fused_relu(double *res, float *r32, const float *y, const double *hd, const double *b, long rows, long w) {
+	for (long i = 0; i < rows; i++) {
+		double *r = res + i * w;
+		const float *yr = y + i * w;
+		const double *h = hd + i * w;
+		if (r32) {
+			float *q = r32 + i * w;
+			for (long k = 0; k < w; k++) {
+				double t = relu0(((double)yr[k] + h[k]) + b[k]);
+				r[k] = t;
+				q[k] = (float)t;
+			}
+		} else {
+			for (long k = 0; k < w; k++) r[k] = relu0(((double)yr[k] + h[k]) + b[k]);
+		}
+	}
+}
+
+// tm_relu_grad is res = dO where the ReLU output O is not +0, else +0, and
+// its float32 copy in d32 unless d32 is nil.
+CLONES void tm_relu_grad(double *res, float *d32, const double *a, const double *o, long n) {
+	for (long k = 0; k < n; k++) {
+		uint64_t ob;
+		memcpy(&ob, &o[k], 8);
+		double v = ob != 0 ? a[k] : 0.0;
+		res[k] = v;
+		if (d32) d32[k] = (float)v;
+	}
+}
+
+// tm_colsum adds the rows rows of a [rows, w] to db[w], row after row.
+CLONES void tm_colsum(double *db, const double *a, long rows, long w) {
+	for (long i = 0; i < rows; i++) {
+		const double *r = a + i * w;
+		for (long k = 0; k < w; k++) db[k] += r[k];
+	}
+}
+
+// tm_masked32 writes float32(w⊙mask) into dst for rows lo..hi−1, columns
+// a0..a1−1 of row-major matrices with out columns; full[j−lo] marks rows
+// whose mask is all ones there (only rounded).
+CLONES void tm_masked32(float *dst, const double *w, const double *mask, const uint8_t *full, long out, long a0, long a1,
+                        long lo, long hi) {
+	long n = a1 - a0;
+	for (long j = lo; j < hi; j++) {
+		long r = j * out + a0;
+		float *d = dst + r;
+		const double *s = w + r, *mk = mask + r;
+		if (full[j - lo]) {
+			for (long k = 0; k < n; k++) d[k] = (float)s[k];
+		} else {
+			for (long k = 0; k < n; k++) d[k] = (float)(s[k] * mk[k]);
+		}
+	}
+}
+
+// tm_combine32 writes dst = (f0·float64(g0) + f1·float64(g1))⊙mask (g1 nil:
+// f0·float64(g0)⊙mask) for rows j0..j1−1, columns a0..a1−1; full[j−lo]
+// marks the rows whose mask is all ones there.
+CLONES void tm_combine32(double *dst, const float *g0, const float *g1, double f0, double f1, const double *mask,
+                         const uint8_t *full, long out, long a0, long a1, long lo, long j0, long j1) {
+	long n = a1 - a0;
+	for (long j = j0; j < j1; j++) {
+		long r = j * out + a0;
+		double *d = dst + r;
+		const float *x0 = g0 + r;
+		const double *mk = mask + r;
+		int fl = full[j - lo];
+		if (g1) {
+			const float *x1 = g1 + r;
+			if (fl) {
+				for (long k = 0; k < n; k++) d[k] = f0 * (double)x0[k] + f1 * (double)x1[k];
+			} else {
+				for (long k = 0; k < n; k++) d[k] = (f0 * (double)x0[k] + f1 * (double)x1[k]) * mk[k];
+			}
+		} else {
+			if (fl) {
+				for (long k = 0; k < n; k++) d[k] = f0 * (double)x0[k];
+			} else {
+				for (long k = 0; k < n; k++) d[k] = (f0 * (double)x0[k]) * mk[k];
+			}
+		}
+	}
+}
