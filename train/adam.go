@@ -71,28 +71,34 @@ func (a *Adam) UpdateThreads(w, g [][]float64, lr float64, threads int) {
 
 // update applies the step to part k of parts of every slice.
 func (a *Adam) update(w, g [][]float64, lr, bc1, bc2 float64, k, parts int) {
-	b1, b2 := a.Beta1, a.Beta2
 	for i := range w {
 		lo, hi := k*len(g[i])/parts, (k+1)*len(g[i])/parts
-		wi, gi, mi, vi := w[i][lo:hi], g[i][lo:hi], a.M[i][lo:hi], a.V[i][lo:hi]
 		decay := a.WeightDecay != 0 && (a.Decay == nil || a.Decay[i])
-		wd := lr * a.WeightDecay
-		for j, gj := range gi {
-			if gj == 0 && !decay && mi[j] == 0 && vi[j] == 0 {
-				// The step would be exactly 0 and the moments stay 0: the
-				// entries outside a weight's mask, whose gradient is
-				// always 0, cost no square root and division.
-				continue
-			}
-			mj := b1*mi[j] + (1-b1)*gj
-			vj := b2*vi[j] + (1-b2)*gj*gj
-			mi[j], vi[j] = mj, vj
-			step := lr * (mj / bc1) / (math.Sqrt(vj/bc2) + a.Eps)
-			if decay {
-				step += wd * wi[j]
-			}
-			wi[j] -= step
+		adamSlice(w[i][lo:hi], g[i][lo:hi], a.M[i][lo:hi], a.V[i][lo:hi], a.Beta1, a.Beta2, a.Eps, lr, bc1, bc2, lr*a.WeightDecay, decay)
+	}
+}
+
+// adamSliceGo is the Adam step of one slice (wd = lr·λ, used when decay
+// is set): the pure-Go build's loop (adam_purego.go) and the reference of
+// the openblas build's C loop (adam_openblas.go), which must give the same
+// bits.
+func adamSliceGo(wi, gi, mi, vi []float64, b1, b2, eps, lr, bc1, bc2, wd float64, decay bool) {
+	wi, mi, vi = wi[:len(gi)], mi[:len(gi)], vi[:len(gi)]
+	for j, gj := range gi {
+		if gj == 0 && !decay && mi[j] == 0 && vi[j] == 0 {
+			// The step would be exactly 0 and the moments stay 0: the
+			// entries outside a weight's mask, whose gradient is
+			// always 0, cost no square root and division.
+			continue
 		}
+		mj := b1*mi[j] + (1-b1)*gj
+		vj := b2*vi[j] + (1-b2)*gj*gj
+		mi[j], vi[j] = mj, vj
+		step := lr * (mj / bc1) / (math.Sqrt(vj/bc2) + eps)
+		if decay {
+			step += wd * wi[j]
+		}
+		wi[j] -= step
 	}
 }
 

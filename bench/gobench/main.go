@@ -31,6 +31,7 @@ import (
 	"gonum.org/v1/gonum/blas/blas64"
 
 	"tidemark/model"
+	"tidemark/train"
 )
 
 // result is one measured figure.
@@ -228,43 +229,6 @@ func executedFlops(m *model.Model, b int) float64 {
 	return total
 }
 
-// adam is the Adam update (D. P. Kingma and J. Ba, ICLR 2015) with the
-// usual constants β1 = 0.9, β2 = 0.999, ε = 1e-8.
-type adam struct {
-	m, v [][]float64
-	t    int
-}
-
-func newAdam(w []model.Tensor) *adam {
-	a := &adam{}
-	for _, t := range w {
-		a.m = append(a.m, make([]float64, len(t.Data)))
-		a.v = append(a.v, make([]float64, len(t.Data)))
-	}
-	return a
-}
-
-// update applies one Adam step (step number a.t+1) to entries lo..hi of
-// weight i.
-func (a *adam) update(i int, d, g []float64, lo, hi int, lr float64) {
-	t := float64(a.t + 1)
-	step := lr / (1 - math.Pow(0.9, t))
-	ic2 := 1 / (1 - math.Pow(0.999, t))
-	m, v := a.m[i], a.v[i]
-	for k := lo; k < hi; k++ {
-		gk := g[k]
-		if gk == 0 && m[k] == 0 && v[k] == 0 {
-			// The step would be exactly 0 (as in train.Adam): the entries
-			// outside the masks, whose gradient is always 0.
-			continue
-		}
-		mk := 0.9*m[k] + 0.1*gk
-		vk := 0.999*v[k] + 0.001*gk*gk
-		m[k], v[k] = mk, vk
-		d[k] -= step * mk / (math.Sqrt(vk*ic2) + 1e-8)
-	}
-}
-
 // cpuSeconds is the CPU time (user and system, all threads) of the process.
 func cpuSeconds() float64 {
 	var ru syscall.Rusage
@@ -330,24 +294,20 @@ func measureShape(n, h int, prec string, threads, reps, matRows int, budget time
 	for i, t := range m.Weights {
 		sum[i] = make([]float64, len(t.Data))
 	}
-	opt := newAdam(m.Weights)
+	// The Adam update of package train (D. P. Kingma and J. Ba, ICLR 2015;
+	// β1 = 0.9, β2 = 0.999, ε = 1e-8, no weight decay, as the peer's
+	// torch.optim.Adam), split over the threads as train does.
+	ws := make([][]float64, len(m.Weights))
+	sizes := make([]int, len(m.Weights))
+	for i, t := range m.Weights {
+		ws[i], sizes[i] = t.Data, len(t.Data)
+	}
+	opt := train.NewAdam(sizes, 0.9, 0.999, 1e-8, 0)
 	trainStep := func() {
 		if _, err := bg.LossGrad(xs, ps, batch, 1, sum); err != nil {
 			panic(err)
 		}
-		var wg sync.WaitGroup
-		for t := range threads {
-			wg.Add(1)
-			go func() {
-				defer wg.Done()
-				for i := range sum {
-					lo, hi := t*len(sum[i])/threads, (t+1)*len(sum[i])/threads
-					opt.update(i, m.Weights[i].Data, sum[i], lo, hi, 1e-4)
-				}
-			}()
-		}
-		wg.Wait()
-		opt.t++
+		opt.UpdateThreads(ws, sum, 1e-4, threads)
 	}
 	steps := 2
 	third := budget / 3
