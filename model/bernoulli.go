@@ -21,6 +21,7 @@ type bernoulli struct {
 	n      int // sites
 	lp, dz []float64
 	e      []float64 // e^−|z| of the forward pass, reused by the gradient
+	t      []float64 // scratch of one row
 }
 
 // bernoulliOp is kind 0 (lp from x, z) or kind 1 (dz from x, z, g).
@@ -74,8 +75,11 @@ func (op bernoulliOp) Do(inputs ...G.Value) (G.Value, error) {
 		if cap(op.b.e) < rows*n {
 			op.b.e = make([]float64, rows*n)
 		}
+		if len(op.b.t) < n {
+			op.b.t = make([]float64, n)
+		}
 		lp := op.b.lp[:rows]
-		vBernFwd(lp, op.b.e[:rows*n], x[:rows*n], z[:rows*n], rows, n)
+		vBernFwd(lp, op.b.e[:rows*n], x[:rows*n], z[:rows*n], rows, n, op.b.t)
 		return tensor.New(tensor.WithShape(rows), tensor.WithBacking(lp)), nil
 	}
 	g, _, err := f64Of(inputs[2])

@@ -205,7 +205,7 @@ func (m *Model) newWorkspace(rows int) *workspace {
 	}
 	if c.Alphabet == 2 {
 		w.xin = make([]float64, rows*c.Sites)
-		w.e = make([]float64, c.Sites)
+		w.e = make([]float64, 2*c.Sites)
 	}
 	return w
 }
@@ -230,6 +230,28 @@ func (m *Model) gather(p *prep, w *workspace, xs []uint8, r int, flip bool, a0, 
 		// matrix products: each weight row is then read once per block
 		// instead of once per snapshot, which keeps the large first-layer
 		// and direct matrices in cache.
+		l0 := w.lin(p, 0)
+		var ld *maskedLinear
+		if p.effD != nil {
+			ld = w.linD
+			ld.weff, ld.weff32, ld.f32 = p.effD, p.effD32, p.effD32 != nil
+		}
+		if l0.f32 && (ld == nil || ld.f32) {
+			// Single precision: the float32 inputs of both products are
+			// written straight from the states.
+			for _, ml := range []*maskedLinear{l0, ld} {
+				if ml != nil {
+					ml.fx32 = grow32(ml.fx32, r*n)
+					vStates32(ml.fx32, xs[:r*n], flip)
+					ml.fxOK = true
+				}
+			}
+			l0.forward(a0, nil, r, false)
+			if ld != nil {
+				ld.forward(dx, nil, r, false)
+			}
+			return
+		}
 		xin := w.xin[:r*n]
 		for k, v := range xs[:r*n] {
 			xin[k] = 0
@@ -237,11 +259,9 @@ func (m *Model) gather(p *prep, w *workspace, xs []uint8, r int, flip bool, a0, 
 				xin[k] = 1
 			}
 		}
-		w.lin(p, 0).forward(a0, xin, r, false)
-		if p.effD != nil {
-			ml := w.linD
-			ml.weff, ml.weff32, ml.f32 = p.effD, p.effD32, p.effD32 != nil
-			ml.forward(dx, xin, r, false)
+		l0.forward(a0, xin, r, false)
+		if ld != nil {
+			ld.forward(dx, xin, r, false)
 		}
 		return
 	}

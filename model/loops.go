@@ -35,8 +35,8 @@ func to64Go(dst []float64, src []float32, acc bool) {
 // of n sites: e = e^−|z| (kept for the gradient) and lp_i = Σ_k x·z −
 // softplus(z), with softplus(v) = max(v, 0) + log(1 + e^−|v|); the
 // logarithms of up to prodTerms sites are taken as one logarithm of their
-// product, as in rowLogProbs.
-func bernFwdGo(lp, e, x, z []float64, rows, n int) {
+// product, as in rowLogProbs. (scratch is unused here.)
+func bernFwdGo(lp, e, x, z []float64, rows, n int, scratch []float64) {
 	for i := range lp[:rows] {
 		s := 0.0
 		zi, xi, ei := z[i*n:(i+1)*n], x[i*n:(i+1)*n], e[i*n:(i+1)*n]
@@ -56,6 +56,18 @@ func bernFwdGo(lp, e, x, z []float64, rows, n int) {
 			}
 		}
 		lp[i] = s - math.Log(prod)
+	}
+}
+
+// states32Go writes the 0/1 inputs of the site values xs as float32: 1
+// where (v == 1) differs from flip.
+func states32Go(dst []float32, xs []uint8, flip bool) {
+	dst = dst[:len(xs)]
+	for k, v := range xs {
+		dst[k] = 0
+		if (v == 1) != flip {
+			dst[k] = 1
+		}
 	}
 }
 

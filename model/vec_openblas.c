@@ -1,8 +1,9 @@
 //go:build openblas && cgo
 
 // Elementwise loops of the openblas build, in C so that gcc vectorises them
-// (AVX-512 or AVX2 where the CPU has it, chosen at load time by
-// target_clones, so the binary still runs on any x86-64). The pure-Go
+// (AVX-512 — the x86-64-v4 level, with the byte instructions the uint8 states need — or
+// AVX2 where the CPU has it, chosen at load time by target_clones, so the
+// binary still runs on any x86-64). The pure-Go
 // build runs the Go loops of loops.go instead; vec_openblas.go calls these
 // once per large slice, never per element.
 //
@@ -18,7 +19,7 @@
 #include <string.h>
 
 #if defined(__x86_64__) && defined(__GNUC__) && !defined(__clang__)
-#define CLONES __attribute__((target_clones("avx512f", "avx2", "default")))
+#define CLONES __attribute__((target_clones("arch=x86-64-v4", "avx2", "default")))
 #else
 #define CLONES
 #endif
@@ -69,61 +70,59 @@ CLONES void tm_expneg_n(double *dst, const double *x, long n) {
 	for (long k = 0; k < n; k++) dst[k] = tm_expneg(x[k]);
 }
 
-#define LANES 8
 #define PROD_TERMS 512
 
-// tm_rowsum returns Σ_k x_k·z_k − softplus(z_k) of one row of n sites given
-// e_k = e^−|z_k|: softplus(z) = max(z, 0) + log(1+e). The sum runs in
-// LANES interleaved partial sums (so it vectorises; the pure-Go loop sums in
-// site order, so the two differ in rounding), and the logarithms are taken
-// of products of up to PROD_TERMS factors 1+e ∈ (1, 2], as in the Go loop.
-// xon(k) is 1 where site k is "on".
-#define ROWSUM_BODY(XON)                                                                \
-	double s[LANES], p[LANES];                                                      \
-	for (int l = 0; l < LANES; l++) s[l] = 0.0;                                     \
-	double logs = 0.0;                                                              \
-	for (long b0 = 0; b0 < n; b0 += PROD_TERMS) {                                   \
-		long b1 = b0 + PROD_TERMS < n ? b0 + PROD_TERMS : n;                     \
-		for (int l = 0; l < LANES; l++) p[l] = 1.0;                             \
-		long k = b0;                                                            \
-		for (; k + LANES <= b1; k += LANES) {                                   \
-			for (int l = 0; l < LANES; l++) {                               \
-				double zz = z[k + l];                                   \
-				double mz = zz > 0 ? zz : 0.0;                          \
-				s[l] += (XON(k + l) ? zz : 0.0) - mz;                   \
-				p[l] *= 1.0 + e[k + l];                                 \
-			}                                                               \
-		}                                                                       \
-		for (; k < b1; k++) {                                                   \
-			double zz = z[k];                                               \
-			double mz = zz > 0 ? zz : 0.0;                                  \
-			s[0] += (XON(k) ? zz : 0.0) - mz;                               \
-			p[0] *= 1.0 + e[k];                                             \
-		}                                                                       \
-		double q = ((p[0] * p[1]) * (p[2] * p[3])) * ((p[4] * p[5]) * (p[6] * p[7])); \
-		logs += log(q);                                                         \
-	}                                                                               \
-	return (((s[0] + s[1]) + (s[2] + s[3])) + ((s[4] + s[5]) + (s[6] + s[7]))) - logs;
+// tm_v8d is a vector of 8 doubles (gcc's generic vectors: one AVX-512
+// register, two AVX2 or four SSE2 ones), for the interleaved partial sums
+// and products below, which gcc would not vectorise as written in scalar
+// code without reassociating.
+typedef double tm_v8d __attribute__((vector_size(64)));
 
-#define XON_F64(k) (x[k] != 0.0)
-static inline double tm_rowsum_f64(const double *z, const double *x, const double *e, long n) {
-	ROWSUM_BODY(XON_F64)
-}
-
-#define XON_U8(k) ((x[k] == 1) != flip)
-static inline double tm_rowsum_u8(const double *z, const uint8_t *x, int flip, const double *e, long n) {
-	ROWSUM_BODY(XON_U8)
+// tm_rowsum returns Σ_k t_k − Σ_k log(1+e_k) of one row of n sites, t_k =
+// x_k·z_k − max(z_k, 0) and e_k = e^−|z_k| given, so that with softplus(z) =
+// max(z, 0) + log(1+e^−|z|) it is Σ_k x_k·z_k − softplus(z_k). The sums run
+// in 8 interleaved partial sums (the pure-Go loop sums in site order, so
+// the two differ in rounding), and the logarithms are taken of products of
+// up to PROD_TERMS factors 1+e ∈ (1, 2] (at most 2^512), as in the Go loop.
+static inline double tm_rowsum(const double *t, const double *e, long n) {
+	tm_v8d s = {0};
+	double tail = 0.0, logs = 0.0;
+	for (long b0 = 0; b0 < n; b0 += PROD_TERMS) {
+		long b1 = b0 + PROD_TERMS < n ? b0 + PROD_TERMS : n;
+		tm_v8d p = {1, 1, 1, 1, 1, 1, 1, 1};
+		long k = b0;
+		for (; k + 8 <= b1; k += 8) {
+			tm_v8d tv, ev;
+			memcpy(&tv, t + k, sizeof tv);
+			memcpy(&ev, e + k, sizeof ev);
+			s += tv;
+			p *= 1.0 + ev;
+		}
+		double q = 1.0;
+		for (; k < b1; k++) {
+			tail += t[k];
+			q *= 1.0 + e[k];
+		}
+		q *= ((p[0] * p[1]) * (p[2] * p[3])) * ((p[4] * p[5]) * (p[6] * p[7]));
+		logs += log(q);
+	}
+	return ((((s[0] + s[1]) + (s[2] + s[3])) + ((s[4] + s[5]) + (s[6] + s[7]))) + tail) - logs;
 }
 
 // tm_bern_fwd is the forward pass of the training graph's q = 2
 // log-likelihood: for each of rows rows of n sites, e = e^−|z| (kept for the
-// gradient) and lp_i = Σ_k x·z − softplus(z), x 0/1.
-CLONES void tm_bern_fwd(double *lp, double *e, const double *x, const double *z, long rows, long n) {
+// gradient) and lp_i = Σ_k x·z − softplus(z), x 0/1; t is scratch of n
+// values.
+CLONES void tm_bern_fwd(double *lp, double *e, double *t, const double *x, const double *z, long rows, long n) {
 	for (long i = 0; i < rows; i++) {
-		const double *zi = z + i * n;
+		const double *zi = z + i * n, *xi = x + i * n;
 		double *ei = e + i * n;
-		for (long k = 0; k < n; k++) ei[k] = tm_expneg(-fabs(zi[k]));
-		lp[i] = tm_rowsum_f64(zi, x + i * n, ei, n);
+		for (long k = 0; k < n; k++) {
+			double zz = zi[k];
+			ei[k] = tm_expneg(-fabs(zz));
+			t[k] = xi[k] * zz - (zz > 0 ? zz : 0.0);
+		}
+		lp[i] = tm_rowsum(t, ei, n);
 	}
 }
 
@@ -144,14 +143,25 @@ CLONES void tm_bern_bwd(double *dz, const double *x, const double *z, const doub
 
 // tm_rowlp2 is the scoring kernel's q = 2 log-likelihood of rows snapshots
 // of n sites (uint8 states, flipped when flip is set) from logits z with row
-// stride zs; scratch holds n values.
+// stride zs; scratch holds 2n values.
 CLONES void tm_rowlp2(double *dst, const double *z, long zs, const uint8_t *x, long n, long rows, int flip, double *scratch) {
-	double *e = scratch;
+	double *e = scratch, *t = scratch + n;
 	for (long i = 0; i < rows; i++) {
 		const double *zi = z + i * zs;
-		for (long k = 0; k < n; k++) e[k] = tm_expneg(-fabs(zi[k]));
-		dst[i] = tm_rowsum_u8(zi, x + i * n, flip, e, n);
+		const uint8_t *xi = x + i * n;
+		for (long k = 0; k < n; k++) {
+			double zz = zi[k];
+			e[k] = tm_expneg(-fabs(zz));
+			t[k] = (((xi[k] == 1) != flip) ? zz : 0.0) - (zz > 0 ? zz : 0.0);
+		}
+		dst[i] = tm_rowsum(t, e, n);
 	}
+}
+
+// tm_states32 writes the 0/1 inputs of n site values as float32: 1 where
+// (x == 1) differs from flip.
+CLONES void tm_states32(float *dst, const uint8_t *x, long n, int flip) {
+	for (long k = 0; k < n; k++) dst[k] = ((x[k] == 1) != flip) ? 1.0f : 0.0f;
 }
 
 // relu0 is Go's max(v, 0): NaN stays NaN, −0 becomes +0.

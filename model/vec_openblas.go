@@ -6,7 +6,8 @@ package model
 // #cgo LDFLAGS: -lm
 // #include <stdint.h>
 // void tm_expneg_n(double *dst, const double *x, long n);
-// void tm_bern_fwd(double *lp, double *e, const double *x, const double *z, long rows, long n);
+// void tm_bern_fwd(double *lp, double *e, double *t, const double *x, const double *z, long rows, long n);
+// void tm_states32(float *dst, const uint8_t *x, long n, int flip);
 // void tm_bern_bwd(double *dz, const double *x, const double *z, const double *e, const double *g, long rows, long n);
 // void tm_rowlp2(double *dst, const double *z, long zs, const uint8_t *x, long n, long rows, int flip, double *scratch);
 // void tm_to32(float *dst, const double *src, long n);
@@ -93,16 +94,29 @@ func vTo64(dst []float64, src []float32, acc bool) {
 	}
 }
 
-func vBernFwd(lp, e, x, z []float64, rows, n int) {
+func vBernFwd(lp, e, x, z []float64, rows, n int, scratch []float64) {
 	if rows*n == 0 {
-		bernFwdGo(lp, e, x, z, rows, n)
+		bernFwdGo(lp, e, x, z, rows, n, scratch)
 		return
 	}
 	need(len(lp), rows)
 	need(len(e), rows*n)
 	need(len(x), rows*n)
 	need(len(z), rows*n)
-	C.tm_bern_fwd(pd(lp), pd(e), pd(x), pd(z), C.long(rows), C.long(n))
+	need(len(scratch), n)
+	C.tm_bern_fwd(pd(lp), pd(e), pd(scratch), pd(x), pd(z), C.long(rows), C.long(n))
+}
+
+func vStates32(dst []float32, xs []uint8, flip bool) {
+	need(len(dst), len(xs))
+	if len(xs) == 0 {
+		return
+	}
+	f := C.int(0)
+	if flip {
+		f = 1
+	}
+	C.tm_states32(pf(dst), pu(xs), C.long(len(xs)), f)
 }
 
 func vBernBwd(dz, x, z, e, g []float64, rows, n int) {
@@ -124,7 +138,7 @@ func vRowLP2(dst, z []float64, zs int, xs []uint8, n, rows int, flip bool, scrat
 	need(len(dst), rows)
 	need(len(z), (rows-1)*zs+n)
 	need(len(xs), rows*n)
-	need(len(scratch), n)
+	need(len(scratch), 2*n)
 	f := C.int(0)
 	if flip {
 		f = 1

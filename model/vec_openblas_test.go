@@ -126,6 +126,16 @@ func TestVecExactKernels(t *testing.T) {
 			sameAll32(t, "reluGrad float32 copy", g32, w32)
 		}
 
+		states := make([]uint8, n)
+		for i := range states {
+			states[i] = uint8(rng.IntN(3)) // 2 is not a q = 2 state, but must not read as 1
+		}
+		for _, flip := range []bool{false, true} {
+			vStates32(got32, states, flip)
+			states32Go(want32, states, flip)
+			sameAll32(t, "states32", got32, want32)
+		}
+
 		got, want := append([]float64(nil), b...), append([]float64(nil), b...)
 		vColSum(got, src, rows, w)
 		colSumGo(want, src, rows, w)
@@ -244,11 +254,16 @@ func TestVecBernoulli(t *testing.T) {
 		}
 		lp, lpGo := make([]float64, rows), make([]float64, rows)
 		e, eGo := make([]float64, rows*n), make([]float64, rows*n)
-		vBernFwd(lp, e, x, z, rows, n)
-		bernFwdGo(lpGo, eGo, x, z, rows, n)
+		vBernFwd(lp, e, x, z, rows, n, make([]float64, n))
+		bernFwdGo(lpGo, eGo, x, z, rows, n, nil)
 		for i := range lp {
 			if tol := bernTol(z[i*n : (i+1)*n]); math.Abs(lp[i]-lpGo[i]) > tol {
 				t.Fatalf("n=%d row %d: log p %v, Go loop %v (difference %.3g above %.3g)", n, i, lp[i], lpGo[i], math.Abs(lp[i]-lpGo[i]), tol)
+			}
+		}
+		for i := range e {
+			if d := math.Abs(e[i] - eGo[i]); d > 2*0x1p-52*eGo[i] && d > 3.4e-308 {
+				t.Fatalf("n=%d: e^−|z| of %v is %v, Go loop %v", n, z[i], e[i], eGo[i])
 			}
 		}
 		g := randVec(rng, rows)
@@ -265,7 +280,7 @@ func TestVecBernoulli(t *testing.T) {
 		}
 		for _, flip := range []bool{false, true} {
 			got, want := make([]float64, rows), make([]float64, rows)
-			vRowLP2(got, zw, zs, xs, n, rows, flip, make([]float64, n))
+			vRowLP2(got, zw, zs, xs, n, rows, flip, make([]float64, 2*n))
 			rowLP2Go(want, zw, zs, xs, n, rows, flip, nil)
 			for i := range got {
 				if tol := bernTol(z[i*n : (i+1)*n]); math.Abs(got[i]-want[i]) > tol {
@@ -292,4 +307,29 @@ func TestVecLengthChecks(t *testing.T) {
 		}
 	}()
 	vTo32(make([]float32, 3), make([]float64, 4))
+}
+
+// BenchmarkVecRowLP2 times the q = 2 scoring sums of 64 rows of 256 sites,
+// C kernel against the Go loop.
+func BenchmarkVecRowLP2(b *testing.B) {
+	rng := rand.New(rand.NewPCG(1, 1))
+	const rows, n = 64, 256
+	z := make([]float64, rows*n)
+	xs := make([]uint8, rows*n)
+	for i := range z {
+		z[i], xs[i] = 3*rng.NormFloat64(), uint8(rng.IntN(2))
+	}
+	dst, scratch := make([]float64, rows), make([]float64, 2*n)
+	b.Run("c", func(b *testing.B) {
+		for b.Loop() {
+			vRowLP2(dst, z, n, xs, n, rows, false, scratch)
+		}
+		b.ReportMetric(float64(b.N*rows*n)/b.Elapsed().Seconds()/1e6, "Msites/s")
+	})
+	b.Run("go", func(b *testing.B) {
+		for b.Loop() {
+			rowLP2Go(dst, z, n, xs, n, rows, false, scratch)
+		}
+		b.ReportMetric(float64(b.N*rows*n)/b.Elapsed().Seconds()/1e6, "Msites/s")
+	})
 }

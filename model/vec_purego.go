@@ -7,7 +7,10 @@ package model
 
 func vTo32(dst []float32, src []float64)           { to32Go(dst, src) }
 func vTo64(dst []float64, src []float32, acc bool) { to64Go(dst, src, acc) }
-func vBernFwd(lp, e, x, z []float64, rows, n int)  { bernFwdGo(lp, e, x, z, rows, n) }
+func vBernFwd(lp, e, x, z []float64, rows, n int, scratch []float64) {
+	bernFwdGo(lp, e, x, z, rows, n, scratch)
+}
+func vStates32(dst []float32, xs []uint8, flip bool) { states32Go(dst, xs, flip) }
 func vBernBwd(dz, x, z, e, g []float64, rows, n int) {
 	bernBwdGo(dz, x, z, e, g, rows, n)
 }
