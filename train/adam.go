@@ -102,15 +102,23 @@ func adamSliceGo(wi, gi, mi, vi []float64, b1, b2, eps, lr, bc1, bc2, wd float64
 	}
 }
 
+// sumSquaresGo is Σ v² over g in order: the pure-Go build's loop
+// (adam_purego.go) and the reference of the openblas build's C loop.
+func sumSquaresGo(g []float64) float64 {
+	s := 0.0
+	for _, v := range g {
+		s += v * v
+	}
+	return s
+}
+
 // ClipGlobalNorm scales g so that its global L2 norm (over all slices) is
 // at most maxNorm, and returns the norm before scaling. maxNorm ≤ 0 only
 // measures.
 func ClipGlobalNorm(g [][]float64, maxNorm float64) float64 {
 	s := 0.0
 	for _, gi := range g {
-		for _, v := range gi {
-			s += v * v
-		}
+		s += sumSquares(gi)
 	}
 	norm := math.Sqrt(s)
 	if maxNorm > 0 && norm > maxNorm {

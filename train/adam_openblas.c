@@ -136,3 +136,19 @@ void tm_adam(double *w, const double *g, double *m, double *v, long n, double b1
 		tm_adam_scalar(w, g, m, v, c0, c1, b1, b2, eps, lr, bc1, bc2, wd, decay);
 	}
 }
+
+// tm_sumsq returns Σ g_j² in 8 interleaved partial sums (gcc's generic
+// vectors; the Go loop sums in order, so the two differ in rounding).
+typedef double tm_s8d __attribute__((vector_size(64)));
+double tm_sumsq(const double *g, long n) {
+	tm_s8d s = {0};
+	long j = 0;
+	for (; j + 8 <= n; j += 8) {
+		tm_s8d x;
+		memcpy(&x, g + j, sizeof x);
+		s += x * x;
+	}
+	double t = 0;
+	for (; j < n; j++) t += g[j] * g[j];
+	return (((s[0] + s[1]) + (s[2] + s[3])) + ((s[4] + s[5]) + (s[6] + s[7]))) + t;
+}

@@ -6,6 +6,7 @@ package train
 // #cgo LDFLAGS: -lm
 // void tm_adam_init(void);
 // int tm_adam_isa(void);
+// double tm_sumsq(const double *g, long n);
 // void tm_adam(double *w, const double *g, double *m, double *v, long n, double b1, double b2, double eps, double lr,
 //              double bc1, double bc2, double wd, int decay, int isa);
 import "C"
@@ -45,4 +46,14 @@ func adamSliceISA(wi, gi, mi, vi []float64, b1, b2, eps, lr, bc1, bc2, wd float6
 	p := func(s []float64) *C.double { return (*C.double)(unsafe.Pointer(&s[0])) }
 	C.tm_adam(p(wi), p(gi), p(mi), p(vi), C.long(n), C.double(b1), C.double(b2), C.double(eps), C.double(lr),
 		C.double(bc1), C.double(bc2), C.double(wd), d, C.int(isa))
+}
+
+// sumSquares is Σ v² over g by the C loop of adam_openblas.c, which sums
+// in 8 interleaved partial sums (vectorised) and so differs from
+// sumSquaresGo in rounding only.
+func sumSquares(g []float64) float64 {
+	if len(g) == 0 {
+		return 0
+	}
+	return float64(C.tm_sumsq((*C.double)(unsafe.Pointer(&g[0])), C.long(len(g))))
 }

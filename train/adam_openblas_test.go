@@ -57,4 +57,22 @@ func TestAdamCMatchesGo(t *testing.T) {
 	}
 }
 
+// TestSumSquaresC: the vectorised Σ g² of ClipGlobalNorm against the Go
+// loop, within twice the bound n·u·Σ g² on the error of each float64 sum
+// of n nonnegative terms (u = 2^−53; Higham, Accuracy and Stability of
+// Numerical Algorithms, SIAM 2002, §4.2).
+func TestSumSquaresC(t *testing.T) {
+	rng := rand.New(rand.NewPCG(2, 7))
+	for _, n := range []int{0, 1, 7, 8, 9, 1000, 100003} {
+		g := make([]float64, n)
+		for j := range g {
+			g[j] = rng.NormFloat64() * math.Exp(4*rng.NormFloat64())
+		}
+		got, want := sumSquares(g), sumSquaresGo(g)
+		if tol := 2 * float64(n) * 0x1p-53 * want; math.Abs(got-want) > tol {
+			t.Fatalf("n=%d: Σg² = %v, Go loop %v (difference %.3g above %.3g)", n, got, want, math.Abs(got-want), tol)
+		}
+	}
+}
+
 func clone(s []float64) []float64 { return append([]float64(nil), s...) }

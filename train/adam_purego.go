@@ -7,3 +7,6 @@ package train
 func adamSlice(wi, gi, mi, vi []float64, b1, b2, eps, lr, bc1, bc2, wd float64, decay bool) {
 	adamSliceGo(wi, gi, mi, vi, b1, b2, eps, lr, bc1, bc2, wd, decay)
 }
+
+// sumSquares is Σ v² over g, by the Go loop.
+func sumSquares(g []float64) float64 { return sumSquaresGo(g) }
