@@ -15,6 +15,7 @@ each ratio the median of the per-round ratios. Run it from the repository root.
 import argparse
 import json
 import os
+import shutil
 import statistics
 import subprocess
 import sys
@@ -37,6 +38,13 @@ def main():
     ap.add_argument("--reps", type=int, default=5)
     a = ap.parse_args()
     tmp = tempfile.mkdtemp(prefix="tmcompare")
+    try:
+        measure(a, tmp)
+    finally:
+        shutil.rmtree(tmp, ignore_errors=True)
+
+
+def measure(a, tmp):
     env = dict(os.environ, CGO_LDFLAGS="-lopenblas")
     src = os.path.join(tmp, "base")
     os.mkdir(src)

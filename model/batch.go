@@ -24,6 +24,10 @@ type BatchGraph struct {
 	deferred [][]*maskedLinear
 }
 
+// combineRows is the number of consecutive weight rows one thread
+// combines before the next thread's turn.
+const combineRows = 16
+
 // prepJob is the column blocks c0..c1−1 of the masked weight w.
 type prepJob struct {
 	ml     *maskedLinear
@@ -237,8 +241,14 @@ func (bg *BatchGraph) LossGrad(xs []uint8, params []float64, n int, scale float6
 	parallel(func(t int) {
 		for i, g := range grads {
 			if mls := bg.deferred[i]; mls != nil {
+				// Groups of combineRows rows taken in turn: the nonzero
+				// blocks of a MADE weight crowd into its first rows, so
+				// contiguous halves would leave one thread most of the
+				// work.
 				in := mls[0].t.in
-				combine32(g, mls, f, t*in/T, (t+1)*in/T)
+				for r0 := t * combineRows; r0 < in; r0 += combineRows * T {
+					combine32(g, mls, f, r0, min(r0+combineRows, in))
+				}
 				continue
 			}
 			lo, hi := t*len(g)/T, (t+1)*len(g)/T

@@ -69,12 +69,27 @@ func (a *Adam) UpdateThreads(w, g [][]float64, lr float64, threads int) {
 	wg.Wait()
 }
 
-// update applies the step to part k of parts of every slice.
+// adamChunk is the number of consecutive entries of a slice one thread
+// updates before the next thread's turn.
+const adamChunk = 4096
+
+// update applies the step to part k of parts of every slice: the chunks
+// of adamChunk entries c with c mod parts = k. Interleaving the chunks,
+// rather than giving each thread one contiguous range, balances the work:
+// the entries that cost a square root and divisions (inside a MADE
+// weight's mask) crowd into the first rows of each matrix.
 func (a *Adam) update(w, g [][]float64, lr, bc1, bc2 float64, k, parts int) {
 	for i := range w {
-		lo, hi := k*len(g[i])/parts, (k+1)*len(g[i])/parts
 		decay := a.WeightDecay != 0 && (a.Decay == nil || a.Decay[i])
-		adamSlice(w[i][lo:hi], g[i][lo:hi], a.M[i][lo:hi], a.V[i][lo:hi], a.Beta1, a.Beta2, a.Eps, lr, bc1, bc2, lr*a.WeightDecay, decay)
+		n := len(g[i])
+		size, stride := adamChunk, adamChunk*parts
+		if parts == 1 {
+			size, stride = n, max(n, 1)
+		}
+		for lo := k * size; lo < n; lo += stride {
+			hi := min(lo+size, n)
+			adamSlice(w[i][lo:hi], g[i][lo:hi], a.M[i][lo:hi], a.V[i][lo:hi], a.Beta1, a.Beta2, a.Eps, lr, bc1, bc2, lr*a.WeightDecay, decay)
+		}
 	}
 }
 
