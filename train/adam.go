@@ -95,8 +95,8 @@ func (a *Adam) update(w, g [][]float64, lr, bc1, bc2 float64, k, parts int) {
 
 // adamSliceGo is the Adam step of one slice (wd = lr·λ, used when decay
 // is set): the pure-Go build's loop (adam_purego.go) and the reference of
-// the openblas build's C loop (adam_openblas.go), which must give the same
-// bits.
+// the openblas build's C loop (adam_openblas.c), which gives the same
+// moments and a step that differs in the last bits only.
 func adamSliceGo(wi, gi, mi, vi []float64, b1, b2, eps, lr, bc1, bc2, wd float64, decay bool) {
 	wi, mi, vi = wi[:len(gi)], mi[:len(gi)], vi[:len(gi)]
 	for j, gj := range gi {

@@ -4,14 +4,19 @@
 // AVX2 where the CPU has it (chosen once at start-up, so the binary still
 // runs on any x86-64), for the openblas build.
 //
-// Every entry goes through the same IEEE 754 operations in the same order
-// as the Go loop: +, −, ×, ÷ and √ are correctly rounded whether scalar or
-// vector, and fp-contract=off forbids gcc to fuse a·b+c into one FMA (Go
-// with its default GOAMD64=v1 does not fuse either). So the results are the
-// same bits as the pure-Go build's, which adam_openblas_test.go checks.
-// The square root is the vsqrtpd instruction, written as an intrinsic: gcc
-// does not vectorise sqrt() under its default -fmath-errno, which cgo's
-// flags cannot turn off.
+// The moments m and v go through the same IEEE 754 operations in the same
+// order as in the Go loop, so they are the same bits (fp-contract=off
+// forbids gcc to fuse a·b+c into one FMA; Go with its default GOAMD64=v1
+// does not fuse either). The step lr·(m/bc1)/(√(v/bc2) + ε) is the same
+// formula with the bias corrections folded into two constants, c1 = lr/bc1
+// and ibc2 = 1/bc2: (m·c1)/(√(v·ibc2) + ε), one division and one square
+// root per entry instead of three divisions and one — the vector divider is
+// what limits this loop. It differs from the Go loop's step by a few units
+// in the last place (adam_openblas_test.go states the bound); every
+// instruction set and thread count gives the same bits as the scalar C
+// loop. The square root is the vsqrtpd instruction, written as an
+// intrinsic: gcc does not vectorise sqrt() under its default -fmath-errno,
+// which cgo's flags cannot turn off.
 #pragma GCC optimize("O3", "fp-contract=off")
 
 #include <stdint.h>
@@ -26,7 +31,7 @@
 
 // tm_adam_scalar is the Go loop, entry by entry.
 static void tm_adam_scalar(double *w, const double *g, double *m, double *v, long j0, long j1, double b1, double b2,
-                           double eps, double lr, double bc1, double bc2, double wd, int decay) {
+                           double eps, double c1, double ibc2, double wd, int decay) {
 	for (long j = j0; j < j1; j++) {
 		double gj = g[j];
 		if (gj == 0 && !decay && m[j] == 0 && v[j] == 0) continue;
@@ -34,7 +39,7 @@ static void tm_adam_scalar(double *w, const double *g, double *m, double *v, lon
 		double vj = b2 * v[j] + (1 - b2) * gj * gj;
 		m[j] = mj;
 		v[j] = vj;
-		double step = lr * (mj / bc1) / (sqrt(vj / bc2) + eps);
+		double step = (mj * c1) / (sqrt(vj * ibc2) + eps);
 		if (decay) step += wd * w[j];
 		w[j] -= step;
 	}
@@ -54,7 +59,7 @@ static void tm_adam_scalar(double *w, const double *g, double *m, double *v, lon
 		memcpy(&wo, w + j, sizeof wo);                                               \
 		VD mj = b1 * mo + (1 - b1) * gj;                                             \
 		VD vj = b2 * vo + (1 - b2) * gj * gj;                                        \
-		VD step = lr * (mj / bc1) / (SQRT(vj / bc2) + eps);                          \
+		VD step = (mj * c1) / (SQRT(vj * ibc2) + eps);                              \
 		if (decay) step += wd * wo;                                                  \
 		VD wn = wo - step;                                                           \
 		VI keep = (VI){0};                                                           \
@@ -76,19 +81,19 @@ __attribute__((target("avx512f"))) static tm_v8d tm_sqrt8(tm_v8d x) { return (tm
 __attribute__((target("avx2"))) static tm_v4d tm_sqrt4(tm_v4d x) { return (tm_v4d)_mm256_sqrt_pd((__m256d)x); }
 
 __attribute__((target("avx512f"))) static void tm_adam_avx512(double *w, const double *g, double *m, double *v, long j0,
-                                                              long j1, double b1, double b2, double eps, double lr,
-                                                              double bc1, double bc2, double wd, int decay) {
+                                                              long j1, double b1, double b2, double eps, double c1,
+                                                              double ibc2, double wd, int decay) {
 	long j = j0;
 	TM_ADAM_VEC(tm_v8d, tm_v8i, 8, tm_sqrt8)
-	tm_adam_scalar(w, g, m, v, j, j1, b1, b2, eps, lr, bc1, bc2, wd, decay);
+	tm_adam_scalar(w, g, m, v, j, j1, b1, b2, eps, c1, ibc2, wd, decay);
 }
 
 __attribute__((target("avx2"))) static void tm_adam_avx2(double *w, const double *g, double *m, double *v, long j0,
-                                                         long j1, double b1, double b2, double eps, double lr,
-                                                         double bc1, double bc2, double wd, int decay) {
+                                                         long j1, double b1, double b2, double eps, double c1,
+                                                         double ibc2, double wd, int decay) {
 	long j = j0;
 	TM_ADAM_VEC(tm_v4d, tm_v4i, 4, tm_sqrt4)
-	tm_adam_scalar(w, g, m, v, j, j1, b1, b2, eps, lr, bc1, bc2, wd, decay);
+	tm_adam_scalar(w, g, m, v, j, j1, b1, b2, eps, c1, ibc2, wd, decay);
 }
 #endif
 
@@ -110,11 +115,12 @@ int tm_adam_isa(void) { return tm_adam_level; }
 void tm_adam(double *w, const double *g, double *m, double *v, long n, double b1, double b2, double eps, double lr,
              double bc1, double bc2, double wd, int decay, int isa) {
 	int lv = isa >= 0 && isa < tm_adam_level ? isa : tm_adam_level;
+	double k1 = lr / bc1, ibc2 = 1 / bc2;
 	for (long c0 = 0; c0 < n; c0 += TM_CHUNK) {
-		long c1 = c0 + TM_CHUNK < n ? c0 + TM_CHUNK : n;
+		long e0 = c0 + TM_CHUNK < n ? c0 + TM_CHUNK : n;
 		if (!decay) {
 			uint64_t any = 0;
-			for (long j = c0; j < c1; j++) {
+			for (long j = c0; j < e0; j++) {
 				uint64_t a, b, c;
 				memcpy(&a, &g[j], 8);
 				memcpy(&b, &m[j], 8);
@@ -125,15 +131,15 @@ void tm_adam(double *w, const double *g, double *m, double *v, long n, double b1
 		}
 #ifdef TM_X86
 		if (lv == 2) {
-			tm_adam_avx512(w, g, m, v, c0, c1, b1, b2, eps, lr, bc1, bc2, wd, decay);
+			tm_adam_avx512(w, g, m, v, c0, e0, b1, b2, eps, k1, ibc2, wd, decay);
 			continue;
 		}
 		if (lv == 1) {
-			tm_adam_avx2(w, g, m, v, c0, c1, b1, b2, eps, lr, bc1, bc2, wd, decay);
+			tm_adam_avx2(w, g, m, v, c0, e0, b1, b2, eps, k1, ibc2, wd, decay);
 			continue;
 		}
 #endif
-		tm_adam_scalar(w, g, m, v, c0, c1, b1, b2, eps, lr, bc1, bc2, wd, decay);
+		tm_adam_scalar(w, g, m, v, c0, e0, b1, b2, eps, k1, ibc2, wd, decay);
 	}
 }
 
