@@ -321,6 +321,15 @@ func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r 
 	relu := c.Activation == "relu"
 	act := actFunc(c.Activation)
 	f32 := p.eff32 != nil
+	// The activation passes of ReLU and softplus are vector kernels
+	// (vBiasAct32, vAct64).
+	vact := 0
+	switch c.Activation {
+	case "relu":
+		vact = actRelu
+	case "softplus":
+		vact = actSoftplus
+	}
 	for l, hw := range c.Hidden {
 		var h []float64
 		var y32, next []float32
@@ -340,23 +349,33 @@ func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r 
 				w.lin(p, l).forward(h, w.h[l-1], r, false)
 			}
 		}
-		if f32 && relu {
+		if f32 && vact != 0 {
 			// The rows in one call when they share a bias.
 			var s64 []float64
 			if l == 0 {
 				s64 = a0[:r*hw]
 			}
 			if len(cb) == 1 {
-				vBiasRelu32(next, s64, y32, cb[0][l], r, hw)
+				vBiasAct32(next, s64, y32, cb[0][l], r, hw, vact)
 				continue
 			}
 			for i := 0; i < r; i++ {
 				lo, hi := i*hw, (i+1)*hw
 				if l == 0 {
-					vBiasRelu32(next[lo:hi], s64[lo:hi], nil, cb[min(i, len(cb)-1)][l], 1, hw)
+					vBiasAct32(next[lo:hi], s64[lo:hi], nil, cb[min(i, len(cb)-1)][l], 1, hw, vact)
 				} else {
-					vBiasRelu32(next[lo:hi], nil, y32[lo:hi], cb[min(i, len(cb)-1)][l], 1, hw)
+					vBiasAct32(next[lo:hi], nil, y32[lo:hi], cb[min(i, len(cb)-1)][l], 1, hw, vact)
 				}
+			}
+			continue
+		}
+		if !f32 && vact != 0 {
+			if len(cb) == 1 {
+				vAct64(h, cb[0][l], r, hw, vact)
+				continue
+			}
+			for i := 0; i < r; i++ {
+				vAct64(h[i*hw:(i+1)*hw], cb[min(i, len(cb)-1)][l], 1, hw, vact)
 			}
 			continue
 		}

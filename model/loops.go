@@ -115,23 +115,52 @@ func rowLP2Go(dst, z []float64, zs int, xs []uint8, n, rows int, flip bool, scra
 	}
 }
 
-// biasRelu32Go is the scoring kernel's activation pass with ReLU of rows
-// rows of width w: dst = float32(relu(src + b)), from src64 or (when src64
-// is nil) from src32, the bias b the same for every row.
-func biasRelu32Go(dst []float32, src64 []float64, src32 []float32, b []float64, rows, w int) {
+// biasAct32Go is the scoring kernel's activation pass of rows rows of
+// width w: dst = float32(act(src + b)), from src64 or (when src64 is nil)
+// from src32, the bias b the same for every row, act actRelu or
+// actSoftplus.
+func biasAct32Go(dst []float32, src64 []float64, src32 []float32, b []float64, rows, w, act int) {
 	b = b[:w]
+	f := relu0
+	if act == actSoftplus {
+		f = softplus
+	}
 	for i := 0; i < rows; i++ {
 		d := dst[i*w : (i+1)*w]
 		if src64 != nil {
 			s := src64[i*w : (i+1)*w]
 			for k := range d {
-				d[k] = float32(relu0(s[k] + b[k]))
+				d[k] = float32(f(s[k] + b[k]))
 			}
 			continue
 		}
 		s := src32[i*w : (i+1)*w]
 		for k := range d {
-			d[k] = float32(relu0(float64(s[k]) + b[k]))
+			d[k] = float32(f(float64(s[k]) + b[k]))
+		}
+	}
+}
+
+// act64Go is x = act(x + b) in place for rows rows of width w (b nil:
+// x = act(x)), the bias b the same for every row, act actRelu or
+// actSoftplus.
+func act64Go(x, b []float64, rows, w, act int) {
+	f := relu0
+	if act == actSoftplus {
+		f = softplus
+	}
+	x = x[:rows*w]
+	if b == nil {
+		for k, v := range x {
+			x[k] = f(v)
+		}
+		return
+	}
+	b = b[:w]
+	for i := 0; i < rows; i++ {
+		r := x[i*w : (i+1)*w]
+		for k := range r {
+			r[k] = f(r[k] + b[k])
 		}
 	}
 }
@@ -156,26 +185,39 @@ func logits32Go(z, dx []float64, y []float32, b []float64, rows, w int) {
 	}
 }
 
-// fusedReluGo is res = relu(float64(y) + hd + b) for rows rows of width
-// w, b broadcast over the rows, and its float32 rounding into r32 unless
-// r32 is nil.
-func fusedReluGo(res []float64, r32 []float32, y []float32, hd, b []float64, rows, w int) {
+// fusedActGo is res = act(float64(y) + hd + b) for rows rows of width
+// w, b broadcast over the rows, act actRelu or actSoftplus, and its
+// float32 rounding into r32 unless r32 is nil.
+func fusedActGo(res []float64, r32 []float32, y []float32, hd, b []float64, rows, w, act int) {
 	b = b[:w]
 	for i := 0; i < rows; i++ {
 		r, y, h := res[i*w:(i+1)*w], y[i*w:(i+1)*w], hd[i*w:(i+1)*w]
+		if act == actSoftplus {
+			for k, v := range y {
+				r[k] = softplus(float64(v) + h[k] + b[k])
+			}
+		} else {
+			for k, v := range y {
+				// The builtin max compiles without a branch, which
+				// matters on random signs.
+				r[k] = max(float64(v)+h[k]+b[k], 0)
+			}
+		}
 		if r32 != nil {
 			q := r32[i*w : (i+1)*w]
-			for k, v := range y {
-				t := max(float64(v)+h[k]+b[k], 0)
-				r[k], q[k] = t, float32(t)
+			for k, v := range r {
+				q[k] = float32(v)
 			}
-			continue
 		}
-		for k, v := range y {
-			// The builtin max compiles without a branch, which matters on
-			// random signs.
-			r[k] = max(float64(v)+h[k]+b[k], 0)
-		}
+	}
+}
+
+// softplusGradGo is res = dO·softplus'(z) = −dO·expm1(−O) from the
+// softplus output O (softplus'(z) = σ(z) = 1 − e^(−softplus(z))).
+func softplusGradGo(res, a, o []float64) {
+	a, res = a[:len(o)], res[:len(o)]
+	for i, o := range o {
+		res[i] = -a[i] * math.Expm1(-o)
 	}
 }
 

@@ -502,8 +502,8 @@ func reluGrad(d, o float64) float64 {
 // rows, and its float32 rounding into r32 unless r32 is nil.
 func fusedAct(res []float64, r32 []float32, y32 []float32, hd, b []float64, act int) {
 	out := len(b)
-	if act == actRelu {
-		vFusedRelu(res, r32, y32, hd, b, len(y32)/out, out)
+	if act == actRelu || act == actSoftplus {
+		vFusedAct(res, r32, y32, hd, b, len(y32)/out, out, act)
 		return
 	}
 	for i := 0; i < len(y32)/out; i++ {
@@ -512,10 +512,6 @@ func fusedAct(res []float64, r32 []float32, y32 []float32, hd, b []float64, act 
 		case actTanh:
 			for k, v := range y {
 				r[k] = math.Tanh(float64(v) + h[k] + b[k])
-			}
-		case actSoftplus:
-			for k, v := range y {
-				r[k] = softplus(float64(v) + h[k] + b[k])
 			}
 		default:
 			for k, v := range y {
@@ -658,17 +654,12 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 			}
 			ml.forward(res, a, rows, true)
 			switch ml.act {
-			case actRelu:
-				for i, v := range res {
-					res[i] = max(v, 0) // +0, never −0: see reluGrad
-				}
+			case actRelu, actSoftplus:
+				// ReLU gives +0, never −0: see reluGrad.
+				vAct64(res, nil, 1, len(res), ml.act)
 			case actTanh:
 				for i, v := range res {
 					res[i] = math.Tanh(v)
-				}
-			case actSoftplus:
-				for i, v := range res {
-					res[i] = softplus(v)
 				}
 			}
 		} else {
@@ -694,9 +685,7 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 			}
 		case ml.act == actSoftplus:
 			// softplus'(z) = σ(z) = 1 − e^(−softplus(z)).
-			for i, o := range b[:rows*out] {
-				res[i] = -a[i] * math.Expm1(-o)
-			}
+			vSoftplusGrad(res, a[:rows*out], b[:rows*out])
 		default:
 			copy(res, a[:rows*out])
 		}

@@ -70,6 +70,68 @@ CLONES void tm_expneg_n(double *dst, const double *x, long n) {
 	for (long k = 0; k < n; k++) dst[k] = tm_expneg(x[k]);
 }
 
+// tm_log12 is log(x) for 1 ≤ x ≤ 2 (NaN passes through), vectorisable:
+// Moshier's Cephes log (Cephes Mathematical Library, log.c) on this range,
+// x = 2^f·m with f ∈ {0, 1} and m ∈ [√½, √2], log(1+z) = z − z²/2 +
+// z³·P(z)/Q(z) for z = m − 1 (exact), ln2 split in two parts.
+static inline double tm_log12(double x) {
+	const double P0 = 1.01875663804580931796E-4, P1 = 4.97494994976747001425E-1, P2 = 4.70579119878881725854E0,
+	             P3 = 1.44989225341610930846E1, P4 = 1.79368678507819816313E1, P5 = 7.70838733755885391666E0;
+	const double Q1 = 1.12873587189167450590E1, Q2 = 4.52279145837532221105E1, Q3 = 8.29875266912776603211E1,
+	             Q4 = 7.11544750618563894466E1, Q5 = 2.31251620126765340583E1;
+	int big = x > 1.41421356237309504880;
+	double m = big ? x * 0.5 : x;
+	double fe = big ? 1.0 : 0.0;
+	double z = m - 1.0;
+	double zz = z * z;
+	double px = ((((P0 * z + P1) * z + P2) * z + P3) * z + P4) * z + P5;
+	double qx = ((((z + Q1) * z + Q2) * z + Q3) * z + Q4) * z + Q5;
+	double y = z * (zz * px / qx);
+	y = y - fe * 2.121944400546905827679e-4;
+	y = y - 0.5 * zz;
+	double r = z + y;
+	return r + fe * 0.693359375;
+}
+
+// tm_softplus is log(1+e^v) = max(v, 0) + log(1 + e^−|v|), as Go's
+// softplus (kernel.go) computes it, with the exponential and logarithm above.
+static inline double tm_softplus(double v) {
+	double mz = v > 0 ? v : 0.0;
+	return mz + tm_log12(1.0 + tm_expneg(-fabs(v)));
+}
+
+// tm_expm1neg is e^−o − 1 for o ≥ 0: a Taylor series below 1/4 (13 terms,
+// truncation below 3e-17 relative), else e^−o − 1, whose cancellation then
+// costs at most a factor 1/(1−e^−¼) ≈ 4.5 in relative error.
+static inline double tm_expm1neg(double o) {
+	double x = -o;
+	double t = 1.0 / 6227020800.0; // 1/13!
+	t = t * x + 1.0 / 479001600.0;
+	t = t * x + 1.0 / 39916800.0;
+	t = t * x + 1.0 / 3628800.0;
+	t = t * x + 1.0 / 362880.0;
+	t = t * x + 1.0 / 40320.0;
+	t = t * x + 1.0 / 5040.0;
+	t = t * x + 1.0 / 720.0;
+	t = t * x + 1.0 / 120.0;
+	t = t * x + 1.0 / 24.0;
+	t = t * x + 1.0 / 6.0;
+	t = t * x + 0.5;
+	t = t * x + 1.0;
+	double series = t * x;
+	return o < 0.25 ? series : tm_expneg(x) - 1.0;
+}
+
+// tm_softplus_n writes softplus(v[k]) for n values, for the accuracy test.
+CLONES void tm_softplus_n(double *dst, const double *v, long n) {
+	for (long k = 0; k < n; k++) dst[k] = tm_softplus(v[k]);
+}
+
+// tm_expm1neg_n writes e^−o[k] − 1 for n values o[k] ≥ 0, for the test.
+CLONES void tm_expm1neg_n(double *dst, const double *o, long n) {
+	for (long k = 0; k < n; k++) dst[k] = tm_expm1neg(o[k]);
+}
+
 #define PROD_TERMS 512
 
 // tm_v8d is a vector of 8 doubles (gcc's generic vectors: one AVX-512
@@ -181,18 +243,54 @@ CLONES void tm_to64(double *dst, const float *src, long n, int acc) {
 	for (long k = 0; k < n; k++) dst[k] = (double)src[k];
 }
 
-// tm_bias_relu32 is the scoring kernel's activation pass of rows rows of
-// width w: dst = float32(relu(src + b)), src float64 (src64) or float32
-// (src32, the other nil), b the same for every row.
-CLONES void tm_bias_relu32(float *dst, const double *src64, const float *src32, const double *b, long rows, long w) {
+// The activations of the kernels below (the values of masked.go's actRelu
+// and actSoftplus).
+#define TM_RELU 1
+#define TM_SOFTPLUS 3
+
+static inline double tm_act(double v, int act) { return act == TM_SOFTPLUS ? tm_softplus(v) : relu0(v); }
+
+// tm_bias_act32 is the scoring kernel's activation pass of rows rows of
+// width w: dst = float32(act(src + b)), src float64 (src64) or float32
+// (src32, the other nil), b the same for every row, act ReLU or softplus.
+CLONES void tm_bias_act32(float *dst, const double *src64, const float *src32, const double *b, long rows, long w, int act) {
 	for (long i = 0; i < rows; i++) {
 		float *d = dst + i * w;
 		if (src64) {
 			const double *s = src64 + i * w;
-			for (long k = 0; k < w; k++) d[k] = (float)relu0(s[k] + b[k]);
+			if (act == TM_SOFTPLUS) {
+				for (long k = 0; k < w; k++) d[k] = (float)tm_softplus(s[k] + b[k]);
+			} else {
+				for (long k = 0; k < w; k++) d[k] = (float)relu0(s[k] + b[k]);
+			}
 		} else {
 			const float *s = src32 + i * w;
-			for (long k = 0; k < w; k++) d[k] = (float)relu0((double)s[k] + b[k]);
+			if (act == TM_SOFTPLUS) {
+				for (long k = 0; k < w; k++) d[k] = (float)tm_softplus((double)s[k] + b[k]);
+			} else {
+				for (long k = 0; k < w; k++) d[k] = (float)relu0((double)s[k] + b[k]);
+			}
+		}
+	}
+}
+
+// tm_act64 is x = act(x + b) in place for rows rows of width w (b nil:
+// x = act(x)), b the same for every row, act ReLU or softplus.
+CLONES void tm_act64(double *x, const double *b, long rows, long w, int act) {
+	for (long i = 0; i < rows; i++) {
+		double *r = x + i * w;
+		if (b) {
+			if (act == TM_SOFTPLUS) {
+				for (long k = 0; k < w; k++) r[k] = tm_softplus(r[k] + b[k]);
+			} else {
+				for (long k = 0; k < w; k++) r[k] = relu0(r[k] + b[k]);
+			}
+		} else {
+			if (act == TM_SOFTPLUS) {
+				for (long k = 0; k < w; k++) r[k] = tm_softplus(r[k]);
+			} else {
+				for (long k = 0; k < w; k++) r[k] = relu0(r[k]);
+			}
 		}
 	}
 }
@@ -212,25 +310,30 @@ CLONES void tm_logits32(double *z, const double *dx, const float *y, const doubl
 	}
 }
 
-// tm_fused_relu is the training graph's fused activation: res =
-// relu((float64(y) + hd) + b) for rows rows of width w, and its float32
-// copy in r32 unless r32 is nil.
-CLONES void tm_fused_relu(double *res, float *r32, const float *y, const double *hd, const double *b, long rows, long w) {
+// tm_fused_act is the training graph's fused activation: res =
+// act((float64(y) + hd) + b) for rows rows of width w, act ReLU or
+// softplus, and its float32 copy in r32 unless r32 is nil.
+CLONES void tm_fused_act(double *res, float *r32, const float *y, const double *hd, const double *b, long rows, long w, int act) {
 	for (long i = 0; i < rows; i++) {
 		double *r = res + i * w;
 		const float *yr = y + i * w;
 		const double *h = hd + i * w;
-		if (r32) {
-			float *q = r32 + i * w;
-			for (long k = 0; k < w; k++) {
-				double t = relu0(((double)yr[k] + h[k]) + b[k]);
-				r[k] = t;
-				q[k] = (float)t;
-			}
+		if (act == TM_SOFTPLUS) {
+			for (long k = 0; k < w; k++) r[k] = tm_softplus(((double)yr[k] + h[k]) + b[k]);
 		} else {
 			for (long k = 0; k < w; k++) r[k] = relu0(((double)yr[k] + h[k]) + b[k]);
 		}
+		if (r32) {
+			float *q = r32 + i * w;
+			for (long k = 0; k < w; k++) q[k] = (float)r[k];
+		}
 	}
+}
+
+// tm_softplus_grad is res = −dO·expm1(−O) = dO·σ(z) from the softplus
+// output O (σ(z) = 1 − e^−softplus(z)) for n values.
+CLONES void tm_softplus_grad(double *res, const double *a, const double *o, long n) {
+	for (long k = 0; k < n; k++) res[k] = -a[k] * tm_expm1neg(o[k]);
 }
 
 // tm_relu_grad is res = dO where the ReLU output O is not +0, else +0, and

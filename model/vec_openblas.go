@@ -12,9 +12,13 @@ package model
 // void tm_rowlp2(double *dst, const double *z, long zs, const uint8_t *x, long n, long rows, int flip, double *scratch);
 // void tm_to32(float *dst, const double *src, long n);
 // void tm_to64(double *dst, const float *src, long n, int acc);
-// void tm_bias_relu32(float *dst, const double *src64, const float *src32, const double *b, long rows, long w);
+// void tm_bias_act32(float *dst, const double *src64, const float *src32, const double *b, long rows, long w, int act);
 // void tm_logits32(double *z, const double *dx, const float *y, const double *b, long rows, long w);
-// void tm_fused_relu(double *res, float *r32, const float *y, const double *hd, const double *b, long rows, long w);
+// void tm_fused_act(double *res, float *r32, const float *y, const double *hd, const double *b, long rows, long w, int act);
+// void tm_act64(double *x, const double *b, long rows, long w, int act);
+// void tm_softplus_grad(double *res, const double *a, const double *o, long n);
+// void tm_softplus_n(double *dst, const double *v, long n);
+// void tm_expm1neg_n(double *dst, const double *o, long n);
 // void tm_relu_grad(double *res, float *d32, const double *a, const double *o, long n);
 // void tm_colsum(double *db, const double *a, long rows, long w);
 // void tm_masked32(float *dst, const double *w, const double *mask, const uint8_t *full, long out, long a0, long a1, long lo, long hi);
@@ -146,7 +150,7 @@ func vRowLP2(dst, z []float64, zs int, xs []uint8, n, rows int, flip bool, scrat
 	C.tm_rowlp2(pd(dst), pd(z), C.long(zs), pu(xs), C.long(n), C.long(rows), f, pd(scratch))
 }
 
-func vBiasRelu32(dst []float32, src64 []float64, src32 []float32, b []float64, rows, w int) {
+func vBiasAct32(dst []float32, src64 []float64, src32 []float32, b []float64, rows, w, act int) {
 	if rows*w == 0 {
 		return
 	}
@@ -157,7 +161,7 @@ func vBiasRelu32(dst []float32, src64 []float64, src32 []float32, b []float64, r
 	} else {
 		need(len(src32), rows*w)
 	}
-	C.tm_bias_relu32(pf(dst), pd(src64), pf(src32), pd(b), C.long(rows), C.long(w))
+	C.tm_bias_act32(pf(dst), pd(src64), pf(src32), pd(b), C.long(rows), C.long(w), C.int(act))
 }
 
 func vLogits32(z, dx []float64, y []float32, b []float64, rows, w int) {
@@ -173,7 +177,7 @@ func vLogits32(z, dx []float64, y []float32, b []float64, rows, w int) {
 	C.tm_logits32(pd(z), pd(dx), pf(y), pd(b), C.long(rows), C.long(w))
 }
 
-func vFusedRelu(res []float64, r32 []float32, y []float32, hd, b []float64, rows, w int) {
+func vFusedAct(res []float64, r32 []float32, y []float32, hd, b []float64, rows, w, act int) {
 	if rows*w == 0 {
 		return
 	}
@@ -184,7 +188,44 @@ func vFusedRelu(res []float64, r32 []float32, y []float32, hd, b []float64, rows
 	if r32 != nil {
 		need(len(r32), rows*w)
 	}
-	C.tm_fused_relu(pd(res), pf(r32), pf(y), pd(hd), pd(b), C.long(rows), C.long(w))
+	C.tm_fused_act(pd(res), pf(r32), pf(y), pd(hd), pd(b), C.long(rows), C.long(w), C.int(act))
+}
+
+func vAct64(x, b []float64, rows, w, act int) {
+	if rows*w == 0 {
+		return
+	}
+	need(len(x), rows*w)
+	if b != nil {
+		need(len(b), w)
+	}
+	C.tm_act64(pd(x), pd(b), C.long(rows), C.long(w), C.int(act))
+}
+
+func vSoftplusGrad(res, a, o []float64) {
+	n := len(o)
+	if n == 0 {
+		return
+	}
+	need(len(res), n)
+	need(len(a), n)
+	C.tm_softplus_grad(pd(res), pd(a), pd(o), C.long(n))
+}
+
+// softplusC and expm1NegC write the C kernels' softplus(v) and e^−o − 1
+// (o ≥ 0) into dst, for tests.
+func softplusC(dst, v []float64) {
+	need(len(dst), len(v))
+	if len(v) > 0 {
+		C.tm_softplus_n(pd(dst), pd(v), C.long(len(v)))
+	}
+}
+
+func expm1NegC(dst, o []float64) {
+	need(len(dst), len(o))
+	if len(o) > 0 {
+		C.tm_expm1neg_n(pd(dst), pd(o), C.long(len(o)))
+	}
 }
 
 func vReluGrad(res []float64, d32 []float32, a, o []float64) {

@@ -90,12 +90,12 @@ func TestVecExactKernels(t *testing.T) {
 			sameAll(t, "to64", got, want)
 		}
 
-		vBiasRelu32(got32, src, nil, b, rows, w)
-		biasRelu32Go(want32, src, nil, b, rows, w)
-		sameAll32(t, "biasRelu32 (float64 input)", got32, want32)
-		vBiasRelu32(got32, nil, s32, b, rows, w)
-		biasRelu32Go(want32, nil, s32, b, rows, w)
-		sameAll32(t, "biasRelu32 (float32 input)", got32, want32)
+		vBiasAct32(got32, src, nil, b, rows, w, actRelu)
+		biasAct32Go(want32, src, nil, b, rows, w, actRelu)
+		sameAll32(t, "biasAct32 relu (float64 input)", got32, want32)
+		vBiasAct32(got32, nil, s32, b, rows, w, actRelu)
+		biasAct32Go(want32, nil, s32, b, rows, w, actRelu)
+		sameAll32(t, "biasAct32 relu (float32 input)", got32, want32)
 
 		for _, dx := range [][]float64{nil, hd} {
 			got, want := make([]float64, n), make([]float64, n)
@@ -110,8 +110,8 @@ func TestVecExactKernels(t *testing.T) {
 			if with32 {
 				g32, w32 = make([]float32, n), make([]float32, n)
 			}
-			vFusedRelu(got, g32, s32, hd, b, rows, w)
-			fusedReluGo(want, w32, s32, hd, b, rows, w)
+			vFusedAct(got, g32, s32, hd, b, rows, w, actRelu)
+			fusedActGo(want, w32, s32, hd, b, rows, w, actRelu)
 			sameAll(t, "fusedRelu", got, want)
 			sameAll32(t, "fusedRelu float32 copy", g32, w32)
 
@@ -332,4 +332,129 @@ func BenchmarkVecRowLP2(b *testing.B) {
 		}
 		b.ReportMetric(float64(b.N*rows*n)/b.Elapsed().Seconds()/1e6, "Msites/s")
 	})
+}
+
+// softplusTol is the tolerance of the C kernels' softplus against Go's:
+// both are max(v, 0) + log(1 + e^−|v|) with log(1+e) ∈ [0, ln 2]; the
+// C exponential is within 2 ulp of math.Exp (TestVecExp) and Cephes's log
+// documents a peak relative error of about 1.1e-16 on its range, as
+// math.Log's is below 1 ulp, so the two differ by a few units of 2^−53 in
+// log(1+e) and in the final addition: 8u·(|softplus| + 1).
+func softplusTol(sp float64) float64 { return 8 * 0x1p-53 * (math.Abs(sp) + 1) }
+
+// TestVecSoftplus checks the C softplus against Go's softplus (the pure-Go
+// build's activation), the C e^−o − 1 against math.Expm1 (4 ulp relative,
+// the series below ¼ and the cancellation factor 4.5 of e^−o − 1 above),
+// and the softplus kernels of the activation passes and the gradient
+// against their Go loops within those tolerances (the gradient within 10u:
+// the 8u of e^−o − 1 and the rounding of the product).
+func TestVecSoftplus(t *testing.T) {
+	rng := rand.New(rand.NewPCG(12, 3))
+	var v []float64
+	for range 100000 {
+		v = append(v, 40*rng.NormFloat64(), rng.NormFloat64(), 1e-3*rng.NormFloat64())
+	}
+	v = append(v, 0, math.Copysign(0, -1), 750, -750, 37, -37, math.Inf(1), math.Inf(-1), 1e-300, -1e-300)
+	got := make([]float64, len(v))
+	softplusC(got, v)
+	worst := 0.0
+	for i, x := range v {
+		want := softplus(x)
+		d := math.Abs(got[i] - want)
+		if !(d <= softplusTol(want)) && !(math.IsInf(want, 1) && math.IsInf(got[i], 1)) {
+			t.Fatalf("softplus(%v) = %v, Go gives %v (difference %.3g)", x, got[i], want, d)
+		}
+		if !math.IsInf(want, 0) {
+			worst = max(worst, d/(math.Abs(want)+1))
+		}
+	}
+	t.Logf("softplus: largest |C − Go|/(|softplus|+1) on %d points: %.3g", len(v), worst)
+	nan := []float64{math.NaN()}
+	softplusC(nan, nan)
+	if !math.IsNaN(nan[0]) {
+		t.Fatalf("softplus(NaN) = %v, want NaN", nan[0])
+	}
+
+	o := make([]float64, 0, 100000)
+	for range 50000 {
+		o = append(o, math.Abs(3*rng.NormFloat64()), math.Abs(0.3*rng.NormFloat64()))
+	}
+	o = append(o, 0, 0.25, math.Nextafter(0.25, 0), 1e-300, 800)
+	e := make([]float64, len(o))
+	expm1NegC(e, o)
+	for i, x := range o {
+		want := math.Expm1(-x)
+		if d := math.Abs(e[i] - want); d > 4*0x1p-52*math.Abs(want) {
+			t.Fatalf("e^−%v − 1 = %v, math.Expm1 gives %v (%.3g ulp)", x, e[i], want, d/(0x1p-52*math.Abs(want)))
+		}
+	}
+
+	for _, shape := range []struct{ rows, w int }{{1, 3}, {5, 64}, {9, 100}} {
+		rows, w := shape.rows, shape.w
+		n := rows * w
+		src, b, hd := randVec(rng, n), randVec(rng, w), randVec(rng, n)
+		s32 := randVec32(rng, n)
+		for _, in64 := range []bool{true, false} {
+			got32, want32 := make([]float32, n), make([]float32, n)
+			s64 := src
+			if !in64 {
+				s64 = nil
+			}
+			vBiasAct32(got32, s64, s32, b, rows, w, actSoftplus)
+			biasAct32Go(want32, s64, s32, b, rows, w, actSoftplus)
+			for i := range got32 {
+				// Both round a float64 softplus to float32: they may
+				// differ by one float32 ulp where the float64 values
+				// straddle a rounding boundary.
+				g, wv := float64(got32[i]), float64(want32[i])
+				if d := math.Abs(g - wv); !(d <= 0x1p-23*math.Abs(wv)+softplusTol(wv)) && !(math.IsNaN(g) && math.IsNaN(wv)) && g != wv {
+					t.Fatalf("biasAct32 softplus[%d] = %v, Go loop %v", i, g, wv)
+				}
+			}
+		}
+		for _, bias := range [][]float64{nil, b} {
+			for _, act := range []int{actRelu, actSoftplus} {
+				got, want := append([]float64(nil), src...), append([]float64(nil), src...)
+				vAct64(got, bias, rows, w, act)
+				act64Go(want, bias, rows, w, act)
+				for i := range got {
+					tol := 0.0 // ReLU: the same bits
+					if act == actSoftplus {
+						tol = softplusTol(want[i])
+					}
+					if d := math.Abs(got[i] - want[i]); !(d <= tol) && !same(got[i], want[i]) && !(math.IsInf(got[i], 1) && math.IsInf(want[i], 1)) {
+						t.Fatalf("act64 (act %d)[%d] = %v, Go loop %v", act, i, got[i], want[i])
+					}
+					if act == actRelu && !same(got[i], want[i]) {
+						t.Fatalf("act64 relu[%d] = %v, Go loop %v", i, got[i], want[i])
+					}
+				}
+			}
+		}
+		res, want := make([]float64, n), make([]float64, n)
+		r32, w32 := make([]float32, n), make([]float32, n)
+		vFusedAct(res, r32, s32, hd, b, rows, w, actSoftplus)
+		fusedActGo(want, w32, s32, hd, b, rows, w, actSoftplus)
+		for i := range res {
+			if d := math.Abs(res[i] - want[i]); !(d <= softplusTol(want[i])) && !(math.IsNaN(res[i]) && math.IsNaN(want[i])) && res[i] != want[i] {
+				t.Fatalf("fusedAct softplus[%d] = %v, Go loop %v", i, res[i], want[i])
+			}
+			if float64(r32[i]) != float64(float32(res[i])) && !math.IsNaN(res[i]) {
+				t.Fatalf("fusedAct softplus float32 copy[%d] = %v, want float32(%v)", i, r32[i], res[i])
+			}
+		}
+		// The gradient from softplus outputs (≥ 0).
+		out := make([]float64, n)
+		for i := range out {
+			out[i] = softplus(2 * rng.NormFloat64())
+		}
+		a := randVec(rng, n)
+		vSoftplusGrad(res, a, out)
+		softplusGradGo(want, a, out)
+		for i := range res {
+			if d := math.Abs(res[i] - want[i]); !(d <= 10*0x1p-53*math.Abs(want[i])) && !(math.IsNaN(res[i]) && math.IsNaN(want[i])) && res[i] != want[i] {
+				t.Fatalf("softplus gradient[%d] = %v, Go loop %v (a = %v, O = %v)", i, res[i], want[i], a[i], out[i])
+			}
+		}
+	}
 }

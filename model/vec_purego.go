@@ -17,15 +17,16 @@ func vBernBwd(dz, x, z, e, g []float64, rows, n int) {
 func vRowLP2(dst, z []float64, zs int, xs []uint8, n, rows int, flip bool, scratch []float64) {
 	rowLP2Go(dst, z, zs, xs, n, rows, flip, scratch)
 }
-func vBiasRelu32(dst []float32, src64 []float64, src32 []float32, b []float64, rows, w int) {
-	biasRelu32Go(dst, src64, src32, b, rows, w)
+func vBiasAct32(dst []float32, src64 []float64, src32 []float32, b []float64, rows, w, act int) {
+	biasAct32Go(dst, src64, src32, b, rows, w, act)
 }
 func vLogits32(z, dx []float64, y []float32, b []float64, rows, w int) {
 	logits32Go(z, dx, y, b, rows, w)
 }
-func vFusedRelu(res []float64, r32 []float32, y []float32, hd, b []float64, rows, w int) {
-	fusedReluGo(res, r32, y, hd, b, rows, w)
+func vFusedAct(res []float64, r32 []float32, y []float32, hd, b []float64, rows, w, act int) {
+	fusedActGo(res, r32, y, hd, b, rows, w, act)
 }
+func vSoftplusGrad(res, a, o []float64)                      { softplusGradGo(res, a, o) }
 func vReluGrad(res []float64, d32 []float32, a, o []float64) { reluGradGo(res, d32, a, o) }
 func vColSum(db, a []float64, rows, w int)                   { colSumGo(db, a, rows, w) }
 func vMasked32(dst []float32, w, mask []float64, c tile, out int) {
@@ -34,3 +35,4 @@ func vMasked32(dst []float32, w, mask []float64, c tile, out int) {
 func vCombine32(dst []float64, g0, g1 []float32, f0, f1 float64, mask []float64, c tile, out, j0, j1 int) {
 	combine32Go(dst, g0, g1, f0, f1, mask, c, out, j0, j1)
 }
+func vAct64(x, b []float64, rows, w, act int) { act64Go(x, b, rows, w, act) }
