@@ -1,6 +1,7 @@
 package model
 
 import (
+	"fmt"
 	"math/rand/v2"
 	"testing"
 )
@@ -199,5 +200,23 @@ func BenchmarkActivation(b *testing.B) {
 		}
 		b.Run(act+"/LossGrad", func(b *testing.B) { benchLossGrad(b, m) })
 		b.Run(act+"/LogProb", func(b *testing.B) { benchLogProb(b, m) })
+	}
+}
+
+// BenchmarkFiLM compares the default softplus model with and without FiLM
+// conditioning (the scale heads cost one more conditioning product per layer,
+// and the activation runs as a separate graph operation).
+func BenchmarkFiLM(b *testing.B) {
+	for _, film := range []bool{false, true} {
+		cfg := DefaultConfig(256, 2, 1, []float64{1}, []float64{4})
+		cfg.Hidden = []int{256, 256}
+		cfg.FiLM = film
+		m, err := New(cfg, 1)
+		if err != nil {
+			b.Fatal(err)
+		}
+		name := fmt.Sprintf("film=%v", film)
+		b.Run(name+"/LossGrad", func(b *testing.B) { benchLossGrad(b, m) })
+		b.Run(name+"/LogProb", func(b *testing.B) { benchLogProb(b, m) })
 	}
 }

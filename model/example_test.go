@@ -42,5 +42,5 @@ func ExampleNew() {
 	// Output:
 	// T = 2.3: Σ p = 1.000000000000
 	// T = 5.0: Σ p = 1.000000000000
-	// hidden [32 32], cond [64], 6100 parameters
+	// hidden [32 32], cond [64], 10452 parameters
 }

@@ -133,20 +133,54 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 		gr.byWeight[l.condV[i]] = append(gr.byWeight[l.condV[i]], hl)
 		heads[i] = must(maskedMul(u, wn[l.condV[i]], hl))
 	}
+	// FiLM: the scale heads u·S; a pre-activation a becomes a + a⊙(u·S).
+	var scales []*G.Node
+	for i := range l.condS {
+		v := m.Weights[l.condS[i]]
+		sl := &maskedLinear{name: v.Name, t: denseTiling(v.Shape[0], v.Shape[1]), needDX: len(c.CondHidden) > 0, f32: f32}
+		gr.byWeight[l.condS[i]] = append(gr.byWeight[l.condS[i]], sl)
+		scales = append(scales, must(maskedMul(u, wn[l.condS[i]], sl)))
+	}
+	scale := func(a *G.Node, i int) *G.Node {
+		if scales == nil {
+			return a
+		}
+		return must(G.Add(a, must(G.HadamardProd(a, scales[i]))))
+	}
+	hiddenNode := func(a *G.Node) *G.Node {
+		switch hiddenAct {
+		case actTanh:
+			return must(G.Tanh(a))
+		case actSoftplus:
+			return must(G.Softplus(a))
+		}
+		return must(G.Rectify(a))
+	}
 	L := len(c.Hidden)
 	logp := func(x *G.Node, pass string) *G.Node {
 		lin, linD := linears(pass)
-		for i := 0; i < L; i++ {
-			lin[i].next = lin[i+1]
-		}
 		h := x
-		for i := 0; i < L; i++ {
-			h = must(maskedLayer(h, wn[l.madeW[i]], heads[i], wn[l.madeB[i]], lin[i], hiddenAct))
+		if scales == nil {
+			// Each fused layer writes the float32 input of the next.
+			for i := 0; i < L; i++ {
+				lin[i].next = lin[i+1]
+			}
+			for i := 0; i < L; i++ {
+				h = must(maskedLayer(h, wn[l.madeW[i]], heads[i], wn[l.madeB[i]], lin[i], hiddenAct))
+			}
+		} else {
+			// The scale comes between the sum and the activation, so the
+			// activation is a separate operation.
+			for i := 0; i < L; i++ {
+				a := must(maskedLayer(h, wn[l.madeW[i]], heads[i], wn[l.madeB[i]], lin[i], actNone))
+				h = hiddenNode(scale(a, i))
+			}
 		}
 		z := must(maskedLayer(h, wn[l.madeW[L]], heads[L], wn[l.madeB[L]], lin[L], actNone))
 		if linD != nil {
 			z = must(G.Add(z, must(maskedMul(x, wn[l.direct], linD))))
 		}
+		z = scale(z, L)
 		if c.Alphabet == 2 {
 			// log p = Σ_s x·z − log(1+e^z) (Bernoulli with logit z).
 			return must(bernoulliLogProb(x, z, "logp"+pass, c.Sites))

@@ -107,7 +107,8 @@ func mul(dst, a, b []float64) {
 }
 
 // condBias returns, for each masked layer, its bias plus the conditioning
-// net's contribution at lambda.
+// net's contribution at lambda; with FiLM the layer's scale γ follows in the
+// same slice (width bias values, then width scales).
 func (m *Model) condBias(lambda []float64) [][]float64 {
 	c := m.Cfg
 	l := m.lay
@@ -127,6 +128,16 @@ func (m *Model) condBias(lambda []float64) [][]float64 {
 	for i := range l.madeW {
 		b := append([]float64(nil), m.Weights[l.madeB[i]].Data...)
 		blas64.Gemv(blas.Trans, 1, gen(m.Weights[l.condV[i]]), vec(u), 1, vec(b))
+		if c.FiLM {
+			// The scale γ = 1 + u·S follows the bias in the same slice.
+			w := len(b)
+			b = append(b, make([]float64, w)...)
+			g := b[w:]
+			for k := range g {
+				g[k] = 1
+			}
+			blas64.Gemv(blas.Trans, 1, gen(m.Weights[l.condS[i]]), vec(u), 1, vec(g))
+		}
 		cb[i] = b
 	}
 	return cb
@@ -170,6 +181,8 @@ type workspace struct {
 	linD     *maskedLinear   // and of the direct connection
 	xin      []float64       // 0/1 inputs of a block (q = 2)
 	e        []float64       // scratch of one row's per-site terms (q = 2)
+	pre      []float64       // FiLM's scaled pre-activations (float32 path)
+	zero     []float64       // a zero bias for the activation kernels (FiLM)
 }
 
 // lin returns the masked product of layer l reading the weights of p.
@@ -321,6 +334,7 @@ func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r 
 	relu := c.Activation == "relu"
 	act := actFunc(c.Activation)
 	f32 := p.eff32 != nil
+	film := c.FiLM
 	// The activation passes of ReLU and softplus are vector kernels
 	// (vBiasAct32, vAct64).
 	vact := 0
@@ -348,6 +362,47 @@ func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r 
 			} else {
 				w.lin(p, l).forward(h, w.h[l-1], r, false)
 			}
+		}
+		if film && vact != 0 {
+			// The scaled pre-activations (y + b)⊙γ first, in float64;
+			// then the vector kernel applies the activation with a zero
+			// bias.
+			pre := h
+			if f32 {
+				w.pre = grow64(w.pre, r*hw)
+				pre = w.pre[:r*hw]
+			}
+			if len(w.zero) < hw {
+				w.zero = make([]float64, hw)
+			}
+			for i := 0; i < r; i++ {
+				b := cb[min(i, len(cb)-1)][l]
+				g := b[hw:]
+				lo, hi := i*hw, (i+1)*hw
+				row := pre[lo:hi]
+				switch {
+				case !f32:
+					for k := range row {
+						row[k] = (row[k] + b[k]) * g[k]
+					}
+				case l == 0:
+					src := a0[lo:hi]
+					for k := range row {
+						row[k] = (src[k] + b[k]) * g[k]
+					}
+				default:
+					src := y32[lo:hi]
+					for k := range row {
+						row[k] = (float64(src[k]) + b[k]) * g[k]
+					}
+				}
+			}
+			if f32 {
+				vBiasAct32(next, pre, nil, w.zero[:hw], r, hw, vact)
+			} else {
+				vAct64(h, w.zero[:hw], r, hw, vact)
+			}
+			continue
 		}
 		if f32 && vact != 0 {
 			// The rows in one call when they share a bias.
@@ -381,12 +436,19 @@ func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r 
 		}
 		for i := 0; i < r; i++ {
 			b := cb[min(i, len(cb)-1)][l]
+			var g []float64 // FiLM scale
+			if film {
+				g = b[hw:]
+			}
 			lo, hi := i*hw, (i+1)*hw
 			switch {
 			case !f32:
 				row := h[lo:hi]
 				for k := range row {
 					v := row[k] + b[k]
+					if film {
+						v *= g[k]
+					}
 					if relu {
 						row[k] = relu0(v)
 					} else {
@@ -396,12 +458,28 @@ func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r 
 			case l == 0:
 				src, dst := a0[lo:hi], next[lo:hi]
 				for k := range dst {
-					dst[k] = float32(act(src[k] + b[k]))
+					v := src[k] + b[k]
+					if film {
+						v *= g[k]
+					}
+					if relu {
+						dst[k] = float32(relu0(v))
+					} else {
+						dst[k] = float32(act(v))
+					}
 				}
 			default:
 				src, dst := y32[lo:hi], next[lo:hi]
 				for k := range dst {
-					dst[k] = float32(act(float64(src[k]) + b[k]))
+					v := float64(src[k]) + b[k]
+					if film {
+						v *= g[k]
+					}
+					if relu {
+						dst[k] = float32(relu0(v))
+					} else {
+						dst[k] = float32(act(v))
+					}
 				}
 			}
 		}
@@ -423,7 +501,13 @@ func (m *Model) logits(p *prep, cb [][][]float64, w *workspace, dx []float64, r 
 			dxr = dx[:r*dout]
 		}
 		if len(cb) == 1 {
-			vLogits32(z, dxr, y32, cb[0][L], r, dout)
+			b := cb[0][L]
+			vLogits32(z, dxr, y32, b[:dout], r, dout)
+			if c.FiLM {
+				for i := 0; i < r; i++ {
+					mul(z[i*dout:(i+1)*dout], z[i*dout:(i+1)*dout], b[dout:])
+				}
+			}
 			return
 		}
 		for i := 0; i < r; i++ {
@@ -440,6 +524,9 @@ func (m *Model) logits(p *prep, cb [][][]float64, w *workspace, dx []float64, r 
 					zr[k] = float64(yr[k]) + b[k]
 				}
 			}
+			if c.FiLM {
+				mul(zr, zr, b[dout:])
+			}
 		}
 		return
 	}
@@ -450,7 +537,12 @@ func (m *Model) logits(p *prep, cb [][][]float64, w *workspace, dx []float64, r 
 	}
 	w.lin(p, L).forward(z, w.h[L-1], r, true)
 	for i := 0; i < r; i++ {
-		addTo(z[i*dout:(i+1)*dout], cb[min(i, len(cb)-1)][L])
+		b := cb[min(i, len(cb)-1)][L]
+		zr := z[i*dout : (i+1)*dout]
+		addTo(zr, b[:dout])
+		if c.FiLM {
+			mul(zr, zr, b[dout:])
+		}
 	}
 }
 
@@ -728,6 +820,12 @@ func (m *Model) Sample(dst []uint8, n int, lambda []float64, rng *rand.Rand) (er
 					blas64.General{Rows: kl, Cols: per, Stride: dout, Data: p.eff[L][s*per:]},
 					1, blas64.General{Rows: r, Cols: per, Stride: per, Data: z})
 			}
+			if c.FiLM {
+				g := cb[0][L][dout+s*per : dout+(s+1)*per]
+				for i := 0; i < r; i++ {
+					mul(z[i*per:(i+1)*per], z[i*per:(i+1)*per], g)
+				}
+			}
 			for i := 0; i < r; i++ {
 				var v int
 				u := rng.Float64()
@@ -841,12 +939,19 @@ func (m *Model) sampleUnits(p *prep, cb [][]float64, w *workspace, r, l, from, t
 		}
 	}
 	b := cb[l][from:to]
+	var g []float64 // FiLM scale
+	if c.FiLM {
+		g = cb[l][hw+from : hw+to]
+	}
 	relu := c.Activation == "relu"
 	act := actFunc(c.Activation)
 	for i := 0; i < r; i++ {
 		row := h[i*hw+from : i*hw+to]
 		for k := range row {
 			v := row[k] + b[k]
+			if g != nil {
+				v *= g[k]
+			}
 			if relu {
 				row[k] = relu0(v)
 			} else {
@@ -862,4 +967,11 @@ func (m *Model) sampleUnits(p *prep, cb [][]float64, w *workspace, r, l, from, t
 // with math.Max, and −0 becomes +0.
 func relu0(v float64) float64 {
 	return max(v, 0)
+}
+
+func grow64(b []float64, n int) []float64 {
+	if cap(b) < n {
+		return make([]float64, n)
+	}
+	return b[:n]
 }

@@ -48,6 +48,7 @@ type layout struct {
 	condW, condB   []int // per conditioning layer
 	madeW, madeB   []int // per masked layer (hidden layers, then output)
 	condV          []int // per masked layer: conditioning head
+	condS          []int // per masked layer with FiLM: the scale head
 	direct         int   // -1 without Direct
 	condOut        int
 	shapes         [][]int
@@ -81,6 +82,13 @@ func newLayout(c Config) layout {
 	}
 	if c.Direct {
 		l.direct = add("made.direct", l.din, l.dout)
+	}
+	if c.FiLM {
+		// After every other weight, so that the additive model's weights
+		// keep their order.
+		for i, h := range widths {
+			l.condS = append(l.condS, add(fmt.Sprintf("cond.s%d", i), l.condOut, h))
+		}
 	}
 	return l
 }
@@ -248,6 +256,7 @@ func New(cfg Config, seed uint64) (*Model, error) {
 	if l.direct >= 0 {
 		fill(l.direct, 0.5)
 	}
+	// The FiLM scale heads stay zero: γ = 1 at the start.
 	return m, nil
 }
 

@@ -21,11 +21,13 @@ func TestFloat32AgreesWithFloat64(t *testing.T) {
 		{"q2-tanh-sym", func(c *Config) { c.Activation = "tanh"; c.Symmetric = true }},
 		{"q2-softplus", func(c *Config) { c.Activation = "softplus" }},
 		{"q3-snake", func(c *Config) { c.Alphabet = 3; c.Order = SnakeOrder(10, 10) }},
+		{"q2-softplus-film", func(c *Config) { c.Activation = "softplus"; c.FiLM = true }},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			cfg := DefaultConfig(100, 2, 1, []float64{1}, []float64{3})
 			cfg.Hidden = []int{160, 96}
+			cfg.FiLM = false // the additive model unless a case turns FiLM on
 			tc.mod(&cfg)
 			m64 := randomModel(t, cfg, 21, 0.3)
 			cfg32 := cfg
