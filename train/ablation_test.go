@@ -24,8 +24,10 @@ import (
 // environment:
 //
 //	PER (snapshots per point, 2000)   EPOCHS (30)   SEEDS (models averaged, 1)
+//	SEED (the first training seed, 1)
 //	ACT, CONDACT (activations)        HIDDEN, COND (widths, "16,16"; COND=none)
 //	FOURIER (1)   SYM=1 (flip symmetry)   WD (weight decay)   LR
+//	FILM=1 or 0 (FiLM conditioning on or off)
 //	AUG (symmetries to augment with, e.g. "translate,mirror,rotate,flip")
 //
 // Run: ACT=softplus PER=4000 go test -tags ablation ./train -run TestAblation -v
@@ -36,6 +38,9 @@ func TestAblation(t *testing.T) {
 	st.Epochs = envInt(t, "EPOCHS", 30)
 	st.Arch.Fourier = envInt(t, "FOURIER", st.Arch.Fourier)
 	st.Arch.Symmetric = os.Getenv("SYM") == "1"
+	if v := os.Getenv("FILM"); v != "" {
+		st.Arch.FiLM = v == "1"
+	}
 	st.Arch.Activation = envString("ACT", st.Arch.Activation)
 	st.Arch.CondActivation = envString("CONDACT", st.Arch.CondActivation)
 	st.Arch.Hidden = envWidths(t, "HIDDEN", st.Arch.Hidden)
@@ -48,7 +53,8 @@ func TestAblation(t *testing.T) {
 	}
 	st.Augment = aug
 	var models []indicator.Source
-	for s := 1; s <= envInt(t, "SEEDS", 1); s++ {
+	first := envInt(t, "SEED", 1)
+	for s := first; s < first+envInt(t, "SEEDS", 1); s++ {
 		st.Seed = uint64(s)
 		ck, err := Run(context.Background(), ds, Options{Settings: st, Holdout: "T=2.0909090909;2.6363636364"})
 		if err != nil {
@@ -88,8 +94,8 @@ func TestAblation(t *testing.T) {
 		}
 		line := pass.name + ":"
 		for i, mc := range mres.Curves {
-			rel, _ := relDiff(mc, eres.Curves[i])
-			line += fmt.Sprintf(" %s=%.3f", mc.Name, rel)
+			rel, at := relDiff(mc, eres.Curves[i])
+			line += fmt.Sprintf(" %s=%.3f(T=%.2f)", mc.Name, rel, at)
 		}
 		t.Log(line)
 	}

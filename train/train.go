@@ -37,6 +37,9 @@ type Arch struct {
 	Order string
 	// Symmetric makes a q = 2 model invariant under flipping every site.
 	Symmetric bool
+	// FiLM lets the conditioning net scale the masked layers' inputs to
+	// their activations as well as shift them (see model.Config.FiLM).
+	FiLM bool
 	// Precision is the arithmetic of the masked products: "" or "float64"
 	// (the default), or "float32" (faster, above all in the OpenBLAS build;
 	// see model.Config.Precision).
@@ -91,7 +94,7 @@ type Settings struct {
 // tuning.
 func DefaultSettings() Settings {
 	return Settings{
-		Arch:            Arch{Fourier: 1, Activation: "softplus", Direct: true, Order: "rowmajor"},
+		Arch:            Arch{Fourier: 1, Activation: "softplus", Direct: true, Order: "rowmajor", FiLM: true},
 		Epochs:          60,
 		Batch:           128,
 		LR:              2e-3,
@@ -303,6 +306,7 @@ func (r *run) start(fp string) error {
 	}
 	cfg.Direct = a.Direct
 	cfg.Symmetric = a.Symmetric
+	cfg.FiLM = a.FiLM
 	cfg.Precision = a.Precision
 	if a.Order == "snake" {
 		lat := ds.Meta.Lattice

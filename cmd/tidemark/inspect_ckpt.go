@@ -50,6 +50,7 @@ type archReport struct {
 	Direct     bool      `json:"direct"`
 	Order      string    `json:"order"`
 	Symmetric  bool      `json:"symmetric"`
+	FiLM       bool      `json:"film"`
 	ParamLo    []float64 `json:"param_lo"`
 	ParamHi    []float64 `json:"param_hi"`
 }
@@ -80,7 +81,7 @@ func inspectCheckpoint(path string, asJSON bool, w io.Writer) (bool, error) {
 	r := checkpointReport{
 		Kind: "checkpoint", File: path, FileBytes: st.Size(), Software: h.Software, Created: h.Created,
 		Architecture: archReport{Hidden: c.Hidden, CondHidden: c.CondHidden, Fourier: c.Fourier, Activation: c.Activation, CondAct: condActivation(c),
-			Direct: c.Direct, Order: h.Training.OrderName, Symmetric: c.Symmetric, ParamLo: c.ParamLo, ParamHi: c.ParamHi},
+			Direct: c.Direct, Order: h.Training.OrderName, Symmetric: c.Symmetric, FiLM: c.FiLM, ParamLo: c.ParamLo, ParamHi: c.ParamHi},
 		Parameters: ck.NumParams(), Sites: c.Sites, Alphabet: c.Alphabet, Lattice: h.Lattice, ParamNames: h.ParamNames,
 		Dataset: h.Dataset, HeldOut: h.HeldOut, HoldoutSpec: h.HoldoutSpec,
 		BestEpoch: h.BestEpoch, BestValBitsPerSite: h.BestValBitsPerSite, HeldOutBitsPerSite: h.HeldOutBitsPerSite,
@@ -103,8 +104,12 @@ func inspectCheckpoint(path string, asJSON bool, w io.Writer) (bool, error) {
 	if len(a.CondHidden) > 0 {
 		cond = intsString(a.CondHidden, ",")
 	}
-	fmt.Fprintf(tw, "architecture\tMADE, hidden %s, %s; conditioning net %s, %s, with %d Fourier frequencies; direct %v; order %s; symmetric %v\n",
-		intsString(a.Hidden, ","), a.Activation, cond, a.CondAct, a.Fourier, a.Direct, a.Order, a.Symmetric)
+	mod := "shifts"
+	if a.FiLM {
+		mod = "scales and shifts (FiLM)"
+	}
+	fmt.Fprintf(tw, "architecture\tMADE, hidden %s, %s; conditioning net %s, %s, with %d Fourier frequencies, %s the layers; direct %v; order %s; symmetric %v\n",
+		intsString(a.Hidden, ","), a.Activation, cond, a.CondAct, a.Fourier, mod, a.Direct, a.Order, a.Symmetric)
 	fmt.Fprintf(tw, "parameters\t%d trainable values\n", r.Parameters)
 	fmt.Fprintf(tw, "sites\t%d (lattice %s), alphabet %d\n", r.Sites, intsString(r.Lattice, "×"), r.Alphabet)
 	for i, name := range r.ParamNames {

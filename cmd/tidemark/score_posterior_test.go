@@ -64,7 +64,7 @@ func posteriorFixture(t *testing.T) (dir, ck, old string) {
 		t.Fatal(err)
 	}
 	ck = filepath.Join(dir, "m.ckpt")
-	if _, err := execTidemark(t, "train", train, "-o", ck, "--hidden", "64", "--cond-hidden", "32", "--activation", "relu", "--epochs", "40", "--symmetric", "--quiet"); err != nil {
+	if _, err := execTidemark(t, "train", train, "-o", ck, "--hidden", "64", "--cond-hidden", "32", "--activation", "relu", "--film=false", "--epochs", "40", "--symmetric", "--quiet"); err != nil {
 		t.Fatal(err)
 	}
 	old = filepath.Join(dir, "old.npz")

@@ -27,6 +27,7 @@ type trainOptions struct {
 	direct             bool
 	order              string
 	symmetric          bool
+	film               bool
 	precision          string
 	augment            string
 
@@ -92,6 +93,7 @@ thread counts change results only by floating-point summation order.`,
 	f.StringVar(&o.condActivation, "cond-activation", d.Arch.CondActivation, "activation of the conditioning net: softplus, relu or tanh; default: as --activation")
 	f.BoolVar(&o.direct, "direct", d.Arch.Direct, "add the masked direct input→output connection")
 	f.StringVar(&o.order, "order", d.Arch.Order, "autoregressive site order: rowmajor or snake (boustrophedon, 2-D lattices)")
+	f.BoolVar(&o.film, "film", d.Arch.FiLM, "let the conditioning net scale every masked layer's pre-activation as well as shift it (FiLM; --film=false for shifts only)")
 	f.BoolVar(&o.symmetric, "symmetric", false, "make the model invariant under flipping every spin (alphabet 2 only)")
 	f.StringVar(&o.precision, "precision", "float64", "arithmetic of the masked matrix products: float64, or float32 (faster, above all in the OpenBLAS build; sums stay float64)")
 	f.StringVar(&o.augment, "augment", "none", `symmetries of the system to augment the training snapshots with, comma-separated: translate (periodic boundaries), mirror, rotate (square lattices), flip (alphabet 2); name only symmetries every grid point has`)
@@ -158,6 +160,7 @@ func (o *trainOptions) settings() (train.Settings, error) {
 	st.Arch.Direct = o.direct
 	st.Arch.Order = o.order
 	st.Arch.Symmetric = o.symmetric
+	st.Arch.FiLM = o.film
 	st.Arch.Precision = o.precision
 	aug, err := train.ParseAugment(o.augment)
 	if err != nil {
@@ -200,7 +203,7 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 		if fl.Changed("threads") {
 			res.Threads = threadsOrDefault(o.threads)
 		}
-		for _, name := range []string{"hidden", "cond-hidden", "fourier", "activation", "cond-activation", "direct", "order", "symmetric", "precision", "augment", "batch", "lr", "min-lr", "seed", "val-frac", "schedule", "weight-decay", "clip", "holdout"} {
+		for _, name := range []string{"hidden", "cond-hidden", "fourier", "activation", "cond-activation", "direct", "order", "symmetric", "film", "precision", "augment", "batch", "lr", "min-lr", "seed", "val-frac", "schedule", "weight-decay", "clip", "holdout"} {
 			if fl.Changed(name) {
 				return fmt.Errorf("--%s: cannot be changed when resuming; the run keeps the settings saved in %s (only --epochs, --patience and --threads may change)", name, o.resume)
 			}
@@ -231,6 +234,11 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 		return err
 	}
 	stdout, stderr := cmd.OutOrStdout(), cmd.ErrOrStderr()
+	if resumed == nil {
+		for _, n := range augmentNotes(ds.Meta.Source, opt.Settings.Augment) {
+			fmt.Fprintf(stderr, "tidemark: train: note: %s\n", n)
+		}
+	}
 	var bar *progress.Bar
 	opt.Start = func(perEpoch, epochs int) {
 		bar = progress.New(perEpoch*epochs, "train", o.quiet)

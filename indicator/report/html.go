@@ -132,6 +132,9 @@ func ModelSummary(path string, ck *checkpoints.Checkpoint) ModelInfo {
 	if c.Direct {
 		arch += ", direct connection"
 	}
+	if c.FiLM {
+		arch += ", FiLM conditioning"
+	}
 	if c.Symmetric {
 		arch += ", spin-flip symmetric"
 	}
