@@ -19,21 +19,23 @@ import (
 // no data) with exact sums over all 2^16 states for both, so that only the
 // model's misfit remains.
 //
-// The bar the task sets is 0.05 of the range for every curve. The global
-// indicators (sl, lbc, pbm) meet it at the grid points, and lbc on the
-// refined grid too. The indicators that compare neighbouring points do
-// not: with 4000 snapshots per temperature, the (softplus) model differed by
-// about 0.12 (local), 0.14 (fisher) and 0.33 (fisher_deriv) of the range at
-// the grid points, and 0.13–0.37 between them (2026-12-01); the limits
-// below hold those figures with some room, and a model with the relu
-// activation fails them (0.37, 0.66 and 1.55 at the grid points with
-// 2000 snapshots per point, 0.6–1.8 between them; see model.DefaultConfig). The
-// remaining error comes from the training data, not the optimiser: it fell
-// by about 1.5× for each fourfold increase in snapshots per point, and
-// averaging three seeds did not reduce it. Its visible form is a spurious
-// bump of fisher and fisher_deriv in the ordered phase near T = 1.8, higher
-// than the true maximum near T = 2.15, so their highest peaks are logged
-// and not required to match (fisher's is at the grid points).
+// The model is the default one (softplus, FiLM conditioning) trained on
+// snapshots augmented by the lattice's symmetries, as a user would train it
+// on this system. The bar the task sets is 0.05 of the range for every
+// curve. Measured (2026-12-02, training seed 1): at the grid points sl 0.009,
+// lbc 0.022, pbm 0.017, local 0.052, fisher 0.064, fisher_deriv 0.104; on
+// the refined grid sl 0.050, lbc 0.014, pbm 0.054, local 0.051, fisher
+// 0.126, fisher_deriv 0.126; every highest peak within one grid step. Seeds
+// 2 and 3 (ablation harness) gave local 0.061–0.066, fisher 0.035–0.036 and
+// fisher_deriv 0.108–0.130 at the grid points, and up to 0.065 (sl, pbm,
+// local) and 0.140 (fisher) between them. So sl, lbc and pbm meet the bar at
+// the grid points, and the neighbour indicators miss it by up to 2.5×; the
+// limits below hold the measured figures with some room. Before FiLM and
+// augmentation (additive conditioning) the same test measured 0.12, 0.14
+// and 0.33 for local, fisher and fisher_deriv at the grid points and
+// 0.13–0.37 between them, with a spurious fisher bump near T = 1.8 higher
+// than the true maximum. The remaining error falls with the data (see
+// TestModelIndicatorsConvergeWithData).
 func TestModelIndicatorsMatchExact(t *testing.T) {
 	if testing.Short() {
 		t.Skip("trains a model")
@@ -42,13 +44,12 @@ func TestModelIndicatorsMatchExact(t *testing.T) {
 	if fx.err != nil {
 		t.Fatal(fx.err)
 	}
+	all := map[string]bool{"sl": true, "lbc": true, "pbm": true, "local": true, "fisher": true, "fisher_deriv": true}
 	compareWithExact(t, fx, []exactCase{
 		{"grid points, data snapshots", 1, false,
-			map[string]float64{"sl": 0.05, "lbc": 0.05, "pbm": 0.05, "local": 0.2, "fisher": 0.2, "fisher_deriv": 0.5},
-			map[string]bool{"sl": true, "lbc": true, "pbm": true, "local": true, "fisher": true}},
+			map[string]float64{"sl": 0.05, "lbc": 0.05, "pbm": 0.05, "local": 0.08, "fisher": 0.1, "fisher_deriv": 0.15}, all},
 		{"refined 4x, exact sums", 4, true,
-			map[string]float64{"sl": 0.2, "lbc": 0.05, "pbm": 0.2, "local": 0.25, "fisher": 0.5, "fisher_deriv": 0.5},
-			map[string]bool{"sl": true, "lbc": true, "pbm": true, "local": true}},
+			map[string]float64{"sl": 0.08, "lbc": 0.05, "pbm": 0.08, "local": 0.08, "fisher": 0.18, "fisher_deriv": 0.18}, all},
 	})
 }
 

@@ -39,6 +39,7 @@ func ising4x4(t *testing.T) *ising4x4Fixture {
 		fx.ds, fx.src = isingDataset(t, 4, 4, fx.temps, isingPerPoint, 11)
 		st := DefaultSettings()
 		st.Epochs = isingEpochs
+		st.Augment = isingSymmetries
 		fx.ck, fx.err = Run(context.Background(), fx.ds, Options{Settings: st, Holdout: "T=2.0909090909;2.6363636364"})
 		if fx.err == nil {
 			fx.m, fx.err = fx.ck.Model()
@@ -130,6 +131,10 @@ func TestIsingAgainstEnumeration(t *testing.T) {
 var (
 	isingPerPoint = 4000
 	isingEpochs   = 30
+	// isingSymmetries is the symmetry group of the isotropic periodic Ising
+	// model at zero field, which the training snapshots are augmented with
+	// (what a user declares with train --augment).
+	isingSymmetries = []string{SymTranslate, SymMirror, SymRotate, SymFlip}
 )
 
 // randomDataset fills an ly×lx dataset with uniformly random spins at k
