@@ -234,13 +234,15 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 		return err
 	}
 	stdout, stderr := cmd.OutOrStdout(), cmd.ErrOrStderr()
-	if resumed == nil {
-		for _, n := range augmentNotes(ds.Meta.Source, opt.Settings.Augment) {
-			fmt.Fprintf(stderr, "tidemark: train: note: %s\n", n)
-		}
-	}
 	var bar *progress.Bar
 	opt.Start = func(perEpoch, epochs int) {
+		// Notes only once the settings and data have passed every check, so
+		// a bad input gets its one-line error alone.
+		if resumed == nil {
+			for _, n := range augmentNotes(ds.Meta.Source, opt.Settings.Augment) {
+				fmt.Fprintf(stderr, "tidemark: train: note: %s\n", n)
+			}
+		}
 		bar = progress.New(perEpoch*epochs, "train", o.quiet)
 		if !o.quiet {
 			what := "training"
