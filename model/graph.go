@@ -99,8 +99,9 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 		}
 		return lin, linD
 	}
-	condAct := func(n *G.Node) *G.Node {
-		switch c.condAct() {
+	// actNode applies the named activation as a gorgonia operation.
+	actNode := func(name string, n *G.Node) *G.Node {
+		switch name {
 		case "tanh":
 			return must(G.Tanh(n))
 		case "softplus":
@@ -121,7 +122,7 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 	// Conditioning net and its additive bias for every masked layer.
 	u := Phi
 	for i, w := range l.condW {
-		u = condAct(addBias(must(G.Mul(u, wn[w])), wn[l.condB[i]]))
+		u = actNode(c.condAct(), addBias(must(G.Mul(u, wn[w])), wn[l.condB[i]]))
 	}
 	// The conditioning heads u·V are dense products; they go through the
 	// same hand-written operation (in the model's precision). The biases
@@ -147,15 +148,6 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 		}
 		return must(G.Add(a, must(G.HadamardProd(a, scales[i]))))
 	}
-	hiddenNode := func(a *G.Node) *G.Node {
-		switch hiddenAct {
-		case actTanh:
-			return must(G.Tanh(a))
-		case actSoftplus:
-			return must(G.Softplus(a))
-		}
-		return must(G.Rectify(a))
-	}
 	L := len(c.Hidden)
 	logp := func(x *G.Node, pass string) *G.Node {
 		lin, linD := linears(pass)
@@ -173,7 +165,7 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 			// activation is a separate operation.
 			for i := 0; i < L; i++ {
 				a := must(maskedLayer(h, wn[l.madeW[i]], heads[i], wn[l.madeB[i]], lin[i], actNone))
-				h = hiddenNode(scale(a, i))
+				h = actNode(c.Activation, scale(a, i))
 			}
 		}
 		z := must(maskedLayer(h, wn[l.madeW[L]], heads[L], wn[l.madeB[L]], lin[L], actNone))

@@ -331,12 +331,10 @@ func addTo(dst, src []float64) {
 // pass that applies the bias and the activation).
 func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r int) {
 	c := m.Cfg
-	relu := c.Activation == "relu"
 	act := actFunc(c.Activation)
 	f32 := p.eff32 != nil
-	film := c.FiLM
 	// The activation passes of ReLU and softplus are vector kernels
-	// (vBiasAct32, vAct64).
+	// (vBiasAct32, vAct64); tanh runs as a Go loop.
 	vact := 0
 	switch c.Activation {
 	case "relu":
@@ -363,45 +361,8 @@ func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r 
 				w.lin(p, l).forward(h, w.h[l-1], r, false)
 			}
 		}
-		if film && vact != 0 {
-			// The scaled pre-activations (y + b)⊙γ first, in float64;
-			// then the vector kernel applies the activation with a zero
-			// bias.
-			pre := h
-			if f32 {
-				w.pre = grow64(w.pre, r*hw)
-				pre = w.pre[:r*hw]
-			}
-			if len(w.zero) < hw {
-				w.zero = make([]float64, hw)
-			}
-			for i := 0; i < r; i++ {
-				b := cb[min(i, len(cb)-1)][l]
-				g := b[hw:]
-				lo, hi := i*hw, (i+1)*hw
-				row := pre[lo:hi]
-				switch {
-				case !f32:
-					for k := range row {
-						row[k] = (row[k] + b[k]) * g[k]
-					}
-				case l == 0:
-					src := a0[lo:hi]
-					for k := range row {
-						row[k] = (src[k] + b[k]) * g[k]
-					}
-				default:
-					src := y32[lo:hi]
-					for k := range row {
-						row[k] = (float64(src[k]) + b[k]) * g[k]
-					}
-				}
-			}
-			if f32 {
-				vBiasAct32(next, pre, nil, w.zero[:hw], r, hw, vact)
-			} else {
-				vAct64(h, w.zero[:hw], r, hw, vact)
-			}
+		if c.FiLM {
+			m.filmAct(cb, w, a0, h, y32, next, l, hw, r, vact)
 			continue
 		}
 		if f32 && vact != 0 {
@@ -436,53 +397,81 @@ func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r 
 		}
 		for i := 0; i < r; i++ {
 			b := cb[min(i, len(cb)-1)][l]
-			var g []float64 // FiLM scale
-			if film {
-				g = b[hw:]
-			}
 			lo, hi := i*hw, (i+1)*hw
 			switch {
 			case !f32:
 				row := h[lo:hi]
 				for k := range row {
-					v := row[k] + b[k]
-					if film {
-						v *= g[k]
-					}
-					if relu {
-						row[k] = relu0(v)
-					} else {
-						row[k] = act(v)
-					}
+					row[k] = act(row[k] + b[k])
 				}
 			case l == 0:
 				src, dst := a0[lo:hi], next[lo:hi]
 				for k := range dst {
-					v := src[k] + b[k]
-					if film {
-						v *= g[k]
-					}
-					if relu {
-						dst[k] = float32(relu0(v))
-					} else {
-						dst[k] = float32(act(v))
-					}
+					dst[k] = float32(act(src[k] + b[k]))
 				}
 			default:
 				src, dst := y32[lo:hi], next[lo:hi]
 				for k := range dst {
-					v := float64(src[k]) + b[k]
-					if film {
-						v *= g[k]
-					}
-					if relu {
-						dst[k] = float32(relu0(v))
-					} else {
-						dst[k] = float32(act(v))
-					}
+					dst[k] = float32(act(float64(src[k]) + b[k]))
 				}
 			}
 		}
+	}
+}
+
+// filmAct applies hidden layer l's activation to the FiLM pre-activations
+// (y + b)⊙γ of r snapshots, γ following the bias in cb. The products y are
+// in h (float64), in a0 (the first layer, float32 path) or in y32; the
+// pre-activations are written in float64 first (in place in h), then the
+// activation writes h or, on the float32 path, next — by the vector kernel
+// with a zero bias for ReLU and softplus (vact ≠ 0).
+func (m *Model) filmAct(cb [][][]float64, w *workspace, a0, h []float64, y32, next []float32, l, hw, r, vact int) {
+	f32 := next != nil
+	pre := h
+	if f32 {
+		w.pre = grow64(w.pre, r*hw)
+		pre = w.pre[:r*hw]
+	}
+	for i := 0; i < r; i++ {
+		b := cb[min(i, len(cb)-1)][l]
+		g := b[hw:]
+		lo, hi := i*hw, (i+1)*hw
+		row := pre[lo:hi]
+		switch {
+		case !f32:
+			for k := range row {
+				row[k] = (row[k] + b[k]) * g[k]
+			}
+		case l == 0:
+			src := a0[lo:hi]
+			for k := range row {
+				row[k] = (src[k] + b[k]) * g[k]
+			}
+		default:
+			src := y32[lo:hi]
+			for k := range row {
+				row[k] = (float64(src[k]) + b[k]) * g[k]
+			}
+		}
+	}
+	if vact == 0 {
+		act := actFunc(m.Cfg.Activation)
+		for k, v := range pre {
+			if f32 {
+				next[k] = float32(act(v))
+			} else {
+				pre[k] = act(v)
+			}
+		}
+		return
+	}
+	if len(w.zero) < hw {
+		w.zero = make([]float64, hw)
+	}
+	if f32 {
+		vBiasAct32(next, pre, nil, w.zero[:hw], r, hw, vact)
+	} else {
+		vAct64(h, w.zero[:hw], r, hw, vact)
 	}
 }
 

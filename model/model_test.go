@@ -60,6 +60,10 @@ func cases() []testCase {
 			c.FiLM, c.Direct, c.Symmetric = true, true, true
 			c.Activation = "softplus"
 		}), in1, 0.7},
+		{"N8q2film-tanh", smallConfig(8, 2, 1, func(c *Config) {
+			c.FiLM, c.Direct = true, true
+			c.Activation = "tanh"
+		}), in1, 0.7},
 		{"N6q3film-direct-3hidden-nocond-d2", smallConfig(6, 3, 2, func(c *Config) {
 			c.FiLM, c.Direct = true, true
 			c.Hidden = []int{7, 8, 5}

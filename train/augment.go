@@ -60,8 +60,9 @@ type augmenter struct {
 	src                             []int // scratch: the source site of each site
 }
 
-// newAugmenter checks the named symmetries against the lattice and the
-// alphabet; it returns nil for no symmetries.
+// newAugmenter checks the named symmetries (valid names, as
+// Settings.Validate ensures) against the lattice and the alphabet; it
+// returns nil for no symmetries.
 func newAugmenter(names []string, lattice []int, q int) (*augmenter, error) {
 	if len(names) == 0 {
 		return nil, nil
@@ -82,8 +83,6 @@ func newAugmenter(names []string, lattice []int, q int) (*augmenter, error) {
 			a.rotate = true
 		case SymFlip:
 			a.flip = true
-		default:
-			return nil, fmt.Errorf("augment: unknown symmetry %q", s)
 		}
 	}
 	if (a.translate || a.mirror || a.rotate) && len(lattice) > 2 {

@@ -143,8 +143,10 @@ func (s Settings) Validate() error {
 	case s.Arch.Order != "rowmajor" && s.Arch.Order != "snake":
 		return fmt.Errorf("order: expected rowmajor or snake, found %q", s.Arch.Order)
 	}
-	if _, err := ParseAugment(strings.Join(s.Augment, ",")); err != nil {
-		return err
+	for _, a := range s.Augment {
+		if !slices.Contains(symNames, a) {
+			return fmt.Errorf("augment: expected symmetries among %s, found %q", strings.Join(symNames, ", "), a)
+		}
 	}
 	return nil
 }
