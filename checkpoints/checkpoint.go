@@ -52,6 +52,10 @@ type Checkpoint struct {
 	// AdamM and AdamV are Adam's moment estimates for Last, with the same
 	// names and shapes; they may be nil in a checkpoint made only for scoring.
 	AdamM, AdamV []model.Tensor
+	// Average is the accumulator of the moving average of the weights
+	// (train.Settings.Average), with the names and shapes of Best; nil when
+	// the run did not average or the checkpoint was made only for scoring.
+	Average []model.Tensor
 }
 
 // Model returns the model with the best weights.
@@ -142,6 +146,12 @@ func (c *Checkpoint) sections() []struct {
 			name string
 			ts   []model.Tensor
 		}{SectionAdamV, c.AdamV})
+	}
+	if c.Average != nil {
+		s = append(s, struct {
+			name string
+			ts   []model.Tensor
+		}{SectionAverage, c.Average})
 	}
 	return s
 }
@@ -306,6 +316,8 @@ func Decode(b []byte, name string) (*Checkpoint, error) {
 			c.AdamM = ts
 		case SectionAdamV:
 			c.AdamV = ts
+		case SectionAverage:
+			c.Average = ts
 		default:
 			return nil, fail(ErrHeader, "unknown payload section %q", s.Name)
 		}

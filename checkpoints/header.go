@@ -88,15 +88,20 @@ type Training struct {
 	OrderName       string  `json:"order_name"`
 	// Augment lists the symmetries the training snapshots were augmented
 	// with (see train.ParseAugment); empty for none.
-	Augment        []string `json:"augment,omitempty"`
-	TrainSnapshots int      `json:"train_snapshots"`
-	ValSnapshots   int      `json:"val_snapshots"`
-	HeldSnapshots  int      `json:"heldout_snapshots"`
+	Augment []string `json:"augment,omitempty"`
+	// AverageEpochs is the time constant, in epochs, of the moving average
+	// of the weights that was validated and kept (train.Settings.Average);
+	// zero for none.
+	AverageEpochs  float64 `json:"average_epochs,omitempty"`
+	TrainSnapshots int     `json:"train_snapshots"`
+	ValSnapshots   int     `json:"val_snapshots"`
+	HeldSnapshots  int     `json:"heldout_snapshots"`
 }
 
 // EpochMetrics are the figures of one epoch. The training NLL is the
 // average over the epoch's minibatches as the weights changed; the
-// validation NLL is computed with the weights at the end of the epoch.
+// validation NLL is computed with the weights at the end of the epoch (their
+// moving average, when the run averages them).
 type EpochMetrics struct {
 	Epoch            int     `json:"epoch"`
 	TrainBitsPerSite float64 `json:"train_bits_per_site"`
@@ -149,4 +154,8 @@ const (
 	SectionLast  = "last"
 	SectionAdamM = "adam_m"
 	SectionAdamV = "adam_v"
+	// SectionAverage holds the moving average of the weights, when the run
+	// averages them (optional; tidemark before it refuses the file with
+	// "unknown payload section").
+	SectionAverage = "average"
 )
