@@ -43,6 +43,12 @@ func testCheckpoint(t *testing.T) *Checkpoint {
 	}
 	c.AdamM = cloneTensors(m.Weights)
 	c.AdamV = cloneTensors(m.Weights)
+	c.Average = cloneTensors(m.Weights)
+	for _, ts := range c.Average {
+		for i := range ts.Data {
+			ts.Data[i] -= 0.125
+		}
+	}
 	return c
 }
 
@@ -59,7 +65,7 @@ func TestRoundTrip(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, pair := range [][2][]model.Tensor{{c.Best, got.Best}, {c.Last, got.Last}, {c.AdamM, got.AdamM}, {c.AdamV, got.AdamV}} {
+	for _, pair := range [][2][]model.Tensor{{c.Best, got.Best}, {c.Last, got.Last}, {c.AdamM, got.AdamM}, {c.AdamV, got.AdamV}, {c.Average, got.Average}} {
 		if len(pair[0]) != len(pair[1]) {
 			t.Fatalf("tensor count %d, want %d", len(pair[1]), len(pair[0]))
 		}
