@@ -78,6 +78,14 @@ type Settings struct {
 	Clip float64
 	// Beta1, Beta2 and Eps are Adam's constants.
 	Beta1, Beta2, Eps float64
+	// Average is the time constant τ, in epochs, of an exponential moving
+	// average of the weights over the optimiser's steps (Polyak averaging,
+	// B. T. Polyak and A. B. Juditsky, SIAM J. Control Optim. 30, 838
+	// (1992), in the exponential form of Kingma & Ba, ICLR 2015, §7.2):
+	// with d = 1 − 1/(τ·steps per epoch), validation, early stopping and the
+	// saved best model use θ̄_t = (1−d) Σ_s d^(t−s) θ_s / (1 − d^t), which
+	// smooths out the minibatch noise of the last steps. Zero disables it.
+	Average float64
 	// Threads is the number of gorgonia graphs each minibatch is split
 	// across (≥ 1).
 	Threads int
@@ -128,6 +136,8 @@ func (s Settings) Validate() error {
 		return fmt.Errorf("val-frac: expected a fraction strictly between 0 and 1, found %v", s.ValFrac)
 	case s.Patience < 1:
 		return fmt.Errorf("patience: expected at least 1 epoch, found %d", s.Patience)
+	case !(s.Average >= 0) || math.IsInf(s.Average, 0):
+		return fmt.Errorf("average: expected a time constant ≥ 0 epochs (0: off), found %v", s.Average)
 	case s.Schedule != "plateau" && s.Schedule != "cosine" && s.Schedule != "constant":
 		return fmt.Errorf("schedule: expected plateau, cosine or constant, found %q", s.Schedule)
 	case s.Schedule == "plateau" && (s.PlateauPatience < 1 || !(s.PlateauFactor > 0 && s.PlateauFactor < 1)):
@@ -217,6 +227,8 @@ type run struct {
 	adam     *Adam
 	w        [][]float64 // views of m.Weights[i].Data
 	best     [][]float64
+	avg      [][]float64 // the moving average's accumulator (nil without Settings.Average)
+	decay    float64     // the moving average's decay per step
 	gsum     [][]float64 // gradient of the mean NLL per site of a minibatch
 	trainIdx []int
 	valIdx   [][]int // per grid point
@@ -378,7 +390,7 @@ func (r *run) trainingRecord() checkpoints.Training {
 		PlateauPatience: st.PlateauPatience, PlateauFactor: st.PlateauFactor,
 		WeightDecay: st.WeightDecay, Clip: st.Clip, Beta1: st.Beta1, Beta2: st.Beta2, Eps: st.Eps,
 		Threads: st.Threads, OrderName: st.Arch.Order, Augment: slices.Clone(st.Augment),
-		TrainSnapshots: len(r.trainIdx), ValSnapshots: nv, HeldSnapshots: nh,
+		AverageEpochs: st.Average, TrainSnapshots: len(r.trainIdx), ValSnapshots: nv, HeldSnapshots: nh,
 	}
 }
 
@@ -401,7 +413,7 @@ func (r *run) resume(fp string) error {
 		Epochs: t.Epochs, Batch: t.Batch, LR: t.LR, MinLR: t.MinLR, Seed: t.Seed, ValFrac: t.ValFrac,
 		Patience: t.Patience, Schedule: t.Schedule, PlateauPatience: t.PlateauPatience, PlateauFactor: t.PlateauFactor,
 		WeightDecay: t.WeightDecay, Clip: t.Clip, Beta1: t.Beta1, Beta2: t.Beta2, Eps: t.Eps, Threads: t.Threads,
-		Augment: slices.Clone(t.Augment),
+		Augment: slices.Clone(t.Augment), Average: t.AverageEpochs,
 	}
 	if res.Epochs > 0 {
 		r.st.Epochs = res.Epochs
@@ -435,6 +447,18 @@ func (r *run) resume(fp string) error {
 		}
 		copy(r.adam.M[i], ck.AdamM[i].Data)
 		copy(r.adam.V[i], ck.AdamV[i].Data)
+	}
+	if (t.AverageEpochs > 0) != (ck.Average != nil) {
+		return fmt.Errorf("resume: the checkpoint records weight averaging over %v epochs but holds %d averaged tensors", t.AverageEpochs, len(ck.Average))
+	}
+	if ck.Average != nil {
+		r.avg = make([][]float64, len(ck.Average))
+		for i, t := range ck.Average {
+			if len(t.Data) != len(r.adam.M[i]) {
+				return fmt.Errorf("resume: averaged weights of %q have the wrong size", t.Name)
+			}
+			r.avg[i] = slices.Clone(t.Data)
+		}
 	}
 	o := h.Optimizer
 	r.adam.Step = o.Step
@@ -472,6 +496,16 @@ func (r *run) finishSetup(best [][]float64) error {
 		}
 	}
 	r.best = best
+	if r.st.Average > 0 {
+		steps := (len(r.trainIdx) + r.st.Batch - 1) / r.st.Batch
+		r.decay = 1 - 1/math.Max(r.st.Average*float64(steps), 1)
+		if r.avg == nil {
+			r.avg = make([][]float64, len(r.w))
+			for i, w := range r.w {
+				r.avg[i] = make([]float64, len(w))
+			}
+		}
+	}
 	bg, err := model.NewBatchGraph(r.m, r.st.Batch, r.st.Threads)
 	if err != nil {
 		return err
@@ -490,9 +524,34 @@ func (r *run) finishSetup(best [][]float64) error {
 	return nil
 }
 
+// accumulate adds the current weights to the moving average, if any.
+func (r *run) accumulate() {
+	if r.avg == nil {
+		return
+	}
+	d := r.decay
+	for i, w := range r.w {
+		a := r.avg[i]
+		for j, v := range w {
+			a[j] = d*a[j] + (1-d)*v
+		}
+	}
+}
+
+// averaged writes the averaged weights, debiased for the steps taken, into
+// dst.
+func (r *run) averaged(dst [][]float64) {
+	c := 1 / (1 - math.Pow(r.decay, float64(r.adam.Step)))
+	for i, a := range r.avg {
+		for j, v := range a {
+			dst[i][j] = v * c
+		}
+	}
+}
+
 type saved struct {
-	w, m, v [][]float64
-	step    int
+	w, m, v, avg [][]float64
+	step         int
 }
 
 func clone2(a [][]float64) [][]float64 {
@@ -510,13 +569,14 @@ func copy2(dst, src [][]float64) {
 }
 
 func (r *run) save() saved {
-	return saved{w: clone2(r.w), m: clone2(r.adam.M), v: clone2(r.adam.V), step: r.adam.Step}
+	return saved{w: clone2(r.w), m: clone2(r.adam.M), v: clone2(r.adam.V), avg: clone2(r.avg), step: r.adam.Step}
 }
 
 func (r *run) restore(s saved) {
 	copy2(r.w, s.w)
 	copy2(r.adam.M, s.m)
 	copy2(r.adam.V, s.v)
+	copy2(r.avg, s.avg)
 	r.adam.Step = s.step
 }
 
@@ -574,7 +634,14 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 		}
 		trainSec := time.Since(t0).Seconds()
 		val := math.NaN()
+		var current [][]float64
 		if !math.IsNaN(trainNLL) {
+			// With averaging the averaged weights are validated (and kept
+			// as the best); the optimiser's own are restored after.
+			if r.avg != nil {
+				current = clone2(r.w)
+				r.averaged(r.w)
+			}
 			val, err = r.nll(r.valIdx, r.grid.Points, r.m)
 			if err != nil {
 				return nil, err
@@ -620,6 +687,9 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 				r.lr = math.Max(r.lr*r.st.PlateauFactor, r.st.MinLR)
 				o.SincePlateau = 0
 			}
+		}
+		if current != nil {
+			copy2(r.w, current)
 		}
 		done++
 		if r.opt.OnEpoch != nil {
@@ -679,6 +749,7 @@ func (r *run) epoch(ctx context.Context, epoch int) (float64, error) {
 			return math.NaN(), nil
 		}
 		r.adam.UpdateThreads(r.w, r.gsum, r.lr, r.st.Threads)
+		r.accumulate()
 		sum += loss * float64(n)
 		if r.opt.Progress != nil {
 			r.opt.Progress(n)
@@ -749,6 +820,9 @@ func (r *run) checkpoint() (*checkpoints.Checkpoint, error) {
 		return out
 	}
 	ck := &checkpoints.Checkpoint{Best: mk(r.best), Last: mk(r.w), AdamM: mk(r.adam.M), AdamV: mk(r.adam.V)}
+	if r.avg != nil {
+		ck.Average = mk(r.avg)
+	}
 	h := r.hdr
 	h.Created = time.Now().UTC().Format(time.RFC3339)
 	h.Metrics = slices.Clone(r.hdr.Metrics)
@@ -779,5 +853,5 @@ func (r *run) checkpoint() (*checkpoints.Checkpoint, error) {
 			h.HeldOutBitsPerSite = &b
 		}
 	}
-	return &checkpoints.Checkpoint{Header: h, Best: ck.Best, Last: ck.Last, AdamM: ck.AdamM, AdamV: ck.AdamV}, nil
+	return &checkpoints.Checkpoint{Header: h, Best: ck.Best, Last: ck.Last, AdamM: ck.AdamM, AdamV: ck.AdamV, Average: ck.Average}, nil
 }

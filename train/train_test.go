@@ -3,6 +3,7 @@ package train
 import (
 	"context"
 	"errors"
+	"fmt"
 	"math"
 	"slices"
 	"strings"
@@ -86,54 +87,66 @@ func TestThreads(t *testing.T) {
 
 // TestResumeExact stops a run after 2 epochs, round-trips its checkpoint
 // through the file format and resumes it: the result must equal the
-// uninterrupted run bit for bit.
+// uninterrupted run bit for bit, with and without weight averaging (whose
+// accumulator the checkpoint carries).
 func TestResumeExact(t *testing.T) {
-	ds, _ := isingDataset(t, 3, 3, []float64{1.5, 2, 2.5, 3}, 200, 5)
-	st := smallSettings()
-	st.Epochs = 5
-	full, err := Run(context.Background(), ds, Options{Settings: st, Holdout: "T=2"})
-	if err != nil {
-		t.Fatal(err)
-	}
-	part, err := Run(context.Background(), ds, Options{Settings: st, Holdout: "T=2", StopAfter: 2})
-	if err != nil {
-		t.Fatal(err)
-	}
-	if part.Header.Stopped != "stop-after limit" || part.Header.Optimizer.Epoch != 2 {
-		t.Fatalf("stopped %q at epoch %d, want \"stop-after limit\" at 2", part.Header.Stopped, part.Header.Optimizer.Epoch)
-	}
-	b, err := part.Bytes()
-	if err != nil {
-		t.Fatal(err)
-	}
-	loaded, err := checkpoints.Decode(b, "part.ckpt")
-	if err != nil {
-		t.Fatal(err)
-	}
-	res, err := Run(context.Background(), ds, Options{Resume: &Resume{From: loaded}})
-	if err != nil {
-		t.Fatal(err)
-	}
-	sameTensors(t, "last", full.Last, res.Last)
-	sameTensors(t, "best", full.Best, res.Best)
-	sameTensors(t, "adam m", full.AdamM, res.AdamM)
-	if len(res.Header.Metrics) != 5 || res.Header.BestEpoch != full.Header.BestEpoch {
-		t.Fatalf("resumed run has %d epochs, best %d; want 5, best %d", len(res.Header.Metrics), res.Header.BestEpoch, full.Header.BestEpoch)
-	}
-	for i, m := range full.Header.Metrics {
-		if res.Header.Metrics[i].ValBitsPerSite != m.ValBitsPerSite {
-			t.Fatalf("epoch %d: validation %v resumed, %v uninterrupted", i+1, res.Header.Metrics[i].ValBitsPerSite, m.ValBitsPerSite)
-		}
-	}
-	if !slices.Equal(res.Header.HeldOut[0], []float64{2}) {
-		t.Fatalf("held-out points after resume: %v", res.Header.HeldOut)
-	}
+	for _, avg := range []float64{0, 1.5} {
+		t.Run(fmt.Sprintf("average=%v", avg), func(t *testing.T) {
+			ds, _ := isingDataset(t, 3, 3, []float64{1.5, 2, 2.5, 3}, 200, 5)
+			st := smallSettings()
+			st.Epochs = 5
+			st.Average = avg
+			full, err := Run(context.Background(), ds, Options{Settings: st, Holdout: "T=2"})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if (full.Average != nil) != (avg > 0) || full.Header.Training.AverageEpochs != avg {
+				t.Fatalf("average %v: checkpoint has %d averaged tensors, records %v epochs", avg, len(full.Average), full.Header.Training.AverageEpochs)
+			}
+			part, err := Run(context.Background(), ds, Options{Settings: st, Holdout: "T=2", StopAfter: 2})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if part.Header.Stopped != "stop-after limit" || part.Header.Optimizer.Epoch != 2 {
+				t.Fatalf("stopped %q at epoch %d, want \"stop-after limit\" at 2", part.Header.Stopped, part.Header.Optimizer.Epoch)
+			}
+			b, err := part.Bytes()
+			if err != nil {
+				t.Fatal(err)
+			}
+			loaded, err := checkpoints.Decode(b, "part.ckpt")
+			if err != nil {
+				t.Fatal(err)
+			}
+			res, err := Run(context.Background(), ds, Options{Resume: &Resume{From: loaded}})
+			if err != nil {
+				t.Fatal(err)
+			}
+			sameTensors(t, "last", full.Last, res.Last)
+			sameTensors(t, "best", full.Best, res.Best)
+			sameTensors(t, "adam m", full.AdamM, res.AdamM)
+			if avg > 0 {
+				sameTensors(t, "average", full.Average, res.Average)
+			}
+			if len(res.Header.Metrics) != 5 || res.Header.BestEpoch != full.Header.BestEpoch {
+				t.Fatalf("resumed run has %d epochs, best %d; want 5, best %d", len(res.Header.Metrics), res.Header.BestEpoch, full.Header.BestEpoch)
+			}
+			for i, m := range full.Header.Metrics {
+				if res.Header.Metrics[i].ValBitsPerSite != m.ValBitsPerSite {
+					t.Fatalf("epoch %d: validation %v resumed, %v uninterrupted", i+1, res.Header.Metrics[i].ValBitsPerSite, m.ValBitsPerSite)
+				}
+			}
+			if !slices.Equal(res.Header.HeldOut[0], []float64{2}) {
+				t.Fatalf("held-out points after resume: %v", res.Header.HeldOut)
+			}
 
-	// A different dataset is refused.
-	ds.States[0] ^= 1
-	_, err = Run(context.Background(), ds, Options{Resume: &Resume{From: loaded}})
-	if err == nil || !strings.Contains(err.Error(), "different dataset") {
-		t.Fatalf("resume on changed data: %v", err)
+			// A different dataset is refused.
+			ds.States[0] ^= 1
+			_, err = Run(context.Background(), ds, Options{Resume: &Resume{From: loaded}})
+			if err == nil || !strings.Contains(err.Error(), "different dataset") {
+				t.Fatalf("resume on changed data: %v", err)
+			}
+		})
 	}
 }
 

@@ -238,3 +238,34 @@ func TestExactDivergenceRefuses(t *testing.T) {
 		t.Fatal("mismatched site counts accepted")
 	}
 }
+
+// TestMovingAverage checks the debiased moving average against its
+// definition θ̄_t = Σ_s d^(t−s) θ_s / Σ_s d^(t−s) on a worked example:
+// with d = 1/2 and weights 1, 2, 3 it is (1/4 + 2/2 + 3)/(1/4 + 1/2 + 1)
+// = 17/7; and constant weights average to themselves from the first step.
+func TestMovingAverage(t *testing.T) {
+	cases := []struct {
+		name  string
+		steps []float64
+		want  float64
+	}{
+		{"worked example", []float64{1, 2, 3}, 17.0 / 7},
+		{"constant", []float64{0.3}, 0.3},
+		{"constant, many steps", []float64{-2, -2, -2, -2}, -2},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			r := &run{decay: 0.5, w: [][]float64{{0}}, avg: [][]float64{{0}}, adam: &Adam{}}
+			for _, v := range c.steps {
+				r.w[0][0] = v
+				r.adam.Step++
+				r.accumulate()
+			}
+			got := [][]float64{{0}}
+			r.averaged(got)
+			if math.Abs(got[0][0]-c.want) > 1e-12 {
+				t.Fatalf("average of %v with d = 1/2: %v, want %v", c.steps, got[0][0], c.want)
+			}
+		})
+	}
+}

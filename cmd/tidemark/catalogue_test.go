@@ -107,6 +107,7 @@ var catalogue = map[string][]badInput{
 		{"unknown schedule", []string{"train", "@ds4", "--schedule", "sawtooth", "-o", "@out.ckpt"}, "sawtooth", nil},
 		{"symmetric model of three-state data", []string{"train", "@q3", "--symmetric", "-o", "@out.ckpt"}, "alphabet 2", nil},
 		{"unknown symmetry", []string{"train", "@ds4", "--augment", "translate,shear", "-o", "@out.ckpt"}, `found "shear"`, nil},
+		{"negative averaging time", []string{"train", "@ds4", "--average", "-1", "-o", "@out.ckpt"}, "average: expected a time constant ≥ 0 epochs", nil},
 		{"flip augmentation of three-state data", []string{"train", "@q3", "--augment", "flip", "-o", "@out.ckpt"}, "augment flip: expected alphabet 2", nil},
 		{"unknown flag", []string{"train", "@ds4", "--bogus", "-o", "@out.ckpt"}, "unknown flag: --bogus", nil},
 		{"no output", []string{"train", "@ds4"}, "-o MODEL.ckpt", nil},

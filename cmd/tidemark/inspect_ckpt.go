@@ -137,6 +137,9 @@ func inspectCheckpoint(path string, asJSON bool, w io.Writer) (bool, error) {
 	if len(t.Augment) > 0 {
 		fmt.Fprintf(tw, "augmented\tby %s\n", strings.Join(t.Augment, ", "))
 	}
+	if t.AverageEpochs > 0 {
+		fmt.Fprintf(tw, "weights\tmoving average over %g epochs (validated and kept)\n", t.AverageEpochs)
+	}
 	stopped := r.Stopped
 	if stopped == "" {
 		stopped = "still running or killed"

@@ -37,6 +37,7 @@ type trainOptions struct {
 	valFrac         float64
 	patience        int
 	schedule        string
+	average         float64
 	weightDecay     float64
 	clip            float64
 	threads         int
@@ -67,7 +68,9 @@ the model interpolates ("T=2.2;2.3" lists values, "T=2.1:2.4" selects a range).
 One line per epoch goes to stdout: training and validation NLL in bits per site,
 samples per second and the learning rate. The training figure is the average
 over the epoch while the weights changed; the validation figure uses the
-weights at the end of the epoch.
+weights at the end of the epoch, or with --average τ their moving average over
+the last ≈ τ epochs of steps (Polyak averaging), which is then what is kept:
+it smooths out the noise of the last minibatches.
 
 MODEL.ckpt is rewritten after every epoch. It holds the best weights (lowest
 validation NLL; used by score, check and scan), the last weights and the
@@ -105,6 +108,7 @@ thread counts change results only by floating-point summation order.`,
 	f.Float64Var(&o.valFrac, "val-frac", d.ValFrac, "fraction of each grid point's samples kept for validation (at least one)")
 	f.IntVar(&o.patience, "patience", d.Patience, "stop after this many epochs without a better validation NLL")
 	f.StringVar(&o.schedule, "schedule", d.Schedule, "learning-rate schedule: plateau (halve after 3 epochs without improvement), cosine or constant")
+	f.Float64Var(&o.average, "average", d.Average, "time constant in epochs of the moving average of the weights that is validated and kept (Polyak averaging; 0 for the optimiser's own weights)")
 	f.Float64Var(&o.weightDecay, "weight-decay", 0, "decoupled weight decay per unit learning rate (AdamW), on weight matrices; 0 for none")
 	f.Float64Var(&o.clip, "clip", d.Clip, "largest global L2 norm of the gradient of the NLL per site (nats); 0 for no clipping")
 	f.IntVar(&o.threads, "threads", 1, "minibatch shards computed in parallel (0: number of CPUs; 2 threads ran 1.4× faster on 2 cores); results are bit-reproducible for a fixed value")
@@ -169,7 +173,7 @@ func (o *trainOptions) settings() (train.Settings, error) {
 	st.Augment = aug
 	st.Epochs, st.Batch, st.LR, st.MinLR, st.Seed = o.epochs, o.batch, o.lr, o.minLR, o.seed
 	st.ValFrac, st.Patience, st.Schedule = o.valFrac, o.patience, o.schedule
-	st.WeightDecay, st.Clip = o.weightDecay, o.clip
+	st.WeightDecay, st.Clip, st.Average = o.weightDecay, o.clip, o.average
 	st.Threads = threadsOrDefault(o.threads)
 	if st.MinLR > st.LR {
 		st.MinLR = st.LR

@@ -144,6 +144,9 @@ func ModelSummary(path string, ck *checkpoints.Checkpoint) ModelInfo {
 	if len(h.Training.Augment) > 0 {
 		arch += ", trained with snapshots augmented by " + strings.Join(h.Training.Augment, ", ")
 	}
+	if h.Training.AverageEpochs > 0 {
+		arch += fmt.Sprintf(", weights averaged over %g epochs", h.Training.AverageEpochs)
+	}
 	m := ModelInfo{
 		Path: path, Architecture: arch, Params: ck.NumParams(),
 		Epochs: h.Optimizer.Epoch, BestEpoch: h.BestEpoch, Stopped: h.Stopped,
