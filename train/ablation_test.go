@@ -10,6 +10,7 @@ import (
 	"strings"
 	"testing"
 
+	"tidemark/checkpoints"
 	"tidemark/indicator"
 )
 
@@ -27,8 +28,13 @@ import (
 //	SEED (the first training seed, 1)
 //	ACT, CONDACT (activations)        HIDDEN, COND (widths, "16,16"; COND=none)
 //	FOURIER (1)   SYM=1 (flip symmetry)   WD (weight decay)   LR
-//	FILM=1 or 0 (FiLM conditioning on or off)
+//	FILM=1 or 0 (FiLM conditioning on or off)   AVG (weight-averaging decay)
 //	AUG (symmetries to augment with, e.g. "translate,mirror,rotate,flip")
+//	CKPT (a path pattern with %d for the seed: load the model from it when
+//	it exists, else train and save it there)   DUMP=1 (print the fisher curves)
+//	SYMEV=d4 or all (score with the mixture of the model over the lattice's
+//	point group and the flip, or over the whole group with translations;
+//	symeval_ablation_test.go)
 //
 // Run: ACT=softplus PER=4000 go test -tags ablation ./train -run TestAblation -v
 func TestAblation(t *testing.T) {
@@ -47,6 +53,7 @@ func TestAblation(t *testing.T) {
 	st.Arch.CondHidden = envWidths(t, "COND", st.Arch.CondHidden)
 	st.WeightDecay = envFloat(t, "WD", st.WeightDecay)
 	st.LR = envFloat(t, "LR", st.LR)
+	st.Average = envFloat(t, "AVG", st.Average)
 	aug, err := ParseAugment(os.Getenv("AUG"))
 	if err != nil {
 		t.Fatal(err)
@@ -56,9 +63,22 @@ func TestAblation(t *testing.T) {
 	first := envInt(t, "SEED", 1)
 	for s := first; s < first+envInt(t, "SEEDS", 1); s++ {
 		st.Seed = uint64(s)
-		ck, err := Run(context.Background(), ds, Options{Settings: st, Holdout: "T=2.0909090909;2.6363636364"})
-		if err != nil {
-			t.Fatal(err)
+		var ck *checkpoints.Checkpoint
+		path := ""
+		if pat := os.Getenv("CKPT"); pat != "" {
+			path = fmt.Sprintf(pat, s)
+			ck, _ = checkpoints.Load(path)
+		}
+		if ck == nil {
+			ck, err = Run(context.Background(), ds, Options{Settings: st, Holdout: "T=2.0909090909;2.6363636364"})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if path != "" {
+				if err := ck.Save(path, true); err != nil {
+					t.Fatal(err)
+				}
+			}
 		}
 		m, err := ck.Model()
 		if err != nil {
@@ -66,14 +86,28 @@ func TestAblation(t *testing.T) {
 		}
 		var kl []string
 		for _, T := range temps {
-			d, err := ExactDivergence(src, m, []float64{T}, 2, nil)
+			var ms indicator.Source = m
+			if os.Getenv("SYMEV") != "" {
+				ps, fs := d4flip(4, os.Getenv("SYMEV") == "all")
+				ms = &symModel{m: m, perms: ps, flips: fs}
+			}
+			d, err := ExactDivergence(src, ms, []float64{T}, 2, nil)
 			if err != nil {
 				t.Fatal(err)
 			}
 			kl = append(kl, fmt.Sprintf("%.4f", d.KL/16))
 		}
 		t.Logf("seed %d: best epoch %d of %d, KL/site %s", s, ck.Header.BestEpoch, len(ck.Header.Metrics), strings.Join(kl, " "))
-		models = append(models, m)
+		switch os.Getenv("SYMEV") {
+		case "d4":
+			ps, fs := d4flip(4, false)
+			models = append(models, &symModel{m: m, perms: ps, flips: fs})
+		case "all":
+			ps, fs := d4flip(4, true)
+			models = append(models, &symModel{m: m, perms: ps, flips: fs})
+		default:
+			models = append(models, m)
+		}
 	}
 	for _, pass := range []struct {
 		name      string
@@ -96,6 +130,11 @@ func TestAblation(t *testing.T) {
 		for i, mc := range mres.Curves {
 			rel, at := relDiff(mc, eres.Curves[i])
 			line += fmt.Sprintf(" %s=%.3f(T=%.2f)", mc.Name, rel, at)
+			if os.Getenv("DUMP") != "" && strings.HasPrefix(mc.Name, "fisher") {
+				for j := range mc.Val {
+					t.Logf("  %s %s T=%.3f model=%.5g exact=%.5g", pass.name, mc.Name, mc.Pos[j][0], mc.Val[j], eres.Curves[i].Val[j])
+				}
+			}
 		}
 		t.Log(line)
 	}
