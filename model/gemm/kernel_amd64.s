@@ -1,0 +1,211 @@
+//go:build amd64 && !purego
+
+#include "textflag.h"
+
+// Register use in both kernels:
+//	SI  A(i, p) for i = 0 (advances by csa bytes per p)
+//	R9  rsa in bytes, R10 = 3·rsa, R11 = 5·rsa; R12 csa in bytes
+//	DI  packed B (64 bytes per p: 16 float32 or 8 float64)
+//	DX  C, R8 ldc in bytes
+//	CX  k, BX loop counter
+//	Y4..Y15 the 6×2 accumulators (row i in Y(4+2i), Y(5+2i))
+//	Y0, Y1 the row of B; Y2, Y3 broadcasts of A
+
+#define STEPS \
+	VMOVUPS (DI), Y0 \
+	VMOVUPS 32(DI), Y1 \
+	VBROADCASTSS (SI), Y2 \
+	VFMADD231PS Y0, Y2, Y4 \
+	VFMADD231PS Y1, Y2, Y5 \
+	VBROADCASTSS (SI)(R9*1), Y3 \
+	VFMADD231PS Y0, Y3, Y6 \
+	VFMADD231PS Y1, Y3, Y7 \
+	VBROADCASTSS (SI)(R9*2), Y2 \
+	VFMADD231PS Y0, Y2, Y8 \
+	VFMADD231PS Y1, Y2, Y9 \
+	VBROADCASTSS (SI)(R10*1), Y3 \
+	VFMADD231PS Y0, Y3, Y10 \
+	VFMADD231PS Y1, Y3, Y11 \
+	VBROADCASTSS (SI)(R9*4), Y2 \
+	VFMADD231PS Y0, Y2, Y12 \
+	VFMADD231PS Y1, Y2, Y13 \
+	VBROADCASTSS (SI)(R11*1), Y3 \
+	VFMADD231PS Y0, Y3, Y14 \
+	VFMADD231PS Y1, Y3, Y15 \
+	ADDQ R12, SI \
+	ADDQ $64, DI
+
+#define STEPD \
+	VMOVUPD (DI), Y0 \
+	VMOVUPD 32(DI), Y1 \
+	VBROADCASTSD (SI), Y2 \
+	VFMADD231PD Y0, Y2, Y4 \
+	VFMADD231PD Y1, Y2, Y5 \
+	VBROADCASTSD (SI)(R9*1), Y3 \
+	VFMADD231PD Y0, Y3, Y6 \
+	VFMADD231PD Y1, Y3, Y7 \
+	VBROADCASTSD (SI)(R9*2), Y2 \
+	VFMADD231PD Y0, Y2, Y8 \
+	VFMADD231PD Y1, Y2, Y9 \
+	VBROADCASTSD (SI)(R10*1), Y3 \
+	VFMADD231PD Y0, Y3, Y10 \
+	VFMADD231PD Y1, Y3, Y11 \
+	VBROADCASTSD (SI)(R9*4), Y2 \
+	VFMADD231PD Y0, Y2, Y12 \
+	VFMADD231PD Y1, Y2, Y13 \
+	VBROADCASTSD (SI)(R11*1), Y3 \
+	VFMADD231PD Y0, Y3, Y14 \
+	VFMADD231PD Y1, Y3, Y15 \
+	ADDQ R12, SI \
+	ADDQ $64, DI
+
+// SETUP loads the arguments common to both kernels; SZ is the element
+// size's shift (2 for float32, 3 for float64).
+#define SETUP(SZ) \
+	MOVQ k+0(FP), CX \
+	MOVQ a+8(FP), SI \
+	MOVQ rsa+16(FP), R9 \
+	SHLQ $SZ, R9 \
+	LEAQ (R9)(R9*2), R10 \
+	LEAQ (R9)(R9*4), R11 \
+	MOVQ csa+24(FP), R12 \
+	SHLQ $SZ, R12 \
+	MOVQ b+32(FP), DI \
+	MOVQ c+40(FP), DX \
+	MOVQ ldc+48(FP), R8 \
+	SHLQ $SZ, R8 \
+	VXORPS Y4, Y4, Y4 \
+	VXORPS Y5, Y5, Y5 \
+	VXORPS Y6, Y6, Y6 \
+	VXORPS Y7, Y7, Y7 \
+	VXORPS Y8, Y8, Y8 \
+	VXORPS Y9, Y9, Y9 \
+	VXORPS Y10, Y10, Y10 \
+	VXORPS Y11, Y11, Y11 \
+	VXORPS Y12, Y12, Y12 \
+	VXORPS Y13, Y13, Y13 \
+	VXORPS Y14, Y14, Y14 \
+	VXORPS Y15, Y15, Y15 \
+	MOVQ CX, BX \
+	SHRQ $2, BX
+
+// OP applies one AVX instruction to all 12 accumulators with the operand X.
+#define OP(INS, X) \
+	INS X, Y4, Y4 \
+	INS X, Y5, Y5 \
+	INS X, Y6, Y6 \
+	INS X, Y7, Y7 \
+	INS X, Y8, Y8 \
+	INS X, Y9, Y9 \
+	INS X, Y10, Y10 \
+	INS X, Y11, Y11 \
+	INS X, Y12, Y12 \
+	INS X, Y13, Y13 \
+	INS X, Y14, Y14 \
+	INS X, Y15, Y15
+
+// ROWFMA adds beta·C (beta in Y1) to one row's two accumulators; AX
+// points to the row and advances to the next.
+#define ROWFMA(INS, R0, R1) \
+	INS (AX), Y1, R0 \
+	INS 32(AX), Y1, R1 \
+	ADDQ R8, AX
+
+#define ROWSTORE(MOV, R0, R1) \
+	MOV R0, (DX) \
+	MOV R1, 32(DX) \
+	ADDQ R8, DX
+
+// func kernS6x16(k int, a *float32, rsa, csa int, b, c *float32, ldc int, alpha, beta float32, load int)
+TEXT ·kernS6x16(SB), NOSPLIT, $0-72
+	SETUP(2)
+	JZ   s_tail
+
+s_loop4:
+	STEPS
+	STEPS
+	STEPS
+	STEPS
+	DECQ BX
+	JNZ  s_loop4
+
+s_tail:
+	ANDQ $3, CX
+	JZ   s_done
+
+s_loop1:
+	STEPS
+	DECQ CX
+	JNZ  s_loop1
+
+s_done:
+	VBROADCASTSS alpha+56(FP), Y0
+	OP(VMULPS, Y0)
+	MOVQ load+64(FP), AX
+	TESTQ AX, AX
+	JZ   s_store
+	VBROADCASTSS beta+60(FP), Y1
+	MOVQ DX, AX
+	ROWFMA(VFMADD231PS, Y4, Y5)
+	ROWFMA(VFMADD231PS, Y6, Y7)
+	ROWFMA(VFMADD231PS, Y8, Y9)
+	ROWFMA(VFMADD231PS, Y10, Y11)
+	ROWFMA(VFMADD231PS, Y12, Y13)
+	ROWFMA(VFMADD231PS, Y14, Y15)
+
+s_store:
+	ROWSTORE(VMOVUPS, Y4, Y5)
+	ROWSTORE(VMOVUPS, Y6, Y7)
+	ROWSTORE(VMOVUPS, Y8, Y9)
+	ROWSTORE(VMOVUPS, Y10, Y11)
+	ROWSTORE(VMOVUPS, Y12, Y13)
+	ROWSTORE(VMOVUPS, Y14, Y15)
+	VZEROUPPER
+	RET
+
+// func kernD6x8(k int, a *float64, rsa, csa int, b, c *float64, ldc int, alpha, beta float64, load int)
+TEXT ·kernD6x8(SB), NOSPLIT, $0-80
+	SETUP(3)
+	JZ   d_tail
+
+d_loop4:
+	STEPD
+	STEPD
+	STEPD
+	STEPD
+	DECQ BX
+	JNZ  d_loop4
+
+d_tail:
+	ANDQ $3, CX
+	JZ   d_done
+
+d_loop1:
+	STEPD
+	DECQ CX
+	JNZ  d_loop1
+
+d_done:
+	VBROADCASTSD alpha+56(FP), Y0
+	OP(VMULPD, Y0)
+	MOVQ load+72(FP), AX
+	TESTQ AX, AX
+	JZ   d_store
+	VBROADCASTSD beta+64(FP), Y1
+	MOVQ DX, AX
+	ROWFMA(VFMADD231PD, Y4, Y5)
+	ROWFMA(VFMADD231PD, Y6, Y7)
+	ROWFMA(VFMADD231PD, Y8, Y9)
+	ROWFMA(VFMADD231PD, Y10, Y11)
+	ROWFMA(VFMADD231PD, Y12, Y13)
+	ROWFMA(VFMADD231PD, Y14, Y15)
+
+d_store:
+	ROWSTORE(VMOVUPD, Y4, Y5)
+	ROWSTORE(VMOVUPD, Y6, Y7)
+	ROWSTORE(VMOVUPD, Y8, Y9)
+	ROWSTORE(VMOVUPD, Y10, Y11)
+	ROWSTORE(VMOVUPD, Y12, Y13)
+	ROWSTORE(VMOVUPD, Y14, Y15)
+	VZEROUPPER
+	RET
