@@ -143,20 +143,41 @@ func addTile[T float32 | float64](t []T, nr, rows, cols int, alpha, beta T, load
 // dst as panels of nr columns: panel q holds op(B)(pc+p, jc+q·nr+j) at
 // dst[q·nr·kc + p·nr + j], zero beyond column nc.
 func packB[T float32 | float64](dst, b []T, ldb int, bT bool, pc, jc, kc, nc, nr int) {
+	full := nc / nr * nr
+	if !bT {
+		// op(B)(p, j) = b[p·ldb + j]: rows are contiguous. Both kernels'
+		// panel rows are 64 bytes, copied as one array (a call to memmove
+		// per row of a panel costs more than the copy).
+		wide := nr*int(unsafe.Sizeof(dst[0])) == 64
+		for p := range kc {
+			src := b[(pc+p)*ldb+jc:]
+			src = src[:nc]
+			j0 := 0
+			if wide {
+				for ; j0 < full; j0 += nr {
+					d := dst[j0*kc+p*nr : j0*kc+p*nr+nr]
+					*(*[64]byte)(unsafe.Pointer(&d[0])) = *(*[64]byte)(unsafe.Pointer(&src[j0 : j0+nr][0]))
+				}
+			} else {
+				for ; j0 < full; j0 += nr {
+					copy(dst[j0*kc+p*nr:j0*kc+p*nr+nr], src[j0:j0+nr])
+				}
+			}
+			if j0 < nc {
+				d := dst[j0*kc+p*nr : j0*kc+p*nr+nr]
+				w := copy(d, src[j0:])
+				clear(d[w:])
+			}
+		}
+		return
+	}
+	// op(B)(p, j) = b[j·ldb + p]: columns are contiguous.
 	for j0 := 0; j0 < nc; j0 += nr {
 		w := min(nr, nc-j0)
 		d := dst[j0*kc : j0*kc+nr*kc]
 		if w < nr {
 			clear(d)
 		}
-		if !bT {
-			// op(B)(p, j) = b[p·ldb + j]: rows are contiguous.
-			for p := range kc {
-				copy(d[p*nr:p*nr+w], b[(pc+p)*ldb+jc+j0:])
-			}
-			continue
-		}
-		// op(B)(p, j) = b[j·ldb + p]: columns are contiguous.
 		for j := range w {
 			col := b[(jc+j0+j)*ldb+pc:]
 			col = col[:kc]
