@@ -63,15 +63,25 @@ func benchGemm[T float32 | float64](b *testing.B, f gemmFunc[T], tA, tB blas.Tra
 	b.ReportMetric(float64(g)*2*float64(m)*float64(n)*float64(k)*float64(b.N)/b.Elapsed().Seconds()/1e9, "GFLOP/s")
 }
 
-// BenchmarkGemm compares this package's Dgemm and Sgemm ("ours") with
+// BenchmarkGemm compares this package's Dgemm and Sgemm ("ours"; and,
+// where the CPU has several, each kernel, "ours_6x16" etc.) with
 // gonum's ("gonum", which spreads large products over GOMAXPROCS
 // goroutines itself), called from 1 goroutine and from 2 at once (as
 // tidemark's training calls them, one goroutine per thread).
 func BenchmarkGemm(b *testing.B) {
 	var ours Implementation
 	var ref gonum.Implementation
+	ss, ds := asmConfigs()
 	for _, s := range benchShapes {
 		for _, g := range []int{1, 2} {
+			if len(ss) > 1 {
+				// Each kernel this CPU has, through the driver.
+				for i := range ss {
+					sc, dc := ss[i], ds[i]
+					b.Run(fmt.Sprintf("f64/%s/g%d/ours_%dx%d", s.name, g, dc.mr, dc.nr), func(b *testing.B) { benchGemm(b, withConfig(dc), s.tA, s.tB, s.m, s.n, s.k, g) })
+					b.Run(fmt.Sprintf("f32/%s/g%d/ours_%dx%d", s.name, g, sc.mr, sc.nr), func(b *testing.B) { benchGemm(b, withConfig(sc), s.tA, s.tB, s.m, s.n, s.k, g) })
+				}
+			}
 			b.Run(fmt.Sprintf("f64/%s/g%d/ours", s.name, g), func(b *testing.B) { benchGemm(b, ours.Dgemm, s.tA, s.tB, s.m, s.n, s.k, g) })
 			b.Run(fmt.Sprintf("f64/%s/g%d/gonum", s.name, g), func(b *testing.B) { benchGemm(b, ref.Dgemm, s.tA, s.tB, s.m, s.n, s.k, g) })
 			b.Run(fmt.Sprintf("f32/%s/g%d/ours", s.name, g), func(b *testing.B) { benchGemm(b, ours.Sgemm, s.tA, s.tB, s.m, s.n, s.k, g) })

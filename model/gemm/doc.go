@@ -5,7 +5,9 @@
 // and replaces only its Dgemm and Sgemm. On amd64 CPUs with AVX2 and FMA
 // (and an operating system that saves the YMM registers) the products run
 // through a register-blocked micro-kernel written in assembly: 6×16 for
-// float32 and 6×8 for float64, on 12 YMM accumulators with VFMADD231. The
+// float32 and 6×8 for float64, on 12 YMM accumulators with VFMADD231; on
+// CPUs with AVX-512F (and its operating-system support) the same kernels
+// on ZMM registers, 6×32 and 6×16. Kernels says which run. The
 // driver follows the layered design of Goto and van de Geijn, "Anatomy of
 // high-performance matrix multiplication", ACM Trans. Math. Softw. 34(3),
 // 2008, in the form of Van Zee and van de Geijn's BLIS (ACM Trans. Math.

@@ -145,20 +145,26 @@ func addTile[T float32 | float64](t []T, nr, rows, cols int, alpha, beta T, load
 func packB[T float32 | float64](dst, b []T, ldb int, bT bool, pc, jc, kc, nc, nr int) {
 	full := nc / nr * nr
 	if !bT {
-		// op(B)(p, j) = b[p·ldb + j]: rows are contiguous. Both kernels'
-		// panel rows are 64 bytes, copied as one array (a call to memmove
+		// op(B)(p, j) = b[p·ldb + j]: rows are contiguous. The kernels'
+		// panel rows are 64 or 128 bytes, copied as one array (a call to memmove
 		// per row of a panel costs more than the copy).
-		wide := nr*int(unsafe.Sizeof(dst[0])) == 64
+		row := nr * int(unsafe.Sizeof(dst[0]))
 		for p := range kc {
 			src := b[(pc+p)*ldb+jc:]
 			src = src[:nc]
 			j0 := 0
-			if wide {
+			switch row {
+			case 64:
 				for ; j0 < full; j0 += nr {
 					d := dst[j0*kc+p*nr : j0*kc+p*nr+nr]
 					*(*[64]byte)(unsafe.Pointer(&d[0])) = *(*[64]byte)(unsafe.Pointer(&src[j0 : j0+nr][0]))
 				}
-			} else {
+			case 128:
+				for ; j0 < full; j0 += nr {
+					d := dst[j0*kc+p*nr : j0*kc+p*nr+nr]
+					*(*[128]byte)(unsafe.Pointer(&d[0])) = *(*[128]byte)(unsafe.Pointer(&src[j0 : j0+nr][0]))
+				}
+			default:
 				for ; j0 < full; j0 += nr {
 					copy(dst[j0*kc+p*nr:j0*kc+p*nr+nr], src[j0:j0+nr])
 				}

@@ -16,6 +16,11 @@ type Implementation struct {
 // assembly kernels (amd64 with AVX2 and FMA); when false they are gonum's.
 func Accelerated() bool { return useAsm }
 
+// Kernels names the kernels Dgemm and Sgemm run on: "AVX-512" (amd64 with
+// AVX-512F), "AVX2" (amd64 with AVX2 and FMA) or "gonum" (gonum's own
+// Dgemm and Sgemm). The choice is made once, at start-up.
+func Kernels() string { return kernelName() }
+
 // useAsm switches the assembly path on; tests turn it off to check the
 // fallback.
 var useAsm = hasAsm
@@ -117,7 +122,7 @@ func (impl Implementation) Dgemm(tA, tB blas.Transpose, m, n, k int, alpha float
 	if none {
 		return
 	}
-	gemm(&d64, aT, bT, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc)
+	gemm(d64, aT, bT, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc)
 }
 
 // Sgemm computes C = alpha·op(A)·op(B) + beta·C for row-major float32
@@ -131,5 +136,5 @@ func (impl Implementation) Sgemm(tA, tB blas.Transpose, m, n, k int, alpha float
 	if none {
 		return
 	}
-	gemm(&s32, aT, bT, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc)
+	gemm(s32, aT, bT, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc)
 }

@@ -141,12 +141,15 @@ func checkCase[T float32 | float64](t *testing.T, name string, got, ref gemmFunc
 
 var transposes = []blas.Transpose{blas.NoTrans, blas.Trans}
 
-// runAll checks got against gonum's ref on every shape, transpose pair,
-// alpha ∈ {0, 1, −0.5} and beta ∈ {0, 1, 0.3}; products larger than 10⁶
-// multiply-adds get only the transposes with alpha = −0.5, beta = 0.3,
-// to keep the test fast.
-func runAll[T float32 | float64](t *testing.T, got, ref gemmFunc[T]) {
+// runAll checks got against gonum's ref on every shape of at most
+// maxWork multiply-adds, every transpose pair, alpha ∈ {0, 1, −0.5} and
+// beta ∈ {0, 1, 0.3}; products larger than 10⁶ multiply-adds get only the
+// transposes with alpha = −0.5, beta = 0.3, to keep the test fast.
+func runAll[T float32 | float64](t *testing.T, got, ref gemmFunc[T], maxWork int) {
 	for si, s := range shapes {
+		if s.m*s.n*s.k > maxWork {
+			continue
+		}
 		for _, tA := range transposes {
 			for _, tB := range transposes {
 				for _, alpha := range []T{0, 1, -0.5} {
@@ -166,14 +169,14 @@ func runAll[T float32 | float64](t *testing.T, got, ref gemmFunc[T]) {
 func TestDgemmMatchesGonum(t *testing.T) {
 	var impl Implementation
 	var ref gonum.Implementation
-	t.Logf("assembly kernels: %v", Accelerated())
-	runAll(t, impl.Dgemm, ref.Dgemm)
+	t.Logf("kernels: %s", Kernels())
+	runAll(t, impl.Dgemm, ref.Dgemm, math.MaxInt)
 }
 
 func TestSgemmMatchesGonum(t *testing.T) {
 	var impl Implementation
 	var ref gonum.Implementation
-	runAll(t, impl.Sgemm, ref.Sgemm)
+	runAll(t, impl.Sgemm, ref.Sgemm, math.MaxInt)
 }
 
 // withConfig runs the driver on cf directly (skipping the small-product
@@ -197,20 +200,39 @@ func TestDriverBlocks(t *testing.T) {
 		name string
 		s    *config[float32]
 		d    *config[float64]
+		// maxWork limits the shapes (the plain-Go kernel is slow).
+		maxWork int
 	}
 	cases := []tc{{
-		name: "go kernel",
-		s:    &config[float32]{mr: 6, nr: 16, kc: 5, mc: 13, nc: 35, kernel: goKernel[float32](6, 16)},
-		d:    &config[float64]{mr: 6, nr: 8, kc: 7, mc: 7, nc: 20, kernel: goKernel[float64](6, 8)},
-	}, {
-		name: "default kernel",
-		s:    &config[float32]{mr: s32.mr, nr: s32.nr, kc: 9, mc: 14, nc: 33, kernel: s32.kernel},
-		d:    &config[float64]{mr: d64.mr, nr: d64.nr, kc: 3, mc: 19, nc: 17, kernel: d64.kernel},
+		name:    "go kernel",
+		s:       &config[float32]{mr: 6, nr: 16, kc: 5, mc: 13, nc: 35, kernel: goKernel[float32](6, 16)},
+		d:       &config[float64]{mr: 6, nr: 8, kc: 7, mc: 7, nc: 20, kernel: goKernel[float64](6, 8)},
+		maxWork: 300000,
 	}}
+	ss, ds := asmConfigs()
+	for i := range ss {
+		s, d := ss[i], ds[i]
+		cases = append(cases, tc{
+			name:    fmt.Sprintf("asm %dx%d %dx%d", s.mr, s.nr, d.mr, d.nr),
+			s:       &config[float32]{mr: s.mr, nr: s.nr, kc: 9, mc: 14, nc: 2*s.nr + 1, kernel: s.kernel},
+			d:       &config[float64]{mr: d.mr, nr: d.nr, kc: 3, mc: 19, nc: 2*d.nr + 1, kernel: d.kernel},
+			maxWork: 300000,
+		})
+		if s == s32 {
+			// Dgemm and Sgemm run these; the tests above checked them.
+			continue
+		}
+		cases = append(cases, tc{
+			name:    fmt.Sprintf("asm %dx%d %dx%d default blocks", s.mr, s.nr, d.mr, d.nr),
+			s:       &config[float32]{mr: s.mr, nr: s.nr, kc: s.kc, mc: s.mc, nc: s.nc, kernel: s.kernel},
+			d:       &config[float64]{mr: d.mr, nr: d.nr, kc: d.kc, mc: d.mc, nc: d.nc, kernel: d.kernel},
+			maxWork: math.MaxInt,
+		})
+	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
-			runAll(t, withConfig(c.s), ref.Sgemm)
-			runAll(t, withConfig(c.d), ref.Dgemm)
+			runAll(t, withConfig(c.s), ref.Sgemm, c.maxWork)
+			runAll(t, withConfig(c.d), ref.Dgemm, c.maxWork)
 		})
 	}
 }

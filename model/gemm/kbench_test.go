@@ -1,23 +1,31 @@
 package gemm
 
-import "testing"
+import (
+	"fmt"
+	"testing"
+)
 
 // BenchmarkKernel times the micro-kernels alone on packed, L1-resident
 // operands (k = 256), the upper bound of the driver's rate.
 func BenchmarkKernel(b *testing.B) {
 	const k = 256
-	b.Run("f64", func(b *testing.B) {
-		a, bb, c := make([]float64, 6*k), make([]float64, 8*k), make([]float64, 6*8)
-		for range b.N {
-			d64.kernel(k, &a[0], 1, 6, &bb[0], &c[0], 8, 1, 1, 1)
-		}
-		b.ReportMetric(2*6*8*k*float64(b.N)/b.Elapsed().Seconds()/1e9, "GFLOP/s")
-	})
-	b.Run("f32", func(b *testing.B) {
-		a, bb, c := make([]float32, 6*k), make([]float32, 16*k), make([]float32, 6*16)
-		for range b.N {
-			s32.kernel(k, &a[0], 1, 6, &bb[0], &c[0], 16, 1, 1, 1)
-		}
-		b.ReportMetric(2*6*16*k*float64(b.N)/b.Elapsed().Seconds()/1e9, "GFLOP/s")
-	})
+	ss, ds := asmConfigs()
+	for _, cf := range ds {
+		b.Run(fmt.Sprintf("f64_%dx%d", cf.mr, cf.nr), func(b *testing.B) {
+			a, bb, c := make([]float64, cf.mr*k), make([]float64, cf.nr*k), make([]float64, cf.mr*cf.nr)
+			for range b.N {
+				cf.kernel(k, &a[0], 1, cf.mr, &bb[0], &c[0], cf.nr, 1, 1, 1)
+			}
+			b.ReportMetric(2*float64(cf.mr*cf.nr*k*b.N)/b.Elapsed().Seconds()/1e9, "GFLOP/s")
+		})
+	}
+	for _, cf := range ss {
+		b.Run(fmt.Sprintf("f32_%dx%d", cf.mr, cf.nr), func(b *testing.B) {
+			a, bb, c := make([]float32, cf.mr*k), make([]float32, cf.nr*k), make([]float32, cf.mr*cf.nr)
+			for range b.N {
+				cf.kernel(k, &a[0], 1, cf.mr, &bb[0], &c[0], cf.nr, 1, 1, 1)
+			}
+			b.ReportMetric(2*float64(cf.mr*cf.nr*k*b.N)/b.Elapsed().Seconds()/1e9, "GFLOP/s")
+		})
+	}
 }

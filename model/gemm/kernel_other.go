@@ -9,6 +9,10 @@ const hasAsm = false
 // The driver's configurations with the plain-Go kernel; Dgemm and Sgemm
 // do not use them here (useAsm is false), the tests do.
 var (
-	s32 = config[float32]{mr: 6, nr: 16, kc: 256, mc: 768, nc: 2048, kernel: goKernel[float32](6, 16)}
-	d64 = config[float64]{mr: 6, nr: 8, kc: 256, mc: 192, nc: 1024, kernel: goKernel[float64](6, 8)}
+	s32 = &config[float32]{mr: 6, nr: 16, kc: 256, mc: 768, nc: 2048, kernel: goKernel[float32](6, 16)}
+	d64 = &config[float64]{mr: 6, nr: 8, kc: 256, mc: 192, nc: 1024, kernel: goKernel[float64](6, 8)}
 )
+
+func kernelName() string { return "gonum" }
+
+func asmConfigs() ([]*config[float32], []*config[float64]) { return nil, nil }
