@@ -11,8 +11,8 @@
 // driver follows the layered design of Goto and van de Geijn, "Anatomy of
 // high-performance matrix multiplication", ACM Trans. Math. Softw. 34(3),
 // 2008, in the form of Van Zee and van de Geijn's BLIS (ACM Trans. Math.
-// Softw. 41(3), 2015): B is packed in blocks of kc rows into panels of 16
-// (or 8) columns, each small enough for the L1 cache while a block of A
+// Softw. 41(3), 2015): B is packed in blocks of kc rows into panels of nr
+// columns (16 KiB each), each small enough for the L1 cache while a block of A
 // streams through the micro-kernel from L2. A is not packed: the kernel
 // reads it in place through its row and column strides (so all four
 // transpose combinations need only B's packing), except for the last rows
