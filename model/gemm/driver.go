@@ -145,34 +145,24 @@ func addTile[T float32 | float64](t []T, nr, rows, cols int, alpha, beta T, load
 func packB[T float32 | float64](dst, b []T, ldb int, bT bool, pc, jc, kc, nc, nr int) {
 	full := nc / nr * nr
 	if !bT {
-		// op(B)(p, j) = b[p·ldb + j]: rows are contiguous. The kernels'
-		// panel rows are 64 or 128 bytes, copied as one array (a call to memmove
-		// per row of a panel costs more than the copy).
-		row := nr * int(unsafe.Sizeof(dst[0]))
-		for p := range kc {
-			src := b[(pc+p)*ldb+jc:]
-			src = src[:nc]
-			j0 := 0
-			switch row {
-			case 64:
-				for ; j0 < full; j0 += nr {
-					d := dst[j0*kc+p*nr : j0*kc+p*nr+nr]
-					*(*[64]byte)(unsafe.Pointer(&d[0])) = *(*[64]byte)(unsafe.Pointer(&src[j0 : j0+nr][0]))
-				}
-			case 128:
-				for ; j0 < full; j0 += nr {
-					d := dst[j0*kc+p*nr : j0*kc+p*nr+nr]
-					*(*[128]byte)(unsafe.Pointer(&d[0])) = *(*[128]byte)(unsafe.Pointer(&src[j0 : j0+nr][0]))
-				}
-			default:
-				for ; j0 < full; j0 += nr {
-					copy(dst[j0*kc+p*nr:j0*kc+p*nr+nr], src[j0:j0+nr])
-				}
-			}
-			if j0 < nc {
-				d := dst[j0*kc+p*nr : j0*kc+p*nr+nr]
-				w := copy(d, src[j0:])
-				clear(d[w:])
+		// op(B)(p, j) = b[p·ldb + j]: rows are contiguous. With the
+		// assembly, all full panels (rows of 64 or 128 bytes) are one call.
+		sz := int(unsafe.Sizeof(dst[0]))
+		j0 := 0
+		if useAsm && (nr*sz == 64 || nr*sz == 128) && full > 0 {
+			first := pc*ldb + jc
+			_ = b[first+(kc-1)*ldb+full-1] // the panels lie inside b
+			_ = dst[full*kc-1]
+			copyPanels(unsafe.Pointer(&dst[0]), unsafe.Pointer(&b[first]), kc, ldb*sz, full/nr, nr*sz)
+			j0 = full
+		}
+		for ; j0 < nc; j0 += nr {
+			w := min(nr, nc-j0)
+			d := dst[j0*kc : j0*kc+nr*kc]
+			for p := range kc {
+				row := d[p*nr : p*nr+nr]
+				copy(row[:w], b[(pc+p)*ldb+jc+j0:])
+				clear(row[w:])
 			}
 		}
 		return

@@ -2,7 +2,11 @@
 
 package gemm
 
-import "golang.org/x/sys/cpu"
+import (
+	"unsafe"
+
+	"golang.org/x/sys/cpu"
+)
 
 // hasAsm: the kernels need AVX2 and FMA, and the operating system must
 // save the YMM registers (x/sys/cpu's HasAVX and HasAVX2 include that).
@@ -74,3 +78,10 @@ func asmConfigs() ([]*config[float32], []*config[float64]) {
 	}
 	return []*config[float32]{s32AVX2, s32AVX512}, []*config[float64]{d64AVX2, d64AVX512}
 }
+
+// copyPanels packs the first panels full panels of an untransposed B
+// (rows of width = 64 or 128 bytes per panel, src rows stride bytes apart,
+// k rows) into dst; in kernel_amd64.s.
+//
+//go:noescape
+func copyPanels(dst, src unsafe.Pointer, k, stride, panels, width int)

@@ -397,3 +397,72 @@ w_store:
 	ROWSTORE512(VMOVUPD, Z14, Z15)
 	VZEROUPPER
 	RET
+
+// func copyPanels(dst, src unsafe.Pointer, k, stride, panels, width int)
+// packs full panels of an untransposed B: for each of k rows (src rows
+// stride bytes apart) it copies panels consecutive pieces of width bytes
+// (64 or 128) of the row to dst + q·k·width + p·width, panel q, row p.
+// Reading each row left to right keeps the reads sequential.
+TEXT ·copyPanels(SB), NOSPLIT, $0-48
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ k+16(FP), CX
+	MOVQ stride+24(FP), R8
+	MOVQ panels+32(FP), R9
+	MOVQ width+40(FP), AX
+	MOVQ CX, R10
+	IMULQ AX, R10 // bytes per panel in dst
+	TESTQ CX, CX
+	JZ   cp_done
+	TESTQ R9, R9
+	JZ   cp_done
+	CMPQ AX, $64
+	JNE  cp_wide_row
+
+cp_row64:
+	MOVQ SI, BX
+	MOVQ DI, DX
+	MOVQ R9, R11
+
+cp_piece64:
+	VMOVUPS (BX), Y0
+	VMOVUPS 32(BX), Y1
+	VMOVUPS Y0, (DX)
+	VMOVUPS Y1, 32(DX)
+	ADDQ $64, BX
+	ADDQ R10, DX
+	DECQ R11
+	JNZ  cp_piece64
+	ADDQ R8, SI
+	ADDQ $64, DI
+	DECQ CX
+	JNZ  cp_row64
+	VZEROUPPER
+	RET
+
+cp_wide_row:
+	MOVQ SI, BX
+	MOVQ DI, DX
+	MOVQ R9, R11
+
+cp_piece128:
+	VMOVUPS (BX), Y0
+	VMOVUPS 32(BX), Y1
+	VMOVUPS 64(BX), Y2
+	VMOVUPS 96(BX), Y3
+	VMOVUPS Y0, (DX)
+	VMOVUPS Y1, 32(DX)
+	VMOVUPS Y2, 64(DX)
+	VMOVUPS Y3, 96(DX)
+	ADDQ $128, BX
+	ADDQ R10, DX
+	DECQ R11
+	JNZ  cp_piece128
+	ADDQ R8, SI
+	ADDQ $128, DI
+	DECQ CX
+	JNZ  cp_wide_row
+
+cp_done:
+	VZEROUPPER
+	RET

@@ -2,6 +2,8 @@
 
 package gemm
 
+import "unsafe"
+
 // hasAsm is false: there are no assembly kernels for this architecture
 // (or the build has the tag purego), so Dgemm and Sgemm are gonum's.
 const hasAsm = false
@@ -16,3 +18,8 @@ var (
 func kernelName() string { return "gonum" }
 
 func asmConfigs() ([]*config[float32], []*config[float64]) { return nil, nil }
+
+// copyPanels is not called without the assembly (useAsm is false).
+func copyPanels(dst, src unsafe.Pointer, k, stride, panels, width int) {
+	panic("gemm: copyPanels without assembly")
+}
