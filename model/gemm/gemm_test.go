@@ -337,3 +337,27 @@ func TestPanics(t *testing.T) {
 		}
 	}
 }
+
+// TestNoAllocs checks that a product reuses its pack buffers: after a
+// warm-up call, Dgemm and Sgemm allocate nothing (a garbage collection
+// may empty the pool once in a while, hence the average below 0.1).
+func TestNoAllocs(t *testing.T) {
+	if !Accelerated() {
+		t.Skip("gonum's own Dgemm and Sgemm run here")
+	}
+	if raceEnabled {
+		t.Skip("the race detector's sync.Pool drops buffers at random")
+	}
+	var impl Implementation
+	const m, n, k = 128, 64, 300
+	a, b, c := make([]float64, m*k), make([]float64, k*n), make([]float64, m*n)
+	a32, b32, c32 := make([]float32, m*k), make([]float32, k*n), make([]float32, m*n)
+	f := func() {
+		impl.Dgemm(blas.NoTrans, blas.Trans, m, n, k, 1, a, k, b, k, 0, c, n)
+		impl.Sgemm(blas.Trans, blas.NoTrans, m, n, k, 1, a32, m, b32, n, 0.5, c32, n)
+	}
+	f()
+	if avg := testing.AllocsPerRun(50, f); avg > 0.1 {
+		t.Errorf("%.2f allocations per pair of products, want 0", avg)
+	}
+}
