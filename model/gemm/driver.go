@@ -167,18 +167,35 @@ func packB[T float32 | float64](dst, b []T, ldb int, bT bool, pc, jc, kc, nc, nr
 		}
 		return
 	}
-	// op(B)(p, j) = b[j·ldb + p]: columns are contiguous.
+	// op(B)(p, j) = b[j·ldb + p]: columns are contiguous. With the
+	// assembly, full panels are transposed 4×4 at a time for the first
+	// kc&^3 rows; the rest in Go.
+	sz := int(unsafe.Sizeof(dst[0]))
+	k4 := 0
+	if useAsm && nr%4 == 0 {
+		k4 = kc &^ 3
+	}
 	for j0 := 0; j0 < nc; j0 += nr {
 		w := min(nr, nc-j0)
 		d := dst[j0*kc : j0*kc+nr*kc]
+		p0 := 0
 		if w < nr {
 			clear(d)
+		} else if k4 > 0 {
+			first := (jc+j0)*ldb + pc
+			_ = b[first+(nr-1)*ldb+k4-1] // the panel lies inside b
+			if sz == 8 {
+				transD(unsafe.Pointer(&d[0]), unsafe.Pointer(&b[first]), k4, ldb*sz, nr)
+			} else {
+				transS(unsafe.Pointer(&d[0]), unsafe.Pointer(&b[first]), k4, ldb*sz, nr)
+			}
+			p0 = k4
 		}
 		for j := range w {
 			col := b[(jc+j0+j)*ldb+pc:]
-			col = col[:kc]
+			col = col[p0:kc]
 			for p, v := range col {
-				d[p*nr+j] = v
+				d[(p0+p)*nr+j] = v
 			}
 		}
 	}

@@ -85,3 +85,15 @@ func asmConfigs() ([]*config[float32], []*config[float64]) {
 //
 //go:noescape
 func copyPanels(dst, src unsafe.Pointer, k, stride, panels, width int)
+
+// transD packs one full panel of a transposed float64 B for the first k4
+// rows (k4 a multiple of 4): dst[p·nr + j] = src row j [p], the rows
+// stride bytes apart, nr a multiple of 4; in kernel_amd64.s.
+//
+//go:noescape
+func transD(dst, src unsafe.Pointer, k4, stride, nr int)
+
+// transS is transD for float32.
+//
+//go:noescape
+func transS(dst, src unsafe.Pointer, k4, stride, nr int)

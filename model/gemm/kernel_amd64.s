@@ -466,3 +466,112 @@ cp_piece128:
 cp_done:
 	VZEROUPPER
 	RET
+
+// func transD(dst, src unsafe.Pointer, k4, stride, nr int)
+// packs one full panel of a transposed float64 B: nr rows of B (src rows
+// stride bytes apart, nr a multiple of 4) hold the panel's columns; for
+// p < k4 (a multiple of 4) it writes dst[p·nr + j] = row j [p], by 4×4
+// transposes in YMM registers.
+TEXT ·transD(SB), NOSPLIT, $0-40
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ k4+16(FP), CX
+	MOVQ stride+24(FP), R8
+	MOVQ nr+32(FP), R10
+	SHLQ $3, R10            // bytes per packed row
+	LEAQ (R8)(R8*2), R9     // 3 rows of B
+	MOVQ R10, R11
+	SHLQ $2, R11            // 4 packed rows
+	LEAQ (R10)(R10*2), R12  // 3 packed rows
+	SHRQ $2, CX
+	JZ   td_done
+	MOVQ R10, R13
+	SHRQ $5, R13            // groups of 4 columns
+
+td_group:
+	MOVQ SI, AX             // B rows of this group, p = 0
+	MOVQ DI, DX             // packed rows, p = 0
+	MOVQ CX, BX
+
+td_p:
+	VMOVUPD (AX), Y0
+	VMOVUPD (AX)(R8*1), Y1
+	VMOVUPD (AX)(R8*2), Y2
+	VMOVUPD (AX)(R9*1), Y3
+	VUNPCKLPD Y1, Y0, Y4    // r0p0 r1p0 r0p2 r1p2
+	VUNPCKHPD Y1, Y0, Y5    // r0p1 r1p1 r0p3 r1p3
+	VUNPCKLPD Y3, Y2, Y6    // r2p0 r3p0 r2p2 r3p2
+	VUNPCKHPD Y3, Y2, Y7    // r2p1 r3p1 r2p3 r3p3
+	VPERM2F128 $0x20, Y6, Y4, Y0
+	VPERM2F128 $0x20, Y7, Y5, Y1
+	VPERM2F128 $0x31, Y6, Y4, Y2
+	VPERM2F128 $0x31, Y7, Y5, Y3
+	VMOVUPD Y0, (DX)
+	VMOVUPD Y1, (DX)(R10*1)
+	VMOVUPD Y2, (DX)(R10*2)
+	VMOVUPD Y3, (DX)(R12*1)
+	ADDQ $32, AX
+	ADDQ R11, DX
+	DECQ BX
+	JNZ  td_p
+	LEAQ (SI)(R8*4), SI     // next 4 rows of B
+	ADDQ $32, DI            // next 4 columns of the panel
+	DECQ R13
+	JNZ  td_group
+
+td_done:
+	VZEROUPPER
+	RET
+
+// func transS(dst, src unsafe.Pointer, k4, stride, nr int)
+// is transD for float32, by 4×4 transposes in XMM registers.
+TEXT ·transS(SB), NOSPLIT, $0-40
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ k4+16(FP), CX
+	MOVQ stride+24(FP), R8
+	MOVQ nr+32(FP), R10
+	SHLQ $2, R10
+	LEAQ (R8)(R8*2), R9
+	MOVQ R10, R11
+	SHLQ $2, R11
+	LEAQ (R10)(R10*2), R12
+	SHRQ $2, CX
+	JZ   ts_done
+	MOVQ R10, R13
+	SHRQ $4, R13
+
+ts_group:
+	MOVQ SI, AX
+	MOVQ DI, DX
+	MOVQ CX, BX
+
+ts_p:
+	VMOVUPS (AX), X0
+	VMOVUPS (AX)(R8*1), X1
+	VMOVUPS (AX)(R8*2), X2
+	VMOVUPS (AX)(R9*1), X3
+	VUNPCKLPS X1, X0, X4    // r0p0 r1p0 r0p1 r1p1
+	VUNPCKHPS X1, X0, X5    // r0p2 r1p2 r0p3 r1p3
+	VUNPCKLPS X3, X2, X6    // r2p0 r3p0 r2p1 r3p1
+	VUNPCKHPS X3, X2, X7    // r2p2 r3p2 r2p3 r3p3
+	VMOVLHPS X6, X4, X0     // p0
+	VMOVHLPS X4, X6, X1     // p1
+	VMOVLHPS X7, X5, X2     // p2
+	VMOVHLPS X5, X7, X3     // p3
+	VMOVUPS X0, (DX)
+	VMOVUPS X1, (DX)(R10*1)
+	VMOVUPS X2, (DX)(R10*2)
+	VMOVUPS X3, (DX)(R12*1)
+	ADDQ $16, AX
+	ADDQ R11, DX
+	DECQ BX
+	JNZ  ts_p
+	LEAQ (SI)(R8*4), SI
+	ADDQ $16, DI
+	DECQ R13
+	JNZ  ts_group
+
+ts_done:
+	VZEROUPPER
+	RET

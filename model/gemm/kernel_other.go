@@ -23,3 +23,7 @@ func asmConfigs() ([]*config[float32], []*config[float64]) { return nil, nil }
 func copyPanels(dst, src unsafe.Pointer, k, stride, panels, width int) {
 	panic("gemm: copyPanels without assembly")
 }
+
+// transD and transS are not called without the assembly.
+func transD(dst, src unsafe.Pointer, k4, stride, nr int) { panic("gemm: transD without assembly") }
+func transS(dst, src unsafe.Pointer, k4, stride, nr int) { panic("gemm: transS without assembly") }
