@@ -50,8 +50,11 @@
 // scoring kernel streams snapshots in blocks of 64, so LogProbMatrix needs
 // memory for its n·K output and a few MB besides.
 //
-// BLAS. The default build uses gonum's pure-Go BLAS. Built with the tag
-// openblas (CGO_ENABLED=1, OpenBLAS installed, e.g. Debian libopenblas-dev),
+// BLAS. The default build uses gonum's pure-Go BLAS with the matrix
+// products of package model/gemm (Go assembly micro-kernels for AVX2+FMA or
+// AVX-512, chosen at start-up; gonum's own elsewhere), still without cgo.
+// Built with the tag openblas (CGO_ENABLED=1, OpenBLAS installed, e.g.
+// Debian libopenblas-dev),
 //
 //	go build -tags openblas ./cmd/tidemark
 //
