@@ -20,22 +20,26 @@ import (
 // model's misfit remains.
 //
 // The model is the default one (softplus, FiLM conditioning) trained on
-// snapshots augmented by the lattice's symmetries, as a user would train it
-// on this system. The bar the task sets is 0.05 of the range for every
-// curve. Measured (2026-12-02, training seed 1): at the grid points sl 0.009,
-// lbc 0.022, pbm 0.017, local 0.052, fisher 0.064, fisher_deriv 0.104; on
-// the refined grid sl 0.050, lbc 0.014, pbm 0.054, local 0.051, fisher
-// 0.126, fisher_deriv 0.126; every highest peak within one grid step. Seeds
-// 2 and 3 (ablation harness) gave local 0.061–0.066, fisher 0.035–0.036 and
-// fisher_deriv 0.108–0.130 at the grid points, and up to 0.065 (sl, pbm,
-// local) and 0.140 (fisher) between them. So sl, lbc and pbm meet the bar at
-// the grid points, and the neighbour indicators miss it by up to 2.5×; the
-// limits below hold the measured figures with some room. Before FiLM and
-// augmentation (additive conditioning) the same test measured 0.12, 0.14
-// and 0.33 for local, fisher and fisher_deriv at the grid points and
-// 0.13–0.37 between them, with a spurious fisher bump near T = 1.8 higher
-// than the true maximum. The remaining error falls with the data (see
-// TestModelIndicatorsConvergeWithData).
+// snapshots augmented by the lattice's symmetries and kept as the moving
+// average of its weights over 4 epochs (train --augment, --average), as a
+// user would train it on this much data. The bar the task sets is 0.05 of
+// the range for every curve. Measured (2026-12-02, training seed 1): at the
+// grid points sl 0.005, lbc 0.024, pbm 0.016, local 0.024, fisher 0.042,
+// fisher_deriv 0.071; on the refined grid sl 0.028, lbc 0.015, pbm 0.025,
+// local 0.034, fisher 0.088, fisher_deriv 0.087; every highest peak within
+// one grid step. Seeds 2 and 3 (ablation harness) gave up to 0.059 (local)
+// at the grid points and 0.062 (sl, pbm, local) between them, fisher_deriv
+// 0.09–0.12 and the refined Fisher curves 0.110–0.135. So every curve but
+// the two Fisher curves meets the bar at the grid points for seed 1, and
+// the Fisher curves miss it by up to 1.8×; the limits below hold the
+// measured figures with room for a different rounding (another CPU's
+// kernels change the training trajectory like another seed). Without the
+// averaging the same test measured local 0.052, fisher 0.064 and
+// fisher_deriv 0.104 at the grid points and 0.126 for the refined Fisher
+// curves; before FiLM and augmentation (additive conditioning) 0.12, 0.14
+// and 0.33 at the grid points and 0.13–0.37 between them, with a spurious
+// fisher bump near T = 1.8 higher than the true maximum. The remaining
+// error falls with the data (see TestModelIndicatorsConvergeWithData).
 func TestModelIndicatorsMatchExact(t *testing.T) {
 	if testing.Short() {
 		t.Skip("trains a model")
@@ -47,9 +51,9 @@ func TestModelIndicatorsMatchExact(t *testing.T) {
 	all := map[string]bool{"sl": true, "lbc": true, "pbm": true, "local": true, "fisher": true, "fisher_deriv": true}
 	compareWithExact(t, fx, []exactCase{
 		{"grid points, data snapshots", 1, false,
-			map[string]float64{"sl": 0.05, "lbc": 0.05, "pbm": 0.05, "local": 0.08, "fisher": 0.1, "fisher_deriv": 0.15}, all},
+			map[string]float64{"sl": 0.05, "lbc": 0.05, "pbm": 0.05, "local": 0.07, "fisher": 0.06, "fisher_deriv": 0.13}, all},
 		{"refined 4x, exact sums", 4, true,
-			map[string]float64{"sl": 0.08, "lbc": 0.05, "pbm": 0.08, "local": 0.08, "fisher": 0.18, "fisher_deriv": 0.18}, all},
+			map[string]float64{"sl": 0.07, "lbc": 0.05, "pbm": 0.07, "local": 0.07, "fisher": 0.15, "fisher_deriv": 0.15}, all},
 	})
 }
 

@@ -10,13 +10,15 @@ import (
 // TestModelIndicatorsConvergeWithData repeats TestModelIndicatorsMatchExact
 // with eight times the data (32000 exact snapshots of the 4×4 Ising model
 // per temperature, the same 12 temperatures, two held out, the same
-// default model and symmetry augmentation) and holds every curve to the
-// task's bar of 0.05 of its range, except the two Fisher curves, and every
-// highest peak to one grid step. Measured on 2026-12-02: at the grid points
-// sl 0.002, lbc 0.015, pbm 0.009, local 0.037, fisher 0.014, fisher_deriv
-// 0.068; refined with exact sums sl 0.021, lbc 0.021, pbm 0.029, local
-// 0.044, fisher 0.064, fisher_deriv 0.064 (497 s at load ≈ 3). Before FiLM
-// and augmentation the same data gave local 0.076 at the grid points and
+// default model, symmetry augmentation and weight averaging) and holds
+// every curve to the task's bar of 0.05 of its range, except the two Fisher
+// curves, and every highest peak to one grid step. Measured on 2026-12-02:
+// at the grid points sl 0.002, lbc 0.020, pbm 0.012, local 0.027, fisher
+// 0.010, fisher_deriv 0.055; refined with exact sums sl 0.018, lbc 0.016,
+// pbm 0.023, local 0.029, fisher 0.061, fisher_deriv 0.061 (234 s at load
+// ≈ 4). Without the weight averaging the same data gave local 0.037 and
+// fisher_deriv 0.068 at the grid points and 0.044–0.064 between them;
+// before FiLM and augmentation local 0.076 at the grid points and
 // 0.07–0.09 between them.
 func TestModelIndicatorsConvergeWithData(t *testing.T) {
 	fx := &ising4x4Fixture{temps: linspace(1, 4, 12)}
@@ -24,6 +26,7 @@ func TestModelIndicatorsConvergeWithData(t *testing.T) {
 	st := DefaultSettings()
 	st.Epochs = isingEpochs
 	st.Augment = isingSymmetries
+	st.Average = isingAverage
 	fx.ck, fx.err = Run(context.Background(), fx.ds, Options{Settings: st, Holdout: "T=2.0909090909;2.6363636364"})
 	if fx.err != nil {
 		t.Fatal(fx.err)
