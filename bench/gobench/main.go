@@ -262,6 +262,7 @@ func measureShape(n, h int, prec string, threads, reps, matRows int, budget time
 	cfg := model.DefaultConfig(n, 2, 1, []float64{0}, []float64{1})
 	cfg.Hidden = []int{h, h}
 	cfg.Activation = "relu" // the peer's model (bench/peer/made_peer.py)
+	cfg.FiLM = false        // the peer's conditioning only shifts the layers
 	cfg.Precision = prec
 	m, err := model.New(cfg, 1)
 	if err != nil {
