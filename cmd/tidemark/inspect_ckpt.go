@@ -108,8 +108,12 @@ func inspectCheckpoint(path string, asJSON bool, w io.Writer) (bool, error) {
 	if a.FiLM {
 		mod = "scales and shifts (FiLM)"
 	}
-	fmt.Fprintf(tw, "architecture\tMADE, hidden %s, %s; conditioning net %s, %s, with %d Fourier frequencies, %s the layers; direct %v; order %s; symmetric %v\n",
-		intsString(a.Hidden, ","), a.Activation, cond, a.CondAct, a.Fourier, mod, a.Direct, a.Order, a.Symmetric)
+	freq := "frequencies"
+	if a.Fourier == 1 {
+		freq = "frequency"
+	}
+	fmt.Fprintf(tw, "architecture\tMADE, hidden %s, %s; conditioning net %s, %s, with %d Fourier %s, %s the layers; direct %v; order %s; symmetric %v\n",
+		intsString(a.Hidden, ","), a.Activation, cond, a.CondAct, a.Fourier, freq, mod, a.Direct, a.Order, a.Symmetric)
 	fmt.Fprintf(tw, "parameters\t%d trainable values\n", r.Parameters)
 	fmt.Fprintf(tw, "sites\t%d (lattice %s), alphabet %d\n", r.Sites, intsString(r.Lattice, "×"), r.Alphabet)
 	for i, name := range r.ParamNames {
