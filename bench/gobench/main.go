@@ -63,6 +63,7 @@ func main() {
 	chunksFlag = flag.Int("chunks", 0, "graphs the training batch is split over (0 = one per thread)")
 	matRows := flag.Int("matrows", 256, "snapshots scored at 64 λ by LogProbMatrix")
 	cpuprof := flag.String("cpuprofile", "", "write a CPU profile to this file")
+	flag.BoolVar(&film, "film", false, "FiLM conditioning (the trainer's default model; the peer's with --film) instead of shifts only")
 	blasCore := flag.Bool("blascore", false, "print the OpenBLAS kernels in use (model.BLASCore) and exit")
 	flag.Parse()
 	if *blasCore {
@@ -178,6 +179,7 @@ const batch = 256
 var (
 	only       *string
 	chunksFlag *int
+	film       bool // FiLM conditioning (-film)
 )
 
 func want(what string) bool { return *only == "" || *only == what }
@@ -262,7 +264,7 @@ func measureShape(n, h int, prec string, threads, reps, matRows int, budget time
 	cfg := model.DefaultConfig(n, 2, 1, []float64{0}, []float64{1})
 	cfg.Hidden = []int{h, h}
 	cfg.Activation = "relu" // the peer's model (bench/peer/made_peer.py)
-	cfg.FiLM = false        // the peer's conditioning only shifts the layers
+	cfg.FiLM = film         // false: the peer's default conditioning only shifts the layers
 	cfg.Precision = prec
 	m, err := model.New(cfg, 1)
 	if err != nil {

@@ -42,9 +42,9 @@ class MaskedLinear(nn.Module):
 
 
 class CondMADE(nn.Module):
-    def __init__(self, n, hidden, cond_hidden=64, fourier=2):
+    def __init__(self, n, hidden, cond_hidden=64, fourier=2, film=False):
         super().__init__()
-        self.n, self.fourier = n, fourier
+        self.n, self.fourier, self.film = n, fourier, film
         din = torch.arange(1, n + 1)
         dh = [degrees(n, h) for h in hidden]
         masks, prev = [], din
@@ -57,6 +57,13 @@ class CondMADE(nn.Module):
         feat = 1 + 2 * fourier
         self.cond = nn.Linear(feat, cond_hidden)
         self.heads = nn.ModuleList(nn.Linear(cond_hidden, m.shape[1], bias=False) for m in masks)
+        if film:
+            # FiLM (Perez et al., AAAI 2018) as tidemark's model.Config.FiLM:
+            # a = (1 + u·S) ⊙ (h·(W⊙M) + b(λ)), the direct term inside the
+            # output bracket; the scale heads start at zero.
+            self.scales = nn.ModuleList(nn.Linear(cond_hidden, m.shape[1], bias=False) for m in masks)
+            for sc in self.scales:
+                nn.init.zeros_(sc.weight)
 
     def features(self, lam):
         t = 2 * lam - 1  # lam in [0, 1] -> t in [-1, 1]
@@ -71,8 +78,12 @@ class CondMADE(nn.Module):
         last = len(self.layers) - 1
         for i, layer in enumerate(self.layers):
             a = layer(h) + self.heads[i](u)
+            if self.film:
+                if i == last:
+                    a = a + self.direct(x)
+                a = a * (1 + self.scales[i](u))
             h = F.relu(a) if i < last else a
-        z = h + self.direct(x)
+        z = h if self.film else h + self.direct(x)
         return -F.binary_cross_entropy_with_logits(z, x, reduction="none").sum(dim=1)
 
 
@@ -106,6 +117,7 @@ def main():
     ap.add_argument("--reps", type=int, default=5)
     ap.add_argument("--gemm", type=int, default=1024)
     ap.add_argument("--matrows", type=int, default=256)
+    ap.add_argument("--film", action="store_true", help="FiLM conditioning (tidemark's default model) instead of shifts only")
     a = ap.parse_args()
     torch.set_num_threads(a.threads)
     torch.manual_seed(1)
@@ -127,7 +139,7 @@ def main():
         if not s.strip():
             continue
         n, h = (int(v) for v in s.split("x"))
-        net = CondMADE(n, [h, h])
+        net = CondMADE(n, [h, h], film=a.film)
         opt = torch.optim.Adam(net.parameters(), lr=1e-4)
         g = torch.Generator().manual_seed(7)
         x = torch.randint(0, 2, (B, n), generator=g).float()
