@@ -84,13 +84,16 @@ func TestAblation(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		var ms indicator.Source = m
+		switch v := os.Getenv("SYMEV"); v {
+		case "":
+		case "d4", "all":
+			ms = newSymModel(m, 4, v == "all")
+		default:
+			t.Fatalf("SYMEV: expected d4 or all, found %q", v)
+		}
 		var kl []string
 		for _, T := range temps {
-			var ms indicator.Source = m
-			if os.Getenv("SYMEV") != "" {
-				ps, fs := d4flip(4, os.Getenv("SYMEV") == "all")
-				ms = &symModel{m: m, perms: ps, flips: fs}
-			}
 			d, err := ExactDivergence(src, ms, []float64{T}, 2, nil)
 			if err != nil {
 				t.Fatal(err)
@@ -98,16 +101,7 @@ func TestAblation(t *testing.T) {
 			kl = append(kl, fmt.Sprintf("%.4f", d.KL/16))
 		}
 		t.Logf("seed %d: best epoch %d of %d, KL/site %s", s, ck.Header.BestEpoch, len(ck.Header.Metrics), strings.Join(kl, " "))
-		switch os.Getenv("SYMEV") {
-		case "d4":
-			ps, fs := d4flip(4, false)
-			models = append(models, &symModel{m: m, perms: ps, flips: fs})
-		case "all":
-			ps, fs := d4flip(4, true)
-			models = append(models, &symModel{m: m, perms: ps, flips: fs})
-		default:
-			models = append(models, m)
-		}
+		models = append(models, ms)
 	}
 	for _, pass := range []struct {
 		name      string

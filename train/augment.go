@@ -129,21 +129,7 @@ func (a *augmenter) apply(dst, x []uint8, rng *rand.Rand) {
 		if a.rotate {
 			rot = rng.IntN(4)
 		}
-		for y := range Ly {
-			for x := range Lx {
-				u, v := y, x
-				for range rot { // (u, v) → (v, L−1−u), a quarter turn
-					u, v = v, Ly-1-u
-				}
-				if my {
-					u = Ly - 1 - u
-				}
-				if mx {
-					v = Lx - 1 - v
-				}
-				a.src[y*Lx+x] = ((u+dy)%Ly)*Lx + (v+dx)%Lx
-			}
-		}
+		latticeMap(a.src, Ly, Lx, dy, dx, my, mx, rot)
 	}
 	f := uint8(0)
 	if a.flip && rng.IntN(2) == 1 {
@@ -151,5 +137,26 @@ func (a *augmenter) apply(dst, x []uint8, rng *rand.Rand) {
 	}
 	for i, s := range a.src {
 		dst[i] = x[s] ^ f
+	}
+}
+
+// latticeMap writes into src the source site of every site of an Ly×Lx
+// lattice under the map: rot quarter turns (square lattices), then the
+// mirror flags my and mx, then a cyclic shift by (dy, dx).
+func latticeMap(src []int, Ly, Lx, dy, dx int, my, mx bool, rot int) {
+	for y := range Ly {
+		for x := range Lx {
+			u, v := y, x
+			for range rot { // (u, v) → (v, L−1−u), a quarter turn
+				u, v = v, Ly-1-u
+			}
+			if my {
+				u = Ly - 1 - u
+			}
+			if mx {
+				v = Lx - 1 - v
+			}
+			src[y*Lx+x] = ((u+dy)%Ly)*Lx + (v+dx)%Lx
+		}
 	}
 }
