@@ -8,6 +8,10 @@ import (
 	"gorgonia.org/tensor"
 )
 
+// filmComposed builds FiLM layers from gorgonia's own operations instead
+// of filmLayer; only the test that compares the two sets it.
+var filmComposed = false
+
 // Graph is a gorgonia expression graph of a model's training loss for a
 // fixed maximum batch size. Its weight nodes share their backing arrays with
 // Model.Weights[i].Data, so in-place updates by a trainer are seen by the
@@ -160,19 +164,33 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 			for i := 0; i < L; i++ {
 				h = must(maskedLayer(h, wn[l.madeW[i]], heads[i], wn[l.madeB[i]], lin[i], hiddenAct))
 			}
-		} else {
-			// The scale comes between the sum and the activation, so the
-			// activation is a separate operation.
+		} else if filmComposed {
+			// The reference: gorgonia's own operations after each
+			// product (TestFiLMFusedMatchesComposed).
 			for i := 0; i < L; i++ {
 				a := must(maskedLayer(h, wn[l.madeW[i]], heads[i], wn[l.madeB[i]], lin[i], actNone))
 				h = actNode(c.Activation, scale(a, i))
 			}
+		} else {
+			// The scale comes between the sum and the activation: one
+			// filmLayer operation applies both after the product.
+			for i := 0; i < L; i++ {
+				a := must(maskedLayer(h, wn[l.madeW[i]], heads[i], wn[l.madeB[i]], lin[i], actNone))
+				f := &filmLayer{name: lin[i].name, act: hiddenAct, below: []*maskedLinear{lin[i]}, next: lin[i+1]}
+				h = must(filmNode(a, scales[i], f))
+			}
 		}
 		z := must(maskedLayer(h, wn[l.madeW[L]], heads[L], wn[l.madeB[L]], lin[L], actNone))
+		below := []*maskedLinear{lin[L]}
 		if linD != nil {
 			z = must(G.Add(z, must(maskedMul(x, wn[l.direct], linD))))
+			below = append(below, linD)
 		}
-		z = scale(z, L)
+		if scales != nil && !filmComposed {
+			z = must(filmNode(z, scales[L], &filmLayer{name: lin[L].name, act: actNone, below: below}))
+		} else {
+			z = scale(z, L)
+		}
 		if c.Alphabet == 2 {
 			// log p = Σ_s x·z − log(1+e^z) (Bernoulli with logit z).
 			return must(bernoulliLogProb(x, z, "logp"+pass, c.Sites))

@@ -130,6 +130,24 @@ func TestGradientFiniteDifference(t *testing.T) {
 			c.Hidden = []int{5, 5}
 			c.CondHidden = []int{3}
 		})},
+		// FiLM: the fused scale-and-activation operation (filmLayer).
+		{"q2-relu-film-direct", smallConfig(5, 2, 1, func(c *Config) {
+			c.FiLM, c.Direct = true, true
+			c.Hidden = []int{6, 5}
+			c.CondHidden = []int{3}
+		})},
+		{"q2-softplus-film-sym", smallConfig(4, 2, 2, func(c *Config) {
+			c.Activation = "softplus"
+			c.FiLM, c.Symmetric = true, true
+			c.Hidden = []int{5, 5}
+			c.CondHidden = []int{3}
+		})},
+		{"q3-tanh-film-nocond", smallConfig(4, 3, 1, func(c *Config) {
+			c.Activation = "tanh"
+			c.FiLM, c.Direct = true, true
+			c.Hidden = []int{5, 5}
+			c.CondHidden = nil
+		})},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {

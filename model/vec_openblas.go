@@ -279,3 +279,16 @@ func vCombine32(dst []float64, g0, g1 []float32, f0, f1 float64, mask []float64,
 	C.tm_combine32(pd(dst), pf(g0), pf(g1), C.double(f0), C.double(f1), pd(mask), pb(c.full), C.long(out),
 		C.long(c.a0), C.long(c.a1), C.long(c.lo), C.long(j0), C.long(j1))
 }
+
+// The FiLM layer's softplus and its derivative dA = dO·σ(A) run the C
+// kernels above (from the output O: σ = 1 − e^−O), not gorgonia's scalar
+// functions as in the pure-Go build, so training rounds differently there
+// by a few units in the last place (film.go).
+const filmSoftplusExact = false
+
+func vFilmSoftplus(o, a []float64) {
+	copy(o[:len(a)], a)
+	vAct64(o, nil, 1, len(a), actSoftplus)
+}
+
+func vFilmSoftplusGrad(da, d, a, o []float64) { vSoftplusGrad(da, d, o[:len(da)]) }

@@ -36,3 +36,22 @@ func vCombine32(dst []float64, g0, g1 []float32, f0, f1 float64, mask []float64,
 	combine32Go(dst, g0, g1, f0, f1, mask, c, out, j0, j1)
 }
 func vAct64(x, b []float64, rows, w, act int) { act64Go(x, b, rows, w, act) }
+
+// The FiLM layer's softplus and its derivative dA = dO·σ(A) are gorgonia's
+// (film.go), so that the pure-Go build trains bit for bit as with
+// gorgonia's own operations.
+const filmSoftplusExact = true
+
+func vFilmSoftplus(o, a []float64) {
+	o = o[:len(a)]
+	for i, v := range a {
+		o[i] = gorgoniaSoftplus(v)
+	}
+}
+
+func vFilmSoftplusGrad(da, d, a, o []float64) {
+	d, a = d[:len(da)], a[:len(da)]
+	for i := range da {
+		da[i] = gorgoniaSigmoid(a[i]) * d[i]
+	}
+}
