@@ -2,9 +2,12 @@
 # bench/run.sh — side-by-side throughput of tidemark's model package and a
 # PyTorch CPU peer of the same conditional MADE, in one run on one machine.
 #
-#   bench/run.sh [-s SHAPES] [-b SECONDS] [-r REPS] [-n ROUNDS] [-o FILE]
+#   bench/run.sh [-s SHAPES] [-f SHAPES] [-b SECONDS] [-r REPS] [-n ROUNDS] [-o FILE]
 #
-#   -s  comma-separated NxH shapes (default 64x256,256x512,1024x1024)
+#   -s  comma-separated NxH shapes of the additive model (conditioning that
+#       shifts every layer, the peer's default; default 64x256,256x512,1024x1024)
+#   -f  comma-separated NxH shapes of the FiLM model (shift and scale, the
+#       trainer's default; default 256x512; "" skips it)
 #   -b  time budget per shape, per side and round, in seconds (default 20)
 #   -r  repetitions per figure; the median is reported (default 5)
 #   -n  rounds: every side runs every shape once per round, interleaved,
@@ -19,18 +22,20 @@
 set -eu
 cd "$(dirname "$0")/.."
 shapes=64x256,256x512,1024x1024
+filmshapes=256x512
 budget=20
 reps=5
 rounds=2
 out=bench/RESULTS.md
-while getopts s:b:r:n:o: opt; do
+while getopts s:f:b:r:n:o: opt; do
 	case $opt in
 	s) shapes=$OPTARG ;;
+	f) filmshapes=$OPTARG ;;
 	b) budget=$OPTARG ;;
 	r) reps=$OPTARG ;;
 	n) rounds=$OPTARG ;;
 	o) out=$OPTARG ;;
-	*) echo "usage: bench/run.sh [-s SHAPES] [-b SECONDS] [-r REPS] [-n ROUNDS] [-o FILE]" >&2; exit 2 ;;
+	*) echo "usage: bench/run.sh [-s SHAPES] [-f SHAPES] [-b SECONDS] [-r REPS] [-n ROUNDS] [-o FILE]" >&2; exit 2 ;;
 	esac
 done
 threads=2
@@ -79,16 +84,27 @@ while [ $round -le "$rounds" ]; do
 		OPENBLAS_NUM_THREADS=$threads "$tmp/gobench_openblas" -threads $threads -reps $reps -shapes "" -gemm 1024 >>"$raw"
 	fi
 	env $peerenv OMP_WAIT_POLICY=PASSIVE /usr/bin/python3 bench/peer/made_peer.py --threads $threads --reps $reps --shapes "" --gemm 1024 >>"$raw"
-	for shape in $(echo "$shapes" | tr ',' ' '); do
+	# Every shape of the additive model, then of the FiLM model (the
+	# same flag on both sides).
+	for job in $(echo "$shapes" | tr ',' ' ' | sed 's/[^ ][^ ]*/&:additive/g') \
+		$(echo "$filmshapes" | tr ',' ' ' | sed 's/[^ ][^ ]*/&:film/g'); do
+		shape=${job%:*}
+		kind=${job#*:}
+		gofilm=""
+		peerfilm=""
+		if [ "$kind" = film ]; then
+			gofilm="-film"
+			peerfilm="--film"
+		fi
 		n=${shape%x*}
 		rows=256
 		[ "$n" -gt 256 ] && rows=64
 		for side in $sides; do
-			echo "bench: round $round, $shape, $side" >&2
+			echo "bench: round $round, $shape, $kind model, $side" >&2
 			case $side in
-			gonum) "$tmp/gobench" -threads $threads -reps $reps -budget "$budget" -gemm 0 -shapes "$shape" -matrows $rows >>"$raw" ;;
-			openblas) OPENBLAS_NUM_THREADS=1 "$tmp/gobench_openblas" -threads $threads -reps $reps -budget "$budget" -gemm 0 -shapes "$shape" -matrows $rows >>"$raw" ;;
-			peer) env $peerenv OMP_WAIT_POLICY=PASSIVE /usr/bin/python3 bench/peer/made_peer.py --threads $threads --reps $reps --budget "$budget" --gemm 0 --shapes "$shape" --matrows $rows >>"$raw" ;;
+			gonum) "$tmp/gobench" -threads $threads -reps $reps -budget "$budget" -gemm 0 -shapes "$shape" -matrows $rows $gofilm >>"$raw" ;;
+			openblas) OPENBLAS_NUM_THREADS=1 "$tmp/gobench_openblas" -threads $threads -reps $reps -budget "$budget" -gemm 0 -shapes "$shape" -matrows $rows $gofilm >>"$raw" ;;
+			peer) env $peerenv OMP_WAIT_POLICY=PASSIVE /usr/bin/python3 bench/peer/made_peer.py --threads $threads --reps $reps --budget "$budget" --gemm 0 --shapes "$shape" --matrows $rows $peerfilm >>"$raw" ;;
 			esac
 		done
 	done

@@ -43,7 +43,7 @@ def main():
             key = ("peer" if r["side"] == "peer" else label(r).split("/")[0], r["precision"])
             gemm[key] = max(gemm.get(key, 0), r["rate"])
             continue
-        k = (label(r), r["what"], r["n"], r["h"])
+        k = (label(r), r["what"], r["n"], r["h"], r.get("model", "additive"))
         groups[k].append(r["rate"])
         if "cpu_rate" in r:
             cpug[k].append(r["cpu_rate"])
@@ -60,7 +60,8 @@ def main():
             break
     nproc = os.cpu_count()
     goversion = subprocess.run(["go", "version"], capture_output=True, text=True).stdout.strip()
-    shapes = sorted({(k[2], k[3]) for k in groups})
+    # The additive model's shapes first, then the FiLM model's.
+    shapes = sorted({(k[2], k[3], k[4]) for k in groups}, key=lambda t: (t[2] != "additive", t[0], t[1]))
     ours = [l for l in ("gonum/float64", "gonum/float32", "openblas/float64", "openblas/float32")
             if any(k[0] == l for k in groups)]
     p = print
@@ -81,8 +82,10 @@ def main():
       f"{a.budget} s per shape and side, then the median over rounds.")
     p()
     p("Model: q = 2, two masked hidden layers of width H, conditioning MLP [64] (relu) on the features "
-      "t, sin(πft), cos(πft), f = 1, 2, adding a bias to every masked layer, direct connection; "
-      "batch 256; Adam. `train` = snapshots per second through LossGrad + an Adam update over all "
+      "t, sin(πft), cos(πft), f = 1, 2, direct connection, ReLU hidden units; batch 256; Adam. The "
+      "conditioning either adds a bias to every masked layer (*additive*, the peer's default "
+      "conditioning) or also scales it, a·(1 + u·S) (*FiLM*, the conditioning tidemark's trainer "
+      "uses by default; `gobench -film` and `made_peer.py --film`). `train` = snapshots per second through LossGrad + an Adam update over all "
       "weights; `logprob` = log p per second by LogProb (1024 snapshots at one λ, split over the "
       "threads); `logprobmatrix64` = log p per second by LogProbMatrix at 64 λ (256 snapshots; 64 for "
       "N > 256). The peer scores the matrix the ordinary way (one full forward pass per λ, batched); "
@@ -107,16 +110,16 @@ def main():
         if note:
             p(note)
             p()
-        p("| N | H | figure | " + " | ".join(ours) + " | peer (torch f32) | " + " | ".join(f"ratio {o}" for o in ours) + " |")
-        p("|" + "---|" * (4 + 2 * len(ours)))
-        for n, h in shapes:
+        p("| model | N | H | figure | " + " | ".join(ours) + " | peer (torch f32) | " + " | ".join(f"ratio {o}" for o in ours) + " |")
+        p("|" + "---|" * (5 + 2 * len(ours)))
+        for n, h, mod in shapes:
             for what in ("train", "logprob", "logprobmatrix64"):
-                pv = m.get(("peer", what, n, h))
-                vals = [m.get((o, what, n, h)) for o in ours]
+                pv = m.get(("peer", what, n, h, mod))
+                vals = [m.get((o, what, n, h, mod)) for o in ours]
                 cells = [f"{v:,.0f}" if v is not None else "–" for v in vals]
                 ratios = [f"{v / pv:.2f}×" if v is not None and pv else "–" for v in vals]
                 pc = f"{pv:,.0f}" if pv else "–"
-                p(f"| {n} | {h} | {what} | " + " | ".join(cells) + f" | {pc} | " + " | ".join(ratios) + " |")
+                p(f"| {mod} | {n} | {h} | {what} | " + " | ".join(cells) + f" | {pc} | " + " | ".join(ratios) + " |")
         p()
 
     table("## Throughput (per second of wall time) and ratio ours/peer", med, "")
@@ -140,11 +143,11 @@ def main():
       "full matrices (what the peer executes); *executed* counts only the mask blocks our products "
       "do not skip (about half). Fraction = GFLOP/s ÷ the side's GEMM rate in the step's precision.")
     p()
-    p("| N | H | side | dense-equiv. GFLOP/s | fraction | executed GFLOP/s | fraction |")
-    p("|---|---|---|---|---|---|---|")
-    for n, h in shapes:
+    p("| model | N | H | side | dense-equiv. GFLOP/s | fraction | executed GFLOP/s | fraction |")
+    p("|---|---|---|---|---|---|---|---|")
+    for n, h, mod in shapes:
         for o in ours + ["peer"]:
-            k = (o, "train", n, h)
+            k = (o, "train", n, h, mod)
             if k not in gflops:
                 continue
             prec = "float32" if o == "peer" else o.split("/")[1]
@@ -154,7 +157,7 @@ def main():
             fr = f"{d / g:.0%}" if g else "–"
             es = f"{e:.1f}" if e is not None else "(= dense)"
             efr = f"{e / g:.0%}" if e is not None and g else fr
-            p(f"| {n} | {h} | {o} | {d:.1f} | {fr} | {es} | {efr} |")
+            p(f"| {mod} | {n} | {h} | {o} | {d:.1f} | {fr} | {es} | {efr} |")
     if a.stream and os.path.exists(a.stream):
         p()
         p("## Memory of scoring")
@@ -170,8 +173,8 @@ def main():
             p(line.rstrip())
         p("```")
     p()
-    p("Raw figures: bench/last-run.jsonl. Reproduce: `bench/run.sh` (options: -s shapes, -b budget, "
-      "-r repetitions, -n rounds).")
+    p("Raw figures: bench/last-run.jsonl. Reproduce: `bench/run.sh` (options: -s shapes of the additive "
+      "model, -f shapes of the FiLM model, -b budget, -r repetitions, -n rounds).")
 
 
 if __name__ == "__main__":

@@ -42,6 +42,7 @@ type result struct {
 	Rows      int     `json:"rows,omitempty"` // snapshots per LogProbMatrix call
 	H         int     `json:"h,omitempty"`
 	Precision string  `json:"precision,omitempty"`
+	Model     string  `json:"model,omitempty"` // "additive" (shifts only, the peer's default) or "film"
 	Rate      float64 `json:"rate"`               // per second of wall time, median
 	CPURate   float64 `json:"cpu_rate,omitempty"` // per second of process CPU time (all threads), median
 	Unit      string  `json:"unit"`
@@ -85,6 +86,12 @@ func main() {
 	enc := json.NewEncoder(os.Stdout)
 	emit := func(r result) {
 		r.Side, r.Threads, r.BLAS = "ours", *threads, model.BLAS
+		if r.What != "gemm" {
+			r.Model = "additive"
+			if film {
+				r.Model = "film"
+			}
+		}
 		if c := model.BLASCore(); c != "" {
 			r.BLAS += ", " + c
 		}

@@ -126,6 +126,7 @@ def main():
     def emit(**kw):
         if kw["what"] != "gemm":
             kw["cpu_rate"] = median_rate.cpu
+            kw["model"] = "film" if a.film else "additive"
         print(json.dumps({**kw, **common}), flush=True)
 
     if a.gemm > 0:
