@@ -19,6 +19,7 @@ import (
 	"os"
 	"runtime"
 	"runtime/pprof"
+	"runtime/trace"
 	"sort"
 	"strconv"
 	"strings"
@@ -42,7 +43,7 @@ type result struct {
 	Rows      int     `json:"rows,omitempty"` // snapshots per LogProbMatrix call
 	H         int     `json:"h,omitempty"`
 	Precision string  `json:"precision,omitempty"`
-	Model     string  `json:"model,omitempty"` // "additive" (shifts only, the peer's default) or "film"
+	Model     string  `json:"model,omitempty"`    // "additive" (shifts only, the peer's default) or "film"
 	Rate      float64 `json:"rate"`               // per second of wall time, median
 	CPURate   float64 `json:"cpu_rate,omitempty"` // per second of process CPU time (all threads), median
 	Unit      string  `json:"unit"`
@@ -64,12 +65,24 @@ func main() {
 	chunksFlag = flag.Int("chunks", 0, "graphs the training batch is split over (0 = one per thread)")
 	matRows := flag.Int("matrows", 256, "snapshots scored at 64 λ by LogProbMatrix")
 	cpuprof := flag.String("cpuprofile", "", "write a CPU profile to this file")
+	traceOut := flag.String("trace", "", "write an execution trace to this file (go tool trace; shows threads waiting)")
 	flag.BoolVar(&film, "film", false, "FiLM conditioning (the trainer's default model; the peer's with --film) instead of shifts only")
 	blasCore := flag.Bool("blascore", false, "print the OpenBLAS kernels in use (model.BLASCore) and exit")
 	flag.Parse()
 	if *blasCore {
 		fmt.Println(model.BLASCore())
 		return
+	}
+	if *traceOut != "" {
+		f, err := os.Create(*traceOut)
+		if err == nil {
+			err = trace.Start(f)
+		}
+		if err != nil {
+			fmt.Fprintln(os.Stderr, "gobench:", err)
+			os.Exit(1)
+		}
+		defer trace.Stop()
 	}
 	if *cpuprof != "" {
 		f, err := os.Create(*cpuprof)
@@ -247,19 +260,32 @@ func cpuSeconds() float64 {
 	return float64(ru.Utime.Nano()+ru.Stime.Nano()) / 1e9
 }
 
+// minRep is the length of the warm-up and the shortest repetition of a
+// measurement: a repetition calls f as many times as the warm-up did, so
+// that a call of a few milliseconds is timed over enough of them (and the
+// first calls, which fill caches, buffers and the allocator, are left
+// out). bench/peer/made_peer.py does the same with the same length.
+const minRep = 300 * time.Millisecond
+
 // measure runs f (which processes units work units) reps times after a
 // warm-up and returns the median rates in units per second of wall time and
 // per second of CPU time. It stops early, after at least one repetition,
 // when the budget is spent.
 func measure(f func(), units float64, reps int, budget time.Duration) (float64, float64, int) {
 	start := time.Now()
-	f() // warm-up
+	k := 0
+	for k == 0 || time.Since(start) < minRep { // warm-up
+		f()
+		k++
+	}
 	var rates, cpu []float64
 	for len(rates) < reps {
 		t, c := time.Now(), cpuSeconds()
-		f()
-		rates = append(rates, units/time.Since(t).Seconds())
-		cpu = append(cpu, units/(cpuSeconds()-c))
+		for range k {
+			f()
+		}
+		rates = append(rates, float64(k)*units/time.Since(t).Seconds())
+		cpu = append(cpu, float64(k)*units/(cpuSeconds()-c))
 		if time.Since(start) > budget {
 			break
 		}

@@ -87,16 +87,25 @@ class CondMADE(nn.Module):
         return -F.binary_cross_entropy_with_logits(z, x, reduction="none").sum(dim=1)
 
 
+# The length of the warm-up and the shortest repetition, in seconds: a
+# repetition calls f as many times as the warm-up did (as bench/gobench).
+MIN_REP = 0.3
+
+
 def median_rate(f, units, reps, budget):
     """Median rates per second of wall time and of process CPU time (all threads)."""
     start = time.perf_counter()
-    f()  # warm-up
+    k = 0
+    while k == 0 or time.perf_counter() - start < MIN_REP:  # warm-up
+        f()
+        k += 1
     rates, cpu = [], []
     while len(rates) < reps:
         t, c = time.perf_counter(), time.process_time()
-        f()
-        rates.append(units / (time.perf_counter() - t))
-        cpu.append(units / max(time.process_time() - c, 1e-9))
+        for _ in range(k):
+            f()
+        rates.append(k * units / (time.perf_counter() - t))
+        cpu.append(k * units / max(time.process_time() - c, 1e-9))
         if time.perf_counter() - start > budget:
             break
     median_rate.cpu = statistics.median(cpu)
