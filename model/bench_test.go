@@ -205,7 +205,7 @@ func BenchmarkActivation(b *testing.B) {
 
 // BenchmarkFiLM compares the default softplus model with and without FiLM
 // conditioning (the scale heads cost one more conditioning product per layer,
-// and the activation runs as a separate graph operation).
+// and the scale and activation run as their own pass, filmLayer).
 func BenchmarkFiLM(b *testing.B) {
 	for _, film := range []bool{false, true} {
 		cfg := DefaultConfig(256, 2, 1, []float64{1}, []float64{4})

@@ -123,8 +123,11 @@ func DefaultHiddenWidth(n int) int {
 // 0.28–0.31) but local and fisher farther (0.41–0.56 against 0.25–0.35);
 // with augmentation they were 0.21–0.31, the closest of all. So train with
 // --augment wherever the system has the symmetries. A FiLM training step
-// costs about 1.3× an additive one (BenchmarkFiLM, N = 256, H = 256, one
-// core, medians of 5 at load ≈ 3: 883 against 1,139 snapshots/s); scoring
+// costs about 1.4× an additive one in the pure-Go build and 1.3× in the
+// openblas build (BenchmarkFiLM, N = 256, H = 256, float64, one core,
+// medians of 5 at load ≈ 1: 8,987 against 12,351 and 11,800 against
+// 15,184 snapshots/s; the pure-Go FiLM step keeps gorgonia's slower
+// softplus so that it trains bit for bit as before, see film.go); scoring
 // costs one multiplication more per unit (within the noise).
 func DefaultConfig(n, q, d int, lo, hi []float64) Config {
 	w := DefaultHiddenWidth(n)
