@@ -25,7 +25,9 @@ import (
 // operations (TestFiLMFusedMatchesComposed). The one exception is softplus
 // in the openblas build, which runs the build's vectorised softplus and
 // its derivative (vec_openblas.c) instead of gorgonia's scalar ones, about
-// 1.6× faster training; the two agree to a few units in the last place.
+// 1.6× faster training; that softplus is accurate to 8 units of 2^-53
+// absolute, so one step's gradients agree with the composed operations'
+// to 1e-8 of their largest entry.
 type filmLayer struct {
 	name string
 	act  int
@@ -200,7 +202,7 @@ func (op filmOp) Do(inputs ...G.Value) (G.Value, error) {
 	if len(inputs) != op.Arity() {
 		return nil, fmt.Errorf("model: %v needs %d inputs, found %d", op, op.Arity(), len(inputs))
 	}
-	in := make([][]float64, len(inputs))
+	var in [4][]float64
 	var shape tensor.Shape
 	for i, v := range inputs {
 		d, s, err := f64Of(v)
@@ -226,7 +228,7 @@ func (op filmOp) Do(inputs ...G.Value) (G.Value, error) {
 		}
 		filmForward(res, o32, f.a, in[0], in[1], f.act)
 	case 1:
-		// (dO, S, O, P).
+		// (dO, S, O, P); without an activation P stands in for O.
 		res = f.buf(1, n)
 		var d32 []float32
 		if len(f.below) > 0 && f.below[0].f32 {
