@@ -78,7 +78,7 @@ def main():
       f"OPENBLAS_NUM_THREADS=1) on ours; torch.set_num_threads({a.threads}) with "
       "OMP_WAIT_POLICY=PASSIVE on the peer's (with OpenMP's default busy-waiting the peer ran up to "
       "10× slower on this loaded machine, which would not be a fair comparison). "
-      f"Each figure is the median of up to {a.reps} repetitions after a warm-up, within a budget of "
+      f"Each figure is the median of up to {a.reps} repetitions after a warm-up of 0.3 s (a repetition makes as many calls as the warm-up did), within a budget of "
       f"{a.budget} s per shape and side, then the median over rounds.")
     p()
     p("Model: q = 2, two masked hidden layers of width H, conditioning MLP [64] (relu) on the features "
