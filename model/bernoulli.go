@@ -3,7 +3,6 @@ package model
 import (
 	"fmt"
 	"hash"
-	"hash/fnv"
 
 	"github.com/chewxy/hm"
 	G "gorgonia.org/gorgonia"
@@ -42,12 +41,9 @@ func (op bernoulliOp) Type() hm.Type {
 }
 
 func (op bernoulliOp) InferShape(in ...G.DimSizer) (tensor.Shape, error) {
-	if len(in) != op.Arity() {
-		return nil, fmt.Errorf("model: %v needs %d inputs, found %d", op, op.Arity(), len(in))
-	}
-	s0, ok := in[0].(tensor.Shape)
-	if !ok || len(s0) != 2 {
-		return nil, fmt.Errorf("model: %v needs a matrix input, found %v", op, in[0])
+	s0, err := matrixInput(op, in)
+	if err != nil {
+		return nil, err
 	}
 	if op.kind == 0 {
 		return tensor.Shape{s0[0]}, nil
@@ -102,11 +98,7 @@ func (op bernoulliOp) OverwritesInput() int { return -1 }
 
 func (op bernoulliOp) WriteHash(h hash.Hash) { fmt.Fprint(h, op.String()) }
 
-func (op bernoulliOp) Hashcode() uint32 {
-	h := fnv.New32a()
-	op.WriteHash(h)
-	return h.Sum32()
-}
+func (op bernoulliOp) Hashcode() uint32 { return opHash(op) }
 
 func (op bernoulliOp) String() string { return fmt.Sprintf("bernoulli%d(%s)", op.kind, op.b.name) }
 

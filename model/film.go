@@ -3,7 +3,6 @@ package model
 import (
 	"fmt"
 	"hash"
-	"hash/fnv"
 	"math"
 
 	"github.com/chewxy/hm"
@@ -73,37 +72,11 @@ func (op filmOp) Type() hm.Type {
 }
 
 func (op filmOp) InferShape(in ...G.DimSizer) (tensor.Shape, error) {
-	if len(in) != op.Arity() {
-		return nil, fmt.Errorf("model: %v needs %d inputs, found %d", op, op.Arity(), len(in))
-	}
-	s0, ok := in[0].(tensor.Shape)
-	if !ok || len(s0) != 2 {
-		return nil, fmt.Errorf("model: %v needs a matrix input, found %v", op, in[0])
+	s0, err := matrixInput(op, in)
+	if err != nil {
+		return nil, err
 	}
 	return s0.Clone(), nil
-}
-
-// Gorgonia's activations, written out so that the fused operation rounds
-// exactly as the composed one did (gorgonia v0.9.18, math.go and
-// math_nooptim.go).
-func gorgoniaSoftplus(x float64) float64 {
-	if x < -708 {
-		return 0
-	}
-	if x > 16 {
-		return x
-	}
-	return math.Log1p(math.Exp(x))
-}
-
-func gorgoniaSigmoid(x float64) float64 {
-	if x < -709 {
-		return 0
-	}
-	if x > 19 {
-		return 1
-	}
-	return 1.0 / (1.0 + math.Exp(-x))
 }
 
 // reluTimes is v·1 where the sign bit of x is clear and v·0 where it is
@@ -256,11 +229,7 @@ func (op filmOp) OverwritesInput() int { return -1 }
 
 func (op filmOp) WriteHash(h hash.Hash) { fmt.Fprint(h, op.String()) }
 
-func (op filmOp) Hashcode() uint32 {
-	h := fnv.New32a()
-	op.WriteHash(h)
-	return h.Sum32()
-}
+func (op filmOp) Hashcode() uint32 { return opHash(op) }
 
 func (op filmOp) String() string { return fmt.Sprintf("film%d(%s)", op.kind, op.f.name) }
 

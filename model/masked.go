@@ -3,7 +3,6 @@ package model
 import (
 	"fmt"
 	"hash"
-	"hash/fnv"
 	"math"
 
 	"github.com/chewxy/hm"
@@ -561,12 +560,9 @@ func (op maskedOp) Type() hm.Type {
 }
 
 func (op maskedOp) InferShape(in ...G.DimSizer) (tensor.Shape, error) {
-	if len(in) != op.Arity() {
-		return nil, fmt.Errorf("model: %v needs %d inputs, found %d", op, op.Arity(), len(in))
-	}
-	s0, ok := in[0].(tensor.Shape)
-	if !ok || len(s0) != 2 {
-		return nil, fmt.Errorf("model: %v needs a matrix input, found %v", op, in[0])
+	s0, err := matrixInput(op, in)
+	if err != nil {
+		return nil, err
 	}
 	switch op.kind {
 	case 0:
@@ -720,11 +716,7 @@ func (op maskedOp) OverwritesInput() int { return -1 }
 
 func (op maskedOp) WriteHash(h hash.Hash) { fmt.Fprint(h, op.String()) }
 
-func (op maskedOp) Hashcode() uint32 {
-	h := fnv.New32a()
-	op.WriteHash(h)
-	return h.Sum32()
-}
+func (op maskedOp) Hashcode() uint32 { return opHash(op) }
 
 func (op maskedOp) String() string {
 	return fmt.Sprintf("masked%d(%s)", op.kind, op.ml.name)

@@ -2,6 +2,8 @@
 
 package model
 
+import "math"
+
 // The pure-Go build runs the Go loops of loops.go (the openblas build runs
 // C loops with the same signatures, vec_openblas.go).
 
@@ -54,4 +56,27 @@ func vFilmSoftplusGrad(da, d, a, o []float64) {
 	for i := range da {
 		da[i] = gorgoniaSigmoid(a[i]) * d[i]
 	}
+}
+
+// Gorgonia's softplus and sigmoid, written out so that the FiLM operation
+// (film.go) rounds exactly as the composed gorgonia operations did
+// (gorgonia v0.9.18, math.go and math_nooptim.go).
+func gorgoniaSoftplus(x float64) float64 {
+	if x < -708 {
+		return 0
+	}
+	if x > 16 {
+		return x
+	}
+	return math.Log1p(math.Exp(x))
+}
+
+func gorgoniaSigmoid(x float64) float64 {
+	if x < -709 {
+		return 0
+	}
+	if x > 19 {
+		return 1
+	}
+	return 1.0 / (1.0 + math.Exp(-x))
 }
