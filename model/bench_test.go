@@ -220,3 +220,37 @@ func BenchmarkFiLM(b *testing.B) {
 		b.Run(name+"/LogProb", func(b *testing.B) { benchLogProb(b, m) })
 	}
 }
+
+// BenchmarkGroupedHeads measures a float32 training step of the benchmark
+// shape with FiLM conditioning when the batch's λ come from a grid of 21
+// points (the conditioning heads then run once per distinct λ, rowGroups)
+// against one λ per snapshot. Compare the sub-benchmarks of one run.
+func BenchmarkGroupedHeads(b *testing.B) {
+	m := benchModel(b)
+	m.Cfg.FiLM, m.Cfg.Precision = true, PrecisionFloat32
+	m, err := New(m.Cfg, 1)
+	if err != nil {
+		b.Fatal(err)
+	}
+	for _, grid := range []int{0, 21} {
+		b.Run(fmt.Sprintf("grid=%d", grid), func(b *testing.B) {
+			g, err := NewGraph(m, benchBatch)
+			if err != nil {
+				b.Fatal(err)
+			}
+			xs, ps := benchData(m, benchBatch)
+			if grid > 0 {
+				for i := range ps {
+					ps[i] = 1 + 3*float64(i%grid)/float64(grid-1)
+				}
+			}
+			grads := zeroGrads(m)
+			for b.Loop() {
+				if _, err := g.LossGrad(xs, ps, benchBatch, grads); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(float64(b.N*benchBatch)/b.Elapsed().Seconds(), "snapshots/s")
+		})
+	}
+}

@@ -41,7 +41,10 @@
 // builds the graph and differentiates the rest. W⊙M is prepared once per
 // step for all passes; BatchGraph splits a minibatch over one graph per
 // thread, prepares W⊙M once for all of them (the threads together) and
-// combines their gradients in parallel. Config.Precision "float32" runs
+// combines their gradients in parallel. Because snapshots come from a grid
+// of control parameters, the rows of a batch share few distinct λ, and the
+// conditioning heads (dense products with one row per snapshot) run once per
+// distinct λ of each chunk (rowGroups). Config.Precision "float32" runs
 // these products in single precision while every per-site term, sum and
 // gradient outside them stays float64; log-likelihoods then agree with
 // float64 to about 1e-7 relative. For q = 2 the per-site terms

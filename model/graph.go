@@ -12,6 +12,11 @@ import (
 // of filmLayer; only the test that compares the two sets it.
 var filmComposed = false
 
+// groupRows lets the conditioning heads run once per distinct λ of a batch
+// (see rowGroups); the test that compares the grouped and the row-by-row
+// products clears it.
+var groupRows = true
+
 // Graph is a gorgonia expression graph of a model's training loss for a
 // fixed maximum batch size. Its weight nodes share their backing arrays with
 // Model.Weights[i].Data, so in-place updates by a trainer are seen by the
@@ -32,6 +37,9 @@ type Graph struct {
 	// prepared says a BatchGraph has already computed W⊙M for this run
 	// (in buffers shared by its graphs).
 	prepared bool
+	// grp groups the batch's rows by their conditioning features, for the
+	// conditioning heads.
+	grp rowGroups
 
 	x, xf, phi, wr []float64 // input backing arrays
 }
@@ -134,7 +142,7 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 	heads := make([]*G.Node, len(l.madeW))
 	for i := range l.madeW {
 		v := m.Weights[l.condV[i]]
-		hl := &maskedLinear{name: v.Name, t: denseTiling(v.Shape[0], v.Shape[1]), needDX: len(c.CondHidden) > 0, f32: f32}
+		hl := &maskedLinear{name: v.Name, t: denseTiling(v.Shape[0], v.Shape[1]), needDX: len(c.CondHidden) > 0, f32: f32, grp: &gr.grp}
 		gr.byWeight[l.condV[i]] = append(gr.byWeight[l.condV[i]], hl)
 		heads[i] = must(maskedMul(u, wn[l.condV[i]], hl))
 	}
@@ -142,7 +150,7 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 	var scales []*G.Node
 	for i := range l.condS {
 		v := m.Weights[l.condS[i]]
-		sl := &maskedLinear{name: v.Name, t: denseTiling(v.Shape[0], v.Shape[1]), needDX: len(c.CondHidden) > 0, f32: f32}
+		sl := &maskedLinear{name: v.Name, t: denseTiling(v.Shape[0], v.Shape[1]), needDX: len(c.CondHidden) > 0, f32: f32, grp: &gr.grp}
 		gr.byWeight[l.condS[i]] = append(gr.byWeight[l.condS[i]], sl)
 		scales = append(scales, must(maskedMul(u, wn[l.condS[i]], sl)))
 	}
@@ -289,6 +297,10 @@ func (gr *Graph) fill(xs []uint8, params []float64, n int) error {
 	fd := c.featDim()
 	for i := 0; i < n; i++ {
 		c.features(gr.phi[i*fd:(i+1)*fd], params[i*d:(i+1)*d])
+	}
+	gr.grp.on = false
+	if groupRows {
+		gr.grp.set(gr.phi, gr.batch, fd)
 	}
 	for i := range gr.wr {
 		gr.wr[i] = 0

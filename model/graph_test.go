@@ -150,34 +150,63 @@ func TestGradientFiniteDifference(t *testing.T) {
 		})},
 	}
 	for _, tc := range tests {
-		t.Run(tc.name, func(t *testing.T) {
-			m := randomModel(t, tc.cfg, 12, 0.6)
-			const batch, n = 7, 5
-			g, err := NewGraph(m, batch)
-			if err != nil {
-				t.Fatal(err)
+		// Each snapshot at its own λ, and on a grid of two λ, where the
+		// conditioning heads run once per distinct λ (rowGroups).
+		for _, grid := range []bool{false, true} {
+			name := tc.name
+			if grid {
+				name += "-grid"
 			}
-			xs, ps := randomBatch(tc.cfg, n, 13)
-			grads := zeroGrads(m)
-			if _, err := g.LossGrad(xs, ps, n, grads); err != nil {
-				t.Fatal(err)
+			t.Run(name, func(t *testing.T) { checkFiniteDifference(t, tc.cfg, grid) })
+		}
+	}
+}
+
+// gridBatch is randomBatch with every snapshot's λ one of two values.
+func gridBatch(cfg Config, n int, seed uint64) ([]uint8, []float64) {
+	xs, ps := randomBatch(cfg, n, seed)
+	d := cfg.ParamDim
+	for i := 2; i < n; i++ {
+		copy(ps[i*d:(i+1)*d], ps[(i%2)*d:(i%2+1)*d])
+	}
+	return xs, ps
+}
+
+// checkFiniteDifference compares LossGrad's gradient of a random model
+// with central finite differences of the scoring kernel's loss.
+func checkFiniteDifference(t *testing.T, cfg Config, grid bool) {
+	m := randomModel(t, cfg, 12, 0.6)
+	const batch, n = 7, 5
+	g, err := NewGraph(m, batch)
+	if err != nil {
+		t.Fatal(err)
+	}
+	xs, ps := randomBatch(cfg, n, 13)
+	if grid {
+		xs, ps = gridBatch(cfg, n, 13)
+	}
+	grads := zeroGrads(m)
+	if _, err := g.LossGrad(xs, ps, n, grads); err != nil {
+		t.Fatal(err)
+	}
+	// Two λ and the padding rows' zero features: three groups.
+	if g.grp.on != grid {
+		t.Fatalf("rows grouped: %v, want %v", g.grp.on, grid)
+	}
+	const h = 1e-5
+	for wi, w := range m.Weights {
+		for k := range w.Data {
+			old := w.Data[k]
+			w.Data[k] = old + h
+			lp := m.meanNLL(xs, ps, n)
+			w.Data[k] = old - h
+			lm := m.meanNLL(xs, ps, n)
+			w.Data[k] = old
+			fd := (lp - lm) / (2 * h)
+			if math.Abs(fd-grads[wi][k]) > 1e-6+1e-4*math.Abs(fd) {
+				t.Errorf("%s[%d]: gradient %v, finite difference %v", w.Name, k, grads[wi][k], fd)
 			}
-			const h = 1e-5
-			for wi, w := range m.Weights {
-				for k := range w.Data {
-					old := w.Data[k]
-					w.Data[k] = old + h
-					lp := m.meanNLL(xs, ps, n)
-					w.Data[k] = old - h
-					lm := m.meanNLL(xs, ps, n)
-					w.Data[k] = old
-					fd := (lp - lm) / (2 * h)
-					if math.Abs(fd-grads[wi][k]) > 1e-6+1e-4*math.Abs(fd) {
-						t.Errorf("%s[%d]: gradient %v, finite difference %v", w.Name, k, grads[wi][k], fd)
-					}
-				}
-			}
-		})
+		}
 	}
 }
 

@@ -154,6 +154,15 @@ type maskedLinear struct {
 	// defer32: gradW leaves its float32 result in g32 and dW untouched;
 	// the BatchGraph combines the chunks' g32 itself (see combine32).
 	defer32 bool
+
+	// grp, when set and on, groups the rows of x that are equal (the
+	// conditioning heads; see rowGroups): the products then run on one
+	// row per group, gathered in xu, with yu, dyu and dxu their output,
+	// summed output gradient and input gradient.
+	grp      *rowGroups
+	xu, yu   []float64
+	dyu, dxu []float64
+	dyuOK    bool
 }
 
 func (ml *maskedLinear) buf(i, n int) []float64 {
@@ -658,6 +667,8 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 					res[i] = math.Tanh(v)
 				}
 			}
+		} else if ml.grouped(rows) {
+			ml.forwardGrouped(res, a, rows)
 		} else {
 			ml.forward(res, a, rows, false)
 		}
@@ -690,7 +701,11 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 		// W⊙M was prepared by the forward operation of this step, which
 		// always runs first (dY depends on it).
 		res = ml.buf(1, rows*in)
-		ml.gradX(res, a, rows)
+		if ml.grouped(rows) {
+			ml.gradXGrouped(res, a, rows)
+		} else {
+			ml.gradX(res, a, rows)
+		}
 		shape = tensor.Shape{rows, in}
 	default:
 		// (ml.buf(2) is not trusted: gorgonia may reuse a gradient node's
@@ -700,7 +715,11 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 		if len(res) != in*out {
 			res, private = ml.buf(2, in*out), false
 		}
-		ml.gradW(res, a, b, rows)
+		if ml.grouped(rows) {
+			ml.gradWGrouped(res, b)
+		} else {
+			ml.gradW(res, a, b, rows)
+		}
 		ml.clean = nil
 		if private {
 			ml.clean = &res[0]
