@@ -26,6 +26,7 @@ def main():
     ap.add_argument("--reps", default="")
     ap.add_argument("--rounds", default="")
     ap.add_argument("--stream", default="")
+    ap.add_argument("--grid", type=int, default=0, help="grid points of the training batch's lambda (0: continuous)")
     ap.add_argument("--blascore", default="", help="OpenBLAS kernels of our openblas build (model.BLASCore)")
     ap.add_argument("--peercore", default="", help="OPENBLAS_CORETYPE given to the peer")
     a = ap.parse_args()
@@ -88,7 +89,10 @@ def main():
       "uses by default; `gobench -film` and `made_peer.py --film`). `train` = snapshots per second through LossGrad + an Adam update over all "
       "weights; `logprob` = log p per second by LogProb (1024 snapshots at one λ, split over the "
       "threads); `logprobmatrix64` = log p per second by LogProbMatrix at 64 λ (256 snapshots; 64 for "
-      "N > 256). The peer scores the matrix the ordinary way (one full forward pass per λ, batched); "
+      "N > 256). " + (f"Each training snapshot's λ is one of {a.grid} grid points, as a dataset's are; our step "
+      "runs the conditioning heads once per distinct λ in a chunk of the batch (model/groups.go), the peer, "
+      "written the ordinary way, once per snapshot (`bench/run.sh -g 0` gives every snapshot its own λ and "
+      "takes that saving away). " if a.grid > 1 else "Every training snapshot has its own λ. ") + "The peer scores the matrix the ordinary way (one full forward pass per λ, batched); "
       "ours computes the λ-independent first layer once per snapshot.")
     p()
     p("Our builds: `gonum` = default pure-Go build (gonum BLAS, with the GEMM of model/gemm: Go assembly for AVX2 or AVX-512, no cgo); `openblas` = "
@@ -174,7 +178,7 @@ def main():
         p("```")
     p()
     p("Raw figures: bench/last-run.jsonl. Reproduce: `bench/run.sh` (options: -s shapes of the additive "
-      "model, -f shapes of the FiLM model, -b budget, -r repetitions, -n rounds).")
+      "model, -f shapes of the FiLM model, -g grid points, -b budget, -r repetitions, -n rounds).")
 
 
 if __name__ == "__main__":

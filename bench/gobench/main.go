@@ -66,9 +66,14 @@ func main() {
 	matRows := flag.Int("matrows", 256, "snapshots scored at 64 λ by LogProbMatrix")
 	cpuprof := flag.String("cpuprofile", "", "write a CPU profile to this file")
 	traceOut := flag.String("trace", "", "write an execution trace to this file (go tool trace; shows threads waiting)")
+	flag.IntVar(&grid, "grid", 0, "draw each training snapshot's λ from this many evenly spaced grid points in [0, 1], as datasets are (0: a continuous λ per snapshot)")
 	flag.BoolVar(&film, "film", false, "FiLM conditioning (the trainer's default model; the peer's with --film) instead of shifts only")
 	blasCore := flag.Bool("blascore", false, "print the OpenBLAS kernels in use (model.BLASCore) and exit")
 	flag.Parse()
+	if grid == 1 || grid < 0 {
+		fmt.Fprintf(os.Stderr, "gobench: -grid must be 0 (continuous λ) or at least 2 grid points, found %d\n", grid)
+		os.Exit(2)
+	}
 	if *blasCore {
 		fmt.Println(model.BLASCore())
 		return
@@ -200,6 +205,7 @@ var (
 	only       *string
 	chunksFlag *int
 	film       bool // FiLM conditioning (-film)
+	grid       int  // grid points λ is drawn from (-grid; 0 = continuous)
 )
 
 func want(what string) bool { return *only == "" || *only == what }
@@ -309,9 +315,15 @@ func measureShape(n, h int, prec string, threads, reps, matRows int, budget time
 	for i := range xs {
 		xs[i] = uint8(rng.IntN(2))
 	}
+	// The training batch's λ: on a grid, as a dataset's snapshots are
+	// (the step then runs the conditioning heads once per distinct λ), or
+	// continuous, one λ per snapshot.
 	ps := make([]float64, batch)
 	for i := range ps {
 		ps[i] = rng.Float64()
+		if grid > 1 {
+			ps[i] = float64(rng.IntN(grid)) / float64(grid-1)
+		}
 	}
 	// Training as in package train: the batch is split over one graph per
 	// thread (model.BatchGraph: W⊙M prepared once per step by all threads,

@@ -126,8 +126,11 @@ def main():
     ap.add_argument("--reps", type=int, default=5)
     ap.add_argument("--gemm", type=int, default=1024)
     ap.add_argument("--matrows", type=int, default=256)
+    ap.add_argument("--grid", type=int, default=0, help="draw the training batch's lambda from this many grid points in [0, 1] (0: continuous)")
     ap.add_argument("--film", action="store_true", help="FiLM conditioning (tidemark's default model) instead of shifts only")
     a = ap.parse_args()
+    if a.grid == 1 or a.grid < 0:
+        ap.error(f"--grid must be 0 (continuous lambda) or at least 2 grid points, found {a.grid}")
     torch.set_num_threads(a.threads)
     torch.manual_seed(1)
     common = dict(side="peer", threads=a.threads, blas="torch " + torch.__version__)
@@ -154,6 +157,8 @@ def main():
         g = torch.Generator().manual_seed(7)
         x = torch.randint(0, 2, (B, n), generator=g).float()
         lam = torch.rand(B, generator=g)
+        if a.grid > 1:
+            lam = torch.randint(0, a.grid, (B,), generator=g).float() / (a.grid - 1)
         third = a.budget / 3
         steps = 2
 
