@@ -102,24 +102,16 @@ func filmForward(o []float64, o32 []float32, a, p, s []float64, act int) {
 		o32 = o32[:n]
 	}
 	switch act {
-	case actRelu:
-		for i, v := range p {
-			a := v + float64(v*s[i])
-			o[i] = reluTimes(a, a)
-		}
+	case actRelu, actNone:
+		vFilmFwd(o, o32, p, s, act == actRelu)
+		return
 	case actSoftplus:
 		a = a[:n]
-		for i, v := range p {
-			a[i] = v + float64(v*s[i])
-		}
+		vFilmFwd(a, nil, p, s, false)
 		vFilmSoftplus(o, a)
 	case actTanh:
 		for i, v := range p {
 			o[i] = math.Tanh(v + float64(v*s[i]))
-		}
-	default:
-		for i, v := range p {
-			o[i] = v + float64(v*s[i])
 		}
 	}
 	if o32 != nil {
@@ -149,24 +141,16 @@ func filmBackward(dp, ds []float64, d32 []float32, d, s, o, p, a []float64, act 
 		}
 	}
 	switch act {
-	case actRelu:
-		for i, v := range d {
-			put(i, reluTimes(v, o[i]))
-		}
+	case actRelu, actNone:
+		vFilmBwd(dp, ds, d32, d, s, o, p, act == actRelu)
 	case actSoftplus:
 		// dA overwrites A, which is read for the last time.
 		a = a[:n]
 		vFilmSoftplusGrad(a, d, a, o)
-		for i, g := range a {
-			put(i, g)
-		}
+		vFilmBwd(dp, ds, d32, a, s, nil, p, false)
 	case actTanh:
 		for i, v := range d {
 			put(i, (1-o[i]*o[i])*v)
-		}
-	default:
-		for i, v := range d {
-			put(i, v)
 		}
 	}
 }

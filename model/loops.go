@@ -186,8 +186,8 @@ func logits32Go(z, dx []float64, y []float32, b []float64, rows, w int) {
 }
 
 // fusedActGo is res = act(float64(y) + hd + b) for rows rows of width
-// w, b broadcast over the rows, act actRelu or actSoftplus, and its
-// float32 rounding into r32 unless r32 is nil.
+// w, b broadcast over the rows, act actRelu, actSoftplus or actNone, and
+// its float32 rounding into r32 unless r32 is nil.
 func fusedActGo(res []float64, r32 []float32, y []float32, hd, b []float64, rows, w, act int) {
 	b = b[:w]
 	for i := 0; i < rows; i++ {
@@ -195,6 +195,10 @@ func fusedActGo(res []float64, r32 []float32, y []float32, hd, b []float64, rows
 		if act == actSoftplus {
 			for k, v := range y {
 				r[k] = softplus(float64(v) + h[k] + b[k])
+			}
+		} else if act == actNone {
+			for k, v := range y {
+				r[k] = float64(v) + h[k] + b[k]
 			}
 		} else {
 			for k, v := range y {
@@ -291,6 +295,55 @@ func combine32Go(dst []float64, g0, g1 []float32, f0, f1 float64, mask []float64
 			for k := range d {
 				d[k] *= mk[k]
 			}
+		}
+	}
+}
+
+// filmFwdGo writes o = p + p⊙s (the product rounded before the sum, as
+// gorgonia's two operations round), through ReLU (reluTimes) when relu
+// is set, and its float32 rounding into o32 unless o32 is nil.
+func filmFwdGo(o []float64, o32 []float32, p, s []float64, relu bool) {
+	n := len(o)
+	p, s = p[:n], s[:n]
+	if relu {
+		for i, v := range p {
+			a := v + float64(v*s[i])
+			o[i] = reluTimes(a, a)
+		}
+	} else {
+		for i, v := range p {
+			o[i] = v + float64(v*s[i])
+		}
+	}
+	if o32 != nil {
+		o32 = o32[:n]
+		for i, v := range o {
+			o32[i] = float32(v)
+		}
+	}
+}
+
+// filmBwdGo writes dp = g + g⊙s and ds = g⊙p, with g = d where the ReLU
+// output o is positive and a zero elsewhere when relu is set (reluTimes),
+// else g = d, and the float32 rounding of dp into d32 unless it is nil.
+func filmBwdGo(dp, ds []float64, d32 []float32, d, s, o, p []float64, relu bool) {
+	n := len(dp)
+	d, s, p, ds = d[:n], s[:n], p[:n], ds[:n]
+	if relu {
+		o = o[:n]
+	}
+	if d32 != nil {
+		d32 = d32[:n]
+	}
+	for i, g := range d {
+		if relu {
+			g = reluTimes(g, o[i])
+		}
+		v := g + float64(g*s[i])
+		dp[i] = v
+		ds[i] = g * p[i]
+		if d32 != nil {
+			d32[i] = float32(v)
 		}
 	}
 }

@@ -510,7 +510,7 @@ func reluGrad(d, o float64) float64 {
 // rows, and its float32 rounding into r32 unless r32 is nil.
 func fusedAct(res []float64, r32 []float32, y32 []float32, hd, b []float64, act int) {
 	out := len(b)
-	if act == actRelu || act == actSoftplus {
+	if act == actRelu || act == actSoftplus || act == actNone {
 		vFusedAct(res, r32, y32, hd, b, len(y32)/out, out, act)
 		return
 	}

@@ -245,6 +245,7 @@ CLONES void tm_to64(double *dst, const float *src, long n, int acc) {
 
 // The activations of the kernels below (the values of masked.go's actRelu
 // and actSoftplus).
+#define TM_NONE 0
 #define TM_RELU 1
 #define TM_SOFTPLUS 3
 
@@ -320,6 +321,8 @@ CLONES void tm_fused_act(double *res, float *r32, const float *y, const double *
 		const double *h = hd + i * w;
 		if (act == TM_SOFTPLUS) {
 			for (long k = 0; k < w; k++) r[k] = tm_softplus(((double)yr[k] + h[k]) + b[k]);
+		} else if (act == TM_NONE) {
+			for (long k = 0; k < w; k++) r[k] = ((double)yr[k] + h[k]) + b[k];
 		} else {
 			for (long k = 0; k < w; k++) r[k] = relu0(((double)yr[k] + h[k]) + b[k]);
 		}
@@ -334,6 +337,46 @@ CLONES void tm_fused_act(double *res, float *r32, const float *y, const double *
 // output O (σ(z) = 1 − e^−softplus(z)) for n values.
 CLONES void tm_softplus_grad(double *res, const double *a, const double *o, long n) {
 	for (long k = 0; k < n; k++) res[k] = -a[k] * tm_expm1neg(o[k]);
+}
+
+// tm_relu_times is model.reluTimes: v where the sign bit of x is clear, v
+// with its magnitude bits cleared (a zero of v's sign) where it is set.
+static inline double tm_relu_times(double v, double x) {
+	uint64_t vb, xb;
+	memcpy(&vb, &v, 8);
+	memcpy(&xb, &x, 8);
+	vb &= ~((uint64_t)((int64_t)xb >> 63) >> 1);
+	memcpy(&v, &vb, 8);
+	return v;
+}
+
+// tm_film_fwd is model.filmFwdGo: o = p + p·s, through ReLU when relu is
+// set, and its float32 copy in o32 unless o32 is nil.
+CLONES void tm_film_fwd(double *o, float *o32, const double *p, const double *s, long n, int relu) {
+	if (relu) {
+		for (long k = 0; k < n; k++) {
+			double a = p[k] + p[k] * s[k];
+			o[k] = tm_relu_times(a, a);
+		}
+	} else {
+		for (long k = 0; k < n; k++) o[k] = p[k] + p[k] * s[k];
+	}
+	if (o32) {
+		for (long k = 0; k < n; k++) o32[k] = (float)o[k];
+	}
+}
+
+// tm_film_bwd is model.filmBwdGo: with g = d (masked by the ReLU output o
+// when relu is set), dp = g + g·s, ds = g·p, and dp's float32 copy in d32
+// unless d32 is nil.
+CLONES void tm_film_bwd(double *dp, double *ds, float *d32, const double *d, const double *s, const double *o, const double *p, long n, int relu) {
+	for (long k = 0; k < n; k++) {
+		double g = relu ? tm_relu_times(d[k], o[k]) : d[k];
+		double v = g + g * s[k];
+		dp[k] = v;
+		ds[k] = g * p[k];
+		if (d32) d32[k] = (float)v;
+	}
 }
 
 // tm_relu_grad is res = dO where the ReLU output O is not +0, else +0, and

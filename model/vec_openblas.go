@@ -20,6 +20,8 @@ package model
 // void tm_softplus_n(double *dst, const double *v, long n);
 // void tm_expm1neg_n(double *dst, const double *o, long n);
 // void tm_relu_grad(double *res, float *d32, const double *a, const double *o, long n);
+// void tm_film_fwd(double *o, float *o32, const double *p, const double *s, long n, int relu);
+// void tm_film_bwd(double *dp, double *ds, float *d32, const double *d, const double *s, const double *o, const double *p, long n, int relu);
 // void tm_colsum(double *db, const double *a, long rows, long w);
 // void tm_masked32(float *dst, const double *w, const double *mask, const uint8_t *full, long out, long a0, long a1, long lo, long hi);
 // void tm_combine32(double *dst, const float *g0, const float *g1, double f0, double f1, const double *mask, const uint8_t *full, long out, long a0, long a1, long lo, long j0, long j1);
@@ -239,6 +241,46 @@ func vReluGrad(res []float64, d32 []float32, a, o []float64) {
 		need(len(d32), n)
 	}
 	C.tm_relu_grad(pd(res), pf(d32), pd(a), pd(o), C.long(n))
+}
+
+func cbool(b bool) C.int {
+	if b {
+		return 1
+	}
+	return 0
+}
+
+func vFilmFwd(o []float64, o32 []float32, p, s []float64, relu bool) {
+	n := len(o)
+	if n == 0 {
+		return
+	}
+	need(len(p), n)
+	need(len(s), n)
+	if o32 != nil {
+		need(len(o32), n)
+	}
+	C.tm_film_fwd(pd(o), pf(o32), pd(p), pd(s), C.long(n), cbool(relu))
+}
+
+func vFilmBwd(dp, ds []float64, d32 []float32, d, s, o, p []float64, relu bool) {
+	n := len(dp)
+	if n == 0 {
+		return
+	}
+	need(len(ds), n)
+	need(len(d), n)
+	need(len(s), n)
+	need(len(p), n)
+	if relu {
+		need(len(o), n)
+	} else {
+		o = nil
+	}
+	if d32 != nil {
+		need(len(d32), n)
+	}
+	C.tm_film_bwd(pd(dp), pd(ds), pf(d32), pd(d), pd(s), pd(o), pd(p), C.long(n), cbool(relu))
 }
 
 func vColSum(db, a []float64, rows, w int) {

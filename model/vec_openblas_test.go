@@ -114,6 +114,30 @@ func TestVecExactKernels(t *testing.T) {
 			fusedActGo(want, w32, s32, hd, b, rows, w, actRelu)
 			sameAll(t, "fusedRelu", got, want)
 			sameAll32(t, "fusedRelu float32 copy", g32, w32)
+			vFusedAct(got, g32, s32, hd, b, rows, w, actNone)
+			fusedActGo(want, w32, s32, hd, b, rows, w, actNone)
+			sameAll(t, "fused, no activation", got, want)
+			sameAll32(t, "fused, no activation, float32 copy", g32, w32)
+
+			// FiLM: o = act(p + p⊙s) and its gradients (p = src,
+			// s = hd, the output gradient d = b's rows repeated).
+			d := make([]float64, n)
+			for i := range d {
+				d[i] = b[i%w]
+			}
+			for _, relu := range []bool{false, true} {
+				vFilmFwd(got, g32, src, hd, relu)
+				filmFwdGo(want, w32, src, hd, relu)
+				sameAll(t, "filmFwd", got, want)
+				sameAll32(t, "filmFwd float32 copy", g32, w32)
+				o := append([]float64(nil), want...)
+				gs, ws := make([]float64, n), make([]float64, n)
+				vFilmBwd(got, gs, g32, d, hd, o, src, relu)
+				filmBwdGo(want, ws, w32, d, hd, o, src, relu)
+				sameAll(t, "filmBwd dp", got, want)
+				sameAll(t, "filmBwd ds", gs, ws)
+				sameAll32(t, "filmBwd float32 copy", g32, w32)
+			}
 
 			// ReLU outputs as the forward pass writes them (+0 where off).
 			o := make([]float64, n)

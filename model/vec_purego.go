@@ -38,6 +38,12 @@ func vCombine32(dst []float64, g0, g1 []float32, f0, f1 float64, mask []float64,
 	combine32Go(dst, g0, g1, f0, f1, mask, c, out, j0, j1)
 }
 func vAct64(x, b []float64, rows, w, act int) { act64Go(x, b, rows, w, act) }
+func vFilmFwd(o []float64, o32 []float32, p, s []float64, relu bool) {
+	filmFwdGo(o, o32, p, s, relu)
+}
+func vFilmBwd(dp, ds []float64, d32 []float32, d, s, o, p []float64, relu bool) {
+	filmBwdGo(dp, ds, d32, d, s, o, p, relu)
+}
 
 // The FiLM layer's softplus and its derivative dA = dO·σ(A) are gorgonia's
 // (film.go), so that the pure-Go build trains bit for bit as with
