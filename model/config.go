@@ -124,11 +124,13 @@ func DefaultHiddenWidth(n int) int {
 // with augmentation they were 0.21–0.31, the closest of all. So train with
 // --augment wherever the system has the symmetries. A FiLM training step
 // costs about 1.4× an additive one in the pure-Go build and 1.3× in the
-// openblas build (BenchmarkFiLM, N = 256, H = 256, float64, one core,
-// medians of 5 at load ≈ 1: 8,987 against 12,351 and 11,800 against
-// 15,184 snapshots/s; the pure-Go FiLM step keeps gorgonia's slower
-// softplus so that it trains bit for bit as before, see film.go); scoring
-// costs one multiplication more per unit (within the noise).
+// openblas build (BenchmarkFiLM, N = 256, H = 256, float64, one core, one
+// λ per snapshot, medians of 5 at load ≈ 1: 8,987 against 12,351 and
+// 11,800 against 15,184 snapshots/s; the pure-Go FiLM step keeps
+// gorgonia's slower softplus so that it trains bit for bit as before, see
+// film.go); on grid data, where the conditioning heads run once per
+// distinct λ (rowGroups), less. Scoring costs one multiplication more per
+// unit (within the noise).
 func DefaultConfig(n, q, d int, lo, hi []float64) Config {
 	w := DefaultHiddenWidth(n)
 	return Config{

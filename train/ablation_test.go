@@ -32,6 +32,8 @@ import (
 //	AUG (symmetries to augment with, e.g. "translate,mirror,rotate,flip")
 //	CKPT (a path pattern with %d for the seed: load the model from it when
 //	it exists, else train and save it there)   DUMP=1 (print the fisher curves)
+//	HOLD (the --holdout spec, default "T=2.0909090909;2.6363636364" as the
+//	training tests; HOLD=none trains on every grid point)
 //	SYMEV=d4 or all (score with the mixture of the model over the lattice's
 //	point group and the flip, or over the whole group with translations;
 //	symeval_ablation_test.go)
@@ -70,7 +72,11 @@ func TestAblation(t *testing.T) {
 			ck, _ = checkpoints.Load(path)
 		}
 		if ck == nil {
-			ck, err = Run(context.Background(), ds, Options{Settings: st, Holdout: "T=2.0909090909;2.6363636364"})
+			hold := envString("HOLD", "T=2.0909090909;2.6363636364")
+			if hold == "none" {
+				hold = ""
+			}
+			ck, err = Run(context.Background(), ds, Options{Settings: st, Holdout: hold})
 			if err != nil {
 				t.Fatal(err)
 			}
