@@ -25,6 +25,7 @@ import (
 // environment:
 //
 //	PER (snapshots per point, 2000)   EPOCHS (30)   SEEDS (models averaged, 1)
+//	NT (temperatures, 12; 23 halves the spacing and keeps the held-out points)
 //	SEED (the first training seed, 1)
 //	ACT, CONDACT (activations)        HIDDEN, COND (widths, "16,16"; COND=none)
 //	FOURIER (1)   SYM=1 (flip symmetry)   WD (weight decay)   LR
@@ -40,7 +41,7 @@ import (
 //
 // Run: ACT=softplus PER=4000 go test -tags ablation ./train -run TestAblation -v
 func TestAblation(t *testing.T) {
-	temps := linspace(1, 4, 12)
+	temps := linspace(1, 4, envInt(t, "NT", 12))
 	ds, src := isingDataset(t, 4, 4, temps, envInt(t, "PER", 2000), 11)
 	st := DefaultSettings()
 	st.Epochs = envInt(t, "EPOCHS", 30)
