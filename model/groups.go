@@ -73,7 +73,7 @@ func (ml *maskedLinear) grouped(rows int) bool {
 
 // forwardGrouped computes y = x·(W⊙M) for rows rows whose x rows are equal
 // within each group of ml.grp: one product row per group, copied to every
-// row of the group. The rows are the same numbers a full product gives.
+// row of the group.
 func (ml *maskedLinear) forwardGrouped(y, x []float64, rows int) {
 	g := ml.grp
 	in, out, u := ml.t.in, ml.t.out, len(g.first)

@@ -335,15 +335,22 @@ func filmBwdGo(dp, ds []float64, d32 []float32, d, s, o, p []float64, relu bool)
 	if d32 != nil {
 		d32 = d32[:n]
 	}
-	for i, g := range d {
-		if relu {
-			g = reluTimes(g, o[i])
-		}
+	put := func(i int, g float64) {
 		v := g + float64(g*s[i])
 		dp[i] = v
 		ds[i] = g * p[i]
 		if d32 != nil {
 			d32[i] = float32(v)
 		}
+	}
+	// One loop each, so that neither tests relu per entry.
+	if relu {
+		for i, g := range d {
+			put(i, reluTimes(g, o[i]))
+		}
+		return
+	}
+	for i, g := range d {
+		put(i, g)
 	}
 }

@@ -510,21 +510,14 @@ func reluGrad(d, o float64) float64 {
 // rows, and its float32 rounding into r32 unless r32 is nil.
 func fusedAct(res []float64, r32 []float32, y32 []float32, hd, b []float64, act int) {
 	out := len(b)
-	if act == actRelu || act == actSoftplus || act == actNone {
+	if act != actTanh {
 		vFusedAct(res, r32, y32, hd, b, len(y32)/out, out, act)
 		return
 	}
 	for i := 0; i < len(y32)/out; i++ {
 		r, y, h := res[i*out:(i+1)*out], y32[i*out:(i+1)*out], hd[i*out:(i+1)*out]
-		switch act {
-		case actTanh:
-			for k, v := range y {
-				r[k] = math.Tanh(float64(v) + h[k] + b[k])
-			}
-		default:
-			for k, v := range y {
-				r[k] = float64(v) + h[k] + b[k]
-			}
+		for k, v := range y {
+			r[k] = math.Tanh(float64(v) + h[k] + b[k])
 		}
 		if r32 != nil {
 			q := r32[i*out : (i+1)*out]

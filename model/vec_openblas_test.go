@@ -325,12 +325,26 @@ func TestVecBernoulli(t *testing.T) {
 // TestVecLengthChecks: a short slice panics in the wrapper rather than
 // being read past its end by C.
 func TestVecLengthChecks(t *testing.T) {
-	defer func() {
-		if recover() == nil {
-			t.Fatal("vTo32 into a short slice did not panic")
-		}
-	}()
-	vTo32(make([]float32, 3), make([]float64, 4))
+	short, long := make([]float64, 3), make([]float64, 4)
+	tests := []struct {
+		name string
+		call func()
+	}{
+		{"vTo32", func() { vTo32(make([]float32, 3), long) }},
+		{"vFilmFwd", func() { vFilmFwd(long, nil, long, short, true) }},
+		{"vFilmBwd relu", func() { vFilmBwd(long, long, nil, long, long, short, long, true) }},
+		{"vFilmBwd float32", func() { vFilmBwd(long, long, make([]float32, 3), long, long, nil, long, false) }},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			defer func() {
+				if recover() == nil {
+					t.Fatalf("%s with a short slice did not panic", tc.name)
+				}
+			}()
+			tc.call()
+		})
+	}
 }
 
 // BenchmarkVecRowLP2 times the q = 2 scoring sums of 64 rows of 256 sites,
