@@ -97,10 +97,6 @@ func reluTimes(v, x float64) float64 {
 // so that none branches per entry on the activation.
 func filmForward(o []float64, o32 []float32, a, p, s []float64, act int) {
 	n := len(o)
-	p, s = p[:n], s[:n]
-	if o32 != nil {
-		o32 = o32[:n]
-	}
 	switch act {
 	case actRelu, actNone:
 		vFilmFwd(o, o32, p, s, act == actRelu)
@@ -110,11 +106,13 @@ func filmForward(o []float64, o32 []float32, a, p, s []float64, act int) {
 		vFilmFwd(a, nil, p, s, false)
 		vFilmSoftplus(o, a)
 	case actTanh:
-		for i, v := range p {
-			o[i] = math.Tanh(v + float64(v*s[i]))
+		vFilmFwd(o, nil, p, s, false)
+		for i, v := range o {
+			o[i] = math.Tanh(v)
 		}
 	}
 	if o32 != nil {
+		o32 = o32[:n]
 		for i, v := range o {
 			o32[i] = float32(v)
 		}
@@ -128,18 +126,7 @@ func filmForward(o []float64, o32 []float32, a, p, s []float64, act int) {
 // passes, is the one difference), softplus's reads a.
 func filmBackward(dp, ds []float64, d32 []float32, d, s, o, p, a []float64, act int) {
 	n := len(dp)
-	d, s, o, p, ds = d[:n], s[:n], o[:n], p[:n], ds[:n]
-	if d32 != nil {
-		d32 = d32[:n]
-	}
-	put := func(i int, g float64) {
-		v := g + float64(g*s[i])
-		dp[i] = v
-		ds[i] = g * p[i]
-		if d32 != nil {
-			d32[i] = float32(v)
-		}
-	}
+	d, o = d[:n], o[:n]
 	switch act {
 	case actRelu, actNone:
 		vFilmBwd(dp, ds, d32, d, s, o, p, act == actRelu)
@@ -149,9 +136,12 @@ func filmBackward(dp, ds []float64, d32 []float32, d, s, o, p, a []float64, act 
 		vFilmSoftplusGrad(a, d, a, o)
 		vFilmBwd(dp, ds, d32, a, s, nil, p, false)
 	case actTanh:
+		// dA goes into dp first; vFilmBwd reads each entry before it
+		// writes it.
 		for i, v := range d {
-			put(i, (1-o[i]*o[i])*v)
+			dp[i] = (1 - o[i]*o[i]) * v
 		}
+		vFilmBwd(dp, ds, d32, dp, s, nil, p, false)
 	}
 }
 

@@ -298,9 +298,10 @@ func (gr *Graph) fill(xs []uint8, params []float64, n int) error {
 	for i := 0; i < n; i++ {
 		c.features(gr.phi[i*fd:(i+1)*fd], params[i*d:(i+1)*d])
 	}
-	gr.grp.on = false
 	if groupRows {
 		gr.grp.set(gr.phi, gr.batch, fd)
+	} else {
+		gr.grp.on = false
 	}
 	for i := range gr.wr {
 		gr.wr[i] = 0
