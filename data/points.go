@@ -6,7 +6,7 @@ import (
 )
 
 // ForEachPoint calls fn(k) for every grid point k = 0..n−1 on up to threads
-// goroutines (at least one). Which goroutine runs a point must not matter:
+// goroutines (≤ 0: every CPU, Threads). Which goroutine runs a point must not matter:
 // generators seed point k from (seed, k). It stops handing out points once
 // ctx is done and then returns ctx's error; otherwise it returns the error
 // of the lowest-numbered point that failed, or nil.
@@ -14,7 +14,7 @@ func ForEachPoint(ctx context.Context, n, threads int, fn func(k int) error) err
 	jobs := make(chan int)
 	errs := make([]error, n)
 	var wg sync.WaitGroup
-	for w := 0; w < max(threads, 1); w++ {
+	for w := 0; w < Threads(threads); w++ {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()

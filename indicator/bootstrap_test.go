@@ -1,16 +1,20 @@
 package indicator
 
 import (
+	"context"
 	"math"
 	"testing"
+
+	"tidemark/data/density"
+	"tidemark/data/density/densitytest"
 )
 
 // meanErr runs a bootstrap scan of product-Bernoulli data with per samples
 // per point and returns the mean standard error of each curve.
 func meanErr(t *testing.T, per int) map[string]float64 {
-	src := &bernoulli{n: 8, d: 1, a: 2, c: 1}
+	src := &densitytest.Logistic{N: 8, D: 1, A: 2, C: 1}
 	ds := bernoulliData(src, linspace(0, 2, 9), nil, per, 3)
-	res, err := Run([]Source{src}, ds, Config{Bootstrap: 200, Threads: 2, Seed: 5, ModelSamples: per})
+	res, err := Run(context.Background(), []density.Source{src}, ds, Config{Bootstrap: 200, Threads: 2, Seed: 5, ModelSamples: per})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -39,18 +43,18 @@ func TestBootstrapErrorsShrinkAsOneOverRootN(t *testing.T) {
 
 func TestHistogramAgreesWithExact(t *testing.T) {
 	// 4 sites: 16 states, well sampled by 1000 snapshots a point.
-	src := &bernoulli{n: 4, d: 1, a: 3, c: 1}
+	src := &densitytest.Logistic{N: 4, D: 1, A: 3, C: 1}
 	ds := bernoulliData(src, linspace(0.2, 1.8, 9), nil, 1000, 11)
-	h, err := NewHistogram(ds)
+	h, err := density.NewHistogram(ds)
 	if err != nil {
 		t.Fatal(err)
 	}
 	cfg := Config{Bootstrap: 100, Threads: 2, Seed: 2, Indicators: []string{LBC, SL, PBM, Local, Fisher}}
-	rh, err := Run([]Source{h}, ds, cfg)
+	rh, err := Run(context.Background(), []density.Source{h}, ds, cfg)
 	if err != nil {
 		t.Fatal(err)
 	}
-	re, err := Run([]Source{src}, ds, cfg)
+	re, err := Run(context.Background(), []density.Source{src}, ds, cfg)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -66,13 +70,13 @@ func TestHistogramAgreesWithExact(t *testing.T) {
 }
 
 func TestHistogramRefusals(t *testing.T) {
-	src := &bernoulli{n: 12, d: 1, a: 1, c: 1}
+	src := &densitytest.Logistic{N: 12, D: 1, A: 1, C: 1}
 	ds := bernoulliData(src, linspace(0, 2, 3), nil, 200, 1)
-	if _, err := NewHistogram(ds); err == nil {
+	if _, err := density.NewHistogram(ds); err == nil {
 		t.Fatal("histogram of 4096 states from 200 samples accepted")
 	}
-	small := bernoulliData(&bernoulli{n: 2, d: 1, a: 1, c: 1}, linspace(0, 2, 3), nil, 100, 1)
-	h, err := NewHistogram(small)
+	small := bernoulliData(&densitytest.Logistic{N: 2, D: 1, A: 1, C: 1}, linspace(0, 2, 3), nil, 100, 1)
+	h, err := density.NewHistogram(small)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,8 +1,12 @@
 package indicator
 
 import (
+	"context"
 	"math"
 	"testing"
+
+	"tidemark/data/density"
+	"tidemark/data/density/densitytest"
 )
 
 func curveByName(t *testing.T, cs []*Curve, name string) *Curve {
@@ -19,11 +23,11 @@ func curveByName(t *testing.T, cs []*Curve, name string) *Curve {
 // closedForms computes the 1-D indicators of the product-Bernoulli family at
 // grid xs by summing binomial terms over the number of ones (common
 // practice: a product distribution depends on x only through that count).
-func closedForms(src *bernoulli, xs []float64) map[string][]float64 {
-	N, K := src.n, len(xs)
+func closedForms(src *densitytest.Logistic, xs []float64) map[string][]float64 {
+	N, K := src.N, len(xs)
 	ps := make([]float64, K)
 	for k, x := range xs {
-		ps[k] = src.p([]float64{x})
+		ps[k] = src.P([]float64{x})
 	}
 	out := map[string][]float64{}
 	// pk(j) = probability of one snapshot with j ones at point k
@@ -77,16 +81,16 @@ func closedForms(src *bernoulli, xs []float64) map[string][]float64 {
 	// Fisher information of N i.i.d. Bernoulli sites: N p'²/(p(1−p)) with
 	// p' = a p(1−p) (common practice).
 	for _, p := range ps {
-		out["fisher_deriv"] = append(out["fisher_deriv"], float64(N)*src.a*src.a*p*(1-p))
+		out["fisher_deriv"] = append(out["fisher_deriv"], float64(N)*src.A*src.A*p*(1-p))
 	}
 	return out
 }
 
 func TestExactSumsMatchClosedForms(t *testing.T) {
-	src := &bernoulli{n: 10, d: 1, a: 3, c: 1}
+	src := &densitytest.Logistic{N: 10, D: 1, A: 3, C: 1}
 	xs := linspace(0, 2, 9)
 	ds := bernoulliData(src, xs, nil, 4, 1)
-	res, err := Run([]Source{src}, ds, Config{ExactSums: true, Threads: 2})
+	res, err := Run(context.Background(), []density.Source{src}, ds, Config{ExactSums: true, Threads: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -114,8 +118,8 @@ func TestExactSumsMatchClosedForms(t *testing.T) {
 	}
 	// The family's Fisher information peaks at p = 1/2, λ = c (common practice).
 	fd := curveByName(t, res.Curves, "fisher_deriv")
-	if len(fd.Peaks) != 1 || math.Abs(fd.Peaks[0].At[0]-src.c) > 0.02 {
-		t.Errorf("fisher_deriv peaks %+v, want one near %g", fd.Peaks, src.c)
+	if len(fd.Peaks) != 1 || math.Abs(fd.Peaks[0].At[0]-src.C) > 0.02 {
+		t.Errorf("fisher_deriv peaks %+v, want one near %g", fd.Peaks, src.C)
 	}
 }
 
@@ -123,10 +127,10 @@ func TestJSDTraceMapMatchesFisherMetric(t *testing.T) {
 	// p = logistic(a(T − c − b·J)): the Fisher metric of N independent sites
 	// is N p(1−p) a² (1, −b; −b, b²), trace N a² p(1−p)(1 + b²) (common
 	// practice).
-	src := &bernoulli{n: 6, d: 2, a: 2, c: 1, b: 0.5}
+	src := &densitytest.Logistic{N: 6, D: 2, A: 2, C: 1, B: 0.5}
 	ts, js := linspace(0, 2, 21), linspace(0, 1, 11)
 	ds := bernoulliData(src, ts, js, 2, 1)
-	res, err := Run([]Source{src}, ds, Config{ExactSums: true, Indicators: []string{Fisher}, Threads: 2})
+	res, err := Run(context.Background(), []density.Source{src}, ds, Config{ExactSums: true, Indicators: []string{Fisher}, Threads: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -135,8 +139,8 @@ func TestJSDTraceMapMatchesFisherMetric(t *testing.T) {
 		t.Fatalf("%d cell centres, want 200", len(c.Pos))
 	}
 	for i, p := range c.Pos {
-		q := src.p(p)
-		want := float64(src.n) * src.a * src.a * q * (1 - q) * (1 + src.b*src.b)
+		q := src.P(p)
+		want := float64(src.N) * src.A * src.A * q * (1 - q) * (1 + src.B*src.B)
 		// discretisation error O(Δ²) of the divergences and of the edge means
 		if d := math.Abs(c.Val[i] - want); d > 0.03*want {
 			t.Errorf("trace at %v: %.5g, closed form %.5g", p, c.Val[i], want)
@@ -147,7 +151,7 @@ func TestJSDTraceMapMatchesFisherMetric(t *testing.T) {
 		if b.Indicator == Fisher && b.Axis == "T" {
 			found = true
 			for _, p := range b.Points {
-				if w := src.c + src.b*p[1]; math.Abs(p[0]-w) > 0.02 {
+				if w := src.C + src.B*p[1]; math.Abs(p[0]-w) > 0.02 {
 					t.Errorf("fisher ridge point %v, want T = %.3f", p, w)
 				}
 			}

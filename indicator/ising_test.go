@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"tidemark/data"
+	"tidemark/data/density"
 	"tidemark/data/ising"
 	"tidemark/indicator"
 )
@@ -93,7 +94,7 @@ func TestIsing4x4FisherMatchesBeale(t *testing.T) {
 		pts = append(pts, []float64{x})
 	}
 	ds := gridDataset(t, 16, []string{"T"}, pts)
-	res, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{ExactSums: true, Indicators: []string{indicator.Fisher}, Threads: 2})
+	res, err := indicator.Run(context.Background(), []density.Source{src}, ds, indicator.Config{ExactSums: true, Indicators: []string{indicator.Fisher}, Threads: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -133,7 +134,7 @@ func TestIsingAnisotropicBoundary(t *testing.T) {
 		}
 	}
 	ds := gridDataset(t, 16, []string{"T", "Jy"}, pts)
-	res, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{ExactSums: true, Indicators: []string{indicator.Fisher}, Threads: 2})
+	res, err := indicator.Run(context.Background(), []density.Source{src}, ds, indicator.Config{ExactSums: true, Indicators: []string{indicator.Fisher}, Threads: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -197,7 +198,7 @@ func TestIsingAnisotropicZoom(t *testing.T) {
 		}
 	}
 	ds := gridDataset(t, 16, []string{"T", "Jy"}, pts)
-	res, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{ExactSums: true, Zoom: true, Indicators: []string{indicator.Fisher}, Threads: 2})
+	res, err := indicator.Run(context.Background(), []density.Source{src}, ds, indicator.Config{ExactSums: true, Zoom: true, Indicators: []string{indicator.Fisher}, Threads: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -265,7 +266,7 @@ func TestKaufmanSourceFisherOnMonteCarlo(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	res, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{Indicators: []string{indicator.Fisher}, Bootstrap: 60, Threads: 2, Seed: 1})
+	res, err := indicator.Run(context.Background(), []density.Source{src}, ds, indicator.Config{Indicators: []string{indicator.Fisher}, Bootstrap: 60, Threads: 2, Seed: 1})
 	if err != nil {
 		t.Fatal(err)
 	}

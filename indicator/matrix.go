@@ -1,21 +1,16 @@
 package indicator
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
 	"sync"
 	"sync/atomic"
-)
 
-// MatrixSource is an optional interface of a Source that scores many
-// snapshots at many parameter points at once, faster than repeated LogProb
-// calls (a trained model batches its conditioning this way). The result holds
-// log p(x_m|λ_k) at index m·len(lambdas)+k, n rows of xs.
-type MatrixSource interface {
-	Source
-	LogProbMatrix(xs []uint8, n int, lambdas [][]float64, threads int) ([]float64, error)
-}
+	"tidemark/data"
+	"tidemark/data/density"
+)
 
 // Matrix is the log-likelihood matrix ℓ[m][k] = log p(x_m|λ_k) over M
 // evaluation samples and K parameter points, the one object every indicator
@@ -37,7 +32,7 @@ func (mx *Matrix) Row(m int) []float64 { return mx.L[m*mx.K : (m+1)*mx.K] }
 
 // MatrixOptions controls ComputeMatrix.
 type MatrixOptions struct {
-	// Threads is the number of goroutines (≤ 0 means 1).
+	// Threads is the number of goroutines (≤ 0: every CPU, data.Threads).
 	Threads int
 	// Block is the number of snapshots scored per call (≤ 0 means 1024).
 	Block int
@@ -51,7 +46,13 @@ type MatrixOptions struct {
 // in parallel; a MatrixSource is asked for whole blocks at all points at
 // once. NaN log-probabilities are an error; −Inf is allowed (a state the
 // source deems impossible).
-func ComputeMatrix(src Source, xs []uint8, n int, points [][]float64, opt MatrixOptions) (*Matrix, error) {
+func ComputeMatrix(src density.Source, xs []uint8, n int, points [][]float64, opt MatrixOptions) (*Matrix, error) {
+	return computeMatrix(context.Background(), src, xs, n, points, opt)
+}
+
+// computeMatrix is ComputeMatrix stopped early, with ctx's error, when ctx
+// is cancelled.
+func computeMatrix(ctx context.Context, src density.Source, xs []uint8, n int, points [][]float64, opt MatrixOptions) (*Matrix, error) {
 	N := src.Sites()
 	if len(xs) != n*N {
 		return nil, fmt.Errorf("log-likelihood matrix: expected %d snapshot values (%d×%d), found %d", n*N, n, N, len(xs))
@@ -66,16 +67,16 @@ func ComputeMatrix(src Source, xs []uint8, n int, points [][]float64, opt Matrix
 	if n == 0 || K == 0 {
 		return mx, nil
 	}
-	threads := opt.Threads
-	if threads <= 0 {
-		threads = 1
-	}
+	threads := data.Threads(opt.Threads)
 	block := opt.Block
 	if block <= 0 {
 		block = 1024
 	}
-	if ms, ok := src.(MatrixSource); ok {
+	if ms, ok := src.(density.MatrixSource); ok {
 		for lo := 0; lo < n; lo += block {
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
 			hi := min(lo+block, n)
 			out, err := ms.LogProbMatrix(xs[lo*N:hi*N], hi-lo, points, threads)
 			if err != nil {
@@ -121,14 +122,21 @@ func ComputeMatrix(src Source, xs []uint8, n int, points [][]float64, opt Matrix
 			}
 		}()
 	}
+feed:
 	for lo := 0; lo < n; lo += block {
 		hi := min(lo+block, n)
 		for k := 0; k < K; k++ {
+			if ctx.Err() != nil || failed.Load() {
+				break feed
+			}
 			jobs <- job{lo, hi, k}
 		}
 	}
 	close(jobs)
 	wg.Wait()
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	if firstErr != nil {
 		return nil, firstErr
 	}

@@ -1,13 +1,17 @@
 package indicator
 
 import (
+	"context"
 	"math"
 	"testing"
+
+	"tidemark/data/density"
+	"tidemark/data/density/densitytest"
 )
 
 // matrixBernoulli adds LogProbMatrix (layout out[i·K+k], as the model
 // documents) to the test source, to check the batched path.
-type matrixBernoulli struct{ *bernoulli }
+type matrixBernoulli struct{ *densitytest.Logistic }
 
 func (s matrixBernoulli) LogProbMatrix(xs []uint8, n int, ls [][]float64, threads int) ([]float64, error) {
 	out := make([]float64, n*len(ls))
@@ -24,15 +28,15 @@ func (s matrixBernoulli) LogProbMatrix(xs []uint8, n int, ls [][]float64, thread
 }
 
 func TestMatrixSourceMatchesLogProb(t *testing.T) {
-	src := &bernoulli{n: 6, d: 1, a: 2, c: 1}
+	src := &densitytest.Logistic{N: 6, D: 1, A: 2, C: 1}
 	ds := bernoulliData(src, linspace(0, 2, 7), nil, 300, 2)
 	for _, exact := range []bool{false, true} {
 		cfg := Config{ExactSums: exact, Threads: 2, Seed: 4, ModelSamples: 200, Bootstrap: 5}
-		a, err := Run([]Source{src}, ds, cfg)
+		a, err := Run(context.Background(), []density.Source{src}, ds, cfg)
 		if err != nil {
 			t.Fatal(err)
 		}
-		b, err := Run([]Source{matrixBernoulli{src}}, ds, cfg)
+		b, err := Run(context.Background(), []density.Source{matrixBernoulli{src}}, ds, cfg)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -48,7 +52,7 @@ func TestMatrixSourceMatchesLogProb(t *testing.T) {
 }
 
 func TestMatrixRejectsNaN(t *testing.T) {
-	src := &bernoulli{n: 2, d: 1, a: 1, c: 0}
+	src := &densitytest.Logistic{N: 2, D: 1, A: 1, C: 0}
 	// p(λ) is fine; a λ of NaN makes every log-probability NaN.
 	_, err := ComputeMatrix(src, []uint8{0, 1}, 1, [][]float64{{math.NaN()}}, MatrixOptions{})
 	if err == nil {

@@ -3,9 +3,13 @@
 package indicator
 
 import (
+	"context"
 	"runtime"
 	"runtime/metrics"
 	"testing"
+
+	"tidemark/data/density"
+	"tidemark/data/density/densitytest"
 )
 
 // TestScanMemoryMillionSnapshots scans 10^6 snapshots of 256 sites (21
@@ -15,7 +19,7 @@ import (
 // (the performance issue's bound on resident memory; the states alone are
 // 256 MB).
 func TestScanMemoryMillionSnapshots(t *testing.T) {
-	src := &bernoulli{n: 256, d: 1, a: 2, c: 2.3}
+	src := &densitytest.Logistic{N: 256, D: 1, A: 2, C: 2.3}
 	ds := bernoulliData(src, linspace(1.5, 3.5, 21), nil, 47619, 1)
 	runtime.GC()
 	stop := make(chan struct{})
@@ -39,7 +43,7 @@ func TestScanMemoryMillionSnapshots(t *testing.T) {
 			}
 		}
 	}()
-	if _, err := Run([]Source{src}, ds, Config{Bootstrap: 100, Threads: 2, Seed: 1}); err != nil {
+	if _, err := Run(context.Background(), []density.Source{src}, ds, Config{Bootstrap: 100, Threads: 2, Seed: 1}); err != nil {
 		t.Fatal(err)
 	}
 	close(stop)

@@ -1,15 +1,19 @@
 package indicator
 
 import (
+	"context"
 	"math"
 	"testing"
+
+	"tidemark/data/density"
+	"tidemark/data/density/densitytest"
 )
 
 func TestRefineAndZoomBetweenGridPoints(t *testing.T) {
-	src := &bernoulli{n: 16, d: 1, a: 6, c: 1.03}
+	src := &densitytest.Logistic{N: 16, D: 1, A: 6, C: 1.03}
 	xs := linspace(0, 2, 5)
 	ds := bernoulliData(src, xs, nil, 4000, 4)
-	res, err := Run([]Source{src}, ds, Config{Refine: 4, ModelSamples: 4000, Zoom: true, Bootstrap: 50, Threads: 2, Seed: 9, Indicators: []string{Fisher}})
+	res, err := Run(context.Background(), []density.Source{src}, ds, Config{Refine: 4, ModelSamples: 4000, Zoom: true, Bootstrap: 50, Threads: 2, Seed: 9, Indicators: []string{Fisher}})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -18,22 +22,22 @@ func TestRefineAndZoomBetweenGridPoints(t *testing.T) {
 	}
 	fd := curveByName(t, res.Curves, "fisher_deriv")
 	for i, p := range fd.Pos {
-		pp := src.p(p)
+		pp := src.P(p)
 		// N a² p(1−p) for independent Bernoulli sites (common practice)
-		want := float64(src.n) * src.a * src.a * pp * (1 - pp)
+		want := float64(src.N) * src.A * src.A * pp * (1 - pp)
 		if d := math.Abs(fd.Val[i] - want); d > 5*fd.Err[i]+1e-9 {
 			t.Errorf("fisher_deriv at %v: %.4g ± %.2g, closed form %.4g", p, fd.Val[i], fd.Err[i], want)
 		}
 	}
-	if len(fd.Peaks) != 1 || math.Abs(fd.Peaks[0].At[0]-src.c) > 3*fd.Peaks[0].Err[0]+0.02 {
-		t.Errorf("fisher_deriv peaks %+v, want one at %g", fd.Peaks, src.c)
+	if len(fd.Peaks) != 1 || math.Abs(fd.Peaks[0].At[0]-src.C) > 3*fd.Peaks[0].Err[0]+0.02 {
+		t.Errorf("fisher_deriv peaks %+v, want one at %g", fd.Peaks, src.C)
 	}
 	if len(res.Zoom) == 0 {
 		t.Fatal("no zoom pass")
 	}
 	z := res.Zoom[0]
 	for _, zz := range res.Zoom {
-		if math.Abs(zz.Around[0]-src.c) < math.Abs(z.Around[0]-src.c) {
+		if math.Abs(zz.Around[0]-src.C) < math.Abs(z.Around[0]-src.C) {
 			z = zz
 		}
 	}
@@ -41,21 +45,21 @@ func TestRefineAndZoomBetweenGridPoints(t *testing.T) {
 		t.Errorf("zoom grid %v, want 2·4+1 points over ±1 refined step (0.125)", ax)
 	}
 	zf := curveByName(t, z.Curves, "fisher_deriv")
-	if len(zf.Peaks) == 0 || math.Abs(zf.Peaks[0].At[0]-src.c) > 3*zf.Peaks[0].Err[0]+0.02 {
-		t.Errorf("zoom fisher_deriv peaks %+v, want one at %g", zf.Peaks, src.c)
+	if len(zf.Peaks) == 0 || math.Abs(zf.Peaks[0].At[0]-src.C) > 3*zf.Peaks[0].Err[0]+0.02 {
+		t.Errorf("zoom fisher_deriv peaks %+v, want one at %g", zf.Peaks, src.C)
 	}
 }
 
 func TestSeveralSourcesAddTheirSpread(t *testing.T) {
-	a := &bernoulli{n: 16, d: 1, a: 6, c: 1.0}
-	b := &bernoulli{n: 16, d: 1, a: 6, c: 1.3}
+	a := &densitytest.Logistic{N: 16, D: 1, A: 6, C: 1.0}
+	b := &densitytest.Logistic{N: 16, D: 1, A: 6, C: 1.3}
 	ds := bernoulliData(a, linspace(0, 2, 21), nil, 500, 4)
 	cfg := Config{Bootstrap: 30, Threads: 2, Seed: 3, ModelSamples: 4000, Indicators: []string{Fisher}}
-	one, err := Run([]Source{a}, ds, cfg)
+	one, err := Run(context.Background(), []density.Source{a}, ds, cfg)
 	if err != nil {
 		t.Fatal(err)
 	}
-	two, err := Run([]Source{a, b}, ds, cfg)
+	two, err := Run(context.Background(), []density.Source{a, b}, ds, cfg)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -78,11 +82,11 @@ func TestSeveralSourcesAddTheirSpread(t *testing.T) {
 // points (in parallel over points) and the curves do not depend on the
 // number of threads.
 func TestRefinedScanIndependentOfThreads(t *testing.T) {
-	src := &bernoulli{n: 12, d: 1, a: 5, c: 1}
+	src := &densitytest.Logistic{N: 12, D: 1, A: 5, C: 1}
 	ds := bernoulliData(src, linspace(0, 2, 5), nil, 300, 2)
 	var ref []*Curve
 	for _, threads := range []int{1, 3} {
-		res, err := Run([]Source{src}, ds, Config{Refine: 3, ModelSamples: 200, Bootstrap: 10, Threads: threads, Seed: 4})
+		res, err := Run(context.Background(), []density.Source{src}, ds, Config{Refine: 3, ModelSamples: 200, Bootstrap: 10, Threads: threads, Seed: 4})
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -9,6 +9,8 @@ import (
 	"sort"
 	"sync"
 
+	"tidemark/data/density"
+
 	"tidemark/data"
 )
 
@@ -18,13 +20,6 @@ const Caution = "An indicator peak marks where the snapshot distribution changes
 // maxExactEntries bounds the exact-sum matrix (states × points): about
 // 800 MB of log-likelihoods plus as much again for the weights.
 const maxExactEntries = 100_000_000
-
-// GridOnly is an optional interface of a Source defined only at the grid
-// points of its data (the histogram): derivatives in λ and refinement are
-// not available for it.
-type GridOnly interface {
-	GridOnly() bool
-}
 
 // Config controls a scan.
 type Config struct {
@@ -58,7 +53,8 @@ type Config struct {
 	Window int
 	// SLRegions overrides sl's default end regions (1-D only).
 	SLRegions *SLRegions
-	// Threads is the number of goroutines for the log-likelihood matrix.
+	// Threads is the number of goroutines for the log-likelihood matrix,
+	// the derivatives and the sampling (≤ 0: every CPU, data.Threads).
 	Threads int
 	// Seed seeds model sampling and bootstrap resampling.
 	Seed uint64
@@ -104,7 +100,8 @@ type ZoomResult struct {
 // Run scans the dataset ds with one or more sources (several sources, e.g.
 // models trained with different seeds, are averaged and their spread joins
 // the errors in quadrature). ds must have a 1-D grid or a 2-D product grid.
-func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
+// Cancelling ctx stops the scan's workers; Run then returns ctx's error.
+func Run(ctx context.Context, sources []density.Source, ds *data.Dataset, cfg Config) (*Result, error) {
 	if len(sources) == 0 {
 		return nil, errors.New("scan: no density source")
 	}
@@ -150,7 +147,7 @@ func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
 	res.Layout = refineLayout(res.Data, cfg.Refine)
 	if cfg.ExactSums {
 		for _, s := range sources {
-			e, ok := s.(Enumerable)
+			e, ok := s.(density.Enumerable)
 			if !ok || !e.Enumerable() {
 				return nil, errors.New("scan: exact sums need a source whose q^N states can all be listed (an exact source or a model of a small system, at most 2^20 states)")
 			}
@@ -158,14 +155,14 @@ func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
 	}
 	needSampler := cfg.Refine > 1 && !cfg.ExactSums
 	for _, s := range sources {
-		if gOnly(s) && cfg.Refine > 1 {
+		if density.IsGridOnly(s) && cfg.Refine > 1 {
 			return nil, errors.New("scan: the histogram is defined only at the grid points; refinement needs a model (train a model)")
 		}
-		if _, ok := s.(Sampler); needSampler && !ok {
+		if _, ok := s.(density.Sampler); needSampler && !ok {
 			return nil, fmt.Errorf("scan: refinement needs samples between grid points, and this source cannot draw them (a model or the exact source of a small system can; the exact source of a lattice too large to enumerate only scores snapshots), or use --refine 1")
 		}
 	}
-	curves, err := runPass(sources, ds, g, res.Data, res.Layout, cfg, ind, 0)
+	curves, err := runPass(ctx, sources, ds, g, res.Data, res.Layout, cfg, ind, 0)
 	if err != nil {
 		return nil, err
 	}
@@ -182,7 +179,7 @@ func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
 			res.Notes = append(res.Notes, "no bootstrap: errors are not estimated and every local maximum is listed as a peak, whether or not it stands above the noise")
 		}
 	}
-	if gOnly(sources[0]) {
+	if density.IsGridOnly(sources[0]) {
 		res.Notes = append(res.Notes, "histogram source: the frequencies are estimated from the same snapshots they are evaluated on, which biases distances between neighbours upwards when states are poorly sampled; the bootstrap re-estimates the histogram in every replicate")
 	}
 	if len(sources) > 1 {
@@ -205,7 +202,7 @@ func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
 		}
 	}
 	if cfg.Zoom {
-		if err := zoomPass(res, sources, ds, g, cfg, ind); err != nil {
+		if err := zoomPass(ctx, res, sources, ds, g, cfg, ind); err != nil {
 			return nil, err
 		}
 	}
@@ -236,11 +233,6 @@ func noisyNotes(curves []*Curve) []string {
 	return out
 }
 
-func gOnly(s Source) bool {
-	gs, ok := s.(GridOnly)
-	return ok && gs.GridOnly()
-}
-
 // refineLayout inserts r−1 evenly spaced values between neighbours of every
 // axis.
 func refineLayout(lo Layout, r int) Layout {
@@ -258,144 +250,38 @@ func refineLayout(lo Layout, r int) Layout {
 	return out
 }
 
-// runPass scans layout lo with every source. dataLo is the dataset grid:
-// layout points that are data points use the data samples (unless exact
-// sums); others use samples drawn from the source. pass separates the
-// sampling streams of zoom passes from the first pass.
-func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout, cfg Config, ind map[string]bool, pass int) ([]*Curve, error) {
+// runPass scans layout lo with every source, in stages: evaluate each
+// source (its curves and their bootstrap replicates), combine the sources,
+// estimate the errors, find the peaks. dataLo is the dataset grid: layout
+// points that are data points use the data samples (unless exact sums);
+// others use samples drawn from the source. pass separates the sampling
+// streams of zoom passes from the first pass.
+func runPass(ctx context.Context, sources []density.Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout, cfg Config, ind map[string]bool, pass int) ([]*Curve, error) {
 	S := len(sources)
 	B := cfg.Bootstrap
 	if cfg.ExactSums {
 		B = 0
 	}
-	var specs []*curveSpec
-	vals := make([][][]float64, S)   // [s][c][t]
-	reps := make([][][][]float64, S) // [s][c][b][t]
+	evals := make([]*sourceCurves, S)
 	for s, src := range sources {
-		ev, evD, err := buildEvalSet(src, ds, g, lo, cfg, pass, fmt.Sprintf("source %d/%d", s+1, S))
+		sc, err := evaluateSource(ctx, src, ds, g, lo, cfg, ind, pass, B, s, S)
 		if err != nil {
 			return nil, err
 		}
-		sp, err := buildCurves(&lo, ev, buildOptions{indicators: ind, window: cfg.Window, slRegions: cfg.SLRegions, deriv: evD})
-		if err != nil {
-			return nil, fmt.Errorf("scan: %w", err)
+		if s > 0 && len(sc.specs) != len(evals[0].specs) {
+			return nil, fmt.Errorf("scan: source %d yields %d curves, source 1 %d: combine sources of one kind (all models, say)", s+1, len(sc.specs), len(evals[0].specs))
 		}
-		if s == 0 {
-			specs = sp
-		} else if len(sp) != len(specs) {
-			return nil, fmt.Errorf("scan: source %d yields %d curves, source 1 %d: combine sources of one kind (all models, say)", s+1, len(sp), len(specs))
-		}
-		_, refit := src.(*Histogram)
-		var cps []*compiled
-		weights := func(c *curveSpec) [][]float64 {
-			if c.deriv {
-				return evD.W
-			}
-			return ev.W
-		}
-		for _, c := range sp {
-			vals[s] = append(vals[s], c.st.direct(weights(c)))
-			if B > 0 && (!refit || c.deriv) {
-				cps = append(cps, c.st.compile(weights(c)))
-			} else {
-				cps = append(cps, nil)
-			}
-		}
-		var ids []int
-		var nIDs int
-		if refit && B > 0 {
-			ids, nIDs = stateIDs(ev.xs, ev.Mx.M, ds.N)
-		}
-		if B > 0 {
-			var tick func(int)
-			if cfg.Progress != nil {
-				tick = cfg.Progress(fmt.Sprintf("bootstrap %d/%d", s+1, S), B)
-			}
-			reps[s] = make([][][]float64, len(sp))
-			for c := range sp {
-				reps[s][c] = make([][]float64, B)
-			}
-			for b := 0; b < B; b++ {
-				w := BootstrapWeights(ev.Idx, cfg.Seed+uint64(pass)<<40, b)
-				var wD [][]float64
-				if evD != nil {
-					wD = BootstrapWeights(evD.Idx, cfg.Seed+uint64(pass)<<40+1<<39, b)
-				}
-				for c, cp := range cps {
-					switch {
-					case cp == nil:
-					case sp[c].deriv:
-						reps[s][c][b] = cp.eval(wD)
-					default:
-						reps[s][c][b] = cp.eval(w)
-					}
-				}
-				if refit {
-					// The histogram is re-estimated from the resampled data,
-					// so the whole matrix changes with the replicate.
-					evb := &EvalSet{Mx: empiricalMatrix(ids, nIDs, ev.Idx, w, ev.Mx.Points), Idx: ev.Idx, W: w}
-					spb, err := buildCurves(&lo, evb, buildOptions{indicators: ind, window: cfg.Window, slRegions: cfg.SLRegions})
-					if err != nil {
-						return nil, fmt.Errorf("scan: %w", err)
-					}
-					for c, cb := range spb {
-						reps[s][c][b] = cb.st.direct(w)
-					}
-				}
-				if tick != nil {
-					tick(1)
-				}
-			}
-		}
+		evals[s] = sc
 	}
-	out := make([]*Curve, len(specs))
-	for c, sp := range specs {
+	out := make([]*Curve, len(evals[0].specs))
+	for c, sp := range evals[0].specs {
 		cv := sp.Curve
-		T := len(cv.Pos)
-		cv.Val = make([]float64, T)
-		cv.Err = make([]float64, T)
-		for s := 0; s < S; s++ {
-			for t := 0; t < T; t++ {
-				cv.Val[t] += vals[s][c][t] / float64(S)
-			}
-		}
-		if B > 0 {
-			cv.reps = make([][]float64, B)
-			for b := 0; b < B; b++ {
-				r := make([]float64, T)
-				for s := 0; s < S; s++ {
-					for t := 0; t < T; t++ {
-						r[t] += reps[s][c][b][t] / float64(S)
-					}
-				}
-				cv.reps[b] = r
-			}
-		}
-		col := make([]float64, max(B, S))
-		noise := make([]float64, T)
-		for t := 0; t < T; t++ {
-			e2 := 0.0
-			if B > 0 {
-				for b := 0; b < B; b++ {
-					col[b] = cv.reps[b][t]
-				}
-				e := stdDev(col[:B])
-				noise[t] = e
-				e2 += e * e
-			}
-			if S > 1 {
-				for s := 0; s < S; s++ {
-					col[s] = vals[s][c][t]
-				}
-				e := stdDev(col[:S])
-				e2 += e * e
-			}
-			cv.Err[t] = math.Sqrt(e2)
-		}
+		combineSources(&cv, evals, c, B)
+		noise := curveErrors(&cv, evals, c, B)
 		var srcVals [][]float64
 		if S > 1 {
 			for s := 0; s < S; s++ {
-				srcVals = append(srcVals, vals[s][c])
+				srcVals = append(srcVals, evals[s].vals[c])
 			}
 		}
 		findPeaks(&cv, cv.reps, srcVals, B > 0 || cfg.ExactSums, noise)
@@ -404,13 +290,164 @@ func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout
 	return out, nil
 }
 
+// replicates are one curve's bootstrap replicates: replicates[b][t] is the
+// value at position t in replicate b.
+type replicates [][]float64
+
+// sourceCurves is one source's evaluation of a layout: the curves' specs,
+// their values vals[c][t] and, with a bootstrap, their replicates reps[c].
+type sourceCurves struct {
+	specs []*curveSpec
+	vals  [][]float64
+	reps  []replicates
+}
+
+// evaluateSource is the first stage of a pass: source s of S scores the
+// layout, and every curve's value and bootstrap replicates (B of them) are
+// computed. A Resampler source is re-estimated from each resample, so the
+// whole matrix changes with the replicate.
+func evaluateSource(ctx context.Context, src density.Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Config, ind map[string]bool, pass, B, s, S int) (*sourceCurves, error) {
+	ev, evD, err := buildEvalSet(ctx, src, ds, g, lo, cfg, pass, fmt.Sprintf("source %d/%d", s+1, S))
+	if err != nil {
+		return nil, err
+	}
+	sp, err := buildCurves(&lo, ev, buildOptions{indicators: ind, window: cfg.Window, slRegions: cfg.SLRegions, deriv: evD})
+	if err != nil {
+		return nil, fmt.Errorf("scan: %w", err)
+	}
+	sc := &sourceCurves{specs: sp}
+	rs, refit := src.(density.Resampler)
+	var cps []*compiled
+	weights := func(c *curveSpec) [][]float64 {
+		if c.deriv {
+			return evD.W
+		}
+		return ev.W
+	}
+	for _, c := range sp {
+		sc.vals = append(sc.vals, c.st.direct(weights(c)))
+		if B > 0 && (!refit || c.deriv) {
+			cps = append(cps, c.st.compile(weights(c)))
+		} else {
+			cps = append(cps, nil)
+		}
+	}
+	if B == 0 {
+		return sc, nil
+	}
+	var resampled func(w [][]float64) []float64
+	if refit {
+		resampled = rs.Resampled(ev.xs, ev.Mx.M, ev.Idx)
+	}
+	var tick func(int)
+	if cfg.Progress != nil {
+		tick = cfg.Progress(fmt.Sprintf("bootstrap %d/%d", s+1, S), B)
+	}
+	sc.reps = make([]replicates, len(sp))
+	for c := range sp {
+		sc.reps[c] = make(replicates, B)
+	}
+	for b := 0; b < B; b++ {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		w := BootstrapWeights(ev.Idx, cfg.Seed+uint64(pass)<<40, b)
+		var wD [][]float64
+		if evD != nil {
+			wD = BootstrapWeights(evD.Idx, cfg.Seed+uint64(pass)<<40+1<<39, b)
+		}
+		for c, cp := range cps {
+			switch {
+			case cp == nil:
+			case sp[c].deriv:
+				sc.reps[c][b] = cp.eval(wD)
+			default:
+				sc.reps[c][b] = cp.eval(w)
+			}
+		}
+		if refit {
+			mx := &Matrix{M: ev.Mx.M, K: ev.Mx.K, L: resampled(w), Points: ev.Mx.Points}
+			evb := &EvalSet{Mx: mx, Idx: ev.Idx, W: w}
+			spb, err := buildCurves(&lo, evb, buildOptions{indicators: ind, window: cfg.Window, slRegions: cfg.SLRegions})
+			if err != nil {
+				return nil, fmt.Errorf("scan: %w", err)
+			}
+			for c, cb := range spb {
+				sc.reps[c][b] = cb.st.direct(w)
+			}
+		}
+		if tick != nil {
+			tick(1)
+		}
+	}
+	return sc, nil
+}
+
+// combineSources is the second stage: curve c's value is the mean over the
+// sources, and so is each of its B bootstrap replicates.
+func combineSources(cv *Curve, evals []*sourceCurves, c, B int) {
+	S := len(evals)
+	T := len(cv.Pos)
+	cv.Val = make([]float64, T)
+	for s := 0; s < S; s++ {
+		for t := 0; t < T; t++ {
+			cv.Val[t] += evals[s].vals[c][t] / float64(S)
+		}
+	}
+	if B == 0 {
+		return
+	}
+	cv.reps = make([][]float64, B)
+	for b := 0; b < B; b++ {
+		r := make([]float64, T)
+		for s := 0; s < S; s++ {
+			for t := 0; t < T; t++ {
+				r[t] += evals[s].reps[c][b][t] / float64(S)
+			}
+		}
+		cv.reps[b] = r
+	}
+}
+
+// curveErrors is the third stage: the error of curve c at each position is
+// the bootstrap spread of the combined curve and the spread across sources,
+// in quadrature. It returns the bootstrap part alone (the noise the peak
+// test compares with).
+func curveErrors(cv *Curve, evals []*sourceCurves, c, B int) []float64 {
+	S := len(evals)
+	T := len(cv.Pos)
+	cv.Err = make([]float64, T)
+	col := make([]float64, max(B, S))
+	noise := make([]float64, T)
+	for t := 0; t < T; t++ {
+		e2 := 0.0
+		if B > 0 {
+			for b := 0; b < B; b++ {
+				col[b] = cv.reps[b][t]
+			}
+			e := stdDev(col[:B])
+			noise[t] = e
+			e2 += e * e
+		}
+		if S > 1 {
+			for s := 0; s < S; s++ {
+				col[s] = evals[s].vals[c][t]
+			}
+			e := stdDev(col[:S])
+			e2 += e * e
+		}
+		cv.Err[t] = math.Sqrt(e2)
+	}
+	return noise
+}
+
 // buildEvalSet computes the matrix and weights of one source on layout lo,
 // and the EvalSet of the derivative Fisher information (nil when not
 // requested or not available): with exact sums the same states; for a
 // Sampler ModelSamples snapshots drawn from the source at every point, so
 // that F(λ) = E_{p(·|λ)}[(∂_λ log p)²] is the source's own Fisher
 // information even where it differs from the data; otherwise the data.
-func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Config, pass int, label string) (*EvalSet, *EvalSet, error) {
+func buildEvalSet(ctx context.Context, src density.Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Config, pass int, label string) (*EvalSet, *EvalSet, error) {
 	N := ds.N
 	K := lo.K()
 	pts := lo.Points()
@@ -433,7 +470,7 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 				v /= q
 			}
 		}
-		mx, err := computeWithProgress(src, xs, M, pts, cfg, label)
+		mx, err := computeWithProgress(ctx, src, xs, M, pts, cfg, label)
 		if err != nil {
 			return nil, nil, err
 		}
@@ -446,10 +483,10 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 		xs = ds.States[:len(ds.States):len(ds.States)]
 		ev.Idx = make([][]int, K)
 		rows := ds.M
-		sampler, _ := src.(Sampler)
+		sampler, _ := src.(density.Sampler)
 		// On a refined or zoomed layout a sampler supplies every point (see
 		// Config.Refine); otherwise the data's snapshots serve their points.
-		everywhere := sampler != nil && !gOnly(src) && (lo.K() != g.K() || pass > 0) && !cfg.DataAtGridPoints
+		everywhere := sampler != nil && !density.IsGridOnly(src) && (lo.K() != g.K() || pass > 0) && !cfg.DataAtGridPoints
 		if everywhere {
 			// No data snapshot is read: do not score them.
 			xs, rows = nil, 0
@@ -470,7 +507,7 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 		// that ancestral samples at neighbouring λ are coupled and the
 		// curves are not roughened by independent sampling noise at each
 		// point (the paired bootstrap in BootstrapWeights matches this).
-		bufs, err := drawAll(sampler, drawn, pts, n, N, cfg, rand.NewPCG(cfg.Seed, uint64(pass)<<32), lo.Names)
+		bufs, err := drawAll(ctx, sampler, drawn, pts, n, N, cfg, rand.NewPCG(cfg.Seed, uint64(pass)<<32), lo.Names)
 		if err != nil {
 			return nil, nil, err
 		}
@@ -481,7 +518,7 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 			}
 			rows += n
 		}
-		mx, err := computeWithProgress(src, xs, rows, pts, cfg, label)
+		mx, err := computeWithProgress(ctx, src, xs, rows, pts, cfg, label)
 		if err != nil {
 			return nil, nil, err
 		}
@@ -489,17 +526,17 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 		ev.W = SampleWeights(ev.Idx)
 	}
 	ev.xs = xs
-	if !contains(cfg.Indicators, Fisher) || gOnly(src) {
+	if !contains(cfg.Indicators, Fisher) || density.IsGridOnly(src) {
 		return ev, nil, nil
 	}
 	evD, dxs := ev, xs
-	if sampler, ok := src.(Sampler); ok && !cfg.ExactSums {
+	if sampler, ok := src.(density.Sampler); ok && !cfg.ExactSums {
 		n := cfg.ModelSamples
 		all := make([]int, K)
 		for k := range all {
 			all[k] = k
 		}
-		bufs, err := drawAll(sampler, all, pts, n, N, cfg, rand.NewPCG(cfg.Seed, uint64(pass)<<32|1<<31), lo.Names) // common random numbers, as above
+		bufs, err := drawAll(ctx, sampler, all, pts, n, N, cfg, rand.NewPCG(cfg.Seed, uint64(pass)<<32|1<<31), lo.Names) // common random numbers, as above
 		if err != nil {
 			return nil, nil, err
 		}
@@ -513,7 +550,7 @@ func buildEvalSet(src Source, ds *data.Dataset, g *data.Grid, lo Layout, cfg Con
 		}
 		evD.W = SampleWeights(evD.Idx)
 	}
-	grad, err := gradients(src, dxs, evD, lo, g.Axes, cfg)
+	grad, err := gradients(ctx, src, dxs, evD, lo, g.Axes, cfg)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -530,12 +567,12 @@ func contains(s []string, x string) bool {
 	return false
 }
 
-func computeWithProgress(src Source, xs []uint8, n int, pts [][]float64, cfg Config, label string) (*Matrix, error) {
+func computeWithProgress(ctx context.Context, src density.Source, xs []uint8, n int, pts [][]float64, cfg Config, label string) (*Matrix, error) {
 	opt := MatrixOptions{Threads: cfg.Threads}
 	if cfg.Progress != nil {
 		opt.Progress = cfg.Progress("log-likelihoods, "+label, n*len(pts))
 	}
-	mx, err := ComputeMatrix(src, xs, n, pts, opt)
+	mx, err := computeMatrix(ctx, src, xs, n, pts, opt)
 	if err != nil {
 		return nil, fmt.Errorf("scan: %w", err)
 	}
@@ -546,7 +583,7 @@ func computeWithProgress(src Source, xs []uint8, n int, pts [][]float64, cfg Con
 // central difference with step h_a = Δ_a/100 (Δ_a the smallest spacing of
 // axis a; error O(h²)). An axis with a single value in lo (a zoom window
 // along the other axis) takes its spacing from the data grid's axes.
-func gradients(src Source, xs []uint8, ev *EvalSet, lo Layout, dataAxes [][]float64, cfg Config) ([][]float64, error) {
+func gradients(ctx context.Context, src density.Source, xs []uint8, ev *EvalSet, lo Layout, dataAxes [][]float64, cfg Config) ([][]float64, error) {
 	N := src.Sites()
 	d := lo.Dim()
 	K := lo.K()
@@ -562,7 +599,7 @@ func gradients(src Source, xs []uint8, ev *EvalSet, lo Layout, dataAxes [][]floa
 		h[a] = dm / 100
 	}
 	grad := make([][]float64, K)
-	threads := max(1, cfg.Threads)
+	threads := data.Threads(cfg.Threads)
 	var wg sync.WaitGroup
 	var mu sync.Mutex
 	var firstErr error
@@ -591,7 +628,7 @@ func gradients(src Source, xs []uint8, ev *EvalSet, lo Layout, dataAxes [][]floa
 				up := make([]float64, n)
 				dn := make([]float64, n)
 				p := lo.Point(k)
-				if ms, ok := src.(MatrixSource); ok {
+				if ms, ok := src.(density.MatrixSource); ok {
 					// One call scores the snapshots at all 2d shifted points,
 					// sharing the λ-independent work.
 					var ls [][]float64
@@ -661,11 +698,14 @@ func gradients(src Source, xs []uint8, ev *EvalSet, lo Layout, dataAxes [][]floa
 			}
 		}()
 	}
-	for k := 0; k < K; k++ {
+	for k := 0; k < K && ctx.Err() == nil; k++ {
 		jobs <- k
 	}
 	close(jobs)
 	wg.Wait()
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	if firstErr != nil {
 		return nil, firstErr
 	}
@@ -679,9 +719,9 @@ func gradients(src Source, xs []uint8, ev *EvalSet, lo Layout, dataAxes [][]floa
 // other axis holds the one fixed value): it refines where the line crosses
 // the boundary, at a cost linear in R rather than quadratic. Only lines
 // through the data's grid values are zoomed.
-func zoomPass(res *Result, sources []Source, ds *data.Dataset, g *data.Grid, cfg Config, ind map[string]bool) error {
+func zoomPass(ctx context.Context, res *Result, sources []density.Source, ds *data.Dataset, g *data.Grid, cfg Config, ind map[string]bool) error {
 	for _, s := range sources {
-		if _, ok := s.(Sampler); (!ok && !cfg.ExactSums) || gOnly(s) {
+		if _, ok := s.(density.Sampler); (!ok && !cfg.ExactSums) || density.IsGridOnly(s) {
 			res.Notes = append(res.Notes, "zoom skipped: it needs a source that can draw samples between grid points (a model or an exact source)")
 			return nil
 		}
@@ -789,7 +829,7 @@ func zoomPass(res *Result, sources []Source, ds *data.Dataset, g *data.Grid, cfg
 				lo.Axes[a] = append(lo.Axes[a], x+dx*float64(j)/float64(R))
 			}
 		}
-		curves, err := runPass(sources, ds, g, res.Data, lo, zc, zind, z+1)
+		curves, err := runPass(ctx, sources, ds, g, res.Data, lo, zc, zind, z+1)
 		if err != nil {
 			return fmt.Errorf("zoom around %s: %w", data.FormatPoint(res.Names, c.at), err)
 		}
@@ -802,13 +842,13 @@ func zoomPass(res *Result, sources []Source, ds *data.Dataset, g *data.Grid, cfg
 // cfg.Threads goroutines (data.ForEachPoint). Every point starts from a copy of the same
 // generator state (common random numbers), so the result does not depend on
 // the number of threads.
-func drawAll(sampler Sampler, ks []int, pts [][]float64, n, N int, cfg Config, seed *rand.PCG, names []string) ([][]uint8, error) {
+func drawAll(ctx context.Context, sampler density.Sampler, ks []int, pts [][]float64, n, N int, cfg Config, seed *rand.PCG, names []string) ([][]uint8, error) {
 	state, err := seed.MarshalBinary()
 	if err != nil {
 		return nil, err
 	}
 	bufs := make([][]uint8, len(ks))
-	err = data.ForEachPoint(context.Background(), len(ks), cfg.Threads, func(i int) error {
+	err = data.ForEachPoint(ctx, len(ks), cfg.Threads, func(i int) error {
 		src := new(rand.PCG)
 		if err := src.UnmarshalBinary(state); err != nil {
 			return err

@@ -3,11 +3,13 @@
 package indicator_test
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 	"testing"
 
 	"tidemark/data"
+	"tidemark/data/density"
 	"tidemark/data/ising"
 	"tidemark/indicator"
 )
@@ -37,11 +39,11 @@ func TestBootstrapCalibratedOnIsing(t *testing.T) {
 			ds.Params[k*per+i] = T
 		}
 	}
-	ex, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{ExactSums: true, Threads: 2})
+	ex, err := indicator.Run(context.Background(), []density.Source{src}, ds, indicator.Config{ExactSums: true, Threads: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
-	sm, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{Bootstrap: 200, Threads: 2, Seed: 8, ModelSamples: per})
+	sm, err := indicator.Run(context.Background(), []density.Source{src}, ds, indicator.Config{Bootstrap: 200, Threads: 2, Seed: 8, ModelSamples: per})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -11,6 +11,7 @@ import (
 	"testing"
 
 	"tidemark/checkpoints"
+	"tidemark/data/density"
 	"tidemark/indicator"
 )
 
@@ -62,7 +63,7 @@ func TestAblation(t *testing.T) {
 		t.Fatal(err)
 	}
 	st.Augment = aug
-	var models []indicator.Source
+	var models []density.Source
 	first := envInt(t, "SEED", 1)
 	for s := first; s < first+envInt(t, "SEEDS", 1); s++ {
 		st.Seed = uint64(s)
@@ -91,7 +92,7 @@ func TestAblation(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		var ms indicator.Source = m
+		var ms density.Source = m
 		switch v := os.Getenv("SYMEV"); v {
 		case "":
 		case "d4", "all":
@@ -101,7 +102,7 @@ func TestAblation(t *testing.T) {
 		}
 		var kl []string
 		for _, T := range temps {
-			d, err := ExactDivergence(src, ms, []float64{T}, 2, nil)
+			d, err := density.ExhaustiveDivergence(src, ms, []float64{T}, 2, nil)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -116,14 +117,14 @@ func TestAblation(t *testing.T) {
 		exactSums bool
 	}{{"grid points", 1, false}, {"refined, model snapshots", 4, false}, {"refined, exact sums", 4, true}} {
 		cfg := indicator.Config{Refine: pass.refine, ExactSums: pass.exactSums, ModelSamples: 4000, Threads: 2, Seed: 5}
-		mres, err := indicator.Run(models, ds, cfg)
+		mres, err := indicator.Run(context.Background(), models, ds, cfg)
 		if err != nil {
 			t.Fatal(err)
 		}
 		// The exact reference takes exact sums whenever the model scan does
 		// not use the data snapshots.
 		cfg.ExactSums = pass.refine > 1
-		eres, err := indicator.Run([]indicator.Source{src}, ds, cfg)
+		eres, err := indicator.Run(context.Background(), []density.Source{src}, ds, cfg)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -16,6 +16,6 @@
 // then agree only up to floating-point summation order.
 //
 // The package also compares a model with an exact, enumerable density
-// (ExactDivergence): the Kullback–Leibler divergence, the total-variation
+// (ExhaustiveDivergence): the Kullback–Leibler divergence, the total-variation
 // distance and the exact entropy at a parameter point.
 package train

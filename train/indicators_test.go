@@ -1,9 +1,11 @@
 package train
 
 import (
+	"context"
 	"math"
 	"testing"
 
+	"tidemark/data/density"
 	"tidemark/indicator"
 )
 
@@ -85,11 +87,11 @@ func compareWithExact(t *testing.T, fx *ising4x4Fixture, cases []exactCase) {
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			cfg := indicator.Config{Refine: tc.refine, ExactSums: tc.exactSums, ModelSamples: 4000, Threads: 2, Seed: 5}
-			mres, err := indicator.Run([]indicator.Source{fx.m}, fx.ds, cfg)
+			mres, err := indicator.Run(context.Background(), []density.Source{fx.m}, fx.ds, cfg)
 			if err != nil {
 				t.Fatal(err)
 			}
-			eres, err := indicator.Run([]indicator.Source{fx.src}, fx.ds, cfg)
+			eres, err := indicator.Run(context.Background(), []density.Source{fx.src}, fx.ds, cfg)
 			if err != nil {
 				t.Fatal(err)
 			}

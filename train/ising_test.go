@@ -9,6 +9,7 @@ import (
 
 	"tidemark/checkpoints"
 	"tidemark/data"
+	"tidemark/data/density"
 	"tidemark/data/ising"
 	"tidemark/model"
 )
@@ -103,7 +104,7 @@ func TestIsingAgainstEnumeration(t *testing.T) {
 	}
 	var maxTrain, maxHeld, sumTrain float64
 	for _, T := range temps {
-		d, err := ExactDivergence(src, m, []float64{T}, 2, nil)
+		d, err := density.ExhaustiveDivergence(src, m, []float64{T}, 2, nil)
 		if err != nil {
 			t.Fatal(err)
 		}

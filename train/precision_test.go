@@ -5,6 +5,7 @@ import (
 	"math"
 	"testing"
 
+	"tidemark/data/density"
 	"tidemark/indicator"
 	"tidemark/model"
 )
@@ -39,9 +40,9 @@ func TestFloat32IndicatorsWithinBootstrap(t *testing.T) {
 		t.Fatal(fx.err)
 	}
 	cfg := indicator.Config{Bootstrap: 100, Threads: 2, Seed: 9}
-	scan := func(src indicator.Source) map[string]*indicator.Curve {
+	scan := func(src density.Source) map[string]*indicator.Curve {
 		t.Helper()
-		res, err := indicator.Run([]indicator.Source{src}, fx.ds, cfg)
+		res, err := indicator.Run(context.Background(), []density.Source{src}, fx.ds, cfg)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -12,11 +12,9 @@ import (
 	"tidemark/checkpoints"
 	"tidemark/cmd/internal/progress"
 	"tidemark/data"
-	"tidemark/data/exact"
+	"tidemark/data/density"
 	"tidemark/data/ising"
-	"tidemark/indicator"
 	"tidemark/model"
-	"tidemark/train"
 )
 
 func init() { commands = append(commands, newCheckCmd) }
@@ -122,7 +120,7 @@ func runCheck(cmd *cobra.Command, path string, o *checkOptions) error {
 	if err := ck.CheckDataset(ds); err != nil {
 		return fmt.Errorf("check: %s and %s: %w", path, o.data, err)
 	}
-	src, err := exact.FromMeta(ds.Meta)
+	src, err := density.ReferenceFor(ds.Meta)
 	if _, large := src.(*ising.KaufmanSource); large {
 		// Too many sites to enumerate: the zero-field Ising model still has
 		// an exact entropy (Kaufman), against which the model's
@@ -138,12 +136,12 @@ func runCheck(cmd *cobra.Command, path string, o *checkOptions) error {
 	if err != nil {
 		return fmt.Errorf("check: %s has no exact reference to compare with: %w", o.data, err)
 	}
-	if en, ok := src.(indicator.Enumerable); !ok || !en.Enumerable() {
+	if en, ok := src.(density.Enumerable); !ok || !en.Enumerable() {
 		return fmt.Errorf("check: %s: the exact reference (%s) cannot list its states, so there is nothing to sum over", o.data, ds.Meta.Generator())
 	}
-	states := train.States(ds.Meta.Alphabet, ds.N)
+	states := density.States(ds.Meta.Alphabet, ds.N)
 	if states < 0 {
-		return fmt.Errorf("check: %s: %d^%d states exceed the limit of %d that check enumerates", o.data, ds.Meta.Alphabet, ds.N, train.MaxEnumeratedStates)
+		return fmt.Errorf("check: %s: %d^%d states exceed the limit of %d that check enumerates", o.data, ds.Meta.Alphabet, ds.N, density.MaxDivergenceStates)
 	}
 	if ck.Header.BestEpoch == 0 {
 		fmt.Fprintf(cmd.ErrOrStderr(), "tidemark: note: %s has no completed epoch; its weights are the untrained initial ones\n", path)
@@ -166,7 +164,7 @@ func runCheck(cmd *cobra.Command, path string, o *checkOptions) error {
 
 // checkModel compares m with the exact source at every grid point of ds and
 // every held-out point of ck.
-func checkModel(ck *checkpoints.Checkpoint, m *model.Model, ds *data.Dataset, src indicator.Source, threads int, quiet bool) (*checkReport, error) {
+func checkModel(ck *checkpoints.Checkpoint, m *model.Model, ds *data.Dataset, src density.Source, threads int, quiet bool) (*checkReport, error) {
 	g := data.NewGrid(ds)
 	type pt struct {
 		p       []float64
@@ -195,7 +193,7 @@ func checkModel(ck *checkpoints.Checkpoint, m *model.Model, ds *data.Dataset, sr
 		}
 	}
 	N := ds.N
-	states := train.States(ds.Meta.Alphabet, N)
+	states := density.States(ds.Meta.Alphabet, N)
 	bar := progress.New(len(pts)*states, "check", quiet)
 	defer bar.Done()
 	rep := &checkReport{Sites: N, States: states, Units: "nats per site (tv: none)", Points: []checkPoint{}}
@@ -203,7 +201,7 @@ func checkModel(ck *checkpoints.Checkpoint, m *model.Model, ds *data.Dataset, sr
 	var nT, nH int
 	maxKL := 0.0
 	for _, q := range pts {
-		d, err := train.ExactDivergence(src, m, q.p, threads, bar.Func())
+		d, err := density.ExhaustiveDivergence(src, m, q.p, threads, bar.Func())
 		if err != nil {
 			return nil, fmt.Errorf("at %s: %w", data.FormatPoint(ds.Meta.ParamNames, q.p), err)
 		}

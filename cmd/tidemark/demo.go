@@ -14,6 +14,7 @@ import (
 
 	"tidemark/cmd/internal/progress"
 	"tidemark/data"
+	"tidemark/data/density"
 	"tidemark/data/ising"
 	"tidemark/indicator"
 	"tidemark/indicator/report"
@@ -266,7 +267,7 @@ func demo(w io.Writer, o *demoOptions) (*demoOutcome, error) {
 	// 3. Scan.
 	start = time.Now()
 	scfg := indicator.Config{ModelSamples: o.modelSamples, Bootstrap: o.bootstrap, Threads: threads, Seed: o.seed}
-	res, stopped, err := scanWithProgress(ctx, []indicator.Source{mdl}, ds, scfg, o.quiet)
+	res, stopped, err := scanWithProgress(ctx, []density.Source{mdl}, ds, scfg, o.quiet)
 	if stopped {
 		return nil, interrupted()
 	}
@@ -282,7 +283,7 @@ func demo(w io.Writer, o *demoOptions) (*demoOutcome, error) {
 	if err != nil {
 		return nil, fmt.Errorf("demo: %w", err)
 	}
-	eres, err := indicator.Run([]indicator.Source{ksrc}, ds, scfg)
+	eres, err := indicator.Run(ctx, []density.Source{ksrc}, ds, scfg)
 	if err != nil {
 		return nil, fmt.Errorf("demo: exact scan: %w", err)
 	}

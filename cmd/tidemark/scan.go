@@ -11,7 +11,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"tidemark/data"
-	"tidemark/data/exact"
+	"tidemark/data/density"
 	"tidemark/data/ising"
 	"tidemark/indicator"
 	"tidemark/indicator/report"
@@ -194,19 +194,19 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if err := ds.Validate(o.data); err != nil {
 		return err
 	}
-	var sources []indicator.Source
+	var sources []density.Source
 	kind := ""
 	switch {
 	case o.exact:
 		kind = "exact"
-		src, err := exact.FromMeta(ds.Meta)
+		src, err := density.ReferenceFor(ds.Meta)
 		if err != nil {
 			return fmt.Errorf("scan --exact: %s: %w", o.data, err)
 		}
 		sources = append(sources, src)
 	case o.histogram:
 		kind = "histogram"
-		h, err := indicator.NewHistogram(ds)
+		h, err := density.NewHistogram(ds)
 		if err != nil {
 			return fmt.Errorf("scan --histogram: %s: %w", o.data, err)
 		}

@@ -5,15 +5,15 @@ import (
 
 	"tidemark/checkpoints"
 	"tidemark/data"
-	"tidemark/indicator"
+	"tidemark/data/density"
 )
 
 // loadModelSource opens a checkpoint as a density source for scan: it loads
 // the .ckpt (naming what failed: magic, version, length, checksum), refuses a
 // dataset that does not fit the model (sites, alphabet, lattice, parameter
 // names), and returns the best weights' conditioned MADE, which is an
-// indicator.Sampler and an indicator.MatrixSource.
-func loadModelSource(path string, ds *data.Dataset) (indicator.Source, *checkpoints.Checkpoint, error) {
+// density.Sampler and a density.MatrixSource.
+func loadModelSource(path string, ds *data.Dataset) (density.Source, *checkpoints.Checkpoint, error) {
 	ck, err := checkpoints.Load(path)
 	if err != nil {
 		return nil, nil, err

@@ -5,6 +5,7 @@ import (
 
 	"tidemark/cmd/internal/progress"
 	"tidemark/data"
+	"tidemark/data/density"
 	"tidemark/indicator"
 )
 
@@ -12,7 +13,7 @@ import (
 // quiet; cfg.Progress is replaced) until it finishes or ctx is done. A scan
 // writes nothing until it is complete, so stopping it loses nothing:
 // stopped reports that ctx ended it first.
-func scanWithProgress(ctx context.Context, sources []indicator.Source, ds *data.Dataset, cfg indicator.Config, quiet bool) (res *indicator.Result, stopped bool, err error) {
+func scanWithProgress(ctx context.Context, sources []density.Source, ds *data.Dataset, cfg indicator.Config, quiet bool) (res *indicator.Result, stopped bool, err error) {
 	var bars []*progress.Bar
 	doneBars := func() {
 		for _, b := range bars {
@@ -31,7 +32,7 @@ func scanWithProgress(ctx context.Context, sources []indicator.Source, ds *data.
 	}
 	ch := make(chan outcome, 1)
 	go func() {
-		r, e := indicator.Run(sources, ds, cfg)
+		r, e := indicator.Run(ctx, sources, ds, cfg)
 		ch <- outcome{r, e}
 	}()
 	select {

@@ -11,9 +11,8 @@ import (
 	"testing"
 
 	"tidemark/data"
-	"tidemark/data/exact"
+	"tidemark/data/density"
 	"tidemark/data/ising"
-	"tidemark/indicator"
 )
 
 // smallDataset writes a dataset of 4 independent sites, each 1 with
@@ -147,8 +146,8 @@ func TestScanCommandErrors(t *testing.T) {
 // registerIsingForScan makes "ising" datasets rebuildable by --exact in this
 // test binary, as the ising package's registration will do in the program.
 func registerIsingForScan() {
-	if !slices.Contains(exact.Generators(), "ising") {
-		exact.Register("ising", func(m data.Meta) (indicator.Source, error) {
+	if !slices.Contains(density.ReferenceGenerators(), "ising") {
+		density.RegisterReference("ising", func(m data.Meta) (density.Source, error) {
 			s, err := ising.SourceFromMeta(m)
 			if err != nil {
 				return nil, err

@@ -18,18 +18,17 @@ import (
 
 	"tidemark/checkpoints"
 	"tidemark/data"
-	"tidemark/data/exact"
+	"tidemark/data/density"
 	"tidemark/data/ising"
 	"tidemark/data/safefile"
-	"tidemark/indicator"
 	"tidemark/model"
 )
 
 // ensureIsingExact registers the Ising enumeration as the exact reference
 // of "ising" datasets when no other file has done so yet.
 func ensureIsingExact() {
-	if !slices.Contains(exact.Generators(), "ising") {
-		exact.Register("ising", func(m data.Meta) (indicator.Source, error) {
+	if !slices.Contains(density.ReferenceGenerators(), "ising") {
+		density.RegisterReference("ising", func(m data.Meta) (density.Source, error) {
 			s, err := ising.SourceFromMeta(m)
 			if err != nil {
 				return nil, err
@@ -220,7 +219,7 @@ func TestCheckRefusesWithoutExactReference(t *testing.T) {
 		t.Fatal(err)
 	}
 	_, err = execTidemark(t, "check", ck, "--data", imp, "--quiet")
-	if !errors.Is(err, exact.ErrNoExact) || !strings.Contains(err.Error(), "imported") {
+	if !errors.Is(err, density.ErrNoReference) || !strings.Contains(err.Error(), "imported") {
 		t.Fatalf("check on imported data: %v", err)
 	}
 }

@@ -2,13 +2,12 @@ package chain
 
 import (
 	"tidemark/data"
-	"tidemark/data/exact"
-	"tidemark/indicator"
+	"tidemark/data/density"
 )
 
-// init makes chain datasets rebuildable through exact.FromMeta.
+// init makes chain datasets rebuildable through density.ReferenceFor.
 func init() {
-	exact.Register(Generator, func(m data.Meta) (indicator.Source, error) {
+	density.RegisterReference(Generator, func(m data.Meta) (density.Source, error) {
 		s, err := SourceFromMeta(m)
 		if err != nil {
 			return nil, err

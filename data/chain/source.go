@@ -102,7 +102,7 @@ func (s *State) Amplitudes() []complex128 {
 }
 
 // Source is a spin chain's exact snapshot distribution p(x|λ): it
-// implements indicator.Source, indicator.Sampler and indicator.Enumerable.
+// implements density.Source, density.Sampler and density.Enumerable.
 // Ground states are computed on first use at each λ and cached; a Source is
 // safe for concurrent use. The cache is never emptied: each distinct λ keeps
 // its state and, per basis used, a probability vector and its cumulative sum

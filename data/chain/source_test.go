@@ -10,13 +10,12 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"tidemark/data"
-	"tidemark/data/exact"
-	"tidemark/indicator"
+	"tidemark/data/density"
 )
 
 var (
-	_ indicator.Sampler    = (*Source)(nil)
-	_ indicator.Enumerable = (*Source)(nil)
+	_ density.Sampler    = (*Source)(nil)
+	_ density.Enumerable = (*Source)(nil)
 )
 
 // pfeutyDE0 is dE0/dh of pfeutyE0 (P. Pfeuty, Ann. Phys. 57, 79 (1970),
@@ -344,13 +343,13 @@ func TestRegisteredWithExact(t *testing.T) {
 		t.Fatal(err)
 	}
 	m := data.Meta{ParamNames: []string{"h"}, Alphabet: 2, Lattice: []int{4}, Source: src}
-	got, err := exact.FromMeta(m)
+	got, err := density.ReferenceFor(m)
 	if err != nil {
 		t.Fatal(err)
 	}
 	cs, ok := got.(*Source)
 	if !ok {
-		t.Fatalf("exact.FromMeta returned %T, want *chain.Source", got)
+		t.Fatalf("density.ReferenceFor returned %T, want *chain.Source", got)
 	}
 	if c := cs.Config(); c.Basis != BasisY || !c.Open || c.Sector != SectorEven || c.Sites != 4 {
 		t.Errorf("rebuilt config %+v", c)

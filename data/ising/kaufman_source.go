@@ -14,7 +14,7 @@ import (
 // states nor draw independent snapshots, so a scan with it evaluates the
 // exact indicators at the data's grid points on the data's own snapshots —
 // the like-for-like reference for a model scanned on the same snapshots.
-// It implements indicator.Source.
+// It implements density.Source and density.EntropySource.
 type KaufmanSource struct {
 	lat   Lattice
 	names []string
@@ -66,4 +66,22 @@ func (s *KaufmanSource) LogProb(dst []float64, xs []uint8, lambda []float64) err
 		dst[m] = -s.lat.Energy(xs[m*n:(m+1)*n], c)/c.T - logZ
 	}
 	return nil
+}
+
+// EntropyPerSite returns the exact entropy per site at λ from Kaufman's
+// partition function (KaufmanEntropy); couplings for which the formula does
+// not hold, or T ≤ 0, are an error.
+func (s *KaufmanSource) EntropyPerSite(lambda []float64) (float64, error) {
+	c, err := withParams(s.fixed, s.names, lambda)
+	if err != nil {
+		return 0, err
+	}
+	if c.T <= 0 {
+		return 0, fmt.Errorf("Ising entropy: expected T > 0, found %g", c.T)
+	}
+	e := KaufmanEntropy(s.lat.Ly, s.lat.Lx, c.T, c.Jx, c.Jy)
+	if math.IsNaN(e) || math.IsInf(e, 0) {
+		return 0, fmt.Errorf("Ising entropy at T=%g, Jx=%g, Jy=%g: Kaufman's formula needs positive couplings (or a negative one along a side of even length)", c.T, c.Jx, c.Jy)
+	}
+	return e, nil
 }

@@ -4,16 +4,15 @@ import (
 	"fmt"
 
 	"tidemark/data"
-	"tidemark/data/exact"
-	"tidemark/indicator"
+	"tidemark/data/density"
 )
 
-// init makes Ising datasets rebuildable through exact.FromMeta. A lattice
+// init makes Ising datasets rebuildable through density.ReferenceFor. A lattice
 // too large to enumerate still has an exact density at zero field
 // (KaufmanSource, which scores snapshots but cannot list or draw them);
-// under a field it has none, and reports exact.ErrNoExact.
+// under a field it has none, and reports density.ErrNoReference.
 func init() {
-	exact.Register("ising", func(m data.Meta) (indicator.Source, error) {
+	density.RegisterReference("ising", func(m data.Meta) (density.Source, error) {
 		sm, err := ParseSourceMeta(m)
 		if err != nil {
 			return nil, err
@@ -21,7 +20,7 @@ func init() {
 		if n := sm.Lattice[0] * sm.Lattice[1]; n > MaxExactSites {
 			if !sm.HasExact() {
 				return nil, fmt.Errorf("%w: the %d×%d Ising lattice has %d sites, more than the %d that can be enumerated, and its field is not zero (Kaufman's exact formula is for h = 0)",
-					exact.ErrNoExact, sm.Lattice[0], sm.Lattice[1], n, MaxExactSites)
+					density.ErrNoReference, sm.Lattice[0], sm.Lattice[1], n, MaxExactSites)
 			}
 			s, err := NewKaufmanSource(Lattice{Ly: sm.Lattice[0], Lx: sm.Lattice[1]}, sm.Axes, sm.Fixed())
 			if err != nil {

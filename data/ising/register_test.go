@@ -6,8 +6,7 @@ import (
 	"testing"
 
 	"tidemark/data"
-	"tidemark/data/exact"
-	"tidemark/indicator"
+	"tidemark/data/density"
 )
 
 func TestRegisteredWithExact(t *testing.T) {
@@ -26,9 +25,9 @@ func TestRegisteredWithExact(t *testing.T) {
 	} {
 		src, _ := json.Marshal(SourceMeta{Generator: "ising", Lattice: tc.lattice, Boundary: "periodic", Jx: 1, Jy: 1, Temperature: 2, Field: tc.field, Axes: tc.axes})
 		m := data.Meta{ParamNames: tc.axes, Alphabet: 2, Lattice: tc.lattice, Source: src}
-		s, err := exact.FromMeta(m)
+		s, err := density.ReferenceFor(m)
 		if tc.want == "none" {
-			if !errors.Is(err, exact.ErrNoExact) {
+			if !errors.Is(err, density.ErrNoReference) {
 				t.Errorf("%v %v h=%g: err = %v, want ErrNoExact", tc.lattice, tc.axes, tc.field, err)
 			}
 			continue
@@ -39,7 +38,7 @@ func TestRegisteredWithExact(t *testing.T) {
 		if s.Sites() != tc.lattice[0]*tc.lattice[1] {
 			t.Errorf("%v: sites = %d", tc.lattice, s.Sites())
 		}
-		_, enum := s.(indicator.Enumerable)
+		_, enum := s.(density.Enumerable)
 		_, kauf := s.(*KaufmanSource)
 		if (tc.want == "enumerable") != enum || (tc.want == "kaufman") != kauf {
 			t.Errorf("%v %v: source %T, want %s", tc.lattice, tc.axes, s, tc.want)

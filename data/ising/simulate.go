@@ -39,7 +39,7 @@ type Config struct {
 	Exact bool
 	// Seed seeds every point's stream PCG(Seed, point index).
 	Seed uint64
-	// Threads is the number of points run at once (≤ 0 means 1).
+	// Threads is the number of points run at once (≤ 0: every CPU, data.Threads).
 	Threads int
 	// Progress, when set, is called with the number of snapshots just
 	// made; it may be called from several goroutines at once.

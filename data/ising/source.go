@@ -15,7 +15,7 @@ import (
 var ParamNames = []string{"T", "Jx", "Jy", "h"}
 
 // Source adapts Exact to tidemark's density-source interfaces
-// (indicator.Source, indicator.Sampler and indicator.Enumerable): λ's
+// (density.Source, density.Sampler and density.Enumerable): λ's
 // components are the named Couplings, the rest come from a fixed set.
 // It is safe for concurrent use.
 type Source struct {

@@ -2,9 +2,9 @@ package report
 
 import (
 	"bytes"
+	"context"
 	"image"
 	"image/png"
-	"math"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -12,50 +12,28 @@ import (
 	"testing"
 
 	"tidemark/data"
+	"tidemark/data/density"
+	"tidemark/data/density/densitytest"
 	"tidemark/indicator"
 )
-
-// logistic1D is a test source of n independent sites, each 1 with
-// probability logistic(a(T − c)): its Fisher information N a² p(1−p) peaks
-// at T = c (common practice).
-type logistic1D struct {
-	n    int
-	a, c float64
-}
-
-func (s *logistic1D) Sites() int       { return s.n }
-func (s *logistic1D) Alphabet() int    { return 2 }
-func (s *logistic1D) ParamDim() int    { return 1 }
-func (s *logistic1D) Enumerable() bool { return true }
-func (s *logistic1D) LogProb(dst []float64, xs []uint8, l []float64) error {
-	p := 1 / (1 + math.Exp(-s.a*(l[0]-s.c)))
-	for m := range dst {
-		k := 0
-		for _, v := range xs[m*s.n : (m+1)*s.n] {
-			k += int(v)
-		}
-		dst[m] = float64(k)*math.Log(p) + float64(s.n-k)*math.Log1p(-p)
-	}
-	return nil
-}
 
 // scanPage writes a 1-D exact-sum scan with a full page into a new folder and
 // returns the folder.
 func scanPage(t *testing.T) string {
 	t.Helper()
-	src := &logistic1D{n: 6, a: 3, c: 2}
+	src := &densitytest.Logistic{N: 6, A: 3, C: 2, D: 1}
 	var pts []float64
 	for i := 0; i < 13; i++ {
 		pts = append(pts, 1+float64(i)/6)
 	}
-	ds, err := data.New(2*len(pts), src.n, []string{"T"}, 2, []int{2, 3}, map[string]any{"generator": "test"})
+	ds, err := data.New(2*len(pts), src.N, []string{"T"}, 2, []int{2, 3}, map[string]any{"generator": "test"})
 	if err != nil {
 		t.Fatal(err)
 	}
 	for k, p := range pts {
 		ds.Params[2*k], ds.Params[2*k+1] = p, p
 	}
-	res, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{ExactSums: true, Threads: 2, Indicators: []string{"lbc", "fisher", "local"}})
+	res, err := indicator.Run(context.Background(), []density.Source{src}, ds, indicator.Config{ExactSums: true, Threads: 2, Indicators: []string{"lbc", "fisher", "local"}})
 	if err != nil {
 		t.Fatal(err)
 	}

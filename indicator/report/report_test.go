@@ -1,66 +1,30 @@
 package report
 
 import (
+	"context"
 	"encoding/json"
 	"math"
-	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 
 	"tidemark/data"
+	"tidemark/data/density"
+	"tidemark/data/density/densitytest"
 	"tidemark/indicator"
 )
 
-// tilted is a test source of n independent sites, each 1 with probability
-// logistic(a(T − c − b·J)): its distribution changes fastest on the line
-// T = c + b·J, where the Fisher information N a² p(1−p) of the sites peaks
-// (common practice).
-type tilted struct {
-	n       int
-	a, b, c float64
-}
-
-func (s *tilted) Sites() int       { return s.n }
-func (s *tilted) Alphabet() int    { return 2 }
-func (s *tilted) ParamDim() int    { return 2 }
-func (s *tilted) Enumerable() bool { return true }
-func (s *tilted) p(l []float64) float64 {
-	return 1 / (1 + math.Exp(-s.a*(l[0]-s.c-s.b*l[1])))
-}
-func (s *tilted) LogProb(dst []float64, xs []uint8, l []float64) error {
-	p := s.p(l)
-	for m := range dst {
-		k := 0
-		for _, v := range xs[m*s.n : (m+1)*s.n] {
-			k += int(v)
-		}
-		dst[m] = float64(k)*math.Log(p) + float64(s.n-k)*math.Log1p(-p)
-	}
-	return nil
-}
-func (s *tilted) Sample(dst []uint8, n int, l []float64, rng *rand.Rand) error {
-	p := s.p(l)
-	for i := range dst[:n*s.n] {
-		dst[i] = 0
-		if rng.Float64() < p {
-			dst[i] = 1
-		}
-	}
-	return nil
-}
-
-func scan2D(t *testing.T) (*indicator.Result, *tilted) {
+func scan2D(t *testing.T) (*indicator.Result, *densitytest.Logistic) {
 	t.Helper()
-	src := &tilted{n: 8, a: 4, b: 0.5, c: 1}
+	src := &densitytest.Logistic{N: 8, A: 4, B: 0.5, C: 1, D: 2}
 	var pts [][]float64
 	for i := 0; i < 11; i++ {
 		for j := 0; j < 5; j++ {
 			pts = append(pts, []float64{0.5 + 0.15*float64(i), float64(j) * 0.25})
 		}
 	}
-	ds, err := data.New(2*len(pts), src.n, []string{"T", "J"}, 2, nil, map[string]any{"generator": "test"})
+	ds, err := data.New(2*len(pts), src.N, []string{"T", "J"}, 2, nil, map[string]any{"generator": "test"})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -68,7 +32,7 @@ func scan2D(t *testing.T) (*indicator.Result, *tilted) {
 		copy(ds.Params[4*k:], p)
 		copy(ds.Params[4*k+2:], p)
 	}
-	res, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{ExactSums: true, Threads: 2})
+	res, err := indicator.Run(context.Background(), []density.Source{src}, ds, indicator.Config{ExactSums: true, Threads: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -112,7 +76,7 @@ func TestWriteTwoDimensionalScan(t *testing.T) {
 		}
 		for _, p := range bd.Points {
 			// The trace of the metric, a²N p(1−p)(1 + b²), peaks on the line too.
-			if want := src.c + src.b*p[1]; math.Abs(p[0]-want) > 0.03 {
+			if want := src.C + src.B*p[1]; math.Abs(p[0]-want) > 0.03 {
 				t.Errorf("boundary point %v, want T = %.3f", p, want)
 			}
 		}

@@ -1,4 +1,4 @@
-package train
+package density
 
 import (
 	"errors"
@@ -6,12 +6,13 @@ import (
 	"math"
 	"sync"
 
-	"tidemark/indicator"
+	"tidemark/data"
 )
 
-// MaxEnumeratedStates bounds the number of states ExactDivergence lists
-// (2^25, a 5×5 Ising lattice); beyond it the sum takes too long to be useful.
-const MaxEnumeratedStates = 1 << 25
+// MaxDivergenceStates bounds the number of states ExhaustiveDivergence sums
+// over (2^25, a 5×5 Ising lattice); beyond it the sum takes too long to be
+// useful.
+const MaxDivergenceStates = 1 << 25
 
 // enumBlock is the number of states scored per call.
 const enumBlock = 4096
@@ -36,27 +37,26 @@ type Divergence struct {
 // ErrNotEnumerable reports that a source cannot list its states.
 var ErrNotEnumerable = errors.New("the exact source cannot enumerate its states")
 
-// States returns q^N, or −1 when it exceeds MaxEnumeratedStates.
+// States returns q^N, or −1 when it exceeds MaxDivergenceStates.
 func States(q, n int) int {
 	s := 1
 	for i := 0; i < n; i++ {
 		s *= q
-		if s > MaxEnumeratedStates {
+		if s > MaxDivergenceStates {
 			return -1
 		}
 	}
 	return s
 }
 
-// ExactDivergence sums over all q^N states of the exact source p and the
-// model q at λ and returns their divergence. The exact source must
-// implement indicator.Enumerable and report true. Blocks of states are
+// ExhaustiveDivergence sums over all q^N states of the exact source p and
+// the model q at λ and returns their divergence. The exact source must
+// implement Enumerable and report true. Blocks of states are
 // spread over threads goroutines; partial sums are added in block order, so
 // the result does not depend on threads. progress, if non-nil, receives the
 // number of states done after each block.
-func ExactDivergence(exact, mdl indicator.Source, lambda []float64, threads int, progress func(n int)) (Divergence, error) {
-	en, ok := exact.(indicator.Enumerable)
-	if !ok || !en.Enumerable() {
+func ExhaustiveDivergence(exact, mdl Source, lambda []float64, threads int, progress func(n int)) (Divergence, error) {
+	if !IsEnumerable(exact) {
 		return Divergence{}, ErrNotEnumerable
 	}
 	q, n := exact.Alphabet(), exact.Sites()
@@ -66,9 +66,9 @@ func ExactDivergence(exact, mdl indicator.Source, lambda []float64, threads int,
 	}
 	total := States(q, n)
 	if total < 0 {
-		return Divergence{}, fmt.Errorf("%w: %d^%d states exceed the limit of %d", ErrNotEnumerable, q, n, MaxEnumeratedStates)
+		return Divergence{}, fmt.Errorf("%w: %d^%d states exceed the limit of %d", ErrNotEnumerable, q, n, MaxDivergenceStates)
 	}
-	threads = max(threads, 1)
+	threads = data.Threads(threads)
 	nb := (total + enumBlock - 1) / enumBlock
 	type part struct{ kl, tv, h, pm, qm float64 }
 	parts := make([]part, nb)

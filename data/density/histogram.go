@@ -1,4 +1,4 @@
-package indicator
+package density
 
 import (
 	"fmt"
@@ -79,6 +79,17 @@ func (h *Histogram) LogProb(dst []float64, xs []uint8, lambda []float64) error {
 	return nil
 }
 
+// Resampled returns the histogram re-estimated from weighted snapshots:
+// under weights w it gives ℓ[m][k] = log Σ_{rows i of idx[k] with the state
+// of row m} w[k][i], the frequency of row m's state among point k's
+// weighted snapshots (−Inf when absent). Under the base weights 1/n_k it
+// equals the histogram's own matrix; under bootstrap weights it is the
+// histogram of the resampled data. The distinct snapshots are numbered once.
+func (h *Histogram) Resampled(xs []uint8, n int, idx [][]int) func(w [][]float64) []float64 {
+	ids, nIDs := stateIDs(xs, n, h.n)
+	return func(w [][]float64) []float64 { return empiricalLogFreq(ids, nIDs, idx, w) }
+}
+
 // stateIDs numbers the distinct snapshots among the n rows of xs.
 func stateIDs(xs []uint8, n, N int) ([]int, int) {
 	ids := make([]int, n)
@@ -95,16 +106,12 @@ func stateIDs(xs []uint8, n, N int) ([]int, int) {
 	return ids, len(seen)
 }
 
-// empiricalMatrix is the histogram's log-likelihood matrix re-estimated
-// under weights w: ℓ[m][k] = log Σ_{slots i of k with the state of row m}
-// w[k][i], the frequency of row m's state among point k's weighted samples
-// (−Inf when absent). Under the base weights 1/n_k it equals the
-// Histogram's own matrix; under bootstrap weights it is the histogram of the
-// resampled data, so the bootstrap sees the density's own sampling noise.
-func empiricalMatrix(ids []int, nIDs int, idx [][]int, w [][]float64, points [][]float64) *Matrix {
+// empiricalLogFreq is the row-major M×K matrix of log frequencies of each
+// row's state among point k's weighted slots (see Resampled).
+func empiricalLogFreq(ids []int, nIDs int, idx [][]int, w [][]float64) []float64 {
 	K := len(idx)
 	M := len(ids)
-	mx := &Matrix{M: M, K: K, L: make([]float64, M*K), Points: points}
+	L := make([]float64, M*K)
 	freq := make([]float64, nIDs)
 	for k := 0; k < K; k++ {
 		for i := range freq {
@@ -115,11 +122,11 @@ func empiricalMatrix(ids []int, nIDs int, idx [][]int, w [][]float64, points [][
 		}
 		for m := 0; m < M; m++ {
 			if f := freq[ids[m]]; f > 0 {
-				mx.L[m*K+k] = math.Log(f)
+				L[m*K+k] = math.Log(f)
 			} else {
-				mx.L[m*K+k] = math.Inf(-1)
+				L[m*K+k] = math.Inf(-1)
 			}
 		}
 	}
-	return mx
+	return L
 }
