@@ -18,6 +18,7 @@ import (
 	"tidemark/data/ising"
 	"tidemark/indicator"
 	"tidemark/indicator/report"
+	"tidemark/indicator/report/inputs"
 	"tidemark/train"
 )
 
@@ -359,7 +360,7 @@ func demo(w io.Writer, o *demoOptions) (*demoOutcome, error) {
 			"The ± is the bootstrap error of this one model; models trained with other seeds spread further.",
 			L, L, o.points, name, out.T, out.Err, out.Kaufman, 100*rel, out.KaufmanF, onsagerTc),
 		Dataset: report.DatasetSummary(demoData, ds),
-		Models:  []report.ModelInfo{report.ModelSummary(demoModel, ck)},
+		Models:  []report.ModelInfo{inputs.ModelSummary(demoModel, ck)},
 		Checks:  checks,
 	}
 	scanDir := filepath.Join(tmp, demoScan)

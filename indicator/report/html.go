@@ -10,7 +10,6 @@ import (
 	"sort"
 	"strings"
 
-	"tidemark/checkpoints"
 	"tidemark/data"
 	"tidemark/indicator"
 )
@@ -118,66 +117,6 @@ func DatasetSummary(path string, ds *data.Dataset) *DatasetInfo {
 		}
 	}
 	return d
-}
-
-// ModelSummary describes a checkpoint, read from path, for report.html.
-func ModelSummary(path string, ck *checkpoints.Checkpoint) ModelInfo {
-	h := ck.Header
-	c := h.Model
-	freq := "frequencies"
-	if c.Fourier == 1 {
-		freq = "frequency"
-	}
-	arch := fmt.Sprintf("conditioned MADE: masked hidden layers %v, conditioning net %v, %d Fourier %s, %s activation", c.Hidden, c.CondHidden, c.Fourier, freq, c.Activation)
-	if c.Direct {
-		arch += ", direct connection"
-	}
-	if c.FiLM {
-		arch += ", FiLM conditioning"
-	}
-	if c.Symmetric {
-		arch += ", spin-flip symmetric"
-	}
-	if h.Training.OrderName != "" {
-		arch += ", " + h.Training.OrderName + " order"
-	}
-	if len(h.Training.Augment) > 0 {
-		arch += ", trained with snapshots augmented by " + strings.Join(h.Training.Augment, ", ")
-	}
-	if h.Training.AverageEpochs > 0 {
-		arch += fmt.Sprintf(", weights averaged over %g epochs", h.Training.AverageEpochs)
-	}
-	m := ModelInfo{
-		Path: path, Architecture: arch, Params: ck.NumParams(),
-		Epochs: h.Optimizer.Epoch, BestEpoch: h.BestEpoch, Stopped: h.Stopped,
-		BestVal: h.BestValBitsPerSite, HeldOut: h.HeldOutBitsPerSite,
-	}
-	for _, e := range h.Metrics {
-		m.Curve = append(m.Curve, EpochPoint{Epoch: e.Epoch, Train: e.TrainBitsPerSite, Val: e.ValBitsPerSite})
-	}
-	return m
-}
-
-// pageFromFiles builds the page of a scan from the files it names; a file
-// that fails to load becomes a line in Problems.
-func pageFromFiles(info Info) *Page {
-	pg := &Page{}
-	if info.Data != "" {
-		if ds, err := data.Read(info.Data); err != nil {
-			pg.Problems = append(pg.Problems, fmt.Sprintf("dataset summary not available: %v", err))
-		} else {
-			pg.Dataset = DatasetSummary(info.Data, ds)
-		}
-	}
-	for _, p := range info.Models {
-		ck, err := checkpoints.Load(p)
-		if err != nil {
-			pg.Problems = append(pg.Problems, fmt.Sprintf("model summary not available: %v", err))
-			continue
-		}
-		pg.Models = append(pg.Models, ModelSummary(p, ck))
-	}
-	return pg
 }
 
 // inlineSVG returns an SVG document as an element to place in HTML: without

@@ -97,26 +97,6 @@ func TestReportHTMLContent(t *testing.T) {
 	}
 }
 
-// TestReportHTMLWithoutPage checks that a scan given only file names still
-// gets a page, and says what it could not summarise.
-func TestReportHTMLWithoutPage(t *testing.T) {
-	res, _ := scan2D(t)
-	dir := filepath.Join(t.TempDir(), "scan")
-	if _, err := Write(dir, false, res, Info{Source: "model", Data: "/no/such/data.npz", Models: []string{"/no/such/model.ckpt"}}); err != nil {
-		t.Fatal(err)
-	}
-	b, err := os.ReadFile(filepath.Join(dir, "report.html"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	page := string(b)
-	for _, want := range []string{"dataset summary not available", "model summary not available", "boundary", "Caution."} {
-		if !strings.Contains(page, want) {
-			t.Errorf("report.html lacks %q", want)
-		}
-	}
-}
-
 // TestReportRendersInChromium renders report.html in headless Chromium and
 // checks the screenshot is not blank: enough pixels differ from the
 // background and there are many distinct colours (pictures, tables, text).

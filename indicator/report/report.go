@@ -65,8 +65,9 @@ type Info struct {
 	Refine int
 	// Seed is the scan's seed.
 	Seed uint64
-	// Page adds the dataset, model and exact-check sections of report.html;
-	// nil means they are built from the files named by Data and Models.
+	// Page adds the dataset, model and exact-check sections of report.html
+	// (inputs.Page builds them from the files named by Data and Models);
+	// nil means none.
 	Page *Page
 }
 
@@ -123,7 +124,7 @@ func Write(dir string, force bool, res *indicator.Result, info Info) (*Summary, 
 	files["summary.json"] = append(js, '\n')
 	pg := info.Page
 	if pg == nil {
-		pg = pageFromFiles(info)
+		pg = &Page{}
 	}
 	if files["report.html"], err = HTML(res, sum, pics, pg); err != nil {
 		return nil, err
