@@ -528,24 +528,68 @@ func fusedAct(res []float64, r32 []float32, y32 []float32, hd, b []float64, act 
 	}
 }
 
-// maskedOp is one of the gorgonia operations of a maskedLinear: kind 0 is
-// Y = X·(W⊙M) with inputs (X, W) — or act(X·(W⊙M) + Hd + b) with inputs
-// (X, W, Hd, b) when fused; kind 1 is dX with inputs (dY, W); kind 2 is dW
-// with inputs (X, dY); kind 3 is the gradient through the activation,
-// dY = dO ⊙ act'(O), with inputs (dO, O); kind 4 is the bias gradient
-// db = Σ_rows dY with input dY.
+// productKind says which product of a maskedLinear a maskedOp computes.
+type productKind int
+
+// The products of a maskedLinear.
+const (
+	// productForward is Y = X·(W⊙M) with inputs (X, W), or act(X·(W⊙M) +
+	// Hd + b) with inputs (X, W, Hd, b) when the layer is fused.
+	productForward productKind = iota
+	// productGradX is dX with inputs (dY, W).
+	productGradX
+	// productGradW is dW with inputs (X, dY).
+	productGradW
+	// productGradAct is the gradient through the activation, dY = dO ⊙
+	// act'(O), with inputs (dO, O).
+	productGradAct
+	// productGradBias is the bias gradient db = Σ_rows dY with input dY.
+	productGradBias
+)
+
+var productNames = [...]string{"forward", "grad-x", "grad-w", "grad-act", "grad-bias"}
+
+// String returns the product's name.
+func (k productKind) String() string {
+	if k < 0 || int(k) >= len(productNames) {
+		return fmt.Sprintf("productKind(%d)", int(k))
+	}
+	return productNames[k]
+}
+
+// MarshalText returns the product's name.
+func (k productKind) MarshalText() ([]byte, error) {
+	if k < 0 || int(k) >= len(productNames) {
+		return nil, fmt.Errorf("model: no masked product %d", int(k))
+	}
+	return []byte(productNames[k]), nil
+}
+
+// UnmarshalText reads a product's name.
+func (k *productKind) UnmarshalText(b []byte) error {
+	for i, n := range productNames {
+		if n == string(b) {
+			*k = productKind(i)
+			return nil
+		}
+	}
+	return fmt.Errorf("model: expected a masked product among %v, found %q", productNames, b)
+}
+
+// maskedOp is one of the gorgonia operations of a maskedLinear, the product
+// named by kind.
 type maskedOp struct {
 	ml   *maskedLinear
-	kind int
+	kind productKind
 }
 
 var matF64 = G.TensorType{Dims: 2, Of: tensor.Float64}
 
 func (op maskedOp) Arity() int {
 	switch {
-	case op.kind == 0 && op.ml.fused:
+	case op.kind == productForward && op.ml.fused:
 		return 4
-	case op.kind == 4:
+	case op.kind == productGradBias:
 		return 1
 	}
 	return 2
@@ -567,13 +611,13 @@ func (op maskedOp) InferShape(in ...G.DimSizer) (tensor.Shape, error) {
 		return nil, err
 	}
 	switch op.kind {
-	case 0:
+	case productForward:
 		return tensor.Shape{s0[0], op.ml.t.out}, nil
-	case 1:
+	case productGradX:
 		return tensor.Shape{s0[0], op.ml.t.in}, nil
-	case 3:
+	case productGradAct:
 		return tensor.Shape{s0[0], op.ml.t.out}, nil
-	case 4:
+	case productGradBias:
 		return tensor.Shape{op.ml.t.out}, nil
 	default:
 		return tensor.Shape{op.ml.t.in, op.ml.t.out}, nil
@@ -592,6 +636,8 @@ func f64Of(v G.Value) ([]float64, tensor.Shape, error) {
 	return d, t.Shape(), nil
 }
 
+// Do computes the product named by op.kind, one method of maskedLinear
+// each.
 func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 	if len(inputs) != op.Arity() {
 		return nil, fmt.Errorf("model: %v needs %d inputs, found %d", op, op.Arity(), len(inputs))
@@ -600,126 +646,152 @@ func (op maskedOp) Do(inputs ...G.Value) (G.Value, error) {
 	if err != nil {
 		return nil, err
 	}
-	ml := op.ml
-	in, out := ml.t.in, ml.t.out
 	rows := sa[0]
-	if op.kind == 4 {
-		db := ml.buf(4, out)
-		clear(db)
-		vColSum(db, a[:rows*out], rows, out)
-		return tensor.New(tensor.WithShape(out), tensor.WithBacking(db)), nil
+	if op.kind == productGradBias {
+		return op.ml.doGradBias(a, rows), nil
 	}
 	b, _, err := f64Of(inputs[1])
 	if err != nil {
 		return nil, err
 	}
-	var res []float64
-	var shape tensor.Shape
 	switch op.kind {
-	case 0:
-		// W⊙M (b) was prepared before the run (Graph.prepare).
-		res = ml.buf(0, rows*out)
-		if ml.fused {
-			hd, _, err := f64Of(inputs[2])
-			if err != nil {
-				return nil, err
-			}
-			bias, _, err := f64Of(inputs[3])
-			if err != nil {
-				return nil, err
-			}
-			if ml.f32 {
-				// One pass widens the product, adds the biases and
-				// applies the activation.
-				ml.dyOK = false
-				ml.forward32(a, rows)
-				var next32 []float32
-				if nx := ml.next; nx != nil && nx.f32 {
-					// The layer above reads this output rounded to
-					// float32: write that copy in the same pass.
-					nx.fx32 = grow32(nx.fx32, rows*out)
-					next32, nx.fxOK = nx.fx32, true
-				}
-				fusedAct(res, next32, ml.y32[:rows*out], hd[:rows*out], bias[:out], ml.act)
-				shape = tensor.Shape{rows, out}
-				break
-			}
-			for i := 0; i < rows; i++ {
-				r, h := res[i*out:(i+1)*out], hd[i*out:(i+1)*out]
-				for k := range r {
-					r[k] = h[k] + bias[k]
-				}
-			}
-			ml.forward(res, a, rows, true)
-			switch ml.act {
-			case actRelu, actSoftplus:
-				// ReLU gives +0, never −0: see reluGrad.
-				vAct64(res, nil, 1, len(res), ml.act)
-			case actTanh:
-				for i, v := range res {
-					res[i] = math.Tanh(v)
-				}
-			}
-		} else if ml.grouped(rows) {
-			ml.forwardGrouped(res, a, rows)
-		} else {
-			ml.forward(res, a, rows, false)
-		}
-		shape = tensor.Shape{rows, out}
-	case 3:
-		// a = dO, b = O.
-		res = ml.buf(3, rows*out)
-		switch {
-		case ml.act == actRelu && ml.f32:
-			// The input and weight gradients of this product read the
-			// float32 copy, written here in the same pass.
-			d32 := grow32(ml.dy32, rows*out)
-			ml.dy32 = d32
-			vReluGrad(res, d32, a[:rows*out], b[:rows*out])
-			ml.dyOK = true
-		case ml.act == actRelu:
-			vReluGrad(res, nil, a[:rows*out], b[:rows*out])
-		case ml.act == actTanh:
-			for i, o := range b[:rows*out] {
-				res[i] = a[i] * (1 - o*o)
-			}
-		case ml.act == actSoftplus:
-			// softplus'(z) = σ(z) = 1 − e^(−softplus(z)).
-			vSoftplusGrad(res, a[:rows*out], b[:rows*out])
-		default:
-			copy(res, a[:rows*out])
-		}
-		shape = tensor.Shape{rows, out}
-	case 1:
-		// W⊙M was prepared by the forward operation of this step, which
-		// always runs first (dY depends on it).
-		res = ml.buf(1, rows*in)
-		if ml.grouped(rows) {
-			ml.gradXGrouped(res, a, rows)
-		} else {
-			ml.gradX(res, a, rows)
-		}
-		shape = tensor.Shape{rows, in}
+	case productForward:
+		return op.ml.doForward(a, rows, inputs[2:])
+	case productGradAct:
+		return op.ml.doGradAct(a, b, rows), nil
+	case productGradX:
+		return op.ml.doGradX(a, rows), nil
 	default:
-		// (ml.buf(2) is not trusted: gorgonia may reuse a gradient node's
-		// value, as it does other intermediate values.)
-		res = ml.dst
-		private := ml.privDst
-		if len(res) != in*out {
-			res, private = ml.buf(2, in*out), false
+		return op.ml.doGradW(a, b, rows), nil
+	}
+}
+
+// doGradBias is the bias gradient db = Σ_rows dY of dY = a.
+func (ml *maskedLinear) doGradBias(a []float64, rows int) G.Value {
+	out := ml.t.out
+	db := ml.buf(4, out)
+	clear(db)
+	vColSum(db, a[:rows*out], rows, out)
+	return tensor.New(tensor.WithShape(out), tensor.WithBacking(db))
+}
+
+// doForward is Y = X·(W⊙M) of X = a, or the fused layer act(X·(W⊙M) + Hd
+// + b) with hdb = (Hd, b). W⊙M was prepared before the run
+// (Graph.prepare).
+func (ml *maskedLinear) doForward(a []float64, rows int, hdb []G.Value) (G.Value, error) {
+	out := ml.t.out
+	res := ml.buf(0, rows*out)
+	shape := tensor.Shape{rows, out}
+	switch {
+	case ml.fused:
+		hd, _, err := f64Of(hdb[0])
+		if err != nil {
+			return nil, err
 		}
-		if ml.grouped(rows) {
-			ml.gradWGrouped(res, b)
-		} else {
-			ml.gradW(res, a, b, rows)
+		bias, _, err := f64Of(hdb[1])
+		if err != nil {
+			return nil, err
 		}
-		ml.clean = nil
-		if private {
-			ml.clean = &res[0]
+		if ml.f32 {
+			// One pass widens the product, adds the biases and applies the
+			// activation.
+			ml.dyOK = false
+			ml.forward32(a, rows)
+			var next32 []float32
+			if nx := ml.next; nx != nil && nx.f32 {
+				// The layer above reads this output rounded to float32:
+				// write that copy in the same pass.
+				nx.fx32 = grow32(nx.fx32, rows*out)
+				next32, nx.fxOK = nx.fx32, true
+			}
+			fusedAct(res, next32, ml.y32[:rows*out], hd[:rows*out], bias[:out], ml.act)
+			break
 		}
-		shape = tensor.Shape{in, out}
+		for i := 0; i < rows; i++ {
+			r, h := res[i*out:(i+1)*out], hd[i*out:(i+1)*out]
+			for k := range r {
+				r[k] = h[k] + bias[k]
+			}
+		}
+		ml.forward(res, a, rows, true)
+		switch ml.act {
+		case actRelu, actSoftplus:
+			// ReLU gives +0, never −0: see reluGrad.
+			vAct64(res, nil, 1, len(res), ml.act)
+		case actTanh:
+			for i, v := range res {
+				res[i] = math.Tanh(v)
+			}
+		}
+	case ml.grouped(rows):
+		ml.forwardGrouped(res, a, rows)
+	default:
+		ml.forward(res, a, rows, false)
 	}
 	return tensor.New(tensor.WithShape(shape...), tensor.WithBacking(res)), nil
+}
+
+// doGradAct is the gradient through the activation, dY = dO ⊙ act'(O), of
+// dO = a and O = o.
+func (ml *maskedLinear) doGradAct(a, o []float64, rows int) G.Value {
+	out := ml.t.out
+	res := ml.buf(3, rows*out)
+	switch {
+	case ml.act == actRelu && ml.f32:
+		// The input and weight gradients of this product read the float32
+		// copy, written here in the same pass.
+		d32 := grow32(ml.dy32, rows*out)
+		ml.dy32 = d32
+		vReluGrad(res, d32, a[:rows*out], o[:rows*out])
+		ml.dyOK = true
+	case ml.act == actRelu:
+		vReluGrad(res, nil, a[:rows*out], o[:rows*out])
+	case ml.act == actTanh:
+		for i, v := range o[:rows*out] {
+			res[i] = a[i] * (1 - v*v)
+		}
+	case ml.act == actSoftplus:
+		// softplus'(z) = σ(z) = 1 − e^(−softplus(z)).
+		vSoftplusGrad(res, a[:rows*out], o[:rows*out])
+	default:
+		copy(res, a[:rows*out])
+	}
+	return tensor.New(tensor.WithShape(rows, out), tensor.WithBacking(res))
+}
+
+// doGradX is dX of dY = a. W⊙M was prepared by the forward operation of
+// this step, which always runs first (dY depends on it).
+func (ml *maskedLinear) doGradX(a []float64, rows int) G.Value {
+	in := ml.t.in
+	res := ml.buf(1, rows*in)
+	if ml.grouped(rows) {
+		ml.gradXGrouped(res, a, rows)
+	} else {
+		ml.gradX(res, a, rows)
+	}
+	return tensor.New(tensor.WithShape(rows, in), tensor.WithBacking(res))
+}
+
+// doGradW is dW of X = a and dY = dy.
+func (ml *maskedLinear) doGradW(a, dy []float64, rows int) G.Value {
+	in, out := ml.t.in, ml.t.out
+	// (ml.buf(2) is not trusted: gorgonia may reuse a gradient node's value,
+	// as it does other intermediate values.)
+	res := ml.dst
+	private := ml.privDst
+	if len(res) != in*out {
+		res, private = ml.buf(2, in*out), false
+	}
+	if ml.grouped(rows) {
+		ml.gradWGrouped(res, dy)
+	} else {
+		ml.gradW(res, a, dy, rows)
+	}
+	ml.clean = nil
+	if private {
+		ml.clean = &res[0]
+	}
+	return tensor.New(tensor.WithShape(in, out), tensor.WithBacking(res))
 }
 
 func (op maskedOp) ReturnsPtr() bool     { return false }
@@ -731,13 +803,13 @@ func (op maskedOp) WriteHash(h hash.Hash) { fmt.Fprint(h, op.String()) }
 func (op maskedOp) Hashcode() uint32 { return opHash(op) }
 
 func (op maskedOp) String() string {
-	return fmt.Sprintf("masked%d(%s)", op.kind, op.ml.name)
+	return fmt.Sprintf("masked%d(%s)", int(op.kind), op.ml.name)
 }
 
 // DiffWRT says which inputs the forward product is differentiated by: the
 // weights always, X only when it is not the (constant) data.
 func (op maskedOp) DiffWRT(int) []bool {
-	if op.kind != 0 {
+	if op.kind != productForward {
 		return []bool{false, false}
 	}
 	if op.ml.fused {
@@ -748,28 +820,28 @@ func (op maskedOp) DiffWRT(int) []bool {
 
 // SymDiff returns the gradient nodes of the forward product.
 func (op maskedOp) SymDiff(inputs G.Nodes, output, grad *G.Node) (G.Nodes, error) {
-	if op.kind != 0 {
+	if op.kind != productForward {
 		return nil, fmt.Errorf("model: %v is not differentiable", op)
 	}
 	var err error
 	if op.ml.fused && op.ml.act != actNone {
 		// Gradient with respect to the pre-activation.
-		if grad, err = G.ApplyOp(maskedOp{op.ml, 3}, grad, output); err != nil {
+		if grad, err = G.ApplyOp(maskedOp{op.ml, productGradAct}, grad, output); err != nil {
 			return nil, err
 		}
 	}
-	dw, err := G.ApplyOp(maskedOp{op.ml, 2}, inputs[0], grad)
+	dw, err := G.ApplyOp(maskedOp{op.ml, productGradW}, inputs[0], grad)
 	if err != nil {
 		return nil, err
 	}
 	var dx *G.Node
 	if op.ml.needDX {
-		if dx, err = G.ApplyOp(maskedOp{op.ml, 1}, grad, inputs[1]); err != nil {
+		if dx, err = G.ApplyOp(maskedOp{op.ml, productGradX}, grad, inputs[1]); err != nil {
 			return nil, err
 		}
 	}
 	if op.ml.fused {
-		db, err := G.ApplyOp(maskedOp{op.ml, 4}, grad)
+		db, err := G.ApplyOp(maskedOp{op.ml, productGradBias}, grad)
 		if err != nil {
 			return nil, err
 		}
@@ -790,12 +862,12 @@ func denseTiling(in, out int) tiling {
 
 // maskedMul adds Y = X·(W⊙M) to the graph of X and the weight node W.
 func maskedMul(x, w *G.Node, ml *maskedLinear) (*G.Node, error) {
-	return G.ApplyOp(maskedOp{ml, 0}, x, w)
+	return G.ApplyOp(maskedOp{ml, productForward}, x, w)
 }
 
 // maskedLayer adds act(X·(W⊙M) + hd + b) to the graph, hd a node of shape
 // [rows, out] and b a bias vector [out].
 func maskedLayer(x, w, hd, b *G.Node, ml *maskedLinear, act int) (*G.Node, error) {
 	ml.fused, ml.act = true, act
-	return G.ApplyOp(maskedOp{ml, 0}, x, w, hd, b)
+	return G.ApplyOp(maskedOp{ml, productForward}, x, w, hd, b)
 }
