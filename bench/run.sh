@@ -53,7 +53,7 @@ sides="gonum"
 if CGO_LDFLAGS="-lopenblas" go build -tags openblas -o "$tmp/gobench_openblas" ./bench/gobench 2>"$tmp/ob.log"; then
 	sides="$sides openblas"
 else
-	echo "bench: the openblas build failed (is libopenblas-dev installed?); measuring the pure-Go build only" >&2
+	echo "bench: the openblas build failed (is libopenblas-dev installed?); measuring the default build only" >&2
 	cat "$tmp/ob.log" >&2
 fi
 if ! /usr/bin/python3 -c 'import torch' 2>/dev/null; then

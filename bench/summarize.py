@@ -95,7 +95,7 @@ def main():
       "takes that saving away). " if a.grid > 1 else "Every training snapshot has its own λ. ") + "The peer scores the matrix the ordinary way (one full forward pass per λ, batched); "
       "ours computes the λ-independent first layer once per snapshot.")
     p()
-    p("Our builds: `gonum` = default pure-Go build (gonum BLAS, with the GEMM of model/gemm: Go assembly for AVX2 or AVX-512, no cgo); `openblas` = "
+    p("Our builds: `gonum` = default default build (gonum BLAS, with the GEMM of model/gemm: Go assembly for AVX2 or AVX-512, no cgo); `openblas` = "
       "`go build -tags openblas` (gonum and gorgonia BLAS through OpenBLAS via cgo). `float64` is the "
       "default Config.Precision; `float32` runs the masked products in single precision (the peer's "
       "precision) with float64 per-site terms and sums.")

@@ -2,6 +2,7 @@ package data
 
 import (
 	"context"
+	"math"
 	"sync"
 )
 
@@ -41,4 +42,44 @@ func ForEachPoint(ctx context.Context, n, threads int, fn func(k int) error) err
 		}
 	}
 	return nil
+}
+
+// PointTolerance is the relative difference within which two parameter
+// values are the same: |a − b| ≤ PointTolerance·max(1, |a|, |b|). Every
+// comparison of parameter points that are not bit-for-bit copies of each
+// other (a checkpoint's held-out points against a dataset's grid, a peak's
+// line against the grid's values) uses it through SameValue and SamePoint.
+const PointTolerance = 1e-9
+
+// SameValue reports whether a and b are the same parameter value within
+// PointTolerance.
+func SameValue(a, b float64) bool {
+	return math.Abs(a-b) <= PointTolerance*math.Max(1, math.Max(math.Abs(a), math.Abs(b)))
+}
+
+// SamePoint reports whether a and b have the same length and every
+// coordinate is the same value within PointTolerance.
+func SamePoint(a, b []float64) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if !SameValue(a[i], b[i]) {
+			return false
+		}
+	}
+	return true
+}
+
+// TypedTolerance is the relative difference within which a value typed by
+// a user names a grid value: |a − b| ≤ TypedTolerance·max(|a|, |b|), so
+// that a value copied as printed with six significant digits ("T=2.09091")
+// finds the grid value 2.0909090909…. It is wider than PointTolerance on
+// purpose, and only for text a person typed.
+const TypedTolerance = 1e-5
+
+// NamesValue reports whether the typed value a names the grid value b
+// within TypedTolerance.
+func NamesValue(a, b float64) bool {
+	return math.Abs(a-b) <= TypedTolerance*math.Max(math.Abs(a), math.Abs(b))+1e-300
 }

@@ -740,7 +740,7 @@ func zoomPass(ctx context.Context, res *Result, sources []density.Source, ds *da
 			}
 			found := false
 			for _, u := range g.Axes[a] {
-				found = found || math.Abs(u-v) <= 1e-9*math.Max(1, math.Abs(u))
+				found = found || data.SameValue(u, v)
 			}
 			if !found {
 				return false

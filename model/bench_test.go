@@ -198,8 +198,8 @@ func BenchmarkActivation(b *testing.B) {
 		if err != nil {
 			b.Fatal(err)
 		}
-		b.Run(act+"/LossGrad", func(b *testing.B) { benchLossGrad(b, m) })
-		b.Run(act+"/LogProb", func(b *testing.B) { benchLogProb(b, m) })
+		b.Run(string(act)+"/LossGrad", func(b *testing.B) { benchLossGrad(b, m) })
+		b.Run(string(act)+"/LogProb", func(b *testing.B) { benchLogProb(b, m) })
 	}
 }
 

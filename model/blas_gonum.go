@@ -25,7 +25,7 @@ func blasName() string {
 }
 
 // BLASCore returns the name of the CPU kernels OpenBLAS runs; it is empty
-// in the pure-Go build.
+// in the default build.
 func BLASCore() string { return "" }
 
 // In the default build, gonum's BLAS (the scoring kernel and the masked

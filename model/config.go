@@ -3,6 +3,7 @@ package model
 import (
 	"fmt"
 	"math"
+	"slices"
 )
 
 // Config is the architecture of a model and the normalisation of its
@@ -15,22 +16,22 @@ import (
 // range the model sees features it also saw inside it: probabilities there
 // stay exactly normalised but are extrapolations, not predictions.
 type Config struct {
-	Sites      int    `json:"sites"`       // N
-	Alphabet   int    `json:"alphabet"`    // q ≥ 2
-	ParamDim   int    `json:"param_dim"`   // d ≥ 1
-	Hidden     []int  `json:"hidden"`      // masked hidden widths, e.g. [256, 256]
-	CondHidden []int  `json:"cond_hidden"` // conditioning net hidden widths, e.g. [64]; may be empty
-	Fourier    int    `json:"fourier"`     // F: features t, sin(πft), cos(πft), f=1..F
-	Activation string `json:"activation"`  // "softplus", "relu" or "tanh", for the masked hidden layers
+	Sites      int        `json:"sites"`       // N
+	Alphabet   int        `json:"alphabet"`    // q ≥ 2
+	ParamDim   int        `json:"param_dim"`   // d ≥ 1
+	Hidden     []int      `json:"hidden"`      // masked hidden widths, e.g. [256, 256]
+	CondHidden []int      `json:"cond_hidden"` // conditioning net hidden widths, e.g. [64]; may be empty
+	Fourier    int        `json:"fourier"`     // F: features t, sin(πft), cos(πft), f=1..F
+	Activation Activation `json:"activation"`  // Softplus, ReLU or Tanh, for the masked hidden layers
 	// CondActivation is the conditioning net's activation; "" (the
 	// default) means the same as Activation. softplus and tanh make the
 	// biases smooth in λ; relu makes them piecewise linear.
-	CondActivation string    `json:"cond_activation,omitempty"`
-	Direct         bool      `json:"direct"`    // direct masked input→output connection
-	Order          []int     `json:"order"`     // Order[i] = site at autoregressive position i (a permutation of 0..N-1)
-	Symmetric      bool      `json:"symmetric"` // q=2 only: log p_sym(x) = log((p(x)+p(1-x))/2)
-	ParamLo        []float64 `json:"param_lo"`  // per-axis range of the training data, mapped to [-1, 1]
-	ParamHi        []float64 `json:"param_hi"`
+	CondActivation Activation `json:"cond_activation,omitempty"`
+	Direct         bool       `json:"direct"`    // direct masked input→output connection
+	Order          []int      `json:"order"`     // Order[i] = site at autoregressive position i (a permutation of 0..N-1)
+	Symmetric      bool       `json:"symmetric"` // q=2 only: log p_sym(x) = log((p(x)+p(1-x))/2)
+	ParamLo        []float64  `json:"param_lo"`  // per-axis range of the training data, mapped to [-1, 1]
+	ParamHi        []float64  `json:"param_hi"`
 	// Precision is the arithmetic of the masked matrix products, where
 	// nearly all the work is: "" or "float64" (the default), or "float32"
 	// (products rounded to single precision, about 1e-6 relative; every
@@ -52,9 +53,6 @@ const (
 	PrecisionFloat64 = "float64"
 	PrecisionFloat32 = "float32"
 )
-
-// Activations lists the supported activation names.
-var Activations = []string{"relu", "tanh", "softplus"}
 
 // DefaultHiddenWidth returns the default masked hidden width for n sites:
 // the smallest multiple of 32 that is at least n, clamped to [32, 256].
@@ -123,7 +121,7 @@ func DefaultHiddenWidth(n int) int {
 // 0.28–0.31) but local and fisher farther (0.41–0.56 against 0.25–0.35);
 // with augmentation they were 0.21–0.31, the closest of all. So train with
 // --augment wherever the system has the symmetries. A FiLM training step
-// costs about 1.4× an additive one in the pure-Go build and 1.3× in the
+// costs about 1.4× an additive one in the default build and 1.3× in the
 // openblas build (BenchmarkFiLM, N = 256, H = 256, float64, one core, one
 // λ per snapshot, medians of 5 at load ≈ 1: 8,987 against 12,351 and
 // 11,800 against 15,184 snapshots/s; the pure-Go FiLM step keeps
@@ -140,7 +138,7 @@ func DefaultConfig(n, q, d int, lo, hi []float64) Config {
 		Hidden:     []int{w, w},
 		CondHidden: []int{64},
 		Fourier:    2,
-		Activation: "softplus",
+		Activation: Softplus,
 		Direct:     true,
 		FiLM:       true,
 		Order:      RowMajorOrder(n),
@@ -250,13 +248,8 @@ func (c Config) Validate() error {
 	return nil
 }
 
-func actIndex(name string) int {
-	for i, a := range Activations {
-		if a == name {
-			return i
-		}
-	}
-	return -1
+func actIndex(a Activation) int {
+	return slices.Index(Activations, a)
 }
 
 // inDim is the number of input units: N for q = 2, N·q otherwise.
@@ -302,8 +295,8 @@ func (c Config) features(dst, lambda []float64) {
 	}
 }
 
-// condAct returns the conditioning net's activation name.
-func (c Config) condAct() string {
+// condAct returns the conditioning net's activation.
+func (c Config) condAct() Activation {
 	if c.CondActivation == "" {
 		return c.Activation
 	}

@@ -90,13 +90,7 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 	// Each pass through the network (two with Symmetric) has its own
 	// operations, because they own their output buffers.
 	f32 := c.Precision == PrecisionFloat32
-	hiddenAct := actRelu
-	switch c.Activation {
-	case "tanh":
-		hiddenAct = actTanh
-	case "softplus":
-		hiddenAct = actSoftplus
-	}
+	hiddenAct := c.Activation.kernelCode()
 	tiles := m.tiles
 	linears := func(pass string) ([]*maskedLinear, *maskedLinear) {
 		lin := make([]*maskedLinear, len(l.madeW))
@@ -111,12 +105,12 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 		}
 		return lin, linD
 	}
-	// actNode applies the named activation as a gorgonia operation.
-	actNode := func(name string, n *G.Node) *G.Node {
-		switch name {
-		case "tanh":
+	// actNode applies the activation as a gorgonia operation.
+	actNode := func(a Activation, n *G.Node) *G.Node {
+		switch a {
+		case Tanh:
 			return must(G.Tanh(n))
-		case "softplus":
+		case Softplus:
 			return must(G.Softplus(n))
 		}
 		return must(G.Rectify(n))

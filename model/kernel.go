@@ -149,11 +149,11 @@ func gen(t Tensor) blas64.General {
 
 func vec(x []float64) blas64.Vector { return blas64.Vector{N: len(x), Inc: 1, Data: x} }
 
-func actFunc(name string) func(float64) float64 {
-	switch name {
-	case "tanh":
+func actFunc(a Activation) func(float64) float64 {
+	switch a {
+	case Tanh:
 		return math.Tanh
-	case "softplus":
+	case Softplus:
 		return softplus
 	}
 	return func(x float64) float64 { return math.Max(x, 0) }
@@ -337,9 +337,9 @@ func (m *Model) hidden(p *prep, cb [][][]float64, w *workspace, a0 []float64, r 
 	// (vBiasAct32, vAct64); tanh runs as a Go loop.
 	vact := 0
 	switch c.Activation {
-	case "relu":
+	case ReLU:
 		vact = actRelu
-	case "softplus":
+	case Softplus:
 		vact = actSoftplus
 	}
 	for l, hw := range c.Hidden {
@@ -932,7 +932,7 @@ func (m *Model) sampleUnits(p *prep, cb [][]float64, w *workspace, r, l, from, t
 	if c.FiLM {
 		g = cb[l][hw+from : hw+to]
 	}
-	relu := c.Activation == "relu"
+	relu := c.Activation == ReLU
 	act := actFunc(c.Activation)
 	for i := 0; i < r; i++ {
 		row := h[i*hw+from : i*hw+to]

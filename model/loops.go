@@ -3,7 +3,7 @@ package model
 import "math"
 
 // The elementwise loops of the kernel and the training operations, in Go.
-// The pure-Go build calls them through the v* functions of vec_purego.go;
+// The default build calls them through the v* functions of vec_goloops.go;
 // the openblas build replaces those by C loops that gcc vectorises
 // (vec_openblas.go, vec_openblas.c) and keeps these as the reference its
 // tests compare against.

@@ -205,7 +205,7 @@ func New(cfg Config, seed uint64) (*Model, error) {
 		m.Weights[i] = Tensor{Name: l.names[i], Shape: append([]int(nil), l.shapes[i]...), Data: make([]float64, shapeSize(l.shapes[i]))}
 	}
 	hiddenGain := 1.0
-	if cfg.Activation == "relu" || cfg.Activation == "softplus" {
+	if cfg.Activation == ReLU || cfg.Activation == Softplus {
 		hiddenGain = 2
 	}
 	fill := func(w int, gain float64) {
@@ -229,7 +229,7 @@ func New(cfg Config, seed uint64) (*Model, error) {
 		}
 	}
 	condGain := 1.0
-	if cfg.condAct() == "relu" || cfg.condAct() == "softplus" {
+	if cfg.condAct() == ReLU || cfg.condAct() == Softplus {
 		condGain = 2
 	}
 	for _, w := range l.condW {

@@ -324,7 +324,7 @@ func vCombine32(dst []float64, g0, g1 []float32, f0, f1 float64, mask []float64,
 
 // The FiLM layer's softplus and its derivative dA = dO·σ(A) run the C
 // kernels above (from the output O: σ = 1 − e^−O), not gorgonia's scalar
-// functions as in the pure-Go build, so training rounds differently there
+// functions as in the default build, so training rounds differently there
 // (by 1e-8 of the largest gradient entry after one step; film.go).
 const filmSoftplusExact = false
 

@@ -9,7 +9,7 @@ import (
 )
 
 // The C loops of the openblas build against the Go loops of loops.go
-// (the pure-Go build's code). All but the exponential ones must agree bit
+// (the default build's code). All but the exponential ones must agree bit
 // for bit: vec_openblas.c is compiled without FMA contraction, so each
 // element is rounded by the same IEEE 754 operations in the same order
 // (this holds with Go's default GOAMD64=v1, under which Go does not fuse

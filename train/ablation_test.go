@@ -13,6 +13,7 @@ import (
 	"tidemark/checkpoints"
 	"tidemark/data/density"
 	"tidemark/indicator"
+	"tidemark/model"
 )
 
 // TestAblation trains one architecture variant on exact samples of the 4×4
@@ -51,8 +52,8 @@ func TestAblation(t *testing.T) {
 	if v := os.Getenv("FILM"); v != "" {
 		st.Arch.FiLM = v == "1"
 	}
-	st.Arch.Activation = envString("ACT", st.Arch.Activation)
-	st.Arch.CondActivation = envString("CONDACT", st.Arch.CondActivation)
+	st.Arch.Activation = model.Activation(envString("ACT", string(st.Arch.Activation)))
+	st.Arch.CondActivation = model.Activation(envString("CONDACT", string(st.Arch.CondActivation)))
 	st.Arch.Hidden = envWidths(t, "HIDDEN", st.Arch.Hidden)
 	st.Arch.CondHidden = envWidths(t, "COND", st.Arch.CondHidden)
 	st.WeightDecay = envFloat(t, "WD", st.WeightDecay)

@@ -94,7 +94,7 @@ func (a *Adam) update(w, g [][]float64, lr, bc1, bc2 float64, k, parts int) {
 }
 
 // adamSliceGo is the Adam step of one slice (wd = lr·λ, used when decay
-// is set): the pure-Go build's loop (adam_purego.go) and the reference of
+// is set): the default build's loop (adam_goloops.go) and the reference of
 // the openblas build's C loop (adam_openblas.c), which gives the same
 // moments and a step that differs in the last bits only.
 func adamSliceGo(wi, gi, mi, vi []float64, b1, b2, eps, lr, bc1, bc2, wd float64, decay bool) {
@@ -117,8 +117,8 @@ func adamSliceGo(wi, gi, mi, vi []float64, b1, b2, eps, lr, bc1, bc2, wd float64
 	}
 }
 
-// sumSquaresGo is Σ v² over g in order: the pure-Go build's loop
-// (adam_purego.go) and the reference of the openblas build's C loop.
+// sumSquaresGo is Σ v² over g in order: the default build's loop
+// (adam_goloops.go) and the reference of the openblas build's C loop.
 func sumSquaresGo(g []float64) float64 {
 	s := 0.0
 	for _, v := range g {

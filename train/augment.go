@@ -7,34 +7,24 @@ import (
 	"strings"
 )
 
-// Symmetry names, in the order Augment lists them.
-const (
-	SymTranslate = "translate" // cyclic shifts along every lattice axis (periodic boundaries)
-	SymMirror    = "mirror"    // reversal of every lattice axis independently
-	SymRotate    = "rotate"    // rotations by 90° (square 2-D lattices)
-	SymFlip      = "flip"      // exchanging the two site values (alphabet 2)
-)
-
-var symNames = []string{SymTranslate, SymMirror, SymRotate, SymFlip}
-
 // ParseAugment reads a comma-separated list of symmetry names ("translate",
 // "mirror", "rotate", "flip"), or "" or "none" for no augmentation, and
 // returns them in canonical order without repeats.
-func ParseAugment(s string) ([]string, error) {
+func ParseAugment(s string) ([]Symmetry, error) {
 	s = strings.TrimSpace(s)
 	if s == "" || s == "none" {
 		return nil, nil
 	}
-	seen := map[string]bool{}
+	seen := map[Symmetry]bool{}
 	for _, f := range strings.Split(s, ",") {
-		f = strings.TrimSpace(f)
-		if !slices.Contains(symNames, f) {
-			return nil, fmt.Errorf("augment: expected a comma-separated list of %s (or none), found %q", strings.Join(symNames, ", "), f)
+		f := Symmetry(strings.TrimSpace(f))
+		if !slices.Contains(Symmetries, f) {
+			return nil, fmt.Errorf("augment: expected a comma-separated list of %s (or none), found %q", JoinSymmetries(Symmetries, ", "), f)
 		}
 		seen[f] = true
 	}
-	var out []string
-	for _, n := range symNames {
+	var out []Symmetry
+	for _, n := range Symmetries {
 		if seen[n] {
 			out = append(out, n)
 		}
@@ -63,7 +53,7 @@ type augmenter struct {
 // newAugmenter checks the named symmetries (valid names, as
 // Settings.Validate ensures) against the lattice and the alphabet; it
 // returns nil for no symmetries.
-func newAugmenter(names []string, lattice []int, q int) (*augmenter, error) {
+func newAugmenter(names []Symmetry, lattice []int, q int) (*augmenter, error) {
 	if len(names) == 0 {
 		return nil, nil
 	}

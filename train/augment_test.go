@@ -12,13 +12,13 @@ import (
 func TestParseAugment(t *testing.T) {
 	for _, tc := range []struct {
 		in   string
-		want []string
+		want []Symmetry
 		err  string
 	}{
 		{"", nil, ""},
 		{"none", nil, ""},
-		{"flip,translate", []string{"translate", "flip"}, ""},
-		{" rotate , mirror,rotate", []string{"mirror", "rotate"}, ""},
+		{"flip,translate", []Symmetry{"translate", "flip"}, ""},
+		{" rotate , mirror,rotate", []Symmetry{"mirror", "rotate"}, ""},
 		{"translate,shear", nil, `found "shear"`},
 	} {
 		got, err := ParseAugment(tc.in)
@@ -36,15 +36,15 @@ func TestParseAugment(t *testing.T) {
 
 func TestNewAugmenterRefuses(t *testing.T) {
 	for _, tc := range []struct {
-		names   []string
+		names   []Symmetry
 		lattice []int
 		q       int
 		err     string
 	}{
-		{[]string{SymRotate}, []int{4, 6}, 2, "square 2-D lattice"},
-		{[]string{SymRotate}, []int{16}, 2, "square 2-D lattice"},
-		{[]string{SymTranslate}, []int{2, 2, 2}, 2, "1-D or 2-D lattice"},
-		{[]string{SymFlip}, []int{8}, 3, "alphabet 2"},
+		{[]Symmetry{SymRotate}, []int{4, 6}, 2, "square 2-D lattice"},
+		{[]Symmetry{SymRotate}, []int{16}, 2, "square 2-D lattice"},
+		{[]Symmetry{SymTranslate}, []int{2, 2, 2}, 2, "1-D or 2-D lattice"},
+		{[]Symmetry{SymFlip}, []int{8}, 3, "alphabet 2"},
 	} {
 		if _, err := newAugmenter(tc.names, tc.lattice, tc.q); err == nil || !strings.Contains(err.Error(), tc.err) {
 			t.Errorf("newAugmenter(%v, %v, %d): error %v, want one containing %q", tc.names, tc.lattice, tc.q, err, tc.err)
@@ -61,17 +61,17 @@ func TestNewAugmenterRefuses(t *testing.T) {
 // of 2L elements.
 func TestAugmenterGroup(t *testing.T) {
 	for _, tc := range []struct {
-		names   []string
+		names   []Symmetry
 		lattice []int
 		order   int
 	}{
-		{[]string{SymTranslate, SymMirror, SymRotate}, []int{4, 4}, 16 * 8},
-		{[]string{SymMirror, SymRotate}, []int{5, 5}, 8},
-		{[]string{SymRotate}, []int{3, 3}, 4},
-		{[]string{SymTranslate, SymMirror}, []int{4, 6}, 24 * 4},
-		{[]string{SymTranslate}, []int{3, 5}, 15},
-		{[]string{SymTranslate, SymMirror}, []int{7}, 14},
-		{[]string{SymMirror}, []int{7}, 2},
+		{[]Symmetry{SymTranslate, SymMirror, SymRotate}, []int{4, 4}, 16 * 8},
+		{[]Symmetry{SymMirror, SymRotate}, []int{5, 5}, 8},
+		{[]Symmetry{SymRotate}, []int{3, 3}, 4},
+		{[]Symmetry{SymTranslate, SymMirror}, []int{4, 6}, 24 * 4},
+		{[]Symmetry{SymTranslate}, []int{3, 5}, 15},
+		{[]Symmetry{SymTranslate, SymMirror}, []int{7}, 14},
+		{[]Symmetry{SymMirror}, []int{7}, 2},
 	} {
 		t.Run(fmt.Sprint(tc.names, tc.lattice), func(t *testing.T) {
 			a, err := newAugmenter(tc.names, tc.lattice, 2)
@@ -121,7 +121,7 @@ func TestAugmenterGroup(t *testing.T) {
 // Hamiltonian with periodic boundaries (common practice).
 func TestAugmenterKeepsIsingEnergy(t *testing.T) {
 	const L = 6
-	a, err := newAugmenter([]string{SymTranslate, SymMirror, SymRotate, SymFlip}, []int{L, L}, 2)
+	a, err := newAugmenter([]Symmetry{SymTranslate, SymMirror, SymRotate, SymFlip}, []int{L, L}, 2)
 	if err != nil {
 		t.Fatal(err)
 	}

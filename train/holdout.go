@@ -15,10 +15,11 @@ import (
 // one per axis, each "name=v1;v2;…" (listed values, each of which must be a
 // grid value of that axis) or "name=start:stop" (every grid value in the
 // closed range). A point is held out when it meets every condition; axes
-// without a condition match anything. Values are compared with a relative
-// tolerance of 1e-5, so that a value typed as printed with six significant
-// digits ("T=2.09091") finds the grid value 2.0909090909…; a listed value
-// that matches two grid values is refused as ambiguous.
+// without a condition match anything. Values are compared with
+// data.NamesValue (a relative tolerance of 1e-5), so that a value typed as
+// printed with six significant digits ("T=2.09091") finds the grid value
+// 2.0909090909…; a listed value that matches two grid values is refused as
+// ambiguous.
 func ParseHoldout(spec string, g *data.Grid) ([]int, error) {
 	spec = strings.TrimSpace(spec)
 	if spec == "" {
@@ -67,7 +68,7 @@ func ParseHoldout(spec string, g *data.Grid) ([]int, error) {
 				}
 				matches := 0
 				for _, a := range g.Axes[axis] {
-					if near(a, v) {
+					if data.NamesValue(v, a) {
 						matches++
 					}
 				}
@@ -88,9 +89,9 @@ func ParseHoldout(spec string, g *data.Grid) ([]int, error) {
 		for _, c := range conds {
 			v := p[c.axis]
 			if c.isRng {
-				ok = ok && (v >= c.lo || near(v, c.lo)) && (v <= c.hi || near(v, c.hi))
+				ok = ok && (v >= c.lo || data.NamesValue(c.lo, v)) && (v <= c.hi || data.NamesValue(c.hi, v))
 			} else {
-				ok = ok && slices.ContainsFunc(c.values, func(a float64) bool { return near(a, v) })
+				ok = ok && slices.ContainsFunc(c.values, func(a float64) bool { return data.NamesValue(a, v) })
 			}
 		}
 		if ok {
@@ -104,10 +105,6 @@ func ParseHoldout(spec string, g *data.Grid) ([]int, error) {
 		return nil, fmt.Errorf("holdout %q: holds out %d of the %d grid points, expected at least 2 left for training", spec, len(held), g.K())
 	}
 	return held, nil
-}
-
-func near(a, b float64) bool {
-	return math.Abs(a-b) <= 1e-5*math.Max(math.Abs(a), math.Abs(b))+1e-300
 }
 
 func parseNum(s string) (float64, error) {

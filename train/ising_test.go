@@ -66,7 +66,7 @@ func isingDataset(t testing.TB, ly, lx int, temps []float64, perPoint int, seed 
 	}
 	for k, T := range temps {
 		rng := rand.New(rand.NewPCG(seed, uint64(k)))
-		src.Exact().Sample(ds.States[k*perPoint*n:(k+1)*perPoint*n], perPoint, ising.Couplings{T: T, Jx: 1, Jy: 1}, rng)
+		src.Enumeration().Sample(ds.States[k*perPoint*n:(k+1)*perPoint*n], perPoint, ising.Couplings{T: T, Jx: 1, Jy: 1}, rng)
 		for i := 0; i < perPoint; i++ {
 			ds.Params[k*perPoint+i] = T
 		}
@@ -136,7 +136,7 @@ var (
 	// isingSymmetries is the symmetry group of the isotropic periodic Ising
 	// model at zero field, which the training snapshots are augmented with
 	// (what a user declares with train --augment).
-	isingSymmetries = []string{SymTranslate, SymMirror, SymRotate, SymFlip}
+	isingSymmetries = []Symmetry{SymTranslate, SymMirror, SymRotate, SymFlip}
 	// isingAverage is the time constant in epochs of the weight average the
 	// model is kept as (train --average): with 4000 snapshots of 16 sites
 	// per point the data pin the model down and the minibatch noise of the

@@ -7,7 +7,6 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
-	"strings"
 	"sync"
 	"time"
 
@@ -26,15 +25,15 @@ type Arch struct {
 	CondHidden []int
 	// Fourier is the number of Fourier frequencies of the λ features.
 	Fourier int
-	// Activation is "softplus", "relu" or "tanh", for the masked hidden layers.
-	Activation string
+	// Activation is the masked hidden layers' activation.
+	Activation model.Activation
 	// CondActivation is the conditioning net's activation; "" means the
 	// same as Activation.
-	CondActivation string
+	CondActivation model.Activation
 	// Direct adds the masked direct input→output connection.
 	Direct bool
-	// Order is "rowmajor" or "snake" (boustrophedon on a 2-D lattice).
-	Order string
+	// Order is the autoregressive order of the sites.
+	Order Order
 	// Symmetric makes a q = 2 model invariant under flipping every site.
 	Symmetric bool
 	// FiLM lets the conditioning net scale the masked layers' inputs to
@@ -64,10 +63,9 @@ type Settings struct {
 	// Patience is the number of epochs without a validation improvement
 	// after which training stops.
 	Patience int
-	// Schedule is "plateau" (multiply the rate by PlateauFactor after
-	// PlateauPatience epochs without improvement), "cosine" (cosine decay
-	// from LR to MinLR over Epochs) or "constant".
-	Schedule        string
+	// Schedule is the learning-rate schedule; PlateauPatience and
+	// PlateauFactor shape SchedulePlateau.
+	Schedule        Schedule
 	PlateauPatience int
 	PlateauFactor   float64
 	// WeightDecay is the decoupled (AdamW) weight decay per unit learning
@@ -100,12 +98,12 @@ type Settings struct {
 	// Threads is the number of gorgonia graphs each minibatch is split
 	// across (≥ 1).
 	Threads int
-	// Augment names the symmetries of the data's distribution ("translate",
-	// "mirror", "rotate", "flip"; see ParseAugment): each training snapshot
+	// Augment names the symmetries of the data's distribution (see
+	// ParseAugment): each training snapshot
 	// enters its minibatch mapped through a random element of the group they
 	// generate. Only symmetries the system has at every grid point may be
 	// named; a wrong one biases the model.
-	Augment []string
+	Augment []Symmetry
 }
 
 // DefaultSettings returns settings that train the demo-sized systems
@@ -113,7 +111,7 @@ type Settings struct {
 // tuning.
 func DefaultSettings() Settings {
 	return Settings{
-		Arch:            Arch{Fourier: 1, Activation: "softplus", Direct: true, Order: "rowmajor", FiLM: true},
+		Arch:            Arch{Fourier: 1, Activation: model.Softplus, Direct: true, Order: OrderRowMajor, FiLM: true},
 		Epochs:          60,
 		Batch:           128,
 		LR:              2e-3,
@@ -121,7 +119,7 @@ func DefaultSettings() Settings {
 		Seed:            1,
 		ValFrac:         0.1,
 		Patience:        10,
-		Schedule:        "plateau",
+		Schedule:        SchedulePlateau,
 		PlateauPatience: 3,
 		PlateauFactor:   0.5,
 		Clip:            1,
@@ -149,9 +147,9 @@ func (s Settings) Validate() error {
 		return fmt.Errorf("patience: expected at least 1 epoch, found %d", s.Patience)
 	case !(s.Average >= 0) || math.IsInf(s.Average, 0):
 		return fmt.Errorf("average: expected a time constant ≥ 0 epochs (0: off), found %v", s.Average)
-	case s.Schedule != "plateau" && s.Schedule != "cosine" && s.Schedule != "constant":
+	case !slices.Contains(Schedules, s.Schedule):
 		return fmt.Errorf("schedule: expected plateau, cosine or constant, found %q", s.Schedule)
-	case s.Schedule == "plateau" && (s.PlateauPatience < 1 || !(s.PlateauFactor > 0 && s.PlateauFactor < 1)):
+	case s.Schedule == SchedulePlateau && (s.PlateauPatience < 1 || !(s.PlateauFactor > 0 && s.PlateauFactor < 1)):
 		return fmt.Errorf("plateau schedule: expected patience ≥ 1 and a factor in (0, 1), found %d and %v", s.PlateauPatience, s.PlateauFactor)
 	case s.WeightDecay < 0 || math.IsNaN(s.WeightDecay):
 		return fmt.Errorf("weight-decay: expected a rate ≥ 0, found %v", s.WeightDecay)
@@ -161,12 +159,12 @@ func (s Settings) Validate() error {
 		return fmt.Errorf("adam: expected 0 ≤ β1, β2 < 1 and ε > 0, found %v, %v, %v", s.Beta1, s.Beta2, s.Eps)
 	case s.Threads < 1:
 		return fmt.Errorf("threads: expected at least 1, found %d", s.Threads)
-	case s.Arch.Order != "rowmajor" && s.Arch.Order != "snake":
+	case !slices.Contains(Orders, s.Arch.Order):
 		return fmt.Errorf("order: expected rowmajor or snake, found %q", s.Arch.Order)
 	}
 	for _, a := range s.Augment {
-		if !slices.Contains(symNames, a) {
-			return fmt.Errorf("augment: expected symmetries among %s, found %q", strings.Join(symNames, ", "), a)
+		if !slices.Contains(Symmetries, a) {
+			return fmt.Errorf("augment: expected symmetries among %s, found %q", JoinSymmetries(Symmetries, ", "), a)
 		}
 	}
 	return nil
@@ -333,7 +331,7 @@ func (r *run) start(fp string) error {
 	cfg.Symmetric = a.Symmetric
 	cfg.FiLM = a.FiLM
 	cfg.Precision = a.Precision
-	if a.Order == "snake" {
+	if a.Order == OrderSnake {
 		lat := ds.Meta.Lattice
 		if len(lat) != 2 {
 			return fmt.Errorf("order snake: expected a 2-D lattice, found lattice %v", lat)
@@ -397,10 +395,10 @@ func (r *run) trainingRecord() checkpoints.Training {
 	}
 	return checkpoints.Training{
 		Epochs: st.Epochs, Batch: st.Batch, LR: st.LR, MinLR: st.MinLR, Seed: st.Seed,
-		ValFrac: st.ValFrac, Patience: st.Patience, Schedule: st.Schedule,
+		ValFrac: st.ValFrac, Patience: st.Patience, Schedule: string(st.Schedule),
 		PlateauPatience: st.PlateauPatience, PlateauFactor: st.PlateauFactor,
 		WeightDecay: st.WeightDecay, Clip: st.Clip, Beta1: st.Beta1, Beta2: st.Beta2, Eps: st.Eps,
-		Threads: st.Threads, OrderName: st.Arch.Order, Augment: slices.Clone(st.Augment),
+		Threads: st.Threads, OrderName: string(st.Arch.Order), Augment: symmetryNames(st.Augment),
 		AverageEpochs: st.Average, TrainSnapshots: len(r.trainIdx), ValSnapshots: nv, HeldSnapshots: nh,
 	}
 }
@@ -420,11 +418,11 @@ func (r *run) resume(fp string) error {
 	}
 	t := h.Training
 	r.st = Settings{
-		Arch:   Arch{Order: t.OrderName},
+		Arch:   Arch{Order: Order(t.OrderName)},
 		Epochs: t.Epochs, Batch: t.Batch, LR: t.LR, MinLR: t.MinLR, Seed: t.Seed, ValFrac: t.ValFrac,
-		Patience: t.Patience, Schedule: t.Schedule, PlateauPatience: t.PlateauPatience, PlateauFactor: t.PlateauFactor,
+		Patience: t.Patience, Schedule: Schedule(t.Schedule), PlateauPatience: t.PlateauPatience, PlateauFactor: t.PlateauFactor,
 		WeightDecay: t.WeightDecay, Clip: t.Clip, Beta1: t.Beta1, Beta2: t.Beta2, Eps: t.Eps, Threads: t.Threads,
-		Augment: slices.Clone(t.Augment), Average: t.AverageEpochs,
+		Augment: symmetriesOf(t.Augment), Average: t.AverageEpochs,
 	}
 	if res.Epochs > 0 {
 		r.st.Epochs = res.Epochs
@@ -597,6 +595,44 @@ func (r *run) warn(format string, args ...any) {
 	}
 }
 
+// stopReason says whether the run stops before epoch, done epochs into
+// this call of Train.
+func (r *run) stopReason(epoch, done int) StopReason {
+	switch {
+	case epoch > r.st.Epochs:
+		return StopMaxEpochs
+	case r.hdr.Optimizer.SinceBest >= r.st.Patience:
+		return StopEarly
+	case r.opt.StopAfter > 0 && done >= r.opt.StopAfter:
+		return StopAfterLimit
+	}
+	return NotStopped
+}
+
+// symmetryNames returns the names of syms for a checkpoint's record.
+func symmetryNames(syms []Symmetry) []string {
+	if syms == nil {
+		return nil
+	}
+	out := make([]string, len(syms))
+	for i, s := range syms {
+		out[i] = string(s)
+	}
+	return out
+}
+
+// symmetriesOf reads the symmetry names of a checkpoint's record.
+func symmetriesOf(names []string) []Symmetry {
+	if names == nil {
+		return nil
+	}
+	out := make([]Symmetry, len(names))
+	for i, n := range names {
+		out[i] = Symmetry(n)
+	}
+	return out
+}
+
 func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 	N := float64(r.ds.N)
 	nonFinite := 0
@@ -608,32 +644,20 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 		}
 		r.opt.Start(len(r.trainIdx), left)
 	}
+	sched := newSchedule(r.st)
 	for {
 		epoch := r.hdr.Optimizer.Epoch + 1
-		switch {
-		case epoch > r.st.Epochs:
-			r.hdr.Stopped = "max epochs"
-		case r.hdr.Optimizer.SinceBest >= r.st.Patience:
-			r.hdr.Stopped = "early stopping"
-		case r.opt.StopAfter > 0 && done >= r.opt.StopAfter:
-			r.hdr.Stopped = "stop-after limit"
-		}
-		if r.hdr.Stopped != "" {
+		if stop := r.stopReason(epoch, done); stop != NotStopped {
+			r.hdr.Stopped = stop.String()
 			break
 		}
-		if r.st.Schedule == "cosine" {
-			scale := r.hdr.Optimizer.LRScale
-			if scale == 0 {
-				scale = 1
-			}
-			r.lr = scale * (r.st.MinLR + 0.5*(r.st.LR-r.st.MinLR)*(1+math.Cos(math.Pi*float64(epoch-1)/float64(r.st.Epochs))))
-		}
+		r.lr = sched.epochRate(epoch, r.lr, r.hdr.Optimizer.LRScale)
 		before := r.save()
 		t0 := time.Now()
 		trainNLL, err := r.epoch(ctx, epoch)
 		if errors.Is(err, ErrInterrupted) {
 			r.restore(before)
-			r.hdr.Stopped = "interrupted"
+			r.hdr.Stopped = StopInterrupted.String()
 			ck, cerr := r.checkpoint()
 			if cerr != nil {
 				return nil, cerr
@@ -694,8 +718,8 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 		} else {
 			o.SinceBest++
 			o.SincePlateau++
-			if r.st.Schedule == "plateau" && o.SincePlateau >= r.st.PlateauPatience && r.lr > r.st.MinLR {
-				r.lr = math.Max(r.lr*r.st.PlateauFactor, r.st.MinLR)
+			var restart bool
+			if r.lr, restart = sched.stalled(r.lr, o.SincePlateau); restart {
 				o.SincePlateau = 0
 			}
 		}

@@ -22,7 +22,7 @@ func TestKaufmanEntropyMatchesEnumeration(t *testing.T) {
 		{4, 4, ising.Couplings{T: 2.269, Jx: 1, Jy: 1}},
 		{4, 6, ising.Couplings{T: 3.2, Jx: 1, Jy: 0.5}},
 	} {
-		e, err := ising.NewExact(ising.Lattice{Ly: tc.ly, Lx: tc.lx})
+		e, err := ising.NewEnumeration(ising.Lattice{Ly: tc.ly, Lx: tc.lx})
 		if err != nil {
 			t.Fatal(err)
 		}

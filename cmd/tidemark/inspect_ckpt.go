@@ -80,7 +80,7 @@ func inspectCheckpoint(path string, asJSON bool, w io.Writer) (bool, error) {
 	c := h.Model
 	r := checkpointReport{
 		Kind: "checkpoint", File: path, FileBytes: st.Size(), Software: h.Software, Created: h.Created,
-		Architecture: archReport{Hidden: c.Hidden, CondHidden: c.CondHidden, Fourier: c.Fourier, Activation: c.Activation, CondAct: condActivation(c),
+		Architecture: archReport{Hidden: c.Hidden, CondHidden: c.CondHidden, Fourier: c.Fourier, Activation: string(c.Activation), CondAct: condActivation(c),
 			Direct: c.Direct, Order: h.Training.OrderName, Symmetric: c.Symmetric, FiLM: c.FiLM, ParamLo: c.ParamLo, ParamHi: c.ParamHi},
 		Parameters: ck.NumParams(), Sites: c.Sites, Alphabet: c.Alphabet, Lattice: h.Lattice, ParamNames: h.ParamNames,
 		Dataset: h.Dataset, HeldOut: h.HeldOut, HoldoutSpec: h.HoldoutSpec,
@@ -181,7 +181,7 @@ func intsString(v []int, sep string) string {
 // means the same as the hidden layers').
 func condActivation(c model.Config) string {
 	if c.CondActivation == "" {
-		return c.Activation
+		return string(c.Activation)
 	}
-	return c.CondActivation
+	return string(c.CondActivation)
 }

@@ -238,7 +238,7 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if err != nil {
 		return err
 	}
-	if sm, err := ising.ParseSourceMeta(ds.Meta); kind == "model" && err == nil && sm.HasExact() {
+	if sm, err := ising.ParseSourceMeta(ds.Meta); kind == "model" && err == nil && sm.HasReference() {
 		res.Notes = append(res.Notes, fmt.Sprintf("this dataset has an exact reference: `tidemark scan --data %s --exact` scores the same snapshots with the exact density; a misfit of the model (a spurious peak in the ordered phase, say) shows only in that comparison, not in the bootstrap errors", o.data))
 	}
 	sum, err := report.Write(o.out, o.force, res, report.Info{Source: kind, Data: o.data, Models: o.models, Refine: o.refine, Seed: o.seed, Page: inputs.Page(o.data, o.models)})

@@ -139,8 +139,8 @@ func (o *simulateIsingOptions) isingConfig() (ising.Config, error) {
 	if err := lat.Validate(); err != nil {
 		return cfg, fmt.Errorf("--size: %w", err)
 	}
-	if o.exactSamples && lat.N() > ising.MaxExactSites {
-		return cfg, fmt.Errorf("--exact-samples: expected at most %d sites, found %d×%d = %d", ising.MaxExactSites, ly, o.size, lat.N())
+	if o.exactSamples && lat.N() > ising.MaxEnumeratedSites {
+		return cfg, fmt.Errorf("--exact-samples: expected at most %d sites, found %d×%d = %d", ising.MaxEnumeratedSites, ly, o.size, lat.N())
 	}
 	total := int64(len(points)) * int64(o.samples) * int64(lat.N())
 	if total > 1<<31 {
@@ -155,14 +155,14 @@ func (o *simulateIsingOptions) isingConfig() (ising.Config, error) {
 		}
 	}
 	return ising.Config{
-		Lattice: lat,
-		Fixed:   ising.Couplings{T: o.temperature, Jx: o.jx, Jy: o.jy, H: o.field},
-		Axes:    names,
-		Points:  points,
-		Samples: o.samples,
-		Exact:   o.exactSamples,
-		Seed:    o.seed,
-		Threads: threadsOrDefault(o.threads),
+		Lattice:    lat,
+		Fixed:      ising.Couplings{T: o.temperature, Jx: o.jx, Jy: o.jy, H: o.field},
+		Axes:       names,
+		Points:     points,
+		Samples:    o.samples,
+		Enumerated: o.exactSamples,
+		Seed:       o.seed,
+		Threads:    threadsOrDefault(o.threads),
 	}, nil
 }
 
@@ -199,7 +199,7 @@ func runSimulateIsing(cmd *cobra.Command, o *simulateIsingOptions) error {
 		Grid:         o.grid,
 		Axes:         cfg.Axes,
 		Samples:      cfg.Samples,
-		ExactSamples: cfg.Exact,
+		ExactSamples: cfg.Enumerated,
 		Seed:         cfg.Seed,
 		Points:       res.Points,
 	}
@@ -230,7 +230,7 @@ func runSimulateIsing(cmd *cobra.Command, o *simulateIsingOptions) error {
 			len(unsettled), strings.Join(unsettled, "; "))
 	}
 	method := "Monte Carlo"
-	if cfg.Exact {
+	if cfg.Enumerated {
 		method = "exact samples"
 	}
 	fmt.Fprintf(cmd.OutOrStdout(), "wrote %s: %d×%d lattice, %d points × %d snapshots (%s, largest τ %.3g sweeps) in %.1fs\n",

@@ -14,6 +14,7 @@ import (
 	"tidemark/checkpoints"
 	"tidemark/cmd/internal/progress"
 	"tidemark/data"
+	"tidemark/model"
 	"tidemark/train"
 )
 
@@ -92,10 +93,10 @@ thread counts change results only by floating-point summation order.`,
 	f.StringVar(&o.hidden, "hidden", "", "masked hidden layer widths in units, comma-separated (default: two layers of the smallest multiple of 32 ≥ sites, 32 to 256)")
 	f.StringVar(&o.condHidden, "cond-hidden", "64", `hidden widths of the conditioning net in units, comma-separated, or "none"`)
 	f.IntVar(&o.fourier, "fourier", d.Arch.Fourier, "Fourier frequencies of the normalised parameters fed to the conditioning net")
-	f.StringVar(&o.activation, "activation", d.Arch.Activation, "activation of the masked hidden layers: softplus (smooth in the parameters), relu or tanh")
-	f.StringVar(&o.condActivation, "cond-activation", d.Arch.CondActivation, "activation of the conditioning net: softplus, relu or tanh; default: as --activation")
+	f.StringVar(&o.activation, "activation", string(d.Arch.Activation), "activation of the masked hidden layers: softplus (smooth in the parameters), relu or tanh")
+	f.StringVar(&o.condActivation, "cond-activation", string(d.Arch.CondActivation), "activation of the conditioning net: softplus, relu or tanh; default: as --activation")
 	f.BoolVar(&o.direct, "direct", d.Arch.Direct, "add the masked direct input→output connection")
-	f.StringVar(&o.order, "order", d.Arch.Order, "autoregressive site order: rowmajor or snake (boustrophedon, 2-D lattices)")
+	f.StringVar(&o.order, "order", string(d.Arch.Order), "autoregressive site order: rowmajor or snake (boustrophedon, 2-D lattices)")
 	f.BoolVar(&o.film, "film", d.Arch.FiLM, "let the conditioning net scale every masked layer's pre-activation as well as shift it (FiLM; --film=false for shifts only)")
 	f.BoolVar(&o.symmetric, "symmetric", false, "make the model invariant under flipping every spin (alphabet 2 only)")
 	f.StringVar(&o.precision, "precision", "float64", "arithmetic of the masked matrix products: float64, or float32 (faster, above all in the OpenBLAS build; sums stay float64)")
@@ -107,7 +108,7 @@ thread counts change results only by floating-point summation order.`,
 	f.Uint64Var(&o.seed, "seed", d.Seed, "random seed for the initial weights, the validation split and the shuffles")
 	f.Float64Var(&o.valFrac, "val-frac", d.ValFrac, "fraction of each grid point's samples kept for validation (at least one)")
 	f.IntVar(&o.patience, "patience", d.Patience, "stop after this many epochs without a better validation NLL")
-	f.StringVar(&o.schedule, "schedule", d.Schedule, "learning-rate schedule: plateau (halve after 3 epochs without improvement), cosine or constant")
+	f.StringVar(&o.schedule, "schedule", string(d.Schedule), "learning-rate schedule: plateau (halve after 3 epochs without improvement), cosine or constant")
 	f.Float64Var(&o.average, "average", d.Average, "time constant in epochs of the moving average of the weights that is validated and kept (Polyak averaging; 0 for the optimiser's own weights)")
 	f.Float64Var(&o.weightDecay, "weight-decay", 0, "decoupled weight decay per unit learning rate (AdamW), on weight matrices; 0 for none")
 	f.Float64Var(&o.clip, "clip", d.Clip, "largest global L2 norm of the gradient of the NLL per site (nats); 0 for no clipping")
@@ -159,10 +160,10 @@ func (o *trainOptions) settings() (train.Settings, error) {
 		return st, fmt.Errorf("--fourier: expected a count ≥ 0, found %d", o.fourier)
 	}
 	st.Arch.Fourier = o.fourier
-	st.Arch.Activation = o.activation
-	st.Arch.CondActivation = o.condActivation
+	st.Arch.Activation = model.Activation(o.activation)
+	st.Arch.CondActivation = model.Activation(o.condActivation)
 	st.Arch.Direct = o.direct
-	st.Arch.Order = o.order
+	st.Arch.Order = train.Order(o.order)
 	st.Arch.Symmetric = o.symmetric
 	st.Arch.FiLM = o.film
 	st.Arch.Precision = o.precision
@@ -172,7 +173,7 @@ func (o *trainOptions) settings() (train.Settings, error) {
 	}
 	st.Augment = aug
 	st.Epochs, st.Batch, st.LR, st.MinLR, st.Seed = o.epochs, o.batch, o.lr, o.minLR, o.seed
-	st.ValFrac, st.Patience, st.Schedule = o.valFrac, o.patience, o.schedule
+	st.ValFrac, st.Patience, st.Schedule = o.valFrac, o.patience, train.Schedule(o.schedule)
 	st.WeightDecay, st.Clip, st.Average = o.weightDecay, o.clip, o.average
 	st.Threads = threadsOrDefault(o.threads)
 	if st.MinLR > st.LR {

@@ -4,7 +4,6 @@ import (
 	"encoding/json"
 	"fmt"
 	"slices"
-	"strings"
 
 	"tidemark/train"
 )
@@ -15,7 +14,7 @@ import (
 // rotate on a square lattice with Jx = Jy when neither coupling is a grid
 // axis, flip at zero field when the field is not a grid axis. ok is false for
 // other sources, which tidemark cannot judge.
-func isingSymmetries(source json.RawMessage) (syms []string, ok bool) {
+func isingSymmetries(source json.RawMessage) (syms []train.Symmetry, ok bool) {
 	var s struct {
 		Generator string   `json:"generator"`
 		Lattice   []int    `json:"lattice"`
@@ -52,7 +51,7 @@ func isingSymmetries(source json.RawMessage) (syms []string, ok bool) {
 // augmentNotes compares the declared --augment symmetries with those of a
 // simulated Ising dataset: a declared symmetry the system lacks biases the
 // model, and an undeclared one leaves a better fit unused.
-func augmentNotes(source json.RawMessage, declared []string) []string {
+func augmentNotes(source json.RawMessage, declared []train.Symmetry) []string {
 	has, ok := isingSymmetries(source)
 	if !ok {
 		return nil
@@ -60,17 +59,17 @@ func augmentNotes(source json.RawMessage, declared []string) []string {
 	var notes []string
 	for _, d := range declared {
 		if !slices.Contains(has, d) {
-			notes = append(notes, fmt.Sprintf("--augment %s: this dataset's Ising model (from its source record) does not have that symmetry at every grid point, so the model will learn a distribution that is not the data's; its symmetries are %s", d, strings.Join(has, ",")))
+			notes = append(notes, fmt.Sprintf("--augment %s: this dataset's Ising model (from its source record) does not have that symmetry at every grid point, so the model will learn a distribution that is not the data's; its symmetries are %s", d, train.JoinSymmetries(has, ",")))
 		}
 	}
-	var missing []string
+	var missing []train.Symmetry
 	for _, h := range has {
 		if !slices.Contains(declared, h) {
 			missing = append(missing, h)
 		}
 	}
 	if len(declared) == 0 && len(missing) > 0 {
-		notes = append(notes, fmt.Sprintf("this dataset's Ising model is symmetric under %s at every grid point; --augment %s usually fits it better (see README, Caution)", strings.Join(missing, ", "), strings.Join(missing, ",")))
+		notes = append(notes, fmt.Sprintf("this dataset's Ising model is symmetric under %s at every grid point; --augment %s usually fits it better (see README, Caution)", train.JoinSymmetries(missing, ", "), train.JoinSymmetries(missing, ",")))
 	}
 	return notes
 }

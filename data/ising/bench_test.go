@@ -7,7 +7,7 @@ import (
 // BenchmarkMetropolis reports single-spin Metropolis updates per second on a
 // 64×64 lattice near T_c with a field (so Metropolis is the method used).
 func BenchmarkMetropolis(b *testing.B) {
-	ch, err := NewChain(Lattice{64, 64}, Couplings{T: 2.3, Jx: 1, Jy: 1, H: 0.05}, 1, 0)
+	ch, err := NewMarkovChain(Lattice{64, 64}, Couplings{T: 2.3, Jx: 1, Jy: 1, H: 0.05}, 1, 0)
 	if err != nil {
 		b.Fatal(err)
 	}
@@ -24,7 +24,7 @@ func BenchmarkMetropolis(b *testing.B) {
 // BenchmarkWolff reports spins flipped per second by Wolff clusters on a
 // 64×64 lattice at T_c.
 func BenchmarkWolff(b *testing.B) {
-	ch, err := NewChain(Lattice{64, 64}, Couplings{T: 2.269185, Jx: 1, Jy: 1}, 1, 0)
+	ch, err := NewMarkovChain(Lattice{64, 64}, Couplings{T: 2.269185, Jx: 1, Jy: 1}, 1, 0)
 	if err != nil {
 		b.Fatal(err)
 	}
@@ -42,7 +42,7 @@ func BenchmarkWolff(b *testing.B) {
 // BenchmarkExactLogZ4x4 reports the cost of ln Z of the 4×4 lattice at a
 // new Couplings (one pass over the classes).
 func BenchmarkExactLogZ4x4(b *testing.B) {
-	e, _ := NewExact(Lattice{4, 4})
+	e, _ := NewEnumeration(Lattice{4, 4})
 	for i := 0; i < b.N; i++ {
 		e.LogZ(Couplings{T: 1 + float64(i%100000)*1e-5, Jx: 1, Jy: 1})
 	}

@@ -6,7 +6,7 @@
 // It holds three things that share the same conventions (site (y,x) is
 // y*Lx+x, spin s = −1 stored 0 and s = +1 stored 1):
 //
-//   - Exact: enumeration of all 2^N states for N ≤ 24 sites, giving ln Z,
+//   - Enumeration: enumeration of all 2^N states for N ≤ 24 sites, giving ln Z,
 //     exact probabilities, moments, the density of states and exact
 //     independent samples; Source adapts it to tidemark's density-source
 //     interfaces so indicators can be checked against the exact answer.

@@ -8,8 +8,8 @@ import (
 )
 
 // The 4×4 lattice enumerated exactly agrees with Kaufman's closed form.
-func ExampleNewExact() {
-	e, err := ising.NewExact(ising.Lattice{Ly: 4, Lx: 4})
+func ExampleNewEnumeration() {
+	e, err := ising.NewEnumeration(ising.Lattice{Ly: 4, Lx: 4})
 	if err != nil {
 		panic(err)
 	}

@@ -19,7 +19,7 @@ func TestKaufmanAgainstEnumeration(t *testing.T) {
 	}
 	for _, tc := range cases {
 		l := Lattice{tc.ly, tc.lx}
-		e, err := NewExact(l)
+		e, err := NewEnumeration(l)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -17,10 +17,10 @@ func init() {
 		if err != nil {
 			return nil, err
 		}
-		if n := sm.Lattice[0] * sm.Lattice[1]; n > MaxExactSites {
-			if !sm.HasExact() {
+		if n := sm.Lattice[0] * sm.Lattice[1]; n > MaxEnumeratedSites {
+			if !sm.HasReference() {
 				return nil, fmt.Errorf("%w: the %d×%d Ising lattice has %d sites, more than the %d that can be enumerated, and its field is not zero (Kaufman's exact formula is for h = 0)",
-					density.ErrNoReference, sm.Lattice[0], sm.Lattice[1], n, MaxExactSites)
+					density.ErrNoReference, sm.Lattice[0], sm.Lattice[1], n, MaxEnumeratedSites)
 			}
 			s, err := NewKaufmanSource(Lattice{Ly: sm.Lattice[0], Lx: sm.Lattice[1]}, sm.Axes, sm.Fixed())
 			if err != nil {

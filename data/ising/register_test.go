@@ -28,7 +28,7 @@ func TestRegisteredWithExact(t *testing.T) {
 		s, err := density.ReferenceFor(m)
 		if tc.want == "none" {
 			if !errors.Is(err, density.ErrNoReference) {
-				t.Errorf("%v %v h=%g: err = %v, want ErrNoExact", tc.lattice, tc.axes, tc.field, err)
+				t.Errorf("%v %v h=%g: err = %v, want ErrNoReference", tc.lattice, tc.axes, tc.field, err)
 			}
 			continue
 		}

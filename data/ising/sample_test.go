@@ -13,7 +13,7 @@ import (
 // compares the frequencies of the energy levels with the Boltzmann weights
 // g(E) e^{−E/T} of Beale's density of states by a chi-square test.
 func TestExactSamplesMatchBeale(t *testing.T) {
-	e, err := NewExact(Lattice{4, 4})
+	e, err := NewEnumeration(Lattice{4, 4})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -34,9 +34,9 @@ type Config struct {
 	Points [][]float64
 	// Samples is the number of snapshots per point.
 	Samples int
-	// Exact draws exact independent samples by enumeration (N ≤ 24)
+	// Enumerated draws exact independent samples by enumeration (N ≤ 24)
 	// instead of Monte Carlo.
-	Exact bool
+	Enumerated bool
 	// Seed seeds every point's stream PCG(Seed, point index).
 	Seed uint64
 	// Threads is the number of points run at once (≤ 0: every CPU, data.Threads).
@@ -78,10 +78,10 @@ func Simulate(ctx context.Context, cfg Config) (*Result, error) {
 		}
 		coup[k] = c
 	}
-	var exact *Exact
-	if cfg.Exact {
+	var exact *Enumeration
+	if cfg.Enumerated {
 		var err error
-		if exact, err = NewExact(cfg.Lattice); err != nil {
+		if exact, err = NewEnumeration(cfg.Lattice); err != nil {
 			return nil, err
 		}
 	}
@@ -107,7 +107,7 @@ func Simulate(ctx context.Context, cfg Config) (*Result, error) {
 	return res, nil
 }
 
-func samplePoint(ctx context.Context, cfg Config, exact *Exact, c Couplings, k uint64, dst []uint8) (PointInfo, error) {
+func samplePoint(ctx context.Context, cfg Config, exact *Enumeration, c Couplings, k uint64, dst []uint8) (PointInfo, error) {
 	n := cfg.Lattice.N()
 	if exact != nil {
 		rng := rand.New(rand.NewPCG(cfg.Seed, k))
@@ -124,7 +124,7 @@ func samplePoint(ctx context.Context, cfg Config, exact *Exact, c Couplings, k u
 		}
 		return PointInfo{Method: "exact", TauConverged: true}, nil
 	}
-	ch, err := NewChain(cfg.Lattice, c, cfg.Seed, k)
+	ch, err := NewMarkovChain(cfg.Lattice, c, cfg.Seed, k)
 	if err != nil {
 		return PointInfo{}, err
 	}
@@ -156,7 +156,7 @@ func samplePoint(ctx context.Context, cfg Config, exact *Exact, c Couplings, k u
 // spans TauRuns times the larger τ (or MaxSeriesUpdates spin updates are
 // spent; TauConverged is then false). The series counts as burn-in. The
 // spacing it returns is ⌈2τ⌉ sweeps of the larger τ.
-func (ch *Chain) BurnIn(ctx context.Context) (PointInfo, error) {
+func (ch *MarkovChain) BurnIn(ctx context.Context) (PointInfo, error) {
 	info := PointInfo{Method: "metropolis"}
 	if ch.wolff {
 		info.Method = "wolff"

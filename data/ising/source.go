@@ -14,12 +14,12 @@ import (
 // temperature, the two couplings and the field.
 var ParamNames = []string{"T", "Jx", "Jy", "h"}
 
-// Source adapts Exact to tidemark's density-source interfaces
+// Source adapts Enumeration to tidemark's density-source interfaces
 // (density.Source, density.Sampler and density.Enumerable): λ's
 // components are the named Couplings, the rest come from a fixed set.
 // It is safe for concurrent use.
 type Source struct {
-	exact *Exact
+	exact *Enumeration
 	names []string
 	fixed Couplings
 }
@@ -31,7 +31,7 @@ func NewSource(l Lattice, names []string, fixed Couplings) (*Source, error) {
 	if err := checkNames(names); err != nil {
 		return nil, err
 	}
-	e, err := NewExact(l)
+	e, err := NewEnumeration(l)
 	if err != nil {
 		return nil, err
 	}
@@ -56,8 +56,8 @@ func checkNames(names []string) error {
 	return nil
 }
 
-// Exact returns the underlying enumeration.
-func (s *Source) Exact() *Exact { return s.exact }
+// Enumeration returns the underlying enumeration.
+func (s *Source) Enumeration() *Enumeration { return s.exact }
 
 // Names returns the names of λ's components.
 func (s *Source) Names() []string { return append([]string(nil), s.names...) }
@@ -161,11 +161,11 @@ func (m SourceMeta) Couplings(lambda []float64) (Couplings, error) {
 	return withParams(m.Fixed(), m.Axes, lambda)
 }
 
-// HasExact reports whether the dataset m describes (as ParseSourceMeta
+// HasReference reports whether the dataset m describes (as ParseSourceMeta
 // returns it) has an exact reference: its lattice can be enumerated, or its
 // field is zero (KaufmanSource). It builds nothing.
-func (m SourceMeta) HasExact() bool {
-	return m.Lattice[0]*m.Lattice[1] <= MaxExactSites || (m.Field == 0 && !slices.Contains(m.Axes, "h"))
+func (m SourceMeta) HasReference() bool {
+	return m.Lattice[0]*m.Lattice[1] <= MaxEnumeratedSites || (m.Field == 0 && !slices.Contains(m.Axes, "h"))
 }
 
 // ParseSourceMeta reads meta.source of an Ising dataset.
@@ -196,7 +196,7 @@ func ParseSourceMeta(m data.Meta) (SourceMeta, error) {
 }
 
 // SourceFromMeta rebuilds the exact source from a dataset's meta, as written
-// by "tidemark simulate ising"; the lattice must have at most MaxExactSites
+// by "tidemark simulate ising"; the lattice must have at most MaxEnumeratedSites
 // sites.
 func SourceFromMeta(m data.Meta) (*Source, error) {
 	sm, err := ParseSourceMeta(m)

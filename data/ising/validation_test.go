@@ -10,7 +10,7 @@ import (
 
 // runChain burns in ch and returns the mean of E/N over n kept samples and
 // its standard error sqrt(Var/n · max(1, 2τ/spacing)).
-func runChain(t *testing.T, ch *Chain, n int) (mean, se float64, info PointInfo) {
+func runChain(t *testing.T, ch *MarkovChain, n int) (mean, se float64, info PointInfo) {
 	info, err := ch.BurnIn(context.Background())
 	if err != nil {
 		t.Fatal(err)
@@ -48,7 +48,7 @@ func TestValidationLargeLattices(t *testing.T) {
 		{16, 2.0, 1, 1, true, 20000}, {16, 2.4, 1, 1, true, 20000}, {16, 3.0, 1, 1, true, 20000},
 	}
 	for i, tc := range cases {
-		ch, err := NewChain(Lattice{tc.l, tc.l}, Couplings{T: tc.T, Jx: tc.jx, Jy: tc.jy}, 99, uint64(i))
+		ch, err := NewMarkovChain(Lattice{tc.l, tc.l}, Couplings{T: tc.T, Jx: tc.jx, Jy: tc.jy}, 99, uint64(i))
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -67,7 +67,7 @@ func TestValidationLargeLattices(t *testing.T) {
 // TestValidationExactSamples24 draws exact samples of the largest
 // enumerable lattice (4×6) and compares their mean energy with Kaufman's.
 func TestValidationExactSamples24(t *testing.T) {
-	res, err := Simulate(context.Background(), Config{Lattice: Lattice{4, 6}, Fixed: Couplings{Jx: 1, Jy: 1}, Axes: []string{"T"}, Points: [][]float64{{2.0}, {2.5}}, Samples: 20000, Exact: true, Seed: 4, Threads: 2})
+	res, err := Simulate(context.Background(), Config{Lattice: Lattice{4, 6}, Fixed: Couplings{Jx: 1, Jy: 1}, Axes: []string{"T"}, Points: [][]float64{{2.0}, {2.5}}, Samples: 20000, Enumerated: true, Seed: 4, Threads: 2})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -9,8 +9,8 @@ import (
 	"sync"
 )
 
-// MaxExactSites is the largest number of sites Exact enumerates (2^24 states).
-const MaxExactSites = 24
+// MaxEnumeratedSites is the largest number of sites Enumeration lists (2^24 states).
+const MaxEnumeratedSites = 24
 
 // Class is one set of states that share their bond sums and magnetisation,
 // and hence their energy at every Couplings.
@@ -21,11 +21,11 @@ type Class struct {
 	Count int64
 }
 
-// Exact enumerates all 2^N states of a small periodic lattice once and then
+// Enumeration lists all 2^N states of a small periodic lattice once and then
 // answers exact questions at any Couplings in one pass over the (few
 // thousand) classes of states with equal bond sums and magnetisation.
 // It is safe for concurrent use.
-type Exact struct {
+type Enumeration struct {
 	lat     Lattice
 	classes []Class
 
@@ -43,16 +43,16 @@ type weights struct {
 	cdf  []float64 // cumulative class probabilities, last = 1
 }
 
-// NewExact enumerates the 2^N states of l; N must be at most MaxExactSites.
-func NewExact(l Lattice) (*Exact, error) {
+// NewEnumeration lists the 2^N states of l; N must be at most MaxEnumeratedSites.
+func NewEnumeration(l Lattice) (*Enumeration, error) {
 	if err := l.Validate(); err != nil {
 		return nil, err
 	}
 	n := l.N()
-	if n > MaxExactSites {
-		return nil, fmt.Errorf("exact enumeration of a %d×%d lattice: expected at most %d sites, found %d", l.Ly, l.Lx, MaxExactSites, n)
+	if n > MaxEnumeratedSites {
+		return nil, fmt.Errorf("exact enumeration of a %d×%d lattice: expected at most %d sites, found %d", l.Ly, l.Lx, MaxEnumeratedSites, n)
 	}
-	e := &Exact{lat: l, cache: map[Couplings]*weights{}}
+	e := &Enumeration{lat: l, cache: map[Couplings]*weights{}}
 	counts := make([]int64, (n+1)*(n+1)*(n+1))
 	for s := uint32(0); s < 1<<n; s++ {
 		counts[e.classIndex(s)]++
@@ -68,7 +68,7 @@ func NewExact(l Lattice) (*Exact, error) {
 }
 
 // stateSums returns the bond sums and magnetisation of the bit pattern s.
-func (e *Exact) stateSums(s uint32) (bx, by, m int) {
+func (e *Enumeration) stateSums(s uint32) (bx, by, m int) {
 	lx, n := e.lat.Lx, e.lat.N()
 	var right, down uint32
 	full := uint32(1)<<n - 1
@@ -88,13 +88,13 @@ func (e *Exact) stateSums(s uint32) (bx, by, m int) {
 	return
 }
 
-func (e *Exact) classIndex(s uint32) int {
+func (e *Enumeration) classIndex(s uint32) int {
 	n := e.lat.N()
 	bx, by, m := e.stateSums(s)
 	return ((bx+n)/2*(n+1)+(by+n)/2)*(n+1) + (m+n)/2
 }
 
-func (e *Exact) classSums(k int) (bx, by, m int) {
+func (e *Enumeration) classSums(k int) (bx, by, m int) {
 	n := e.lat.N()
 	m = (k%(n+1))*2 - n
 	k /= n + 1
@@ -105,13 +105,13 @@ func (e *Exact) classSums(k int) (bx, by, m int) {
 }
 
 // Lattice returns the enumerated lattice.
-func (e *Exact) Lattice() Lattice { return e.lat }
+func (e *Enumeration) Lattice() Lattice { return e.lat }
 
 // Classes returns the classes of states with equal bond sums and
 // magnetisation, in increasing (Bx, By, M) order; their counts sum to 2^N.
-func (e *Exact) Classes() []Class { return append([]Class(nil), e.classes...) }
+func (e *Enumeration) Classes() []Class { return append([]Class(nil), e.classes...) }
 
-func (e *Exact) weights(c Couplings) *weights {
+func (e *Enumeration) weights(c Couplings) *weights {
 	e.mu.Lock()
 	w, ok := e.cache[c]
 	e.mu.Unlock()
@@ -146,11 +146,11 @@ func (e *Exact) weights(c Couplings) *weights {
 
 // LogZ returns ln Z = ln Σ_x exp(−H(x)/T). The result is cached per Couplings.
 // T must be positive.
-func (e *Exact) LogZ(c Couplings) float64 { return e.weights(c).logZ }
+func (e *Enumeration) LogZ(c Couplings) float64 { return e.weights(c).logZ }
 
 // LogProb returns ln p(x) = −H(x)/T − ln Z in nats for the state x
 // (len(x) = N, values 0/1).
-func (e *Exact) LogProb(x []uint8, c Couplings) float64 {
+func (e *Enumeration) LogProb(x []uint8, c Couplings) float64 {
 	return -e.lat.Energy(x, c)/c.T - e.LogZ(c)
 }
 
@@ -158,7 +158,7 @@ func (e *Exact) LogProb(x []uint8, c Couplings) float64 {
 // mean of |M| = |Σ s_i|, all per lattice (not per site): divide meanE and
 // meanAbsM by N, and varE by N, for the per-site energy, magnetisation and
 // heat capacity C/N = varE/(N T²).
-func (e *Exact) Moments(c Couplings) (meanE, varE, meanAbsM float64) {
+func (e *Enumeration) Moments(c Couplings) (meanE, varE, meanAbsM float64) {
 	p := e.ClassProbs(c)
 	for i, cl := range e.classes {
 		meanE += p[i] * energyOf(cl.Bx, cl.By, cl.M, c)
@@ -180,7 +180,7 @@ func prevBefore(cdf []float64, i int) float64 {
 }
 
 // ClassProbs returns the exact probability of each class of Classes() at c.
-func (e *Exact) ClassProbs(c Couplings) []float64 {
+func (e *Enumeration) ClassProbs(c Couplings) []float64 {
 	w := e.weights(c)
 	p := make([]float64, len(w.cdf))
 	prev := 0.0
@@ -202,7 +202,7 @@ type Level struct {
 
 // DensityOfStates returns g(E) for Jx = Jy = J and h = 0: the number of
 // states at each energy E = −J·BondSum, in increasing BondSum order.
-func (e *Exact) DensityOfStates() []Level {
+func (e *Enumeration) DensityOfStates() []Level {
 	g := map[int]int64{}
 	for _, cl := range e.classes {
 		g[cl.Bx+cl.By] += cl.Count
@@ -215,7 +215,7 @@ func (e *Exact) DensityOfStates() []Level {
 	return out
 }
 
-func (e *Exact) buildLists() {
+func (e *Enumeration) buildLists() {
 	n := e.lat.N()
 	index := make([]int32, (n+1)*(n+1)*(n+1))
 	for i := range index {
@@ -239,7 +239,7 @@ func (e *Exact) buildLists() {
 // dst (n·N values, 0/1), drawing a class by its exact probability and then
 // a state uniformly within it. The first call builds a list of all 2^N
 // states (4 bytes each).
-func (e *Exact) Sample(dst []uint8, n int, c Couplings, rng *rand.Rand) {
+func (e *Enumeration) Sample(dst []uint8, n int, c Couplings, rng *rand.Rand) {
 	e.listOnce.Do(e.buildLists)
 	w := e.weights(c)
 	nsites := e.lat.N()

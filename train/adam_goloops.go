@@ -2,7 +2,7 @@
 
 package train
 
-// adamSlice is the Adam step of one slice; the pure-Go build runs the Go
+// adamSlice is the Adam step of one slice; the default build runs the Go
 // loop (the openblas build a vectorised C loop, adam_openblas.go).
 func adamSlice(wi, gi, mi, vi []float64, b1, b2, eps, lr, bc1, bc2, wd float64, decay bool) {
 	adamSliceGo(wi, gi, mi, vi, b1, b2, eps, lr, bc1, bc2, wd, decay)

@@ -4,7 +4,7 @@ package model
 
 import "math"
 
-// The pure-Go build runs the Go loops of loops.go (the openblas build runs
+// The default build runs the Go loops of loops.go (the openblas build runs
 // C loops with the same signatures, vec_openblas.go).
 
 func vTo32(dst []float32, src []float64)           { to32Go(dst, src) }
@@ -46,7 +46,7 @@ func vFilmBwd(dp, ds []float64, d32 []float32, d, s, o, p []float64, relu bool) 
 }
 
 // The FiLM layer's softplus and its derivative dA = dO·σ(A) are gorgonia's
-// (film.go), so that the pure-Go build trains bit for bit as with
+// (film.go), so that the default build trains bit for bit as with
 // gorgonia's own operations.
 const filmSoftplusExact = true
 

@@ -61,9 +61,9 @@ func TestMonteCarloAgainstExact(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			var exact *Exact
-			if tc.l.N() <= MaxExactSites {
-				exact, _ = NewExact(tc.l)
+			var exact *Enumeration
+			if tc.l.N() <= MaxEnumeratedSites {
+				exact, _ = NewEnumeration(tc.l)
 			}
 			nsite := float64(tc.l.N())
 			for k, p := range tc.points {
@@ -129,7 +129,7 @@ func TestIntegratedTimeAR1(t *testing.T) {
 	// For an AR(1) series x_t = a x_{t−1} + noise, ρ(t) = a^t and
 	// τ_int = ½(1+a)/(1−a) (common practice).
 	for _, a := range []float64{0, 0.5, 0.9} {
-		ch, _ := NewChain(Lattice{2, 2}, Couplings{T: 1, Jx: 1, Jy: 1}, 3, uint64(a*10))
+		ch, _ := NewMarkovChain(Lattice{2, 2}, Couplings{T: 1, Jx: 1, Jy: 1}, 3, uint64(a*10))
 		x := make([]float64, 200000)
 		for i := 1; i < len(x); i++ {
 			// Gaussian noise from the chain's own generator (Box–Muller).
@@ -154,7 +154,7 @@ func TestSimulateRejectsBadPoints(t *testing.T) {
 		{"zero temperature", func(c *Config) {}},
 		{"unknown axis", func(c *Config) { c.Axes = []string{"beta"}; c.Points = [][]float64{{1}, {2}} }},
 		{"small lattice", func(c *Config) { c.Lattice = Lattice{1, 4}; c.Points = [][]float64{{1}, {2}} }},
-		{"exact too big", func(c *Config) { c.Lattice = Lattice{5, 5}; c.Exact = true; c.Points = [][]float64{{1}, {2}} }},
+		{"exact too big", func(c *Config) { c.Lattice = Lattice{5, 5}; c.Enumerated = true; c.Points = [][]float64{{1}, {2}} }},
 		{"no samples", func(c *Config) { c.Samples = 0; c.Points = [][]float64{{1}, {2}} }},
 	}
 	for _, tc := range cases {

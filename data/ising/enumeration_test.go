@@ -25,7 +25,7 @@ func TestDensityOfStates4x4(t *testing.T) {
 	if sum != 1<<16 { // 2^N states in all (common practice)
 		t.Fatalf("Beale's 4×4 g(E) sums to %d, want 65536", sum)
 	}
-	e, err := NewExact(Lattice{4, 4})
+	e, err := NewEnumeration(Lattice{4, 4})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -70,7 +70,7 @@ func TestExactAgainstBruteForce(t *testing.T) {
 		{Lattice{3, 4}, Couplings{T: 5, Jx: 1, Jy: -2, H: 1}},
 	}
 	for _, tc := range cases {
-		e, err := NewExact(tc.l)
+		e, err := NewEnumeration(tc.l)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -94,7 +94,7 @@ func TestExactAgainstBruteForce(t *testing.T) {
 func TestMomentsAgainstDerivative(t *testing.T) {
 	// ⟨E⟩ = T² ∂lnZ/∂T and Var(E) = T² ∂⟨E⟩/∂T (common practice), by
 	// central differences.
-	e, _ := NewExact(Lattice{4, 4})
+	e, _ := NewEnumeration(Lattice{4, 4})
 	c := Couplings{T: 2.4, Jx: 1, Jy: 0.8, H: 0.1}
 	mean, v, absM := e.Moments(c)
 	d := 1e-5
@@ -146,7 +146,7 @@ func TestSourceFromMeta(t *testing.T) {
 	if _, err := NewSource(l, []string{"beta"}, c); err == nil {
 		t.Error("unknown name accepted")
 	}
-	if _, err := NewExact(Lattice{5, 5}); err == nil {
+	if _, err := NewEnumeration(Lattice{5, 5}); err == nil {
 		t.Error("25 sites accepted")
 	}
 }

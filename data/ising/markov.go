@@ -6,15 +6,15 @@ import (
 	"math/rand/v2"
 )
 
-// Chain is one Markov chain of spin configurations on a periodic lattice at
+// MarkovChain is one Markov chain of spin configurations on a periodic lattice at
 // fixed Couplings. At h = 0 a sweep is a run of Wolff single-cluster updates
 // (U. Wolff, Phys. Rev. Lett. 62, 361 (1989)) that together flip at least N
 // spins; otherwise it is one checkerboard Metropolis sweep (N. Metropolis et
 // al., J. Chem. Phys. 21, 1087 (1953)). Both handle couplings of either sign
 // (a bond is "satisfied" when J s_i s_j > 0 and joins the cluster with
 // probability 1 − exp(−2|J|/T)); frustrated antiferromagnets (odd sides)
-// are sampled correctly, if slowly. A Chain is not safe for concurrent use.
-type Chain struct {
+// are sampled correctly, if slowly. A MarkovChain is not safe for concurrent use.
+type MarkovChain struct {
 	lat Lattice
 	c   Couplings
 	s   []uint8
@@ -35,10 +35,10 @@ type Chain struct {
 	haveRand bool
 }
 
-// NewChain returns a chain at c on l whose random stream is
+// NewMarkovChain returns a chain at c on l whose random stream is
 // PCG(seed, stream). It starts from independent random spins for Wolff
 // updates, and aligned with the field (all +1 when h ≥ 0) for Metropolis.
-func NewChain(l Lattice, c Couplings, seed, stream uint64) (*Chain, error) {
+func NewMarkovChain(l Lattice, c Couplings, seed, stream uint64) (*MarkovChain, error) {
 	if err := l.Validate(); err != nil {
 		return nil, err
 	}
@@ -46,7 +46,7 @@ func NewChain(l Lattice, c Couplings, seed, stream uint64) (*Chain, error) {
 		return nil, err
 	}
 	n := l.N()
-	ch := &Chain{lat: l, c: c, s: make([]uint8, n), rng: rand.NewPCG(seed, stream), wolff: c.H == 0}
+	ch := &MarkovChain{lat: l, c: c, s: make([]uint8, n), rng: rand.NewPCG(seed, stream), wolff: c.H == 0}
 	// Metropolis acceptance table: flipping σ = 2s−1 with nx, ny up
 	// neighbours changes the energy by 2σ(Jx(2nx−2) + Jy(2ny−2) + h).
 	for s := 0; s < 2; s++ {
@@ -108,7 +108,7 @@ func threshold(p float64) uint64 {
 }
 
 // uniform32 returns a uniform 32-bit integer, using each 64-bit draw twice.
-func (ch *Chain) uniform32() uint64 {
+func (ch *MarkovChain) uniform32() uint64 {
 	if ch.haveRand {
 		ch.haveRand = false
 		return ch.rbuf >> 32
@@ -121,19 +121,19 @@ func (ch *Chain) uniform32() uint64 {
 // UseMetropolis switches the chain to checkerboard Metropolis sweeps even at
 // h = 0 (for checks and benchmarks; Wolff clusters decorrelate far faster
 // near T_c). Call it before BurnIn.
-func (ch *Chain) UseMetropolis() { ch.wolff = false }
+func (ch *MarkovChain) UseMetropolis() { ch.wolff = false }
 
 // Wolff reports whether the chain uses cluster updates (h = 0).
-func (ch *Chain) Wolff() bool { return ch.wolff }
+func (ch *MarkovChain) Wolff() bool { return ch.wolff }
 
 // State returns the current configuration (a view; 0 ↔ s=−1, 1 ↔ s=+1).
-func (ch *Chain) State() []uint8 { return ch.s }
+func (ch *MarkovChain) State() []uint8 { return ch.s }
 
 // Energy returns the total energy H of the current configuration.
-func (ch *Chain) Energy() float64 { return ch.lat.Energy(ch.s, ch.c) }
+func (ch *MarkovChain) Energy() float64 { return ch.lat.Energy(ch.s, ch.c) }
 
 // AbsM returns |Σ s_i| / N, the absolute magnetisation per site.
-func (ch *Chain) AbsM() float64 {
+func (ch *MarkovChain) AbsM() float64 {
 	up := 0
 	for _, v := range ch.s {
 		up += int(v)
@@ -142,7 +142,7 @@ func (ch *Chain) AbsM() float64 {
 }
 
 // M returns Σ s_i / N, the magnetisation per site.
-func (ch *Chain) M() float64 {
+func (ch *MarkovChain) M() float64 {
 	up := 0
 	for _, v := range ch.s {
 		up += int(v)
@@ -156,7 +156,7 @@ func (ch *Chain) M() float64 {
 // sweep grows clusters until N spins have flipped, which is fine for
 // thermalising but biased for measuring, since stopping after a large
 // cluster favours ordered states.
-func (ch *Chain) Sweep() {
+func (ch *MarkovChain) Sweep() {
 	if !ch.wolff {
 		ch.MetropolisSweep()
 		return
@@ -174,15 +174,15 @@ func (ch *Chain) Sweep() {
 }
 
 // SetClustersPerSweep fixes the number of Wolff clusters in a sweep.
-func (ch *Chain) SetClustersPerSweep(k int) { ch.clusters = max(k, 1) }
+func (ch *MarkovChain) SetClustersPerSweep(k int) { ch.clusters = max(k, 1) }
 
 // ClustersPerSweep returns the number of Wolff clusters in a sweep (0 when
 // not yet fixed).
-func (ch *Chain) ClustersPerSweep() int { return ch.clusters }
+func (ch *MarkovChain) ClustersPerSweep() int { return ch.clusters }
 
 // MetropolisSweep visits every site once, first the sites with x+y even and
 // then those with x+y odd, and flips each with the Metropolis probability.
-func (ch *Chain) MetropolisSweep() {
+func (ch *MarkovChain) MetropolisSweep() {
 	lx, ly := ch.lat.Lx, ch.lat.Ly
 	s := ch.s
 	thr := &ch.thr
@@ -218,7 +218,7 @@ func (ch *Chain) MetropolisSweep() {
 
 // WolffCluster grows one cluster from a uniformly chosen seed site, flips
 // it and returns its size. It must only be used at h = 0.
-func (ch *Chain) WolffCluster() int {
+func (ch *MarkovChain) WolffCluster() int {
 	n := len(ch.s)
 	seed := int32((ch.rng.Uint64() >> 32) * uint64(n) >> 32)
 	ch.gen++
@@ -259,7 +259,7 @@ func (ch *Chain) WolffCluster() int {
 }
 
 // String describes the chain's update method.
-func (ch *Chain) String() string {
+func (ch *MarkovChain) String() string {
 	m := "metropolis"
 	if ch.wolff {
 		m = "wolff"

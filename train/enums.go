@@ -1,0 +1,149 @@
+package train
+
+import (
+	"fmt"
+	"slices"
+	"strings"
+)
+
+// Order is the autoregressive order of the sites a new model uses.
+type Order string
+
+// The orders.
+const (
+	// OrderRowMajor takes the sites in row-major (NumPy) order.
+	OrderRowMajor Order = "rowmajor"
+	// OrderSnake takes the rows of a 2-D lattice alternately left to right
+	// and right to left (boustrophedon).
+	OrderSnake Order = "snake"
+)
+
+// Orders lists the orders.
+var Orders = []Order{OrderRowMajor, OrderSnake}
+
+// String returns the order's name.
+func (o Order) String() string { return string(o) }
+
+// MarshalText returns the order's name.
+func (o Order) MarshalText() ([]byte, error) { return []byte(o), nil }
+
+// UnmarshalText reads an order's name.
+func (o *Order) UnmarshalText(b []byte) error { return parseName(o, b, Orders, "order") }
+
+// Schedule is the learning-rate schedule of a run.
+type Schedule string
+
+// The schedules.
+const (
+	// SchedulePlateau multiplies the rate by Settings.PlateauFactor after
+	// Settings.PlateauPatience epochs without improvement.
+	SchedulePlateau Schedule = "plateau"
+	// ScheduleCosine decays the rate from Settings.LR to Settings.MinLR
+	// along half a cosine over Settings.Epochs.
+	ScheduleCosine Schedule = "cosine"
+	// ScheduleConstant keeps the rate.
+	ScheduleConstant Schedule = "constant"
+)
+
+// Schedules lists the schedules.
+var Schedules = []Schedule{SchedulePlateau, ScheduleCosine, ScheduleConstant}
+
+// String returns the schedule's name.
+func (s Schedule) String() string { return string(s) }
+
+// MarshalText returns the schedule's name.
+func (s Schedule) MarshalText() ([]byte, error) { return []byte(s), nil }
+
+// UnmarshalText reads a schedule's name.
+func (s *Schedule) UnmarshalText(b []byte) error { return parseName(s, b, Schedules, "schedule") }
+
+// Symmetry is a symmetry of the data's distribution that training may
+// augment the snapshots with.
+type Symmetry string
+
+// The symmetries, in the order Augment lists them.
+const (
+	SymTranslate Symmetry = "translate" // cyclic shifts along every lattice axis (periodic boundaries)
+	SymMirror    Symmetry = "mirror"    // reversal of every lattice axis independently
+	SymRotate    Symmetry = "rotate"    // rotations by 90° (square 2-D lattices)
+	SymFlip      Symmetry = "flip"      // exchanging the two site values (alphabet 2)
+)
+
+// Symmetries lists the symmetries in canonical order.
+var Symmetries = []Symmetry{SymTranslate, SymMirror, SymRotate, SymFlip}
+
+// String returns the symmetry's name.
+func (s Symmetry) String() string { return string(s) }
+
+// MarshalText returns the symmetry's name.
+func (s Symmetry) MarshalText() ([]byte, error) { return []byte(s), nil }
+
+// UnmarshalText reads a symmetry's name.
+func (s *Symmetry) UnmarshalText(b []byte) error {
+	return parseName(s, b, Symmetries, "symmetry")
+}
+
+// JoinSymmetries returns the names of syms separated by sep.
+func JoinSymmetries(syms []Symmetry, sep string) string {
+	names := make([]string, len(syms))
+	for i, s := range syms {
+		names[i] = string(s)
+	}
+	return strings.Join(names, sep)
+}
+
+// parseName sets *dst to the member of all named b.
+func parseName[T ~string](dst *T, b []byte, all []T, what string) error {
+	v := T(b)
+	if !slices.Contains(all, v) {
+		return fmt.Errorf("%s: expected one of %v, found %q", what, all, b)
+	}
+	*dst = v
+	return nil
+}
+
+// StopReason says why a run ended, like gonum's optimize.Status.
+type StopReason int
+
+// The reasons a run stops.
+const (
+	// NotStopped: the run has not ended.
+	NotStopped StopReason = iota
+	// StopMaxEpochs: the maximum number of epochs was reached.
+	StopMaxEpochs
+	// StopEarly: the validation loss did not improve for Patience epochs.
+	StopEarly
+	// StopAfterLimit: Options.StopAfter epochs were run.
+	StopAfterLimit
+	// StopInterrupted: the context was cancelled during an epoch.
+	StopInterrupted
+)
+
+var stopNames = [...]string{"", "max epochs", "early stopping", "stop-after limit", "interrupted"}
+
+// String returns the text a checkpoint's header records (Header.Stopped).
+func (s StopReason) String() string {
+	if s < 0 || int(s) >= len(stopNames) {
+		return fmt.Sprintf("StopReason(%d)", int(s))
+	}
+	return stopNames[s]
+}
+
+// MarshalText returns the reason's text.
+func (s StopReason) MarshalText() ([]byte, error) {
+	if s < 0 || int(s) >= len(stopNames) {
+		return nil, fmt.Errorf("train: no stop reason %d", int(s))
+	}
+	return []byte(stopNames[s]), nil
+}
+
+// UnmarshalText reads a reason's text.
+func (s *StopReason) UnmarshalText(b []byte) error {
+	for i, n := range stopNames {
+		if n == string(b) {
+			*s = StopReason(i)
+			return nil
+		}
+	}
+	return fmt.Errorf("stop reason: expected one of %q, found %q", stopNames[1:], b)
+}
