@@ -73,62 +73,20 @@ func DefaultHiddenWidth(n int) int {
 // direct connection, row-major order and no flip symmetry. lo and hi are
 // copied.
 //
-// How they were chosen: two hidden layers is the depth Germain et al.
-// (ICML 2015) found to help over one; the width rule is explained at
-// DefaultHiddenWidth. The conditioning net only has to produce smooth
-// functions of a few parameters, so 64 units are plenty and cost little next
-// to the masked layers. F = 2 lets the features resolve a change over a
-// quarter of the training range (a transition region) while keeping the
-// feature count at 5 per axis. (The trainer's defaults, train.DefaultSettings,
-// use F = 1, which interpolated held-out temperatures of the 4×4 Ising
-// check better; the benchmarks keep F = 2, the shape their peer was written
-// for.)
-//
-// softplus, log(1+e^z) (C. Dugas et al., NIPS 2000), is the default
-// activation: smooth like tanh and unbounded like relu, it makes log p a
-// smooth function of λ, which the indicators that compare neighbouring
-// points (local, fisher) and the derivative in λ (fisher_deriv) need. relu
-// fits the trained points as well but interpolates between them with
-// kinks. On exact samples of the 4×4 Ising model (12 temperatures, two held
-// out, 2000 snapshots each) local and fisher differed from exact by 0.37
-// and 0.66 of their range with relu and 0.18 and 0.18 with softplus; with
-// four times the data relu did not improve (0.48, 1.3) while softplus did
-// (0.10, 0.08); tanh lay in between. On the Monte Carlo demos (10×10 and
-// 12×12, against the exact density of the same snapshots) relu's local,
-// fisher and fisher_deriv curves were 1.6–5.8 of their range off, softplus's
-// 0.22–0.53; the lbc and pbm curves were as close or closer with softplus,
-// sl a little farther (0.21–0.28 against 0.21–0.23), and the position of
-// the flat-topped lbc maximum came out lower (by 1.2–3.9%, relu's by
-// +0.4–0.7%). softplus costs an exp and a log per hidden unit: at N = 256,
-// H = 512 a training step runs at 0.75× and scoring at 0.62× the speed of
-// relu (BenchmarkActivation, one core). The direct
-// connection adds a masked logistic-regression term x_<i → x_i, which alone
-// already captures nearest-neighbour couplings and costs N·N weights.
-//
-// FiLM is on: with additive conditioning alone the net must build products
-// like (1/T)·(local field) out of bias shifts, and the neighbour indicators
-// showed it. On exact samples of the 4×4 Ising model (12 temperatures, two
-// held out, 4000 snapshots each, 30 epochs, training seed 1) the largest
-// errors of local, fisher and fisher_deriv at the grid points went from
-// 0.12, 0.14 and 0.33 of their range to 0.06, 0.08 and 0.14 with FiLM, and
-// to 0.05, 0.06 and 0.10 with FiLM and the lattice's symmetries as data
-// augmentation (train --augment); between grid points (exact sums; every
-// indicator but lbc) from 0.13–0.37 to 0.06–0.14, and to 0.05–0.13 with
-// augmentation; the mean KL per site fell from
-// 0.0015 to 0.0005, and the spurious ordered-phase bump of fisher went. On
-// the 12×12 Monte Carlo demo data (600 snapshots per point, two seeds) FiLM
-// alone brought sl closer to exact (0.14–0.20 of the range against
-// 0.28–0.31) but local and fisher farther (0.41–0.56 against 0.25–0.35);
-// with augmentation they were 0.21–0.31, the closest of all. So train with
-// --augment wherever the system has the symmetries. A FiLM training step
-// costs about 1.4× an additive one in the default build and 1.3× in the
-// openblas build (BenchmarkFiLM, N = 256, H = 256, float64, one core, one
-// λ per snapshot, medians of 5 at load ≈ 1: 8,987 against 12,351 and
-// 11,800 against 15,184 snapshots/s; the pure-Go FiLM step keeps
-// gorgonia's slower softplus so that it trains bit for bit as before, see
-// film.go); on grid data, where the conditioning heads run once per
-// distinct λ (rowGroups), less. Scoring costs one multiplication more per
-// unit (within the noise).
+// Why: two hidden layers is the depth Germain et al. (ICML 2015) found to
+// help over one; the width rule is explained at DefaultHiddenWidth. The
+// conditioning net only has to produce smooth functions of a few
+// parameters, so 64 units are plenty. F = 2 lets the features resolve a
+// change over a quarter of the training range while keeping 5 features per
+// axis (train.DefaultSettings uses F = 1). softplus, log(1+e^z) (C. Dugas
+// et al., NIPS 2000), makes log p a smooth function of λ, which the
+// indicators that compare neighbouring points (local, fisher) and the
+// derivative in λ (fisher_deriv) need. The direct connection adds a masked
+// logistic-regression term x_<i → x_i, which alone already captures
+// nearest-neighbour couplings and costs N·N weights. FiLM lets the
+// conditioning net build products like (1/T)·(local field) that additive
+// conditioning must assemble out of bias shifts. The measurements behind
+// each choice are in bench/RESULTS.md ("Why the defaults").
 func DefaultConfig(n, q, d int, lo, hi []float64) Config {
 	w := DefaultHiddenWidth(n)
 	return Config{

@@ -23,10 +23,10 @@ import (
 // model trains to the same weights, bit for bit, as with the composed
 // operations (TestFiLMFusedMatchesComposed). The one exception is softplus
 // in the openblas build, which runs the build's vectorised softplus and
-// its derivative (vec_openblas.c) instead of gorgonia's scalar ones, about
-// 1.6× faster training; that softplus is accurate to 8 units of 2^-53
-// absolute, so one step's gradients agree with the composed operations'
-// to 1e-8 of their largest entry.
+// its derivative (vec_openblas.c) instead of gorgonia's scalar ones; that
+// softplus is accurate to 8 units of 2^-53 absolute, so one step's
+// gradients agree with the composed operations' to 1e-8 of their largest
+// entry.
 type filmLayer struct {
 	name string
 	act  int

@@ -22,7 +22,7 @@ import (
 // fraction of the exact curve's range: at the grid points on the data
 // snapshots, on a 4× refined grid with model snapshots, and on the refined
 // grid with exact sums over all states for both. It asserts nothing; it is
-// how the figures in model.DefaultConfig's comment and in
+// how the figures in bench/RESULTS.md's "Why the defaults" and in
 // TestModelIndicatorsMatchExact were measured. The variant comes from the
 // environment:
 //

@@ -83,17 +83,8 @@ type Settings struct {
 	// with d = 1 − 1/(τ·steps per epoch), validation, early stopping and the
 	// saved best model use θ̄_t = (1−d) Σ_s d^(t−s) θ_s / (1 − d^t), which
 	// smooths out the minibatch noise of the last steps. Zero disables it.
-	//
-	// It pays where the data pin the model down. On exact samples of the
-	// 4×4 Ising model (12 temperatures, two held out, 4000 snapshots each,
-	// 30 epochs, seed 1) τ = 4 halved the KL per site and moved the largest
-	// errors of local, fisher and fisher_deriv at the grid points from
-	// 0.052, 0.064 and 0.104 of their range to 0.024, 0.042 and 0.071, and
-	// of the refined Fisher curves from 0.126 to 0.088; τ = 1, 2 and 8 did
-	// about as well. On the 12×12 demo data (600 snapshots of 144 sites per
-	// point, two seeds, τ = 1 to 8) it moved lbc, pbm and local 0.01–0.1 of
-	// their range farther from the exact density's curves, so it is off by
-	// default.
+	// It is off by default; the measurements behind that are in
+	// bench/RESULTS.md ("Why the defaults").
 	Average float64
 	// Threads is the number of gorgonia graphs each minibatch is split
 	// across (≥ 1).
