@@ -5,26 +5,28 @@ import (
 	"math/rand/v2"
 	"slices"
 	"strings"
+
+	"tidemark/data/density"
 )
 
 // ParseAugment reads a comma-separated list of symmetry names ("translate",
 // "mirror", "rotate", "flip"), or "" or "none" for no augmentation, and
 // returns them in canonical order without repeats.
-func ParseAugment(s string) ([]Symmetry, error) {
+func ParseAugment(s string) ([]density.Symmetry, error) {
 	s = strings.TrimSpace(s)
 	if s == "" || s == "none" {
 		return nil, nil
 	}
-	seen := map[Symmetry]bool{}
+	seen := map[density.Symmetry]bool{}
 	for _, f := range strings.Split(s, ",") {
-		f := Symmetry(strings.TrimSpace(f))
-		if !slices.Contains(Symmetries, f) {
-			return nil, fmt.Errorf("augment: expected a comma-separated list of %s (or none), found %q", JoinSymmetries(Symmetries, ", "), f)
+		f := density.Symmetry(strings.TrimSpace(f))
+		if !slices.Contains(density.Symmetries, f) {
+			return nil, fmt.Errorf("augment: expected a comma-separated list of %s (or none), found %q", density.JoinSymmetries(density.Symmetries, ", "), f)
 		}
 		seen[f] = true
 	}
-	var out []Symmetry
-	for _, n := range Symmetries {
+	var out []density.Symmetry
+	for _, n := range density.Symmetries {
 		if seen[n] {
 			out = append(out, n)
 		}
@@ -53,7 +55,7 @@ type augmenter struct {
 // newAugmenter checks the named symmetries (valid names, as
 // Settings.Validate ensures) against the lattice and the alphabet; it
 // returns nil for no symmetries.
-func newAugmenter(names []Symmetry, lattice []int, q int) (*augmenter, error) {
+func newAugmenter(names []density.Symmetry, lattice []int, q int) (*augmenter, error) {
 	if len(names) == 0 {
 		return nil, nil
 	}
@@ -65,13 +67,13 @@ func newAugmenter(names []Symmetry, lattice []int, q int) (*augmenter, error) {
 	a.src = make([]int, n)
 	for _, s := range names {
 		switch s {
-		case SymTranslate:
+		case density.SymTranslate:
 			a.translate = true
-		case SymMirror:
+		case density.SymMirror:
 			a.mirror = true
-		case SymRotate:
+		case density.SymRotate:
 			a.rotate = true
-		case SymFlip:
+		case density.SymFlip:
 			a.flip = true
 		}
 	}

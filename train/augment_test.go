@@ -7,18 +7,20 @@ import (
 	"slices"
 	"strings"
 	"testing"
+
+	"tidemark/data/density"
 )
 
 func TestParseAugment(t *testing.T) {
 	for _, tc := range []struct {
 		in   string
-		want []Symmetry
+		want []density.Symmetry
 		err  string
 	}{
 		{"", nil, ""},
 		{"none", nil, ""},
-		{"flip,translate", []Symmetry{"translate", "flip"}, ""},
-		{" rotate , mirror,rotate", []Symmetry{"mirror", "rotate"}, ""},
+		{"flip,translate", []density.Symmetry{"translate", "flip"}, ""},
+		{" rotate , mirror,rotate", []density.Symmetry{"mirror", "rotate"}, ""},
 		{"translate,shear", nil, `found "shear"`},
 	} {
 		got, err := ParseAugment(tc.in)
@@ -36,15 +38,15 @@ func TestParseAugment(t *testing.T) {
 
 func TestNewAugmenterRefuses(t *testing.T) {
 	for _, tc := range []struct {
-		names   []Symmetry
+		names   []density.Symmetry
 		lattice []int
 		q       int
 		err     string
 	}{
-		{[]Symmetry{SymRotate}, []int{4, 6}, 2, "square 2-D lattice"},
-		{[]Symmetry{SymRotate}, []int{16}, 2, "square 2-D lattice"},
-		{[]Symmetry{SymTranslate}, []int{2, 2, 2}, 2, "1-D or 2-D lattice"},
-		{[]Symmetry{SymFlip}, []int{8}, 3, "alphabet 2"},
+		{[]density.Symmetry{density.SymRotate}, []int{4, 6}, 2, "square 2-D lattice"},
+		{[]density.Symmetry{density.SymRotate}, []int{16}, 2, "square 2-D lattice"},
+		{[]density.Symmetry{density.SymTranslate}, []int{2, 2, 2}, 2, "1-D or 2-D lattice"},
+		{[]density.Symmetry{density.SymFlip}, []int{8}, 3, "alphabet 2"},
 	} {
 		if _, err := newAugmenter(tc.names, tc.lattice, tc.q); err == nil || !strings.Contains(err.Error(), tc.err) {
 			t.Errorf("newAugmenter(%v, %v, %d): error %v, want one containing %q", tc.names, tc.lattice, tc.q, err, tc.err)
@@ -61,17 +63,17 @@ func TestNewAugmenterRefuses(t *testing.T) {
 // of 2L elements.
 func TestAugmenterGroup(t *testing.T) {
 	for _, tc := range []struct {
-		names   []Symmetry
+		names   []density.Symmetry
 		lattice []int
 		order   int
 	}{
-		{[]Symmetry{SymTranslate, SymMirror, SymRotate}, []int{4, 4}, 16 * 8},
-		{[]Symmetry{SymMirror, SymRotate}, []int{5, 5}, 8},
-		{[]Symmetry{SymRotate}, []int{3, 3}, 4},
-		{[]Symmetry{SymTranslate, SymMirror}, []int{4, 6}, 24 * 4},
-		{[]Symmetry{SymTranslate}, []int{3, 5}, 15},
-		{[]Symmetry{SymTranslate, SymMirror}, []int{7}, 14},
-		{[]Symmetry{SymMirror}, []int{7}, 2},
+		{[]density.Symmetry{density.SymTranslate, density.SymMirror, density.SymRotate}, []int{4, 4}, 16 * 8},
+		{[]density.Symmetry{density.SymMirror, density.SymRotate}, []int{5, 5}, 8},
+		{[]density.Symmetry{density.SymRotate}, []int{3, 3}, 4},
+		{[]density.Symmetry{density.SymTranslate, density.SymMirror}, []int{4, 6}, 24 * 4},
+		{[]density.Symmetry{density.SymTranslate}, []int{3, 5}, 15},
+		{[]density.Symmetry{density.SymTranslate, density.SymMirror}, []int{7}, 14},
+		{[]density.Symmetry{density.SymMirror}, []int{7}, 2},
 	} {
 		t.Run(fmt.Sprint(tc.names, tc.lattice), func(t *testing.T) {
 			a, err := newAugmenter(tc.names, tc.lattice, 2)
@@ -121,7 +123,7 @@ func TestAugmenterGroup(t *testing.T) {
 // Hamiltonian with periodic boundaries (common practice).
 func TestAugmenterKeepsIsingEnergy(t *testing.T) {
 	const L = 6
-	a, err := newAugmenter([]Symmetry{SymTranslate, SymMirror, SymRotate, SymFlip}, []int{L, L}, 2)
+	a, err := newAugmenter([]density.Symmetry{density.SymTranslate, density.SymMirror, density.SymRotate, density.SymFlip}, []int{L, L}, 2)
 	if err != nil {
 		t.Fatal(err)
 	}

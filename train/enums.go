@@ -3,7 +3,6 @@ package train
 import (
 	"fmt"
 	"slices"
-	"strings"
 )
 
 // Order is the autoregressive order of the sites a new model uses.
@@ -56,41 +55,6 @@ func (s Schedule) MarshalText() ([]byte, error) { return []byte(s), nil }
 
 // UnmarshalText reads a schedule's name.
 func (s *Schedule) UnmarshalText(b []byte) error { return parseName(s, b, Schedules, "schedule") }
-
-// Symmetry is a symmetry of the data's distribution that training may
-// augment the snapshots with.
-type Symmetry string
-
-// The symmetries, in the order Augment lists them.
-const (
-	SymTranslate Symmetry = "translate" // cyclic shifts along every lattice axis (periodic boundaries)
-	SymMirror    Symmetry = "mirror"    // reversal of every lattice axis independently
-	SymRotate    Symmetry = "rotate"    // rotations by 90° (square 2-D lattices)
-	SymFlip      Symmetry = "flip"      // exchanging the two site values (alphabet 2)
-)
-
-// Symmetries lists the symmetries in canonical order.
-var Symmetries = []Symmetry{SymTranslate, SymMirror, SymRotate, SymFlip}
-
-// String returns the symmetry's name.
-func (s Symmetry) String() string { return string(s) }
-
-// MarshalText returns the symmetry's name.
-func (s Symmetry) MarshalText() ([]byte, error) { return []byte(s), nil }
-
-// UnmarshalText reads a symmetry's name.
-func (s *Symmetry) UnmarshalText(b []byte) error {
-	return parseName(s, b, Symmetries, "symmetry")
-}
-
-// JoinSymmetries returns the names of syms separated by sep.
-func JoinSymmetries(syms []Symmetry, sep string) string {
-	names := make([]string, len(syms))
-	for i, s := range syms {
-		names[i] = string(s)
-	}
-	return strings.Join(names, sep)
-}
 
 // parseName sets *dst to the member of all named b.
 func parseName[T ~string](dst *T, b []byte, all []T, what string) error {

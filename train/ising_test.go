@@ -136,7 +136,7 @@ var (
 	// isingSymmetries is the symmetry group of the isotropic periodic Ising
 	// model at zero field, which the training snapshots are augmented with
 	// (what a user declares with train --augment).
-	isingSymmetries = []Symmetry{SymTranslate, SymMirror, SymRotate, SymFlip}
+	isingSymmetries = []density.Symmetry{density.SymTranslate, density.SymMirror, density.SymRotate, density.SymFlip}
 	// isingAverage is the time constant in epochs of the weight average the
 	// model is kept as (train --average): with 4000 snapshots of 16 sites
 	// per point the data pin the model down and the minibatch noise of the

@@ -12,6 +12,7 @@ import (
 
 	"tidemark/checkpoints"
 	"tidemark/data"
+	"tidemark/data/density"
 	"tidemark/model"
 )
 
@@ -94,7 +95,7 @@ type Settings struct {
 	// enters its minibatch mapped through a random element of the group they
 	// generate. Only symmetries the system has at every grid point may be
 	// named; a wrong one biases the model.
-	Augment []Symmetry
+	Augment []density.Symmetry
 }
 
 // DefaultSettings returns settings that train the demo-sized systems
@@ -154,8 +155,8 @@ func (s Settings) Validate() error {
 		return fmt.Errorf("order: expected rowmajor or snake, found %q", s.Arch.Order)
 	}
 	for _, a := range s.Augment {
-		if !slices.Contains(Symmetries, a) {
-			return fmt.Errorf("augment: expected symmetries among %s, found %q", JoinSymmetries(Symmetries, ", "), a)
+		if !slices.Contains(density.Symmetries, a) {
+			return fmt.Errorf("augment: expected symmetries among %s, found %q", density.JoinSymmetries(density.Symmetries, ", "), a)
 		}
 	}
 	return nil
@@ -601,7 +602,7 @@ func (r *run) stopReason(epoch, done int) StopReason {
 }
 
 // symmetryNames returns the names of syms for a checkpoint's record.
-func symmetryNames(syms []Symmetry) []string {
+func symmetryNames(syms []density.Symmetry) []string {
 	if syms == nil {
 		return nil
 	}
@@ -613,13 +614,13 @@ func symmetryNames(syms []Symmetry) []string {
 }
 
 // symmetriesOf reads the symmetry names of a checkpoint's record.
-func symmetriesOf(names []string) []Symmetry {
+func symmetriesOf(names []string) []density.Symmetry {
 	if names == nil {
 		return nil
 	}
-	out := make([]Symmetry, len(names))
+	out := make([]density.Symmetry, len(names))
 	for i, n := range names {
-		out[i] = Symmetry(n)
+		out[i] = density.Symmetry(n)
 	}
 	return out
 }

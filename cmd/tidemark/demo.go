@@ -239,7 +239,7 @@ func demo(w io.Writer, o *demoOptions) (*demoOutcome, error) {
 	// lattice: its distribution at every temperature is invariant under
 	// translations, mirrors, quarter turns and the spin flip, so the demo
 	// declares them (what a user does with train --augment).
-	st.Augment = []train.Symmetry{train.SymTranslate, train.SymMirror, train.SymRotate, train.SymFlip}
+	st.Augment = []density.Symmetry{density.SymTranslate, density.SymMirror, density.SymRotate, density.SymFlip}
 	opt := train.Options{Settings: st, DataPath: demoData, Software: version}
 	var tbar *progress.Bar
 	opt.Start = func(perEpoch, epochs int) { tbar = progress.New(perEpoch*epochs, "train", o.quiet) }
@@ -258,7 +258,7 @@ func demo(w io.Writer, o *demoOptions) (*demoOutcome, error) {
 	}
 	p("trained %d epochs in %.0f s (%s): best validation NLL %.4f bits per site at epoch %d, %d parameters\n",
 		h.Optimizer.Epoch, time.Since(start).Seconds(), h.Stopped, h.BestValBitsPerSite, h.BestEpoch, ck.NumParams())
-	p("      (snapshots augmented by the lattice's symmetries: %s; train --augment)\n", train.JoinSymmetries(st.Augment, ", "))
+	p("      (snapshots augmented by the lattice's symmetries: %s; train --augment)\n", density.JoinSymmetries(st.Augment, ", "))
 	mdl, err := ck.Model()
 	if err != nil {
 		return nil, fmt.Errorf("demo: %w", err)

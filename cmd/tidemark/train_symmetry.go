@@ -5,7 +5,7 @@ import (
 	"fmt"
 	"slices"
 
-	"tidemark/train"
+	"tidemark/data/density"
 )
 
 // isingSymmetries reads the source record that `simulate ising` writes and
@@ -14,7 +14,7 @@ import (
 // rotate on a square lattice with Jx = Jy when neither coupling is a grid
 // axis, flip at zero field when the field is not a grid axis. ok is false for
 // other sources, which tidemark cannot judge.
-func isingSymmetries(source json.RawMessage) (syms []train.Symmetry, ok bool) {
+func isingSymmetries(source json.RawMessage) (syms []density.Symmetry, ok bool) {
 	var s struct {
 		Generator string   `json:"generator"`
 		Lattice   []int    `json:"lattice"`
@@ -36,14 +36,14 @@ func isingSymmetries(source json.RawMessage) (syms []train.Symmetry, ok bool) {
 		return false
 	}
 	if s.Boundary == "periodic" {
-		syms = append(syms, train.SymTranslate)
+		syms = append(syms, density.SymTranslate)
 	}
-	syms = append(syms, train.SymMirror)
+	syms = append(syms, density.SymMirror)
 	if s.Lattice[0] == s.Lattice[1] && *s.Jx == *s.Jy && !axis("Jx", "Jy") {
-		syms = append(syms, train.SymRotate)
+		syms = append(syms, density.SymRotate)
 	}
 	if *s.Field == 0 && !axis("h") {
-		syms = append(syms, train.SymFlip)
+		syms = append(syms, density.SymFlip)
 	}
 	return syms, true
 }
@@ -51,7 +51,7 @@ func isingSymmetries(source json.RawMessage) (syms []train.Symmetry, ok bool) {
 // augmentNotes compares the declared --augment symmetries with those of a
 // simulated Ising dataset: a declared symmetry the system lacks biases the
 // model, and an undeclared one leaves a better fit unused.
-func augmentNotes(source json.RawMessage, declared []train.Symmetry) []string {
+func augmentNotes(source json.RawMessage, declared []density.Symmetry) []string {
 	has, ok := isingSymmetries(source)
 	if !ok {
 		return nil
@@ -59,17 +59,17 @@ func augmentNotes(source json.RawMessage, declared []train.Symmetry) []string {
 	var notes []string
 	for _, d := range declared {
 		if !slices.Contains(has, d) {
-			notes = append(notes, fmt.Sprintf("--augment %s: this dataset's Ising model (from its source record) does not have that symmetry at every grid point, so the model will learn a distribution that is not the data's; its symmetries are %s", d, train.JoinSymmetries(has, ",")))
+			notes = append(notes, fmt.Sprintf("--augment %s: this dataset's Ising model (from its source record) does not have that symmetry at every grid point, so the model will learn a distribution that is not the data's; its symmetries are %s", d, density.JoinSymmetries(has, ",")))
 		}
 	}
-	var missing []train.Symmetry
+	var missing []density.Symmetry
 	for _, h := range has {
 		if !slices.Contains(declared, h) {
 			missing = append(missing, h)
 		}
 	}
 	if len(declared) == 0 && len(missing) > 0 {
-		notes = append(notes, fmt.Sprintf("this dataset's Ising model is symmetric under %s at every grid point; --augment %s usually fits it better (see README, Caution)", train.JoinSymmetries(missing, ", "), train.JoinSymmetries(missing, ",")))
+		notes = append(notes, fmt.Sprintf("this dataset's Ising model is symmetric under %s at every grid point; --augment %s usually fits it better (see README, Caution)", density.JoinSymmetries(missing, ", "), density.JoinSymmetries(missing, ",")))
 	}
 	return notes
 }

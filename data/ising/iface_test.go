@@ -12,6 +12,8 @@ var (
 	_ density.Sampler       = (*Source)(nil)
 	_ density.Enumerable    = (*Source)(nil)
 	_ density.EntropySource = (*KaufmanSource)(nil)
+	_ density.Symmetric     = (*KaufmanSource)(nil)
+	_ density.Symmetric     = (*Source)(nil)
 )
 
 // TestConformance runs the density contract's checks on the enumerated and

@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 	"slices"
+
+	"tidemark/data/density"
 )
 
 // KaufmanSource is the exact density of the zero-field Ising model on a
@@ -14,7 +16,7 @@ import (
 // states nor draw independent snapshots, so a scan with it evaluates the
 // exact indicators at the data's grid points on the data's own snapshots —
 // the like-for-like reference for a model scanned on the same snapshots.
-// It implements density.Source and density.EntropySource.
+// It implements density.Source, density.EntropySource and density.Symmetric.
 type KaufmanSource struct {
 	lat   Lattice
 	names []string
@@ -84,4 +86,10 @@ func (s *KaufmanSource) EntropyPerSite(lambda []float64) (float64, error) {
 		return 0, fmt.Errorf("Ising entropy at T=%g, Jx=%g, Jy=%g: Kaufman's formula needs positive couplings (or a negative one along a side of even length)", c.T, c.Jx, c.Jy)
 	}
 	return e, nil
+}
+
+// Symmetries returns the symmetries the distribution has at every λ (see
+// Source.Symmetries; the field is always zero).
+func (s *KaufmanSource) Symmetries() []density.Symmetry {
+	return symmetries(s.lat, s.names, s.fixed)
 }

@@ -8,6 +8,7 @@ import (
 	"strings"
 
 	"tidemark/data"
+	"tidemark/data/density"
 )
 
 // ParamNames are the names a grid axis of the Ising model may have: the
@@ -15,8 +16,9 @@ import (
 var ParamNames = []string{"T", "Jx", "Jy", "h"}
 
 // Source adapts Enumeration to tidemark's density-source interfaces
-// (density.Source, density.Sampler and density.Enumerable): λ's
-// components are the named Couplings, the rest come from a fixed set.
+// (density.Source, density.Sampler, density.Enumerable and
+// density.Symmetric): λ's components are the named Couplings, the rest
+// come from a fixed set.
 // It is safe for concurrent use.
 type Source struct {
 	exact *Enumeration
@@ -208,4 +210,27 @@ func SourceFromMeta(m data.Meta) (*Source, error) {
 		return nil, fmt.Errorf("exact reference from meta.source: %w", err)
 	}
 	return s, nil
+}
+
+// Symmetries returns the symmetries the distribution has at every λ.
+func (s *Source) Symmetries() []density.Symmetry {
+	return symmetries(s.exact.lat, s.names, s.fixed)
+}
+
+// symmetries returns the symmetries of the Ising distribution on the
+// periodic lattice l at every point of a grid over the couplings named in
+// names, the others taken from fixed (common practice): translations and
+// mirrors always (periodic boundaries, nearest-neighbour couplings);
+// rotations by 90° on a square lattice with Jx = Jy when neither coupling
+// is a parameter; the global flip at zero field when the field is not a
+// parameter.
+func symmetries(l Lattice, names []string, fixed Couplings) []density.Symmetry {
+	syms := []density.Symmetry{density.SymTranslate, density.SymMirror}
+	if l.Ly == l.Lx && fixed.Jx == fixed.Jy && !slices.Contains(names, "Jx") && !slices.Contains(names, "Jy") {
+		syms = append(syms, density.SymRotate)
+	}
+	if fixed.H == 0 && !slices.Contains(names, "h") {
+		syms = append(syms, density.SymFlip)
+	}
+	return syms
 }
