@@ -2,7 +2,8 @@ package model
 
 import (
 	"fmt"
-	"slices"
+
+	"tidemark/internal/textenum"
 )
 
 // Activation is the nonlinearity of a model's hidden layers.
@@ -30,12 +31,11 @@ func (a Activation) MarshalText() ([]byte, error) { return []byte(a), nil }
 // UnmarshalText reads an activation's name; the empty text is the unset
 // activation (Config.CondActivation's default).
 func (a *Activation) UnmarshalText(b []byte) error {
-	v := Activation(b)
-	if v != "" && !slices.Contains(Activations, v) {
-		return fmt.Errorf("activation: expected one of %v, found %q", Activations, b)
+	if len(b) == 0 {
+		*a = ""
+		return nil
 	}
-	*a = v
-	return nil
+	return textenum.Parse(a, b, Activations, "activation")
 }
 
 // ParseActivation reads an activation's name.

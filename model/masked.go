@@ -5,6 +5,8 @@ import (
 	"hash"
 	"math"
 
+	"tidemark/internal/textenum"
+
 	"github.com/chewxy/hm"
 	G "gorgonia.org/gorgonia"
 	"gorgonia.org/tensor"
@@ -550,30 +552,16 @@ const (
 var productNames = [...]string{"forward", "grad-x", "grad-w", "grad-act", "grad-bias"}
 
 // String returns the product's name.
-func (k productKind) String() string {
-	if k < 0 || int(k) >= len(productNames) {
-		return fmt.Sprintf("productKind(%d)", int(k))
-	}
-	return productNames[k]
-}
+func (k productKind) String() string { return textenum.Name(productNames[:], int(k), "productKind") }
 
 // MarshalText returns the product's name.
 func (k productKind) MarshalText() ([]byte, error) {
-	if k < 0 || int(k) >= len(productNames) {
-		return nil, fmt.Errorf("model: no masked product %d", int(k))
-	}
-	return []byte(productNames[k]), nil
+	return textenum.Marshal(productNames[:], int(k), "masked product")
 }
 
 // UnmarshalText reads a product's name.
 func (k *productKind) UnmarshalText(b []byte) error {
-	for i, n := range productNames {
-		if n == string(b) {
-			*k = productKind(i)
-			return nil
-		}
-	}
-	return fmt.Errorf("model: expected a masked product among %v, found %q", productNames, b)
+	return textenum.Index(k, b, productNames[:], "masked product")
 }
 
 // maskedOp is one of the gorgonia operations of a maskedLinear, the product

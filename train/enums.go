@@ -1,9 +1,6 @@
 package train
 
-import (
-	"fmt"
-	"slices"
-)
+import "tidemark/internal/textenum"
 
 // Order is the autoregressive order of the sites a new model uses.
 type Order string
@@ -27,7 +24,7 @@ func (o Order) String() string { return string(o) }
 func (o Order) MarshalText() ([]byte, error) { return []byte(o), nil }
 
 // UnmarshalText reads an order's name.
-func (o *Order) UnmarshalText(b []byte) error { return parseName(o, b, Orders, "order") }
+func (o *Order) UnmarshalText(b []byte) error { return textenum.Parse(o, b, Orders, "order") }
 
 // Schedule is the learning-rate schedule of a run.
 type Schedule string
@@ -54,17 +51,7 @@ func (s Schedule) String() string { return string(s) }
 func (s Schedule) MarshalText() ([]byte, error) { return []byte(s), nil }
 
 // UnmarshalText reads a schedule's name.
-func (s *Schedule) UnmarshalText(b []byte) error { return parseName(s, b, Schedules, "schedule") }
-
-// parseName sets *dst to the member of all named b.
-func parseName[T ~string](dst *T, b []byte, all []T, what string) error {
-	v := T(b)
-	if !slices.Contains(all, v) {
-		return fmt.Errorf("%s: expected one of %v, found %q", what, all, b)
-	}
-	*dst = v
-	return nil
-}
+func (s *Schedule) UnmarshalText(b []byte) error { return textenum.Parse(s, b, Schedules, "schedule") }
 
 // StopReason says why a run ended, like gonum's optimize.Status.
 type StopReason int
@@ -86,28 +73,14 @@ const (
 var stopNames = [...]string{"", "max epochs", "early stopping", "stop-after limit", "interrupted"}
 
 // String returns the text a checkpoint's header records (Header.Stopped).
-func (s StopReason) String() string {
-	if s < 0 || int(s) >= len(stopNames) {
-		return fmt.Sprintf("StopReason(%d)", int(s))
-	}
-	return stopNames[s]
-}
+func (s StopReason) String() string { return textenum.Name(stopNames[:], int(s), "StopReason") }
 
 // MarshalText returns the reason's text.
 func (s StopReason) MarshalText() ([]byte, error) {
-	if s < 0 || int(s) >= len(stopNames) {
-		return nil, fmt.Errorf("train: no stop reason %d", int(s))
-	}
-	return []byte(stopNames[s]), nil
+	return textenum.Marshal(stopNames[:], int(s), "stop reason")
 }
 
 // UnmarshalText reads a reason's text.
 func (s *StopReason) UnmarshalText(b []byte) error {
-	for i, n := range stopNames {
-		if n == string(b) {
-			*s = StopReason(i)
-			return nil
-		}
-	}
-	return fmt.Errorf("stop reason: expected one of %q, found %q", stopNames[1:], b)
+	return textenum.Index(s, b, stopNames[:], "stop reason")
 }

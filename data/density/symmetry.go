@@ -1,9 +1,9 @@
 package density
 
 import (
-	"fmt"
-	"slices"
 	"strings"
+
+	"tidemark/internal/textenum"
 )
 
 // Symmetry is a symmetry of a distribution over lattice snapshots: a map of
@@ -30,12 +30,7 @@ func (s Symmetry) MarshalText() ([]byte, error) { return []byte(s), nil }
 
 // UnmarshalText reads a symmetry's name.
 func (s *Symmetry) UnmarshalText(b []byte) error {
-	v := Symmetry(b)
-	if !slices.Contains(Symmetries, v) {
-		return fmt.Errorf("symmetry: expected one of %v, found %q", Symmetries, b)
-	}
-	*s = v
-	return nil
+	return textenum.Parse(s, b, Symmetries, "symmetry")
 }
 
 // JoinSymmetries returns the names of syms separated by sep.
