@@ -102,22 +102,50 @@ type ZoomResult struct {
 // the errors in quadrature). ds must have a 1-D grid or a 2-D product grid.
 // Cancelling ctx stops the scan's workers; Run then returns ctx's error.
 func Run(ctx context.Context, sources []density.Source, ds *data.Dataset, cfg Config) (*Result, error) {
+	g, ind, cfg, err := checkScan(sources, ds, cfg)
+	if err != nil {
+		return nil, err
+	}
+	res := &Result{Names: g.Names, Data: Layout{Names: g.Names, Axes: g.Axes}, Sources: len(sources), ExactSums: cfg.ExactSums}
+	res.Layout = refineLayout(res.Data, cfg.Refine)
+	curves, err := runPass(ctx, sources, ds, g, res.Data, res.Layout, cfg, ind, 0)
+	if err != nil {
+		return nil, err
+	}
+	res.Curves = curves
+	res.Notes = append(res.Notes, noisyNotes(curves)...)
+	res.Bootstrap = scanNotes(res, sources, cfg)
+	if g.Dim() == 2 {
+		res.Boundaries = curveBoundaries(res.Curves, g.Names)
+	}
+	if cfg.Zoom {
+		if err := zoomPass(ctx, res, sources, ds, g, cfg, ind); err != nil {
+			return nil, err
+		}
+	}
+	return res, nil
+}
+
+// checkScan is the first stage of Run: it checks the sources, the dataset's
+// grid and cfg against each other, and returns the grid, the set of
+// indicators to compute and cfg with its defaults filled in.
+func checkScan(sources []density.Source, ds *data.Dataset, cfg Config) (*data.Grid, map[string]bool, Config, error) {
 	if len(sources) == 0 {
-		return nil, errors.New("scan: no density source")
+		return nil, nil, cfg, errors.New("scan: no density source")
 	}
 	g := data.NewGrid(ds)
 	if g.K() < 2 {
-		return nil, fmt.Errorf("scan: expected at least 2 grid points, found %d", g.K())
+		return nil, nil, cfg, fmt.Errorf("scan: expected at least 2 grid points, found %d", g.K())
 	}
 	if g.Dim() > 2 {
-		return nil, fmt.Errorf("scan: expected 1 or 2 parameters, found %d (%v)", g.Dim(), g.Names)
+		return nil, nil, cfg, fmt.Errorf("scan: expected 1 or 2 parameters, found %d (%v)", g.Dim(), g.Names)
 	}
 	if !g.Product {
-		return nil, fmt.Errorf("scan: expected a product grid (every combination of %v), found %d points for %v values per axis", g.Names, g.K(), g.Shape())
+		return nil, nil, cfg, fmt.Errorf("scan: expected a product grid (every combination of %v), found %d points for %v values per axis", g.Names, g.K(), g.Shape())
 	}
 	for _, s := range sources {
 		if s.Sites() != ds.N || s.Alphabet() != ds.Meta.Alphabet || s.ParamDim() != ds.D {
-			return nil, fmt.Errorf("scan: source has %d sites, alphabet %d and %d parameters, the data %d, %d and %d", s.Sites(), s.Alphabet(), s.ParamDim(), ds.N, ds.Meta.Alphabet, ds.D)
+			return nil, nil, cfg, fmt.Errorf("scan: source has %d sites, alphabet %d and %d parameters, the data %d, %d and %d", s.Sites(), s.Alphabet(), s.ParamDim(), ds.N, ds.Meta.Alphabet, ds.D)
 		}
 	}
 	ind := map[string]bool{}
@@ -130,12 +158,12 @@ func Run(ctx context.Context, sources []density.Source, ds *data.Dataset, cfg Co
 			ok = ok || a == n
 		}
 		if !ok {
-			return nil, fmt.Errorf("scan: unknown indicator %q, expected one of %v", n, AllIndicators)
+			return nil, nil, cfg, fmt.Errorf("scan: unknown indicator %q, expected one of %v", n, AllIndicators)
 		}
 		ind[n] = true
 	}
 	if cfg.SLRegions != nil && g.Dim() != 1 {
-		return nil, fmt.Errorf("scan: sl regions are for 1-D grids, the grid has %d axes", g.Dim())
+		return nil, nil, cfg, fmt.Errorf("scan: sl regions are for 1-D grids, the grid has %d axes", g.Dim())
 	}
 	if cfg.ModelSamples <= 0 {
 		cfg.ModelSamples = 1000
@@ -143,38 +171,36 @@ func Run(ctx context.Context, sources []density.Source, ds *data.Dataset, cfg Co
 	if cfg.Refine < 1 {
 		cfg.Refine = 1
 	}
-	res := &Result{Names: g.Names, Data: Layout{Names: g.Names, Axes: g.Axes}, Sources: len(sources), ExactSums: cfg.ExactSums}
-	res.Layout = refineLayout(res.Data, cfg.Refine)
 	if cfg.ExactSums {
 		for _, s := range sources {
-			e, ok := s.(density.Enumerable)
-			if !ok || !e.Enumerable() {
-				return nil, errors.New("scan: exact sums need a source whose q^N states can all be listed (an exact source or a model of a small system, at most 2^20 states)")
+			if !density.IsEnumerable(s) {
+				return nil, nil, cfg, errors.New("scan: exact sums need a source whose q^N states can all be listed (an exact source or a model of a small system, at most 2^20 states)")
 			}
 		}
 	}
 	needSampler := cfg.Refine > 1 && !cfg.ExactSums
 	for _, s := range sources {
 		if density.IsGridOnly(s) && cfg.Refine > 1 {
-			return nil, errors.New("scan: the histogram is defined only at the grid points; refinement needs a model (train a model)")
+			return nil, nil, cfg, errors.New("scan: the histogram is defined only at the grid points; refinement needs a model (train a model)")
 		}
 		if _, ok := s.(density.Sampler); needSampler && !ok {
-			return nil, fmt.Errorf("scan: refinement needs samples between grid points, and this source cannot draw them (a model or the exact source of a small system can; the exact source of a lattice too large to enumerate only scores snapshots), or use --refine 1")
+			return nil, nil, cfg, fmt.Errorf("scan: refinement needs samples between grid points, and this source cannot draw them (a model or the exact source of a small system can; the exact source of a lattice too large to enumerate only scores snapshots), or use --refine 1")
 		}
 	}
-	curves, err := runPass(ctx, sources, ds, g, res.Data, res.Layout, cfg, ind, 0)
-	if err != nil {
-		return nil, err
-	}
-	res.Curves = curves
-	res.Notes = append(res.Notes, noisyNotes(curves)...)
+	return g, ind, cfg, nil
+}
+
+// scanNotes adds the notes on how to read a first pass to res and returns
+// the number of bootstrap replicates its errors come from.
+func scanNotes(res *Result, sources []density.Source, cfg Config) int {
+	B := 0
 	if cfg.ExactSums {
 		res.Notes = append(res.Notes, "exact sums over all states: the curves carry no sampling error; peak errors are 0 and every local maximum is kept")
 		if cfg.Bootstrap > 0 {
 			res.Notes = append(res.Notes, "bootstrap ignored: exact sums have no samples to resample")
 		}
 	} else {
-		res.Bootstrap = cfg.Bootstrap
+		B = cfg.Bootstrap
 		if cfg.Bootstrap == 0 {
 			res.Notes = append(res.Notes, "no bootstrap: errors are not estimated and every local maximum is listed as a peak, whether or not it stands above the noise")
 		}
@@ -192,21 +218,21 @@ func Run(ctx context.Context, sources []density.Source, ds *data.Dataset, cfg Co
 			res.Notes = append(res.Notes, fmt.Sprintf("refined grid: expectations at all %d points use %d snapshots drawn from the source (the data snapshots serve only unrefined scans), so the curves show the source's own distribution and not the data's", res.Layout.K(), cfg.ModelSamples))
 		}
 	}
-	if g.Dim() == 2 {
-		for _, c := range res.Curves {
-			if c.Indicator == Local || c.Indicator == Fisher {
-				if c.Name == "fisher_deriv" || c.Name == Fisher || c.Axis >= 0 {
-					res.Boundaries = append(res.Boundaries, boundaries(c, g.Names)...)
-				}
+	return B
+}
+
+// curveBoundaries traces the ridges of the local and fisher maps of a 2-D
+// scan.
+func curveBoundaries(curves []*Curve, names []string) []Boundary {
+	var out []Boundary
+	for _, c := range curves {
+		if c.Indicator == Local || c.Indicator == Fisher {
+			if c.Name == "fisher_deriv" || c.Name == Fisher || c.Axis >= 0 {
+				out = append(out, boundaries(c, names)...)
 			}
 		}
 	}
-	if cfg.Zoom {
-		if err := zoomPass(ctx, res, sources, ds, g, cfg, ind); err != nil {
-			return nil, err
-		}
-	}
-	return res, nil
+	return out
 }
 
 // noisyNotes warns about curves whose peaks could be noise (a peak's
