@@ -7,7 +7,6 @@ import (
 	"math"
 	"math/rand/v2"
 	"sort"
-	"sync"
 
 	"tidemark/data/density"
 
@@ -625,117 +624,94 @@ func gradients(ctx context.Context, src density.Source, xs []uint8, ev *EvalSet,
 		h[a] = dm / 100
 	}
 	grad := make([][]float64, K)
-	threads := data.Threads(cfg.Threads)
-	var wg sync.WaitGroup
-	var mu sync.Mutex
-	var firstErr error
 	var tick func(int)
 	if cfg.Progress != nil {
 		tick = cfg.Progress("derivatives in λ", K)
 	}
-	jobs := make(chan int)
-	for w := 0; w < threads; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for k := range jobs {
-				idx := ev.Idx[k]
-				n := len(idx)
-				var sub []uint8
-				if ev.Exact {
-					sub = xs[:n*N]
-				} else {
-					sub = make([]uint8, n*N)
-					for i, m := range idx {
-						copy(sub[i*N:(i+1)*N], xs[m*N:(m+1)*N])
-					}
-				}
-				g := make([]float64, n*d)
-				up := make([]float64, n)
-				dn := make([]float64, n)
-				p := lo.Point(k)
-				if ms, ok := src.(density.MatrixSource); ok {
-					// One call scores the snapshots at all 2d shifted points,
-					// sharing the λ-independent work.
-					var ls [][]float64
-					for a := 0; a < d; a++ {
-						pu := append([]float64(nil), p...)
-						pd := append([]float64(nil), p...)
-						pu[a] += h[a]
-						pd[a] -= h[a]
-						ls = append(ls, pu, pd)
-					}
-					out, err := ms.LogProbMatrix(sub, n, ls, 1)
-					if err == nil && len(out) != n*2*d {
-						err = fmt.Errorf("source returned %d values, expected %d", len(out), n*2*d)
-					}
-					if err != nil {
-						mu.Lock()
-						if firstErr == nil {
-							firstErr = fmt.Errorf("scan: derivative at %s: %w", data.FormatPoint(lo.Names, p), err)
-						}
-						mu.Unlock()
-						continue
-					}
-					for i := 0; i < n; i++ {
-						for a := 0; a < d; a++ {
-							v := (out[i*2*d+2*a] - out[i*2*d+2*a+1]) / (2 * h[a])
-							if math.IsNaN(v) || math.IsInf(v, 0) {
-								v = 0
-							}
-							g[i*d+a] = v
-						}
-					}
-					grad[k] = g
-					if tick != nil {
-						tick(1)
-					}
-					continue
-				}
-				for a := 0; a < d; a++ {
-					pu := append([]float64(nil), p...)
-					pd := append([]float64(nil), p...)
-					pu[a] += h[a]
-					pd[a] -= h[a]
-					err := src.LogProb(up, sub, pu)
-					if err == nil {
-						err = src.LogProb(dn, sub, pd)
-					}
-					if err != nil {
-						mu.Lock()
-						if firstErr == nil {
-							firstErr = fmt.Errorf("scan: derivative at %s: %w", data.FormatPoint(lo.Names, p), err)
-						}
-						mu.Unlock()
-						break
-					}
-					for i := 0; i < n; i++ {
-						v := (up[i] - dn[i]) / (2 * h[a])
-						if math.IsNaN(v) || math.IsInf(v, 0) {
-							v = 0 // a state impossible at λ±h carries no weight at λ
-						}
-						g[i*d+a] = v
-					}
-				}
-				grad[k] = g
-				if tick != nil {
-					tick(1)
-				}
-			}
-		}()
-	}
-	for k := 0; k < K && ctx.Err() == nil; k++ {
-		jobs <- k
-	}
-	close(jobs)
-	wg.Wait()
-	if err := ctx.Err(); err != nil {
+	err := data.ForEachPoint(ctx, K, cfg.Threads, func(k int) error {
+		g, err := pointGradient(src, xs, ev, k, lo.Point(k), h, N)
+		if err != nil {
+			return fmt.Errorf("scan: derivative at %s: %w", data.FormatPoint(lo.Names, lo.Point(k)), err)
+		}
+		grad[k] = g
+		if tick != nil {
+			tick(1)
+		}
+		return nil
+	})
+	if err != nil {
 		return nil, err
 	}
-	if firstErr != nil {
-		return nil, firstErr
-	}
 	return grad, nil
+}
+
+// pointGradient is ∂_a log p(x|λ) at p for the slots of point k of ev, by
+// central differences with steps h (see gradients). A MatrixSource scores
+// the snapshots at all 2d shifted points in one call, sharing the
+// λ-independent work. A state impossible at λ±h carries no weight at λ: its
+// derivative is 0.
+func pointGradient(src density.Source, xs []uint8, ev *EvalSet, k int, p, h []float64, N int) ([]float64, error) {
+	d := len(p)
+	idx := ev.Idx[k]
+	n := len(idx)
+	var sub []uint8
+	if ev.Exact {
+		sub = xs[:n*N]
+	} else {
+		sub = make([]uint8, n*N)
+		for i, m := range idx {
+			copy(sub[i*N:(i+1)*N], xs[m*N:(m+1)*N])
+		}
+	}
+	g := make([]float64, n*d)
+	finite := func(v float64) float64 {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return 0
+		}
+		return v
+	}
+	if ms, ok := src.(density.MatrixSource); ok {
+		var ls [][]float64
+		for a := 0; a < d; a++ {
+			pu := append([]float64(nil), p...)
+			pd := append([]float64(nil), p...)
+			pu[a] += h[a]
+			pd[a] -= h[a]
+			ls = append(ls, pu, pd)
+		}
+		out, err := ms.LogProbMatrix(sub, n, ls, 1)
+		if err == nil && len(out) != n*2*d {
+			err = fmt.Errorf("source returned %d values, expected %d", len(out), n*2*d)
+		}
+		if err != nil {
+			return nil, err
+		}
+		for i := 0; i < n; i++ {
+			for a := 0; a < d; a++ {
+				g[i*d+a] = finite((out[i*2*d+2*a] - out[i*2*d+2*a+1]) / (2 * h[a]))
+			}
+		}
+		return g, nil
+	}
+	up := make([]float64, n)
+	dn := make([]float64, n)
+	for a := 0; a < d; a++ {
+		pu := append([]float64(nil), p...)
+		pd := append([]float64(nil), p...)
+		pu[a] += h[a]
+		pd[a] -= h[a]
+		err := src.LogProb(up, sub, pu)
+		if err == nil {
+			err = src.LogProb(dn, sub, pd)
+		}
+		if err != nil {
+			return nil, err
+		}
+		for i := 0; i < n; i++ {
+			g[i*d+a] = finite((up[i] - dn[i]) / (2 * h[a]))
+		}
+	}
+	return g, nil
 }
 
 // zoomPass runs the finer second pass around every first-pass peak. On a
