@@ -660,32 +660,15 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 			return nil, err
 		}
 		trainSec := time.Since(t0).Seconds()
-		val := math.NaN()
-		var current [][]float64
-		if !math.IsNaN(trainNLL) {
-			// With averaging the averaged weights are validated (and kept
-			// as the best); the optimiser's own are restored after.
-			if r.avg != nil {
-				current = clone2(r.w)
-				r.averaged(r.w)
-			}
-			val, err = r.nll(r.valIdx, r.grid.Points, r.m)
-			if err != nil {
-				return nil, err
-			}
+		val, current, err := r.validate(trainNLL)
+		if err != nil {
+			return nil, err
 		}
 		if math.IsNaN(trainNLL) || math.IsInf(trainNLL, 0) || math.IsNaN(val) || math.IsInf(val, 0) {
-			r.restore(before)
 			nonFinite++
-			if nonFinite >= maxNonFinite {
-				return nil, fmt.Errorf("training diverged: the loss was not finite in %d epochs in a row (at epoch %d, learning rate %.3g); try a smaller --lr or --clip", nonFinite, epoch, r.lr)
+			if err := r.recoverNonFinite(before, epoch, nonFinite); err != nil {
+				return nil, err
 			}
-			r.lr /= 2
-			if r.hdr.Optimizer.LRScale == 0 {
-				r.hdr.Optimizer.LRScale = 1
-			}
-			r.hdr.Optimizer.LRScale /= 2
-			r.warn("epoch %d: the loss became non-finite; restored the weights of the last good epoch and halved the learning rate to %.3g", epoch, r.lr)
 			continue
 		}
 		nonFinite = 0
@@ -699,22 +682,7 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 			LR:               r.lr,
 		}
 		r.hdr.Metrics = append(r.hdr.Metrics, met)
-		o := &r.hdr.Optimizer
-		o.Epoch = epoch
-		if val < r.bestVal-1e-4*math.Abs(r.bestVal) || r.hdr.BestEpoch == 0 {
-			r.bestVal = val
-			copy2(r.best, r.w)
-			r.hdr.BestEpoch = epoch
-			r.hdr.BestValBitsPerSite = val / math.Ln2
-			o.SinceBest, o.SincePlateau = 0, 0
-		} else {
-			o.SinceBest++
-			o.SincePlateau++
-			var restart bool
-			if r.lr, restart = sched.stalled(r.lr, o.SincePlateau); restart {
-				o.SincePlateau = 0
-			}
-		}
+		r.keepBest(epoch, val, sched)
 		if current != nil {
 			copy2(r.w, current)
 		}
@@ -730,6 +698,65 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 		}
 	}
 	return r.checkpoint()
+}
+
+// validate is the validation stage of an epoch whose training NLL was
+// trainNLL: the validation NLL in nats per site, NaN when the training loss
+// was already NaN. With averaging the averaged weights are validated (and
+// kept as the best); the optimiser's own are returned as current, to be
+// restored after.
+func (r *run) validate(trainNLL float64) (val float64, current [][]float64, err error) {
+	if math.IsNaN(trainNLL) {
+		return math.NaN(), nil, nil
+	}
+	if r.avg != nil {
+		current = clone2(r.w)
+		r.averaged(r.w)
+	}
+	val, err = r.nll(r.valIdx, r.grid.Points, r.m)
+	if err != nil {
+		return 0, nil, err
+	}
+	return val, current, nil
+}
+
+// recoverNonFinite restores the weights before an epoch whose loss was not
+// finite (the nonFinite-th in a row) and halves the learning rate, or gives
+// up after maxNonFinite such epochs.
+func (r *run) recoverNonFinite(before saved, epoch, nonFinite int) error {
+	r.restore(before)
+	if nonFinite >= maxNonFinite {
+		return fmt.Errorf("training diverged: the loss was not finite in %d epochs in a row (at epoch %d, learning rate %.3g); try a smaller --lr or --clip", nonFinite, epoch, r.lr)
+	}
+	r.lr /= 2
+	if r.hdr.Optimizer.LRScale == 0 {
+		r.hdr.Optimizer.LRScale = 1
+	}
+	r.hdr.Optimizer.LRScale /= 2
+	r.warn("epoch %d: the loss became non-finite; restored the weights of the last good epoch and halved the learning rate to %.3g", epoch, r.lr)
+	return nil
+}
+
+// keepBest records epoch's validation NLL val: a clear improvement keeps the
+// weights as the best, otherwise the schedule sees one more epoch without
+// improvement.
+func (r *run) keepBest(epoch int, val float64, sched lrSchedule) {
+	o := &r.hdr.Optimizer
+	o.Epoch = epoch
+	if val < r.bestVal-1e-4*math.Abs(r.bestVal) || r.hdr.BestEpoch == 0 {
+		r.bestVal = val
+		copy2(r.best, r.w)
+		r.hdr.BestEpoch = epoch
+		r.hdr.BestValBitsPerSite = val / math.Ln2
+		o.SinceBest, o.SincePlateau = 0, 0
+		return
+	}
+	o.SinceBest++
+	o.SincePlateau++
+	var restart bool
+	if r.lr, restart = sched.stalled(r.lr, o.SincePlateau); restart {
+		o.SincePlateau = 0
+	}
 }
 
 // epoch runs one pass over the shuffled training samples and returns the
