@@ -49,20 +49,20 @@ func States(q, n int) int {
 	return s
 }
 
-// ExhaustiveDivergence sums over all q^N states of the exact source p and
-// the model q at λ and returns their divergence. The exact source must
+// ExhaustiveDivergence sums over all q^N states of the exact reference p
+// (ref) and the model q (mdl) at λ and returns their divergence. ref must
 // implement Enumerable and report true. Blocks of states are
 // spread over threads goroutines; partial sums are added in block order, so
 // the result does not depend on threads. progress, if non-nil, receives the
 // number of states done after each block.
-func ExhaustiveDivergence(exact, mdl Source, lambda []float64, threads int, progress func(n int)) (Divergence, error) {
-	if !IsEnumerable(exact) {
+func ExhaustiveDivergence(ref, mdl Source, lambda []float64, threads int, progress func(n int)) (Divergence, error) {
+	if !IsEnumerable(ref) {
 		return Divergence{}, ErrNotEnumerable
 	}
-	q, n := exact.Alphabet(), exact.Sites()
-	if mdl.Sites() != n || mdl.Alphabet() != q || mdl.ParamDim() != exact.ParamDim() {
+	q, n := ref.Alphabet(), ref.Sites()
+	if mdl.Sites() != n || mdl.Alphabet() != q || mdl.ParamDim() != ref.ParamDim() {
 		return Divergence{}, fmt.Errorf("exact comparison: the model has %d sites, alphabet %d and %d parameters, the exact source %d, %d and %d",
-			mdl.Sites(), mdl.Alphabet(), mdl.ParamDim(), n, q, exact.ParamDim())
+			mdl.Sites(), mdl.Alphabet(), mdl.ParamDim(), n, q, ref.ParamDim())
 	}
 	total := States(q, n)
 	if total < 0 {
@@ -93,7 +93,7 @@ func ExhaustiveDivergence(exact, mdl Source, lambda []float64, threads int, prog
 						s /= q
 					}
 				}
-				if err := exact.LogProb(lp[:r], xs[:r*n], lambda); err != nil {
+				if err := ref.LogProb(lp[:r], xs[:r*n], lambda); err != nil {
 					errs[b] = fmt.Errorf("exact source: %w", err)
 					continue
 				}
