@@ -40,3 +40,25 @@ func TestForEachPoint(t *testing.T) {
 		})
 	}
 }
+
+// TestSamePoint checks the parameter-point tolerance at its edges.
+func TestSamePoint(t *testing.T) {
+	for _, tc := range []struct {
+		a, b []float64
+		same bool
+	}{
+		{[]float64{2.25}, []float64{2.25}, true},
+		{[]float64{2.25}, []float64{2.25 + 1e-10}, true},
+		{[]float64{2.25}, []float64{2.25 + 1e-8}, false},
+		{[]float64{0}, []float64{5e-10}, true},
+		{[]float64{1e6}, []float64{1e6 + 5e-4}, true},
+		{[]float64{1, 2}, []float64{1}, false},
+	} {
+		if got := SamePoint(tc.a, tc.b); got != tc.same {
+			t.Errorf("SamePoint(%v, %v) = %v", tc.a, tc.b, got)
+		}
+	}
+	if !NamesValue(2.09091, 2.090909090909) || NamesValue(2.091, 2.090909090909) {
+		t.Error("NamesValue: six printed digits must name the grid value, four must not (2.091)")
+	}
+}
