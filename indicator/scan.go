@@ -487,14 +487,7 @@ func buildEvalSet(ctx context.Context, src density.Source, ds *data.Dataset, g *
 		if int64(M)*int64(K) > maxExactEntries {
 			return nil, nil, fmt.Errorf("scan: exact sums over %d states at %d points need a %d-entry matrix (%d MB), more than the limit of %d entries; use fewer points or sample means (no --exact-sums)", M, K, int64(M)*int64(K), int64(M)*int64(K)*8>>20, maxExactEntries)
 		}
-		xs = make([]uint8, M*N)
-		for m := 0; m < M; m++ {
-			v := m
-			for j := N - 1; j >= 0; j-- {
-				xs[m*N+j] = uint8(v % q)
-				v /= q
-			}
-		}
+		xs = density.AllStates(q, N, M)
 		mx, err := computeWithProgress(ctx, src, xs, M, pts, cfg, label)
 		if err != nil {
 			return nil, nil, err

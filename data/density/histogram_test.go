@@ -58,3 +58,13 @@ func TestHistogramConformance(t *testing.T) {
 		}
 	}
 }
+
+// TestAllStates checks the order of the listed states on q = 3, N = 2
+// (base-3 numbers, first site most significant).
+func TestAllStates(t *testing.T) {
+	got := density.AllStates(3, 2, 9)
+	want := []uint8{0, 0, 0, 1, 0, 2, 1, 0, 1, 1, 1, 2, 2, 0, 2, 1, 2, 2}
+	if string(got) != string(want) {
+		t.Errorf("AllStates(3, 2, 9) = %v, want %v", got, want)
+	}
+}

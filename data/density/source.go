@@ -83,3 +83,18 @@ type EntropySource interface {
 	// entropy of a snapshot divided by N).
 	EntropyPerSite(lambda []float64) (float64, error)
 }
+
+// AllStates lists the first M of the q^N states of N sites, one row of N
+// values each, in the order of the base-q numbers they spell with the first
+// site most significant (M = q^N lists them all).
+func AllStates(q, N, M int) []uint8 {
+	xs := make([]uint8, M*N)
+	for m := 0; m < M; m++ {
+		v := m
+		for j := N - 1; j >= 0; j-- {
+			xs[m*N+j] = uint8(v % q)
+			v /= q
+		}
+	}
+	return xs
+}

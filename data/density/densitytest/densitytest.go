@@ -98,14 +98,7 @@ func checkNormalised(t testing.TB, src density.Source, lambdas [][]float64) {
 			return
 		}
 	}
-	xs := make([]uint8, M*N)
-	for m := 0; m < M; m++ {
-		v := m
-		for j := N - 1; j >= 0; j-- {
-			xs[m*N+j] = uint8(v % q)
-			v /= q
-		}
-	}
+	xs := density.AllStates(q, N, M)
 	lp := make([]float64, M)
 	for _, l := range lambdas {
 		if err := src.LogProb(lp, xs, l); err != nil {
