@@ -3,7 +3,7 @@ package model
 import (
 	"fmt"
 
-	"tidemark/internal/textenum"
+	"tidemark/data/textenum"
 )
 
 // Activation is the nonlinearity of a model's hidden layers.

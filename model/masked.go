@@ -5,7 +5,7 @@ import (
 	"hash"
 	"math"
 
-	"tidemark/internal/textenum"
+	"tidemark/data/textenum"
 
 	"github.com/chewxy/hm"
 	G "gorgonia.org/gorgonia"

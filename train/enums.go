@@ -1,6 +1,6 @@
 package train
 
-import "tidemark/internal/textenum"
+import "tidemark/data/textenum"
 
 // Order is the autoregressive order of the sites a new model uses.
 type Order string

@@ -10,7 +10,7 @@
 // exhaustive comparison of two enumerable sources (ExhaustiveDivergence:
 // Kullback–Leibler divergence, total variation, entropy) and the
 // histogram source of empirical frequencies. It imports only package data
-// (and internal/textenum for its Symmetry enumeration); generators (data/ising, data/chain) import data and density, and the
+// (and data/textenum for its Symmetry enumeration); generators (data/ising, data/chain) import data and density, and the
 // analysis packages (indicator, train) consume sources through it.
 //
 // Package densitytest holds the conformance check any source can run and the

@@ -3,7 +3,7 @@ package density
 import (
 	"strings"
 
-	"tidemark/internal/textenum"
+	"tidemark/data/textenum"
 )
 
 // Symmetry is a symmetry of a distribution over lattice snapshots: a map of
