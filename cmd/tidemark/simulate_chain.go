@@ -31,6 +31,7 @@ type simulateChainOptions struct {
 	maxBond      int
 	cutoff       float64
 	energyTol    float64
+	pin          float64
 }
 
 // gapWarnThreshold is the in-sector gap below which snapshots depend on the
@@ -53,6 +54,10 @@ two-site split and sweeps until the energy changes by at most --energy-tol
 dataset keeps an exact density: the MPS's outcome probabilities, rebuilt from
 the file by re-running DMRG. Open chains need far smaller bond dimensions than
 periodic ones; use --open with the MPS solver where the physics allows.
+In a ∏X sector the DMRG state is projected into it (this fixes the ordered
+phase's doublet); a further near-degeneracy, such as the edge modes of an open
+chain with a three-site term, is fixed by --pin ε, a field −ε(Z_0 + Z_N−1) seen
+by DMRG only and recorded in the dataset.
 
 The Hamiltonian is a sum of Pauli words placed at every site, e.g. "-ZZ - h*X"
 (the transverse-field Ising chain); coefficients are numbers, grid parameter
@@ -85,6 +90,7 @@ from the file alone.`,
 	f.StringVar(&o.solver, "solver", "auto", fmt.Sprintf("ground-state solver: ed (exact), mps (DMRG) or auto (ed up to %d sites, mps above)", chain.MaxSites))
 	f.IntVar(&o.maxBond, "max-bond", chain.MPSOptions{}.Filled().MaxBond, "mps: largest bond dimension")
 	f.Float64Var(&o.cutoff, "cutoff", chain.MPSOptions{}.Filled().Cutoff, "mps: largest discarded weight per two-site split")
+	f.Float64Var(&o.pin, "pin", 0, "mps: pinning field ε: DMRG adds −ε(Z_0 + Z_N−1) to fix a state inside a degenerate ground space (edge modes); recorded in the dataset")
 	f.Float64Var(&o.energyTol, "energy-tol", chain.MPSOptions{}.Filled().Tol, "mps: sweeps stop once a sweep changes the energy by at most this, relative")
 	f.StringVar(&o.hamiltonian, "hamiltonian", "", `Hamiltonian as a sum of Pauli words, e.g. "-ZZ - h*X" (energies in the units of its coefficients)`)
 	f.StringVar(&o.grid, "grid", "", `parameter grid over the Hamiltonian's parameters, e.g. "h=0.2:2:19"`)
@@ -198,7 +204,10 @@ func (o *simulateChainOptions) chainSetup() (*chain.Source, *chain.MPSSource, da
 		if !(o.energyTol > 0 && o.energyTol < 1) {
 			return nil, nil, spec, fmt.Errorf("--energy-tol: expected a relative change between 0 and 1 (exclusive), found %g", o.energyTol)
 		}
-		ms, err := chain.NewMPS(cfg, chain.MPSOptions{MaxBond: o.maxBond, Cutoff: o.cutoff, Tol: o.energyTol}, o.seed)
+		if !(o.pin >= 0 && o.pin < 1) {
+			return nil, nil, spec, fmt.Errorf("--pin: expected a small field strength, 0 ≤ ε < 1, found %g", o.pin)
+		}
+		ms, err := chain.NewMPS(cfg, chain.MPSOptions{MaxBond: o.maxBond, Cutoff: o.cutoff, Tol: o.energyTol, Pin: o.pin}, o.seed)
 		if err != nil {
 			return nil, nil, spec, fmt.Errorf("%s: %w", flagOf(err), err)
 		}

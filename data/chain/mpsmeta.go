@@ -35,6 +35,7 @@ type MPSSourceMeta struct {
 	Cutoff      float64    `json:"cutoff"`
 	Tol         float64    `json:"energy_tol"`
 	MaxSweeps   int        `json:"max_sweeps"`
+	Pin         float64    `json:"pin"`
 	Grid        string     `json:"grid"`
 	Points      []MPSPoint `json:"points"`
 }
@@ -53,7 +54,7 @@ func (s *MPSSource) Meta(seed uint64, grid string, points []MPSPoint) MPSSourceM
 	return MPSSourceMeta{
 		Generator: Generator, Solver: SolverMPS, Sites: s.cfg.Sites, Boundary: b, Hamiltonian: s.cfg.Hamiltonian,
 		Basis: s.cfg.Basis.String(), Sector: s.sector.String(), Encoding: enc,
-		Seed: seed, DMRGSeed: s.seed, MaxBond: s.opt.MaxBond, Cutoff: s.opt.Cutoff, Tol: s.opt.Tol, MaxSweeps: s.opt.MaxSweeps,
+		Seed: seed, DMRGSeed: s.seed, MaxBond: s.opt.MaxBond, Cutoff: s.opt.Cutoff, Tol: s.opt.Tol, MaxSweeps: s.opt.MaxSweeps, Pin: s.opt.Pin,
 		Grid: grid, Points: points,
 	}
 }
@@ -105,7 +106,7 @@ func MPSSourceFromMeta(m data.Meta) (*MPSSource, error) {
 		return nil, fmt.Errorf("meta.source: expected max_bond ≥ 1, cutoff > 0, energy_tol > 0 and max_sweeps ≥ 1, found %d, %g, %g and %d", sm.MaxBond, sm.Cutoff, sm.Tol, sm.MaxSweeps)
 	}
 	s, err := NewMPS(Config{Sites: sm.Sites, Hamiltonian: sm.Hamiltonian, Params: m.ParamNames, Open: open, Basis: basis, Sector: sector},
-		MPSOptions{MaxBond: sm.MaxBond, Cutoff: sm.Cutoff, Tol: sm.Tol, MaxSweeps: sm.MaxSweeps}, sm.DMRGSeed)
+		MPSOptions{MaxBond: sm.MaxBond, Cutoff: sm.Cutoff, Tol: sm.Tol, MaxSweeps: sm.MaxSweeps, Pin: sm.Pin}, sm.DMRGSeed)
 	if err != nil {
 		return nil, fmt.Errorf("meta.source: %w", err)
 	}

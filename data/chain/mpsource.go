@@ -28,6 +28,13 @@ type MPSOptions struct {
 	Tol float64
 	// MaxSweeps bounds the sweeps.
 	MaxSweeps int
+	// Pin is the strength ε of a pinning field −ε(Z_0 + Z_{N−1}) on the two
+	// end sites, added to H for DMRG only (0: none). It selects one state
+	// deterministically inside a (nearly) degenerate ground space, such as
+	// the edge modes of an open chain; with a ∏X sector the projection then
+	// symmetrises that state again (Z is odd under ∏X, so the field's
+	// first-order effect on a non-degenerate state is projected out).
+	Pin float64
 }
 
 func (o MPSOptions) mps() mps.Options {
@@ -50,7 +57,7 @@ func (o MPSOptions) Filled() MPSOptions {
 	if f.MaxSweeps <= 0 {
 		f.MaxSweeps = d.MaxSweeps
 	}
-	return MPSOptions{MaxBond: f.MaxBond, Cutoff: f.Cutoff, Tol: f.Tol, MaxSweeps: f.MaxSweeps}
+	return MPSOptions{MaxBond: f.MaxBond, Cutoff: f.Cutoff, Tol: f.Tol, MaxSweeps: f.MaxSweeps, Pin: o.Pin}
 }
 
 // MPSSource is a spin chain's snapshot distribution p(x|λ) with the ground
@@ -120,7 +127,7 @@ func NewMPS(cfg Config, opt MPSOptions, seed uint64) (*MPSSource, error) {
 	if cfg.Sites < 2 || cfg.Sites > MaxMPSSites {
 		return nil, fmt.Errorf("chain: sites: expected 2 to %d for the MPS solver, found %d", MaxMPSSites, cfg.Sites)
 	}
-	if opt.MaxBond < 0 || opt.Cutoff < 0 || opt.Tol < 0 || opt.MaxSweeps < 0 || math.IsNaN(opt.Cutoff) || math.IsNaN(opt.Tol) {
+	if opt.MaxBond < 0 || opt.Cutoff < 0 || opt.Pin < 0 || opt.Tol < 0 || opt.MaxSweeps < 0 || math.IsNaN(opt.Cutoff) || math.IsNaN(opt.Tol) || math.IsNaN(opt.Pin) || math.IsInf(opt.Pin, 0) {
 		return nil, fmt.Errorf("chain: MPS options: expected non-negative numbers, found %+v", opt)
 	}
 	h, err := Parse(cfg.Hamiltonian)
@@ -350,11 +357,19 @@ func (s *MPSSource) solve(ctx context.Context, lambda []float64, warm *MPSState)
 	if err != nil {
 		return nil, err
 	}
+	hp := h
+	if s.opt.Pin != 0 {
+		n := s.cfg.Sites
+		ts := append(s.terms(lambda), mps.Term{Coef: -s.opt.Pin, Sites: []int{0}, Letters: "Z"}, mps.Term{Coef: -s.opt.Pin, Sites: []int{n - 1}, Letters: "Z"})
+		if hp, err = mps.BuildMPO(n, ts); err != nil {
+			return nil, err
+		}
+	}
 	var init *mps.MPS
 	if warm != nil {
 		init = warm.raw
 	}
-	raw, res, err := mps.GroundState(ctx, h, init, s.opt.mps(), s.lambdaStream(lambda))
+	raw, res, err := mps.GroundState(ctx, hp, init, s.opt.mps(), s.lambdaStream(lambda))
 	if err != nil {
 		return nil, fmt.Errorf("chain: MPS ground state at %v: %w", lambda, err)
 	}
