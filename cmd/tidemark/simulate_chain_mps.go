@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"strings"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -43,7 +44,11 @@ func runSimulateChainMPS(cmd *cobra.Command, o *simulateChainOptions, ms *chain.
 	names := spec.Names()
 	worst, bond, sweeps := 0.0, 0, 0
 	worstAt := ""
+	var unconverged []string
 	for _, p := range res.Points {
+		if !p.Converged {
+			unconverged = append(unconverged, data.FormatPoint(names, p.Params))
+		}
 		if p.MaxDiscarded >= worst {
 			worst, worstAt = p.MaxDiscarded, data.FormatPoint(names, p.Params)
 		}
@@ -56,6 +61,10 @@ func runSimulateChainMPS(cmd *cobra.Command, o *simulateChainOptions, ms *chain.
 	if worst > 10*opt.Cutoff {
 		fmt.Fprintf(cmd.ErrOrStderr(), "tidemark: warning: the discarded weight reached %.2g at %s, above --cutoff %.0e: the bond cap %d limits the state there; raise --max-bond\n",
 			worst, worstAt, opt.Cutoff, opt.MaxBond)
+	}
+	if len(unconverged) > 0 {
+		fmt.Fprintf(cmd.ErrOrStderr(), "tidemark: warning: DMRG did not meet --energy-tol within %d sweeps at %d point(s): %s; the states there are the last sweep's\n",
+			opt.MaxSweeps, len(unconverged), strings.Join(unconverged, "; "))
 	}
 	if meta.Boundary != "open" {
 		fmt.Fprintf(cmd.ErrOrStderr(), "tidemark: note: periodic chains need a larger bond dimension than open ones (roughly its square for the same accuracy); check the discarded weight\n")

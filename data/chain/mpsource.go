@@ -2,6 +2,7 @@ package chain
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"hash/fnv"
 	"math"
@@ -108,6 +109,9 @@ type MPSState struct {
 	// SectorWeight is the weight of the DMRG state in the sector (1 without
 	// a sector).
 	SectorWeight float64
+	// Converged reports that the sweeps met the energy tolerance before
+	// MaxSweeps; an unconverged state is kept and flagged.
+	Converged bool
 	// State is the final state, right-canonical and normalised.
 	State *mps.MPS
 	// raw is the DMRG state before the projection, the warm start of the
@@ -370,10 +374,10 @@ func (s *MPSSource) solve(ctx context.Context, lambda []float64, warm *MPSState)
 		init = warm.raw
 	}
 	raw, res, err := mps.GroundState(ctx, hp, init, s.opt.mps(), s.lambdaStream(lambda))
-	if err != nil {
+	if err != nil && !errors.Is(err, mps.ErrNotConverged) {
 		return nil, fmt.Errorf("chain: MPS ground state at %v: %w", lambda, err)
 	}
-	st := &MPSState{Lambda: append([]float64(nil), lambda...), Sweeps: res.Sweeps, MaxDiscarded: res.MaxDiscarded, SectorWeight: 1, raw: raw, State: raw}
+	st := &MPSState{Lambda: append([]float64(nil), lambda...), Sweeps: res.Sweeps, MaxDiscarded: res.MaxDiscarded, SectorWeight: 1, raw: raw, State: raw, Converged: res.Converged}
 	if s.sector == SectorEven || s.sector == SectorOdd {
 		sign := 1.0
 		if s.sector == SectorOdd {
@@ -531,6 +535,8 @@ type MPSPoint struct {
 	Sweeps int `json:"sweeps"`
 	// SectorWeight is the DMRG state's weight in the ∏X sector.
 	SectorWeight float64 `json:"sector_weight"`
+	// Converged reports that the sweeps met the energy tolerance.
+	Converged bool `json:"converged"`
 }
 
 // MPSResult holds the snapshots drawn over a grid by SimulateMPS.
@@ -580,7 +586,7 @@ func SimulateMPS(ctx context.Context, s *MPSSource, points [][]float64, samples 
 			}
 			prev = st
 			res.Points[k] = MPSPoint{Params: append([]float64(nil), points[k]...), E0: st.Energy,
-				MaxDiscarded: st.MaxDiscarded, Bond: st.Bond, Sweeps: st.Sweeps, SectorWeight: st.SectorWeight}
+				MaxDiscarded: st.MaxDiscarded, Bond: st.Bond, Sweeps: st.Sweeps, SectorWeight: st.SectorWeight, Converged: st.Converged}
 			rng := rand.New(rand.NewPCG(seed, uint64(k)))
 			s.sampleState(st, res.States[k*samples*n:(k+1)*samples*n], samples, rng)
 			if report != nil {
