@@ -47,8 +47,7 @@ func newSimulateChainCmd() *cobra.Command {
 --grid and draws projective measurements of it by the Born rule. Up to 16 sites
 the state is exact (Lanczos, converged to ‖Hψ − Eψ‖ ≤ 1e-9); above, it is a
 matrix-product state from two-site DMRG (--solver forces either). The MPS
-solver needs a real Hamiltonian (no word with an odd number of Y letters), caps
-the bond dimension at --max-bond, discards at most --cutoff of the weight per
+solver caps the bond dimension at --max-bond, discards at most --cutoff of the weight per
 two-site split and sweeps until the energy changes by at most --energy-tol
 (relative). Snapshots are drawn independently by perfect sampling, and the
 dataset keeps an exact density: the MPS's outcome probabilities, rebuilt from

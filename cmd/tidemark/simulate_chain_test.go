@@ -26,7 +26,6 @@ func TestSimulateChainBadFlags(t *testing.T) {
 		{"too many sites", base("--sites", "17", "--solver", "ed"), "--sites: expected 2 to 16 sites, found 17"},
 		{"too many MPS sites", base("--sites", "2000"), "--sites: expected 2 to 1024 sites with the MPS solver, found 2000"},
 		{"unknown solver", base("--sites", "4", "--solver", "qmc"), `--solver: expected ed, mps or auto, found "qmc"`},
-		{"complex H for MPS", []string{"--sites", "20", "--hamiltonian", "-XX - YY - h*XY + h*YX", "--grid", "h=0:1:3", "--samples", "10"}, "real Hamiltonians only"},
 		{"bad cutoff", base("--sites", "20", "--cutoff", "2"), "--cutoff"},
 		{"unknown basis", base("--sites", "4", "--basis", "w"), `--basis: expected z, x, y or random, found "w"`},
 		{"unknown sector", base("--sites", "4", "--sector", "up"), `--sector: expected even, odd or none, found "up"`},

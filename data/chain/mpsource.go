@@ -162,10 +162,7 @@ func NewMPS(cfg Config, opt MPSOptions, seed uint64) (*MPSSource, error) {
 			return nil, fmt.Errorf("hamiltonian %q: grid axis %q does not appear in the Hamiltonian", h.Text, p)
 		}
 	}
-	real, commut := wordSymmetries(h)
-	if !real {
-		return nil, fmt.Errorf("chain: %q: a word with an odd number of Y letters makes H complex; the MPS solver handles real Hamiltonians only (use the exact solver, at most %d sites)", cfg.Hamiltonian, MaxSites)
-	}
+	_, commut := wordSymmetries(h)
 	s := &MPSSource{cfg: cfg, opt: opt.Filled(), seed: seed, ham: h, commut: commut, cache: map[string]*mpsEntry{}}
 	s.cfg.Params = append([]string(nil), cfg.Params...)
 	switch cfg.Sector {

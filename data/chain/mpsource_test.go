@@ -33,6 +33,8 @@ var mpsEDCases = []struct {
 	{"Ising periodic disordered", "-ZZ - h*X", []string{"h"}, []float64{1.5}, false},
 	{"three-site open", "-ZXZ - h*X - J*XX", []string{"h", "J"}, []float64{0.7, 0.4}, true},
 	{"three-site periodic", "-ZXZ - h*X - J*XX", []string{"h", "J"}, []float64{0.5, 0.3}, false},
+	{"complex open", "-XX - YY - D*XY + D*YX - h*Z", []string{"D", "h"}, []float64{0.5, 0.3}, true},
+	{"complex periodic", "-XX - YY - D*XY + D*YX - h*Z", []string{"D", "h"}, []float64{0.5, 0.3}, false},
 }
 
 // edTight are DMRG settings that make the 12-site MPS exact to rounding:
@@ -301,7 +303,6 @@ func TestNewMPSRejects(t *testing.T) {
 		name string
 		cfg  Config
 	}{
-		{"complex H", Config{Sites: 20, Hamiltonian: "-XX - YY - D*XY + D*YX", Params: []string{"D"}}},
 		{"too many sites", Config{Sites: MaxMPSSites + 1, Hamiltonian: "-ZZ - h*X", Params: []string{"h"}}},
 		{"axis not in H", Config{Sites: 20, Hamiltonian: "-ZZ - h*X", Params: []string{"h", "g"}}},
 		{"sector of a non-commuting H", Config{Sites: 20, Hamiltonian: "-ZZ - h*Z", Params: []string{"h"}, Sector: SectorEven}},

@@ -368,6 +368,7 @@ func GroundState(ctx context.Context, h *MPO, init *MPS, opt Options, rng *rand.
 		}
 		m = init.Clone()
 	}
+	m.Ancilla = h.Ancilla
 	// Right environments R[j] = everything right of site j−1 … stored by
 	// site: Rs[j] is the environment of sites j..N−1 (Rs[N] = trivial).
 	Ls := make([]*env, n+1)

@@ -13,8 +13,9 @@
 // row-major. Measurement bases are numbered 0 = X, 1 = Y, 2 = Z and an
 // outcome is 0 for eigenvalue +1 and 1 for −1, again as in package chain.
 //
-// All tensors are real: the operator must be real, which holds exactly when
-// every Pauli word has an even number of Y letters (Y = i·Ỹ with Ỹ real).
-// Measurements in the Y basis are complex and are handled in the sampling
-// code alone.
+// All tensors are real. A complex Hamiltonian (a Pauli word with an odd
+// number of Y letters) is embedded as a real operator on the chain and one
+// ancilla site that holds the real and imaginary parts of the state (see
+// BuildMPO); the measurement code contracts the ancilla with (1, i), and
+// measurements in the X and Y bases are done in complex arithmetic there.
 package mps

@@ -34,7 +34,7 @@ func letterOp(r byte) op2 {
 	switch r {
 	case 'X':
 		return opX
-	case 'Y':
+	case 'Y', 'E':
 		return opYt
 	case 'Z':
 		return opZ
@@ -46,9 +46,12 @@ func letterOp(r byte) op2 {
 // bond j−1 (rows) to the state on bond j (columns); the chain's left end
 // starts in state 0 and the right end must be in state 1.
 type MPO struct {
-	// N is the number of sites.
+	// N is the number of sites, including the ancilla.
 	N int
-	w []mpoTensor
+	// Ancilla reports a complex operator embedded with an ancilla as site 0
+	// (see BuildMPO).
+	Ancilla bool
+	w       []mpoTensor
 }
 
 // mpoTensor is one site of an MPO: for every (a, b) with nz[a·wr+b] the
@@ -99,12 +102,30 @@ func key(rest []placed) string {
 // Phys. 326, 96 (2011), sec. 6.1): the coefficient is applied with a term's
 // first letter, and the automaton states on a bond are the distinct lists of
 // letters still to be placed, so terms that share their remaining letters
-// share a state. A term with an odd number of Y letters is complex and is
-// refused. Identity letters are dropped; a term of identities only adds a
-// constant.
+// share a state. Identity letters are dropped; a term of identities only
+// adds a constant.
+//
+// A term with an odd number of Y letters is imaginary. When there is one,
+// the operator H = H_r + i·H_i is embedded as the real symmetric operator
+// H_r⊗1 + H_i⊗ε on the chain and an ancilla site placed first (ε = [[0,−1],
+// [1,0]] acts on the ancilla, whose index 0 holds Re ψ and 1 holds Im ψ):
+// it acts on (Re ψ, Im ψ) as H acts on ψ, every level appears twice (ψ and
+// iψ), and a real ground state Ψ of it gives the complex ground state
+// ψ = Ψ(0,·) + i·Ψ(1,·) up to a global phase. The MPO then has n+1 sites
+// and Ancilla set; site j of the chain is MPO site j+1.
 func BuildMPO(n int, terms []Term) (*MPO, error) {
 	if n < 2 {
 		return nil, fmt.Errorf("mps: expected at least 2 sites, found %d", n)
+	}
+	complexH := false
+	for _, t := range terms {
+		if t.Coef != 0 && strings.Count(t.Letters, "Y")%2 == 1 {
+			complexH = true
+		}
+	}
+	off := 0
+	if complexH {
+		off = 1
 	}
 	type inst struct {
 		coef float64
@@ -137,14 +158,16 @@ func BuildMPO(n int, terms []Term) (*MPO, error) {
 			default:
 				return nil, fmt.Errorf("mps: term %d: expected a letter I, X, Y or Z, found %q", ti, l)
 			}
-			ps = append(ps, placed{s, l})
+			ps = append(ps, placed{s + off, l})
+		}
+		// With Y = i·Ỹ the term is c·i^nY·∏(letters, Ỹ for Y): real for
+		// even nY; for odd nY it is i·(c·i^(nY−1))·∏, a part of H_i.
+		c := t.Coef
+		if (nY/2)%2 == 1 {
+			c = -c
 		}
 		if nY%2 == 1 {
-			return nil, fmt.Errorf("mps: term %d (%s): an odd number of Y letters makes the operator complex; the MPS solver handles real Hamiltonians only", ti, t.Letters)
-		}
-		c := t.Coef
-		if nY%4 == 2 {
-			c = -c // Y·Y = (i·Ỹ)(i·Ỹ) = −Ỹ·Ỹ
+			ps = append(ps, placed{0, 'E'})
 		}
 		if c == 0 {
 			continue
@@ -156,6 +179,7 @@ func BuildMPO(n int, terms []Term) (*MPO, error) {
 		sort.Slice(ps, func(i, j int) bool { return ps[i].site < ps[j].site })
 		all = append(all, inst{c, ps})
 	}
+	n += off
 	// States on bond j (between sites j and j+1): 0 = nothing placed,
 	// 1 = done, then the pending keys in order of first appearance.
 	states := make([]map[string]int, n-1)
@@ -181,7 +205,7 @@ func BuildMPO(n int, terms []Term) (*MPO, error) {
 		}
 		return 2 + len(states[b])
 	}
-	m := &MPO{N: n, w: make([]mpoTensor, n)}
+	m := &MPO{N: n, Ancilla: complexH, w: make([]mpoTensor, n)}
 	for j := 0; j < n; j++ {
 		wl, wr := dim(j-1), dim(j)
 		m.w[j] = mpoTensor{wl: wl, wr: wr, ops: make([]op2, wl*wr), nz: make([]bool, wl*wr)}

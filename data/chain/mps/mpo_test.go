@@ -42,8 +42,15 @@ func denseMPO(h *MPO) *mat.Dense {
 // densePauli builds Σ terms directly from the Pauli matrices (Y with its
 // complex unit, keeping the real part, which is all of it for real terms).
 func densePauli(n int, terms []Term) *mat.Dense {
+	r, _ := densePauliParts(n, terms)
+	return r
+}
+
+// densePauliParts returns the real and imaginary parts of Σ terms.
+func densePauliParts(n int, terms []Term) (*mat.Dense, *mat.Dense) {
 	dim := 1 << n
 	out := mat.NewDense(dim, dim, nil)
+	im := mat.NewDense(dim, dim, nil)
 	for _, t := range terms {
 		for ket := 0; ket < dim; ket++ {
 			amp := complex(t.Coef, 0)
@@ -67,9 +74,10 @@ func densePauli(n int, terms []Term) *mat.Dense {
 				}
 			}
 			out.Set(bra, ket, out.At(bra, ket)+real(amp))
+			im.Set(bra, ket, im.At(bra, ket)+imag(amp))
 		}
 	}
-	return out
+	return out, im
 }
 
 func TestMPOMatchesPauliSum(t *testing.T) {
@@ -100,9 +108,37 @@ func TestMPOMatchesPauliSum(t *testing.T) {
 	}
 }
 
-func TestBuildMPORefusesOddY(t *testing.T) {
-	if _, err := BuildMPO(4, []Term{{1, []int{0, 1}, "XY"}}); err == nil {
-		t.Fatal("expected an error for a complex term XY")
+// TestComplexMPOEmbedding checks the ancilla embedding of a complex H =
+// H_r + iH_i: the MPO's dense matrix, with the ancilla as bit 0, must be
+// [[H_r, −H_i], [H_i, H_r]] built directly from the Pauli matrices.
+func TestComplexMPOEmbedding(t *testing.T) {
+	const n = 4
+	terms := []Term{{-1, []int{0, 1}, "XX"}, {-0.7, []int{1, 2}, "YY"}, {0.4, []int{2, 3}, "XY"}, {-0.4, []int{2, 3}, "YX"},
+		{0.3, []int{3, 0, 1}, "YYY"}, {-0.5, []int{1}, "Z"}, {0.2, []int{0}, "Y"}}
+	h, err := BuildMPO(n, terms)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !h.Ancilla || h.N != n+1 {
+		t.Fatalf("expected an ancilla and %d sites, found %v and %d", n+1, h.Ancilla, h.N)
+	}
+	got := denseMPO(h)
+	hr, hi := densePauliParts(n, terms)
+	dim := 1 << n
+	worst := 0.0
+	for x := 0; x < dim; x++ {
+		for y := 0; y < dim; y++ {
+			// MPO index: ancilla bit 0, chain site j at bit j+1.
+			want := [2][2]float64{{hr.At(x, y), -hi.At(x, y)}, {hi.At(x, y), hr.At(x, y)}}
+			for a := 0; a < 2; a++ {
+				for b := 0; b < 2; b++ {
+					worst = max(worst, math.Abs(got.At(x<<1|a, y<<1|b)-want[a][b]))
+				}
+			}
+		}
+	}
+	if worst > 1e-12 {
+		t.Errorf("embedded MPO differs from [[H_r, −H_i], [H_i, H_r]] by %g", worst)
 	}
 }
 

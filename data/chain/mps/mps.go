@@ -20,6 +20,10 @@ type MPS struct {
 	A [][]float64
 	// Dims holds the N+1 bond dimensions, Dims[0] = Dims[N] = 1.
 	Dims []int
+	// Ancilla reports that site 0 is the ancilla of a complex state (see
+	// BuildMPO): the chain's sites are 1…N−1 and its amplitudes are
+	// Ψ(0,·) + i·Ψ(1,·).
+	Ancilla bool
 }
 
 // MaxBond returns the largest bond dimension.
@@ -33,7 +37,7 @@ func (m *MPS) MaxBond() int {
 
 // Clone returns a deep copy.
 func (m *MPS) Clone() *MPS {
-	c := &MPS{N: m.N, A: make([][]float64, m.N), Dims: append([]int(nil), m.Dims...)}
+	c := &MPS{N: m.N, A: make([][]float64, m.N), Dims: append([]int(nil), m.Dims...), Ancilla: m.Ancilla}
 	for j, a := range m.A {
 		c.A[j] = append([]float64(nil), a...)
 	}
@@ -217,11 +221,16 @@ func Overlap(a, b *MPS) float64 {
 // +1 for the even, −1 for the odd sector of the global flip ∏X), compressed
 // with maxBond and cutoff, with the weight ‖(1 ± ∏X)ψ/2‖² = (1 ± ⟨∏X⟩)/2
 // of m in that sector and the largest discarded weight of the compression.
+// With an ancilla, ∏X acts on the chain's sites only.
 // The projection is the direct sum of ψ and ∏X·ψ, of twice the bond
 // dimension, before the compression.
 func (m *MPS) FlipSector(sign float64, maxBond int, cutoff float64) (*MPS, float64, float64) {
 	n := m.N
-	f := &MPS{N: n, A: make([][]float64, n), Dims: make([]int, n+1)}
+	f := &MPS{N: n, A: make([][]float64, n), Dims: make([]int, n+1), Ancilla: m.Ancilla}
+	first := 0
+	if m.Ancilla {
+		first = 1 // ∏X acts on the chain, not on the ancilla
+	}
 	f.Dims[0], f.Dims[n] = 1, 1
 	for j := 1; j < n; j++ {
 		f.Dims[j] = 2 * m.Dims[j]
@@ -248,7 +257,11 @@ func (m *MPS) FlipSector(sign float64, maxBond int, cutoff float64) (*MPS, float
 					if j == n-1 {
 						w *= sign
 					}
-					a[(ol*2+(1-s))*fr+or] += w
+					fs := 1 - s
+					if j < first {
+						fs = s
+					}
+					a[(ol*2+fs)*fr+or] += w
 				}
 			}
 		}
@@ -263,7 +276,11 @@ func (m *MPS) FlipSector(sign float64, maxBond int, cutoff float64) (*MPS, float
 // flipped returns ∏X·m.
 func flipped(m *MPS) *MPS {
 	c := m.Clone()
-	for j := 0; j < m.N; j++ {
+	first := 0
+	if m.Ancilla {
+		first = 1
+	}
+	for j := first; j < m.N; j++ {
 		dl, dr := m.Dims[j], m.Dims[j+1]
 		for l := 0; l < dl; l++ {
 			copy(c.A[j][(l*2+1)*dr:(l*2+2)*dr], m.A[j][(l*2)*dr:(l*2+1)*dr])

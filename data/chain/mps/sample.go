@@ -28,7 +28,8 @@ type Measurer struct {
 }
 
 // NewMeasurer returns a Measurer of m, which must be right-canonical and
-// normalised; m is not copied and must not change.
+// normalised; m is not copied and must not change. With an ancilla (a
+// complex state) bases and outcomes are given for the chain's sites only.
 func NewMeasurer(m *MPS) *Measurer {
 	d := m.MaxBond()
 	mm := &Measurer{m: m, vr: make([]float64, d), vi: make([]float64, d), br: make([]float64, 2*d), bi: make([]float64, 2*d)}
@@ -46,10 +47,20 @@ func (mm *Measurer) run(bases, outs []int, rng *rand.Rand) float64 {
 	m := mm.m
 	vr, vi := mm.vr[:1], mm.vi[:1]
 	vr[0], vi[0] = 1, 0
+	first := 0
+	if m.Ancilla {
+		// ψ = Ψ(0,·) + i·Ψ(1,·): contract the ancilla with (1, i).
+		d := m.Dims[1]
+		vr, vi = mm.vr[:d], mm.vi[:d]
+		copy(vr, m.A[0][:d])
+		copy(vi, m.A[0][d:2*d])
+		first = 1
+	}
 	logp := 0.0
-	for j := 0; j < m.N; j++ {
+	for j := first; j < m.N; j++ {
 		dl, dr := m.Dims[j], m.Dims[j+1]
 		a := m.A[j]
+		b := bases[j-first]
 		// b[s][r] = Σ_l v[l]·A[l,s,r], real and imaginary parts.
 		br, bi := mm.br[:2*dr], mm.bi[:2*dr]
 		for i := range br {
@@ -69,7 +80,6 @@ func (mm *Measurer) run(bases, outs []int, rng *rand.Rand) float64 {
 				}
 			}
 		}
-		b := bases[j]
 		var p [2]float64
 		for o := 0; o < 2; o++ {
 			u := measureRow[b][o]
@@ -92,9 +102,9 @@ func (mm *Measurer) run(bases, outs []int, rng *rand.Rand) float64 {
 			if rng.Float64()*tot >= p[0] {
 				o = 1
 			}
-			outs[j] = o
+			outs[j-first] = o
 		} else {
-			o = outs[j]
+			o = outs[j-first]
 		}
 		if p[o] <= 0 || tot <= 0 {
 			return math.Inf(-1)
