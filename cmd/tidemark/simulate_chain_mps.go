@@ -56,6 +56,14 @@ func runSimulateChainMPS(cmd *cobra.Command, o *simulateChainOptions, ms *chain.
 		sweeps = max(sweeps, p.Sweeps)
 	}
 	opt := ms.Options()
+	for r, b := range chain.MPSRunBounds(len(res.Points)) {
+		rw, rb, rs := 0.0, 0, 0
+		for _, p := range res.Points[b[0]:b[1]] {
+			rw, rb, rs = max(rw, p.MaxDiscarded), max(rb, p.Bond), max(rs, p.Sweeps)
+		}
+		fmt.Fprintf(cmd.OutOrStdout(), "mps run %d (%s … %s, warm-started): largest discarded weight %.2g, bond dimension up to %d, at most %d sweeps\n",
+			r+1, data.FormatPoint(names, res.Points[b[0]].Params), data.FormatPoint(names, res.Points[b[1]-1].Params), rw, rb, rs)
+	}
 	fmt.Fprintf(cmd.OutOrStdout(), "mps: largest discarded weight %.2g (at %s), bond dimension up to %d (cap %d), at most %d sweeps\n",
 		worst, worstAt, bond, opt.MaxBond, sweeps)
 	if worst > 10*opt.Cutoff {

@@ -573,7 +573,7 @@ func SimulateMPS(ctx context.Context, s *MPSSource, points [][]float64, samples 
 			copy(res.Params[(k*samples+m)*d:], p)
 		}
 	}
-	runs := splitRuns(len(points), MPSRuns)
+	runs := MPSRunBounds(len(points))
 	err := forEach(ctx, len(runs), threads, func(r int) error {
 		var prev *MPSState
 		for k := runs[r][0]; k < runs[r][1]; k++ {
@@ -604,9 +604,11 @@ func SimulateMPS(ctx context.Context, s *MPSSource, points [][]float64, samples 
 // MPSRuns is the number of contiguous runs SimulateMPS splits a grid into.
 const MPSRuns = 4
 
-// splitRuns cuts 0…n−1 into at most r contiguous runs of near-equal length.
-func splitRuns(n, r int) [][2]int {
-	r = max(1, min(r, n))
+// MPSRunBounds returns the runs SimulateMPS cuts n grid points into: at most
+// MPSRuns contiguous half-open index ranges [start, end) of near-equal
+// length.
+func MPSRunBounds(n int) [][2]int {
+	r := max(1, min(MPSRuns, n))
 	out := make([][2]int, r)
 	for i := 0; i < r; i++ {
 		out[i] = [2]int{i * n / r, (i + 1) * n / r}
