@@ -13,10 +13,10 @@ const SolverMPS = "mps"
 
 // MPSSourceMeta is the meta.source object of a chain dataset made with the
 // MPS solver. Together with meta.param_names and meta.alphabet it holds all
-// that is needed to rebuild the source: the rebuild re-runs DMRG at each λ
-// asked for (from a random state fixed by dmrg_seed and λ), which agrees
-// with the states the snapshots were drawn from to within the DMRG
-// tolerances.
+// that is needed to rebuild the source: the rebuild re-runs DMRG along the
+// same warm-started runs over the recorded grid points (from random states
+// fixed by dmrg_seed and λ), which reproduces the states the snapshots were
+// drawn from.
 type MPSSourceMeta struct {
 	// Generator is "chain" and Solver "mps"; the other fields are the
 	// settings of Config and MPSOptions, the seeds, the --grid text and the
@@ -112,6 +112,13 @@ func MPSSourceFromMeta(m data.Meta) (*MPSSource, error) {
 	}
 	if m.Alphabet != s.Alphabet() {
 		return nil, fmt.Errorf("meta.alphabet: expected %d for basis %s, found %d", s.Alphabet(), basis, m.Alphabet)
+	}
+	grid := make([][]float64, len(sm.Points))
+	for k, p := range sm.Points {
+		grid[k] = p.Params
+	}
+	if err := s.SetGrid(grid); err != nil {
+		return nil, fmt.Errorf("meta.source.points: %w", err)
 	}
 	return s, nil
 }

@@ -87,6 +87,7 @@ type MPSSource struct {
 
 	mu    sync.Mutex
 	cache map[string]*mpsEntry
+	grid  [][]float64 // the grid of SimulateMPS or of the source record
 }
 
 // MinSectorWeight is the least weight of the DMRG state in the requested ∏X
@@ -320,11 +321,77 @@ func (s *MPSSource) lambdaStream(lambda []float64) *rand.Rand {
 	return rand.New(rand.NewPCG(s.seed, f.Sum64()))
 }
 
-// GroundState returns the ground state at λ, computed once per λ from a
-// random initial state fixed by the seed and λ (unless Solve put it in the
-// cache first).
+// GroundState returns the ground state at λ, computed once per λ. With a
+// grid (SetGrid; SimulateMPS and MPSSourceFromMeta set it) it follows
+// SimulateMPS's path: a grid point is solved after the points before it in
+// its run, each warm-started from the previous one, so a rebuilt source
+// holds the very states the snapshots were drawn from; any other λ is
+// warm-started from the nearest grid point's state, which keeps it on the
+// same branch inside a (near) degeneracy. Without a grid DMRG starts from a
+// random state fixed by the seed and λ.
 func (s *MPSSource) GroundState(lambda []float64) (*MPSState, error) {
-	return s.Solve(context.Background(), lambda, nil)
+	if err := s.checkLambda(lambda); err != nil {
+		return nil, err
+	}
+	s.mu.Lock()
+	grid := s.grid
+	s.mu.Unlock()
+	if len(grid) == 0 {
+		return s.Solve(context.Background(), lambda, nil)
+	}
+	best, dist := 0, math.Inf(1)
+	for k, p := range grid {
+		d := 0.0
+		for i := range p {
+			d += (p[i] - lambda[i]) * (p[i] - lambda[i])
+		}
+		if d < dist {
+			best, dist = k, d
+		}
+	}
+	near, err := s.gridPoint(grid, best)
+	if err != nil {
+		return nil, err
+	}
+	if dist == 0 {
+		return near, nil
+	}
+	return s.Solve(context.Background(), lambda, near)
+}
+
+// gridPoint solves grid point k along its run, as SimulateMPS does.
+func (s *MPSSource) gridPoint(grid [][]float64, k int) (*MPSState, error) {
+	for _, r := range MPSRunBounds(len(grid)) {
+		if k < r[0] || k >= r[1] {
+			continue
+		}
+		var prev *MPSState
+		for i := r[0]; i <= k; i++ {
+			st, err := s.Solve(context.Background(), grid[i], prev)
+			if err != nil {
+				return nil, fmt.Errorf("grid point %d: %w", i, err)
+			}
+			prev = st
+		}
+		return prev, nil
+	}
+	return nil, fmt.Errorf("chain: grid point %d outside a grid of %d", k, len(grid))
+}
+
+// SetGrid records the grid whose runs GroundState follows (see
+// GroundState); SimulateMPS and MPSSourceFromMeta call it.
+func (s *MPSSource) SetGrid(points [][]float64) error {
+	g := make([][]float64, len(points))
+	for k, p := range points {
+		if err := s.checkLambda(p); err != nil {
+			return fmt.Errorf("grid point %d: %w", k, err)
+		}
+		g[k] = append([]float64(nil), p...)
+	}
+	s.mu.Lock()
+	s.grid = g
+	s.mu.Unlock()
+	return nil
 }
 
 // Solve returns the ground state at λ, running DMRG from warm (a state
@@ -572,6 +639,9 @@ func SimulateMPS(ctx context.Context, s *MPSSource, points [][]float64, samples 
 		for m := 0; m < samples; m++ {
 			copy(res.Params[(k*samples+m)*d:], p)
 		}
+	}
+	if err := s.SetGrid(points); err != nil {
+		return nil, err
 	}
 	runs := MPSRunBounds(len(points))
 	err := forEach(ctx, len(runs), threads, func(r int) error {

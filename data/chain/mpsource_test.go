@@ -254,7 +254,9 @@ func TestMPSSamplesFreeFermions64(t *testing.T) {
 }
 
 // TestMPSSourceFromMeta rebuilds the source from its meta object through the
-// exact registry and checks that it gives the same log-probabilities.
+// exact registry and checks that it gives the same log-probabilities (the
+// rebuild follows the same warm-started runs, so to rounding) and the
+// recorded energies.
 func TestMPSSourceFromMeta(t *testing.T) {
 	cfg := Config{Sites: 20, Hamiltonian: "-ZZ - h*X", Params: []string{"h"}, Open: true, Basis: BasisRandom}
 	ms, err := NewMPS(cfg, MPSOptions{MaxBond: 32}, 9)
@@ -279,6 +281,13 @@ func TestMPSSourceFromMeta(t *testing.T) {
 		t.Fatalf("exact.FromMeta returned %T, expected *MPSSource", src)
 	}
 	for k, p := range points {
+		st, err := src.(*MPSSource).GroundState(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if st.Energy != res.Points[k].E0 {
+			t.Errorf("point %v: rebuilt energy %.15g, recorded %.15g", p, st.Energy, res.Points[k].E0)
+		}
 		xs := res.States[k*50*20 : (k+1)*50*20]
 		a, b := make([]float64, 50), make([]float64, 50)
 		if err := ms.LogProb(a, xs, p); err != nil {
@@ -288,7 +297,7 @@ func TestMPSSourceFromMeta(t *testing.T) {
 			t.Fatal(err)
 		}
 		for i := range a {
-			if math.Abs(a[i]-b[i]) > 1e-7 {
+			if math.Abs(a[i]-b[i]) > 1e-12 {
 				t.Fatalf("point %v row %d: log p %.10f before, %.10f rebuilt", p, i, a[i], b[i])
 			}
 		}
