@@ -32,6 +32,7 @@ type simulateChainOptions struct {
 	cutoff       float64
 	energyTol    float64
 	pin          float64
+	openSet      bool // --open was given explicitly
 }
 
 // gapWarnThreshold is the in-sector gap below which snapshots depend on the
@@ -52,7 +53,7 @@ two-site split and sweeps until the energy changes by at most --energy-tol
 (relative). Snapshots are drawn independently by perfect sampling, and the
 dataset keeps an exact density: the MPS's outcome probabilities, rebuilt from
 the file by re-running DMRG. Open chains need far smaller bond dimensions than
-periodic ones; use --open with the MPS solver where the physics allows.
+periodic ones, so the MPS solver's chains are open unless --open=false.
 In a ∏X sector the DMRG state is projected into it (this fixes the ordered
 phase's doublet); a further near-degeneracy, such as the edge modes of an open
 chain with a three-site term, is fixed by --pin ε, a field −ε(Z_0 + Z_N−1) seen
@@ -96,7 +97,7 @@ from the file alone.`,
 	f.StringVar(&o.basis, "basis", "z", "measurement basis: z, x, y (same on every site) or random (per site and shot)")
 	f.StringVar(&o.sector, "sector", "", "∏X sector of the ground state: even, odd or none (default: even if H commutes with ∏X, else none)")
 	f.IntVar(&o.samples, "samples", 1000, "snapshots per grid point (at least 2)")
-	f.BoolVar(&o.open, "open", false, "open chain: drop the terms that wrap around the end")
+	f.BoolVar(&o.open, "open", false, "open chain: drop the terms that wrap around the end (default: periodic with the exact solver, open with MPS; --open=false forces periodic)")
 	f.Uint64Var(&o.seed, "seed", 1, "random seed; point k uses the stream (seed, k)")
 	f.IntVar(&o.threads, "threads", 0, "grid points solved at once (default: number of CPUs); results do not depend on it")
 	f.BoolVar(&o.force, "force", false, "overwrite the output file if it exists")
@@ -186,7 +187,11 @@ func (o *simulateChainOptions) chainSetup() (*chain.Source, *chain.MPSSource, da
 	if total > 1<<34 {
 		return nil, nil, spec, fmt.Errorf("--samples: %d points × %d snapshots × %d sites is %d values, expected at most %d", len(spec.Points()), o.samples, o.sites, total, int64(1)<<34)
 	}
-	cfg := chain.Config{Sites: o.sites, Hamiltonian: o.hamiltonian, Params: spec.Names(), Open: o.open, Basis: basis, Sector: sector}
+	open := o.open
+	if solver == "mps" && !o.openSet {
+		open = true // MPS default: open chains need far smaller bond dimensions
+	}
+	cfg := chain.Config{Sites: o.sites, Hamiltonian: o.hamiltonian, Params: spec.Names(), Open: open, Basis: basis, Sector: sector}
 	flagOf := func(err error) string {
 		if errors.Is(err, chain.ErrNoFlipSymmetry) {
 			return "--sector"
@@ -227,6 +232,7 @@ func listOrNone(s []string) string {
 }
 
 func runSimulateChain(cmd *cobra.Command, o *simulateChainOptions) error {
+	o.openSet = cmd.Flags().Changed("open")
 	src, ms, spec, err := o.chainSetup()
 	if err != nil {
 		return err

@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"fmt"
 	"math"
 	"path/filepath"
 	"strings"
@@ -87,5 +88,40 @@ func TestSimulateChainMPSIndependentOfThreads(t *testing.T) {
 	}
 	if string(files[0]) != string(files[1]) {
 		t.Error("snapshots differ between --threads 1 and --threads 2")
+	}
+}
+
+// TestSimulateChainMPSBoundaryDefault: MPS chains are open unless
+// --open=false; ED chains stay periodic by default.
+func TestSimulateChainMPSBoundaryDefault(t *testing.T) {
+	dir := t.TempDir()
+	cases := []struct {
+		args []string
+		want string
+	}{
+		{[]string{"--sites", "18"}, "open"},
+		{[]string{"--sites", "18", "--open=false", "--max-bond", "16"}, "periodic"},
+		{[]string{"--sites", "8"}, "periodic"},
+		{[]string{"--sites", "8", "--solver", "mps"}, "open"},
+	}
+	for i, c := range cases {
+		out := filepath.Join(dir, fmt.Sprintf("%d.npz", i))
+		args := append([]string{"simulate", "chain", "--hamiltonian", "-ZZ - h*X", "--grid", "h=0.8;1.2", "--samples", "10", "--quiet", "-o", out}, c.args...)
+		if _, err := execTidemark(t, args...); err != nil {
+			t.Fatalf("%v: %v", c.args, err)
+		}
+		ds, err := data.Read(out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var sm struct {
+			Boundary string `json:"boundary"`
+		}
+		if err := json.Unmarshal(ds.Meta.Source, &sm); err != nil {
+			t.Fatal(err)
+		}
+		if sm.Boundary != c.want {
+			t.Errorf("%v: boundary %s, expected %s", c.args, sm.Boundary, c.want)
+		}
 	}
 }
