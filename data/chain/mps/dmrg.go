@@ -7,7 +7,10 @@ import (
 	"math"
 	"math/rand/v2"
 
-	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/lapack"
+	gonumlapack "gonum.org/v1/gonum/lapack/gonum"
 )
 
 // Options are the settings of a DMRG run.
@@ -259,89 +262,84 @@ func (h *twoSite) apply(y, x []float64) {
 }
 
 // lanczos returns the lowest eigenpair of h starting from x0 (not
-// modified), by Lanczos with full reorthogonalisation, restarted from the
-// Ritz vector until ‖Hv − Ev‖ ≤ tol or the iterations run out.
+// modified), by Lanczos with full reorthogonalisation (classical
+// Gram–Schmidt, twice, on BLAS), restarted from the Ritz vector until
+// ‖Hv − Ev‖ ≤ tol·max(1, |E|) or the restarts run out. The tridiagonal
+// matrix is diagonalised directly (LAPACK's Dsteqr from gonum).
 func lanczos(h *twoSite, x0 []float64, tol float64) (float64, []float64) {
 	n := len(x0)
 	kmax := min(n, 40)
 	v := append([]float64(nil), x0...)
 	normalize(v)
+	Q := make([]float64, kmax*n) // Lanczos vectors, one per row
+	w := make([]float64, n)
+	c := make([]float64, kmax)
+	var impl gonumlapack.Implementation
 	var e float64
 	for restart := 0; restart < 20; restart++ {
-		basis := [][]float64{v}
+		copy(Q, v)
 		var alpha, beta []float64
-		w := make([]float64, n)
-		var evals []float64
-		var evecs *mat.Dense
+		var d, sub, z []float64
+		m := 0
 		for k := 0; k < kmax; k++ {
-			h.apply(w, basis[k])
-			a := dotf(w, basis[k])
-			alpha = append(alpha, a)
-			// full reorthogonalisation (twice)
+			h.apply(w, Q[k*n:(k+1)*n])
+			alpha = append(alpha, blas64.Dot(vec(w), vec(Q[k*n:(k+1)*n])))
+			// w ← (1 − QQᵀ) w, twice
+			qk := blas64.General{Rows: k + 1, Cols: n, Stride: n, Data: Q[:(k+1)*n]}
 			for pass := 0; pass < 2; pass++ {
-				for _, b := range basis {
-					c := dotf(w, b)
-					for i := range w {
-						w[i] -= c * b[i]
-					}
-				}
+				blas64.Gemv(blas.NoTrans, 1, qk, vec(w), 0, vec(c[:k+1]))
+				blas64.Gemv(blas.Trans, -1, qk, vec(c[:k+1]), 1, vec(w))
 			}
-			bn := math.Sqrt(dotf(w, w))
-			m := len(alpha)
-			T := mat.NewSymDense(m, nil)
-			for i := 0; i < m; i++ {
-				T.SetSym(i, i, alpha[i])
-				if i+1 < m {
-					T.SetSym(i, i+1, beta[i])
+			bn := blas64.Nrm2(vec(w))
+			m = k + 1
+			// Diagonalise T every third step (its cost grows as m³ and a
+			// Lanczos step on these small blocks is cheap), and at the end.
+			if m%3 != 0 && bn >= 1e-14 && k < kmax-1 {
+				beta = append(beta, bn)
+				row := Q[(k+1)*n : (k+2)*n]
+				for i := range w {
+					row[i] = w[i] / bn
 				}
+				continue
 			}
-			var es mat.EigenSym
-			es.Factorize(T, true)
-			evals = es.Values(nil)
-			evecs = new(mat.Dense)
-			es.VectorsTo(evecs)
-			// residual of the lowest Ritz pair: |β_m · y_m|
-			res := math.Abs(bn * evecs.At(m-1, 0))
+			d = append(d[:0], alpha...)
+			sub = append(sub[:0], beta...)
+			z = make([]float64, m*m)
+			work := make([]float64, max(1, 2*m-2))
+			if !impl.Dsteqr(lapack.EVTridiag, m, d, sub, z, m, work) {
+				break
+			}
+			// Dsteqr sorts the eigenvalues ascending: column 0 is the lowest.
+			res := math.Abs(bn * z[(m-1)*m])
 			if res <= tol || bn < 1e-14 || k == kmax-1 {
 				break
 			}
 			beta = append(beta, bn)
-			nv := make([]float64, n)
+			row := Q[(k+1)*n : (k+2)*n]
 			for i := range w {
-				nv[i] = w[i] / bn
+				row[i] = w[i] / bn
 			}
-			basis = append(basis, nv)
 		}
-		e = evals[0]
+		e = d[0]
 		nv := make([]float64, n)
-		for k := range basis {
-			c := evecs.At(k, 0)
-			for i := range nv {
-				nv[i] += c * basis[k][i]
-			}
+		for k := 0; k < m; k++ {
+			blas64.Axpy(z[k*m], vec(Q[k*n:(k+1)*n]), vec(nv))
 		}
 		normalize(nv)
 		v = nv
 		h.apply(w, v)
-		r := 0.0
-		for i := range w {
-			d := w[i] - e*v[i]
-			r += d * d
-		}
-		if math.Sqrt(r) <= tol*max(1, math.Abs(e)) || len(basis) >= n {
+		blas64.Axpy(-e, vec(v), vec(w))
+		if blas64.Nrm2(vec(w)) <= tol*max(1, math.Abs(e)) || m >= n {
 			break
 		}
 	}
 	return e, v
 }
 
-func dotf(a, b []float64) float64 {
-	s := 0.0
-	for i := range a {
-		s += a[i] * b[i]
-	}
-	return s
-}
+// vec views x as a BLAS vector.
+func vec(x []float64) blas64.Vector { return blas64.Vector{N: len(x), Inc: 1, Data: x} }
+
+func dotf(a, b []float64) float64 { return blas64.Dot(vec(a), vec(b)) }
 
 func normalize(v []float64) {
 	n := math.Sqrt(dotf(v, v))
