@@ -261,6 +261,12 @@ func (s *MPSSource) Alphabet() int {
 // ParamDim returns the number of parameters.
 func (s *MPSSource) ParamDim() int { return len(s.cfg.Params) }
 
+// Enumerable reports whether all q^N snapshots may be listed (q^N ≤ 2^20),
+// as for Source.
+func (s *MPSSource) Enumerable() bool {
+	return math.Pow(float64(s.Alphabet()), float64(s.cfg.Sites)) <= maxEnumerable
+}
+
 func (s *MPSSource) checkLambda(lambda []float64) error {
 	if len(lambda) != len(s.cfg.Params) {
 		return fmt.Errorf("chain: expected %d parameters %v, found %d", len(s.cfg.Params), s.cfg.Params, len(lambda))

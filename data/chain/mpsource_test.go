@@ -15,7 +15,8 @@ import (
 )
 
 var (
-	_ indicator.Sampler = (*MPSSource)(nil)
+	_ indicator.Sampler    = (*MPSSource)(nil)
+	_ indicator.Enumerable = (*MPSSource)(nil)
 )
 
 // mpsEDCases are the N = 12 chains on which the MPS source must reproduce
