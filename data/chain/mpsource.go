@@ -71,7 +71,8 @@ func (o MPSOptions) Filled() MPSOptions {
 // The ∏X sector is chosen as in Source. When H commutes with ∏X and the
 // sector is even or odd, the DMRG state ψ (which, in an ordered phase, is
 // typically one of the two symmetry-broken states) is replaced by its
-// projection (1 ± ∏X)ψ, normalised and compressed: this fixes the state
+// projection (1 ± ∏X)ψ, normalised and compressed, refined by a few DMRG
+// sweeps (bond cap doubled) and projected again: this fixes the state
 // deterministically inside a degenerate doublet, so that neighbouring grid
 // points and a later rebuild hold the same state. The projection may double
 // the bond dimension. A DMRG state with less than MinSectorWeight of its
@@ -459,6 +460,25 @@ func (s *MPSSource) solve(ctx context.Context, lambda []float64, warm *MPSState)
 		}
 		st.State, st.SectorWeight = proj, w
 		st.MaxDiscarded = max(st.MaxDiscarded, disc)
+		if w < 1-1e-9 {
+			// The projection of a symmetry-broken state is the sector's
+			// ground state only up to the admixture that the broken state
+			// carried (of the order of the doublet's splitting); a few
+			// sweeps from the projection, with twice the bond cap, remove
+			// it, and projecting again removes any drift out of the sector.
+			o := s.opt.mps()
+			o.MaxBond = 2 * s.opt.MaxBond
+			o.MinSweeps = 1
+			ref, r2, err := mps.GroundState(ctx, hp, proj, o, nil)
+			if err != nil && !errors.Is(err, mps.ErrNotConverged) {
+				return nil, fmt.Errorf("chain: MPS ground state at %v, refined in sector %s: %w", lambda, s.sector, err)
+			}
+			proj2, _, disc2 := ref.FlipSector(sign, 2*s.opt.MaxBond, s.opt.Cutoff)
+			st.State = proj2
+			st.Sweeps += r2.Sweeps
+			st.Converged = st.Converged && r2.Converged
+			st.MaxDiscarded = max(st.MaxDiscarded, r2.MaxDiscarded, disc2)
+		}
 	}
 	st.Energy = mps.Expect(st.State, h)
 	st.Bond = st.State.MaxBond()
