@@ -36,6 +36,7 @@ var mpsEDCases = []struct {
 	{"three-site periodic", "-ZXZ - h*X - J*XX", []string{"h", "J"}, []float64{0.5, 0.3}, false},
 	{"complex open", "-XX - YY - D*XY + D*YX - h*Z", []string{"D", "h"}, []float64{0.5, 0.3}, true},
 	{"complex periodic", "-XX - YY - D*XY + D*YX - h*Z", []string{"D", "h"}, []float64{0.5, 0.3}, false},
+	{"complex in the even sector", "-ZZ - h*X - g*ZY", []string{"h", "g"}, []float64{0.7, 0.4}, true},
 }
 
 // edTight are DMRG settings that make the 12-site MPS exact to rounding:

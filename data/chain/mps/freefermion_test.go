@@ -126,3 +126,31 @@ func TestFlipSectorOrderedChain(t *testing.T) {
 	}
 	t.Logf("DMRG bond %d, weight in the even sector %.4f, projected bond %d, discarded %.1e", res.Bond, w, f.MaxBond(), disc)
 }
+
+// TestFlipSectorComplexOrdered is TestFlipSectorOrderedChain for a complex
+// Hamiltonian that commutes with ∏X (−ZZ − hX − gZY, embedded with an
+// ancilla): the projection must act on the chain and leave the ancilla
+// alone, giving ⟨∏X⟩ = 1 at the DMRG energy.
+func TestFlipSectorComplexOrdered(t *testing.T) {
+	const n, h, g = 40, 0.5, 0.2
+	terms := isingTerms(n, h, true)
+	for i := 0; i+1 < n; i++ {
+		terms = append(terms, Term{-g, []int{i, i + 1}, "ZY"})
+	}
+	mpo, err := BuildMPO(n, terms)
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, res, err := GroundState(context.Background(), mpo, nil, Options{MaxBond: 32}, rand.New(rand.NewPCG(3, 4)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, w, _ := m.FlipSector(1, 64, 1e-12)
+	if p := Overlap(f, flipped(f)); math.Abs(p-1) > 1e-10 {
+		t.Errorf("⟨∏X⟩ of the even projection is %.12f, expected 1", p)
+	}
+	if e := Expect(f, mpo); math.Abs(e-res.Energy) > 1e-9*math.Abs(e) {
+		t.Errorf("projected energy %.12f, DMRG %.12f", e, res.Energy)
+	}
+	t.Logf("weight in the even sector %.4f, bond %d → %d", w, res.Bond, f.MaxBond())
+}
