@@ -27,6 +27,12 @@ type simulateChainOptions struct {
 	threads      int
 	force, quiet bool
 	out          string
+	solver       string
+	maxBond      int
+	cutoff       float64
+	energyTol    float64
+	pin          float64
+	openSet      bool // --open was given explicitly
 }
 
 // gapWarnThreshold is the in-sector gap below which snapshots depend on the
@@ -37,10 +43,21 @@ func newSimulateChainCmd() *cobra.Command {
 	var o simulateChainOptions
 	c := &cobra.Command{
 		Use:   "chain --sites N --hamiltonian TEXT --grid SPEC --samples M -o OUT.npz",
-		Short: "Measure exact ground states of a quantum spin-1/2 chain over a parameter grid",
-		Long: `chain finds the exact ground state of a spin-1/2 chain of --sites N ≤ 16 sites
-at every point of --grid (Lanczos, converged to ‖Hψ − Eψ‖ ≤ 1e-9) and draws
-projective measurements of it by the Born rule.
+		Short: "Measure ground states of a quantum spin-1/2 chain over a parameter grid",
+		Long: `chain finds the ground state of a spin-1/2 chain of --sites N at every point of
+--grid and draws projective measurements of it by the Born rule. Up to 16 sites
+the state is exact (Lanczos, converged to ‖Hψ − Eψ‖ ≤ 1e-9); above, it is a
+matrix-product state from two-site DMRG (--solver forces either). The MPS
+solver caps the bond dimension at --max-bond, discards at most --cutoff of the weight per
+two-site split and sweeps until the energy changes by at most --energy-tol
+(relative). Snapshots are drawn independently by perfect sampling, and the
+dataset keeps an exact density: the MPS's outcome probabilities, rebuilt from
+the file by re-running DMRG. Open chains need far smaller bond dimensions than
+periodic ones, so the MPS solver's chains are open unless --open=false.
+In a ∏X sector the DMRG state is projected into it (this fixes the ordered
+phase's doublet); a further near-degeneracy, such as the edge modes of an open
+chain with a three-site term, is fixed by --pin ε, a field −ε(Z_0 + Z_N−1) seen
+by DMRG only and recorded in the dataset.
 
 The Hamiltonian is a sum of Pauli words placed at every site, e.g. "-ZZ - h*X"
 (the transverse-field Ising chain); coefficients are numbers, grid parameter
@@ -61,20 +78,26 @@ The exact log-probabilities (including the (1/3)^N of the bases) can be rebuilt
 from the file alone.`,
 		Example: `  tidemark simulate chain --sites 12 --hamiltonian "-ZZ - h*X" --grid "h=0.2:2:19" --basis random --samples 1000 --seed 1 -o chain.npz
   tidemark simulate chain --sites 8 --hamiltonian "-ZZ - h*X" --grid "h=0.5:1.5:11" --basis z --open -o open8.npz
-  tidemark simulate chain --sites 10 --hamiltonian "-XX - YY - D*XY + D*YX - h*Z" --grid "h=0:2:9,D=0;0.5" --basis random -o dm.npz`,
+  tidemark simulate chain --sites 10 --hamiltonian "-XX - YY - D*XY + D*YX - h*Z" --grid "h=0:2:9,D=0;0.5" --basis random -o dm.npz
+  tidemark simulate chain --sites 64 --open --hamiltonian "-ZZ - h*X" --grid "h=0.5:1.5:21" --basis random --samples 2000 -o ising64.npz`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return runSimulateChain(cmd, &o)
 		},
 	}
 	f := c.Flags()
-	f.IntVar(&o.sites, "sites", 0, "number of spin-1/2 sites N (2 to 16)")
+	f.IntVar(&o.sites, "sites", 0, fmt.Sprintf("number of spin-1/2 sites N (2 to %d exact, up to %d with the MPS solver)", chain.MaxSites, chain.MaxMPSSites))
+	f.StringVar(&o.solver, "solver", "auto", fmt.Sprintf("ground-state solver: ed (exact), mps (DMRG) or auto (ed up to %d sites, mps above)", chain.MaxSites))
+	f.IntVar(&o.maxBond, "max-bond", chain.MPSOptions{}.Filled().MaxBond, "mps: largest bond dimension")
+	f.Float64Var(&o.cutoff, "cutoff", chain.MPSOptions{}.Filled().Cutoff, "mps: largest discarded weight per two-site split")
+	f.Float64Var(&o.pin, "pin", 0, "mps: pinning field ε: DMRG adds −ε(Z_0 + Z_N−1) to fix a state inside a degenerate ground space (edge modes); recorded in the dataset")
+	f.Float64Var(&o.energyTol, "energy-tol", chain.MPSOptions{}.Filled().Tol, "mps: sweeps stop once a sweep changes the energy by at most this, relative")
 	f.StringVar(&o.hamiltonian, "hamiltonian", "", `Hamiltonian as a sum of Pauli words, e.g. "-ZZ - h*X" (energies in the units of its coefficients)`)
 	f.StringVar(&o.grid, "grid", "", `parameter grid over the Hamiltonian's parameters, e.g. "h=0.2:2:19"`)
 	f.StringVar(&o.basis, "basis", "z", "measurement basis: z, x, y (same on every site) or random (per site and shot)")
 	f.StringVar(&o.sector, "sector", "", "∏X sector of the ground state: even, odd or none (default: even if H commutes with ∏X, else none)")
 	f.IntVar(&o.samples, "samples", 1000, "snapshots per grid point (at least 2)")
-	f.BoolVar(&o.open, "open", false, "open chain: drop the terms that wrap around the end")
+	f.BoolVar(&o.open, "open", false, "open chain: drop the terms that wrap around the end (default: periodic with the exact solver, open with MPS; --open=false forces periodic)")
 	f.Uint64Var(&o.seed, "seed", 1, "random seed; point k uses the stream (seed, k)")
 	f.IntVar(&o.threads, "threads", 0, "grid points solved at once (default: number of CPUs); results do not depend on it")
 	f.BoolVar(&o.force, "force", false, "overwrite the output file if it exists")
@@ -83,42 +106,64 @@ from the file alone.`,
 	return c
 }
 
-// chainSetup checks the options and builds the source and the grid points.
-func (o *simulateChainOptions) chainSetup() (*chain.Source, data.GridSpec, error) {
+// pickSolver resolves --solver: "ed" or "mps".
+func (o *simulateChainOptions) pickSolver() (string, error) {
+	switch o.solver {
+	case "ed", "mps":
+		return o.solver, nil
+	case "auto", "":
+		if o.sites > chain.MaxSites {
+			return "mps", nil
+		}
+		return "ed", nil
+	}
+	return "", fmt.Errorf("--solver: expected ed, mps or auto, found %q", o.solver)
+}
+
+// chainSetup checks the options and builds the source (exact, or MPS when
+// the solver is mps) and the grid points.
+func (o *simulateChainOptions) chainSetup() (*chain.Source, *chain.MPSSource, data.GridSpec, error) {
 	var spec data.GridSpec
 	if o.out == "" {
-		return nil, spec, errors.New("--output: expected an output file name (-o OUT.npz), found none")
+		return nil, nil, spec, errors.New("--output: expected an output file name (-o OUT.npz), found none")
 	}
-	if o.sites < 2 || o.sites > chain.MaxSites {
-		return nil, spec, fmt.Errorf("--sites: expected 2 to %d sites, found %d", chain.MaxSites, o.sites)
+	solver, err := o.pickSolver()
+	if err != nil {
+		return nil, nil, spec, err
+	}
+	if limit := chain.MaxSites; solver == "ed" && (o.sites < 2 || o.sites > limit) {
+		return nil, nil, spec, fmt.Errorf("--sites: expected 2 to %d sites, found %d", limit, o.sites)
+	}
+	if limit := chain.MaxMPSSites; solver == "mps" && (o.sites < 2 || o.sites > limit) {
+		return nil, nil, spec, fmt.Errorf("--sites: expected 2 to %d sites with the MPS solver, found %d", limit, o.sites)
 	}
 	if strings.TrimSpace(o.hamiltonian) == "" {
-		return nil, spec, errors.New(`--hamiltonian: expected a sum of Pauli words like "-ZZ - h*X", found none`)
+		return nil, nil, spec, errors.New(`--hamiltonian: expected a sum of Pauli words like "-ZZ - h*X", found none`)
 	}
 	if o.samples < 2 {
-		return nil, spec, fmt.Errorf("--samples: expected at least 2 snapshots per grid point, found %d", o.samples)
+		return nil, nil, spec, fmt.Errorf("--samples: expected at least 2 snapshots per grid point, found %d", o.samples)
 	}
 	basis, err := chain.ParseBasis(o.basis)
 	if err != nil {
-		return nil, spec, fmt.Errorf("--%w", err)
+		return nil, nil, spec, fmt.Errorf("--%w", err)
 	}
 	sector, err := chain.ParseSector(o.sector)
 	if err != nil {
-		return nil, spec, fmt.Errorf("--%w", err)
+		return nil, nil, spec, fmt.Errorf("--%w", err)
 	}
 	if o.grid == "" {
-		return nil, spec, errors.New(`--grid: expected axes over the Hamiltonian's parameters like "h=0.2:2:19", found none`)
+		return nil, nil, spec, errors.New(`--grid: expected axes over the Hamiltonian's parameters like "h=0.2:2:19", found none`)
 	}
 	spec, err = data.ParseGridSpec(o.grid)
 	if err != nil {
-		return nil, spec, fmt.Errorf("--grid: %w", err)
+		return nil, nil, spec, fmt.Errorf("--grid: %w", err)
 	}
 	if k := len(spec.Points()); k < 2 {
-		return nil, spec, fmt.Errorf("--grid: expected at least 2 grid points, found %d", k)
+		return nil, nil, spec, fmt.Errorf("--grid: expected at least 2 grid points, found %d", k)
 	}
 	h, err := chain.Parse(o.hamiltonian)
 	if err != nil {
-		return nil, spec, fmt.Errorf("--hamiltonian: %w", err)
+		return nil, nil, spec, fmt.Errorf("--hamiltonian: %w", err)
 	}
 	inH := map[string]bool{}
 	for _, p := range h.Params() {
@@ -126,7 +171,7 @@ func (o *simulateChainOptions) chainSetup() (*chain.Source, data.GridSpec, error
 	}
 	for _, name := range spec.Names() {
 		if !inH[name] {
-			return nil, spec, fmt.Errorf("--grid: axis %q does not appear in the Hamiltonian %q (its parameters: %s)", name, o.hamiltonian, listOrNone(h.Params()))
+			return nil, nil, spec, fmt.Errorf("--grid: axis %q does not appear in the Hamiltonian %q (its parameters: %s)", name, o.hamiltonian, listOrNone(h.Params()))
 		}
 	}
 	onGrid := map[string]bool{}
@@ -135,22 +180,48 @@ func (o *simulateChainOptions) chainSetup() (*chain.Source, data.GridSpec, error
 	}
 	for _, p := range h.Params() {
 		if !onGrid[p] {
-			return nil, spec, fmt.Errorf("--hamiltonian: parameter %q is not a grid axis: expected it in --grid (axes: %s)", p, listOrNone(spec.Names()))
+			return nil, nil, spec, fmt.Errorf("--hamiltonian: parameter %q is not a grid axis: expected it in --grid (axes: %s)", p, listOrNone(spec.Names()))
 		}
 	}
 	total := int64(len(spec.Points())) * int64(o.samples) * int64(o.sites)
 	if total > 1<<34 {
-		return nil, spec, fmt.Errorf("--samples: %d points × %d snapshots × %d sites is %d values, expected at most %d", len(spec.Points()), o.samples, o.sites, total, int64(1)<<34)
+		return nil, nil, spec, fmt.Errorf("--samples: %d points × %d snapshots × %d sites is %d values, expected at most %d", len(spec.Points()), o.samples, o.sites, total, int64(1)<<34)
 	}
-	src, err := chain.New(chain.Config{Sites: o.sites, Hamiltonian: o.hamiltonian, Params: spec.Names(), Open: o.open, Basis: basis, Sector: sector})
-	if err != nil {
-		flag := "--hamiltonian"
+	open := o.open
+	if solver == "mps" && !o.openSet {
+		open = true // MPS default: open chains need far smaller bond dimensions
+	}
+	cfg := chain.Config{Sites: o.sites, Hamiltonian: o.hamiltonian, Params: spec.Names(), Open: open, Basis: basis, Sector: sector}
+	flagOf := func(err error) string {
 		if errors.Is(err, chain.ErrNoFlipSymmetry) {
-			flag = "--sector"
+			return "--sector"
 		}
-		return nil, spec, fmt.Errorf("%s: %w", flag, err)
+		return "--hamiltonian"
 	}
-	return src, spec, nil
+	if solver == "mps" {
+		if o.maxBond < 1 {
+			return nil, nil, spec, fmt.Errorf("--max-bond: expected at least 1, found %d", o.maxBond)
+		}
+		if !(o.cutoff > 0 && o.cutoff < 1) {
+			return nil, nil, spec, fmt.Errorf("--cutoff: expected a weight between 0 and 1 (exclusive), found %g", o.cutoff)
+		}
+		if !(o.energyTol > 0 && o.energyTol < 1) {
+			return nil, nil, spec, fmt.Errorf("--energy-tol: expected a relative change between 0 and 1 (exclusive), found %g", o.energyTol)
+		}
+		if !(o.pin >= 0 && o.pin < 1) {
+			return nil, nil, spec, fmt.Errorf("--pin: expected a small field strength, 0 ≤ ε < 1, found %g", o.pin)
+		}
+		ms, err := chain.NewMPS(cfg, chain.MPSOptions{MaxBond: o.maxBond, Cutoff: o.cutoff, Tol: o.energyTol, Pin: o.pin}, o.seed)
+		if err != nil {
+			return nil, nil, spec, fmt.Errorf("%s: %w", flagOf(err), err)
+		}
+		return nil, ms, spec, nil
+	}
+	src, err := chain.New(cfg)
+	if err != nil {
+		return nil, nil, spec, fmt.Errorf("%s: %w", flagOf(err), err)
+	}
+	return src, nil, spec, nil
 }
 
 func listOrNone(s []string) string {
@@ -161,12 +232,16 @@ func listOrNone(s []string) string {
 }
 
 func runSimulateChain(cmd *cobra.Command, o *simulateChainOptions) error {
-	src, spec, err := o.chainSetup()
+	o.openSet = cmd.Flags().Changed("open")
+	src, ms, spec, err := o.chainSetup()
 	if err != nil {
 		return err
 	}
 	if err := checkOutput(o.out, o.force); err != nil {
 		return err
+	}
+	if ms != nil {
+		return runSimulateChainMPS(cmd, o, ms, spec)
 	}
 	ctx, stop := signalContext()
 	defer stop()

@@ -23,7 +23,10 @@ func TestSimulateChainBadFlags(t *testing.T) {
 		want string
 	}{
 		{"one site", base("--sites", "1"), "--sites: expected 2 to 16 sites, found 1"},
-		{"too many sites", base("--sites", "17"), "--sites: expected 2 to 16 sites, found 17"},
+		{"too many sites", base("--sites", "17", "--solver", "ed"), "--sites: expected 2 to 16 sites, found 17"},
+		{"too many MPS sites", base("--sites", "2000"), "--sites: expected 2 to 1024 sites with the MPS solver, found 2000"},
+		{"unknown solver", base("--sites", "4", "--solver", "qmc"), `--solver: expected ed, mps or auto, found "qmc"`},
+		{"bad cutoff", base("--sites", "20", "--cutoff", "2"), "--cutoff"},
 		{"unknown basis", base("--sites", "4", "--basis", "w"), `--basis: expected z, x, y or random, found "w"`},
 		{"unknown sector", base("--sites", "4", "--sector", "up"), `--sector: expected even, odd or none, found "up"`},
 		{"axis not in H", []string{"--sites", "4", "--hamiltonian", "-ZZ - h*X", "--grid", "h=0:1:3,g=0;1", "--samples", "10"}, `axis "g" does not appear in the Hamiltonian`},

@@ -11,6 +11,13 @@
 // rule, in one fixed Pauli basis for all sites or in a uniformly random
 // Pauli basis per site and shot.
 //
+// Beyond exact diagonalisation (more than MaxSites sites) MPSSource holds
+// each ground state as a matrix-product state from two-site DMRG (package
+// mps): snapshots are drawn by perfect sampling, independently, and their
+// exact probabilities come from the MPS, so an MPS dataset keeps an exact
+// density source. Its ∏X sector is enforced by projecting the DMRG state,
+// and an optional pinning field fixes edge-mode degeneracies.
+//
 // # Internal state convention
 //
 // Basis state index b has bit j set when site j is |↓⟩ (Z = −1); bit 0 is

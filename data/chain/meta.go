@@ -67,6 +67,9 @@ func SourceFromMeta(m data.Meta) (*Source, error) {
 	if g := m.Generator(); g != Generator {
 		return nil, fmt.Errorf("meta.source.generator: expected %q, found %q", Generator, g)
 	}
+	if solverOf(m) == SolverMPS {
+		return nil, fmt.Errorf("meta.source.solver: the dataset was made with the MPS solver; rebuild it with MPSSourceFromMeta")
+	}
 	var sm SourceMeta
 	if err := json.Unmarshal(m.Source, &sm); err != nil {
 		return nil, fmt.Errorf("meta.source: expected a chain source object: %w", err)
