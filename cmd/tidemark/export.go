@@ -100,39 +100,15 @@ func runExport(cmd *cobra.Command, path string, o *exportOptions) error {
 	if err != nil {
 		return fmt.Errorf("export: encoding the config: %w", err)
 	}
-	tensors := append(append([]model.Tensor(nil), m.Weights...), masks...)
-	err = safefile.Write(o.out, o.force, func(w io.Writer) error { return writeTensorsNPZ(w, tensors, js) })
+	var arrays []data.Array
+	for _, t := range append(append([]model.Tensor(nil), m.Weights...), masks...) {
+		arrays = append(arrays, data.Float64Array(t.Name, t.Data, t.Shape...))
+	}
+	arrays = append(arrays, data.Uint8Array("config", js, len(js)))
+	err = safefile.Write(o.out, o.force, func(w io.Writer) error { return data.WriteNPZ(w, zip.Store, arrays...) })
 	if err != nil {
 		return err
 	}
 	fmt.Fprintf(cmd.OutOrStdout(), "wrote %s: %d weight tensors (%s, epoch %d), %d masks, config\n", o.out, len(m.Weights), which, epoch, len(masks))
 	return nil
-}
-
-// writeTensorsNPZ writes each tensor as a float64 NPY array and config as a
-// uint8 array into a zip archive (stored, not compressed).
-func writeTensorsNPZ(w io.Writer, ts []model.Tensor, config []byte) error {
-	zw := zip.NewWriter(w)
-	put := func(name, descr string, shape []int, body func(io.Writer) error) error {
-		return data.PutNPY(zw, name+".npy", zip.Store, descr, shape, body)
-	}
-	seen := map[string]bool{"config": true}
-	for _, t := range ts {
-		if seen[t.Name] {
-			return fmt.Errorf("two tensors are named %q", t.Name)
-		}
-		seen[t.Name] = true
-		if err := put(t.Name, "<f8", t.Shape, func(w io.Writer) error {
-			return data.WriteFloat64s(w, t.Data)
-		}); err != nil {
-			return err
-		}
-	}
-	if err := put("config", "|u1", []int{len(config)}, func(w io.Writer) error {
-		_, err := w.Write(config)
-		return err
-	}); err != nil {
-		return err
-	}
-	return zw.Close()
 }

@@ -1,23 +1,22 @@
 package main
 
 import (
-	"bufio"
+	"archive/zip"
 	"errors"
 	"fmt"
 	"io"
-	"math"
 	"path/filepath"
 	"slices"
-	"strconv"
 	"strings"
-	"sync"
 
 	"github.com/spf13/cobra"
+	"gonum.org/v1/gonum/stat"
 
 	"tidemark/checkpoints"
 	"tidemark/cmd/internal/progress"
 	"tidemark/data"
 	"tidemark/data/safefile"
+	"tidemark/indicator/scorestat"
 	"tidemark/model"
 )
 
@@ -219,60 +218,57 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 		return runPosterior(cmd, m, ds, grid, names, ckPath, dataPath, ext, o)
 	}
 	bar := progress.New(ds.M, "score", o.quiet)
-	logp, params, err := scoreDataset(m, ds, at, threadsOrDefault(o.threads), bar.Func())
+	logp, params, err := scorestat.Score(m, ds, at, threadsOrDefault(o.threads), bar.Func())
 	bar.Done()
 	if err != nil {
 		return fmt.Errorf("score: %w", err)
 	}
-	d := len(names)
 	npts := 1
 	if at == nil {
 		npts = data.NewGrid(ds).K()
 	}
 	pbar := progress.New(npts, "reference", o.quiet)
-	pts, flags, err := scoreStats(m, logp, params, d, o.seed, pbar.Func())
+	pts, flags, err := scorestat.Stats(m, logp, params, len(names), o.seed, pbar.Func())
 	pbar.Done()
 	if err != nil {
 		return fmt.Errorf("score: %w", err)
 	}
-	bps := make([]float64, len(logp))
-	for i, v := range logp {
-		bps[i] = -v / float64(ds.N) / math.Ln2
-	}
 	if ext == ".csv" {
-		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return writeScoresCSV(w, names, logp, params) })
+		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return scorestat.WriteScoresCSV(w, names, logp, params) })
 		if err == nil {
-			err = safefile.Write(sidecar(o.out, "points"), o.force, func(w io.Writer) error { return writePointsCSV(w, names, pts, ds.N) })
+			err = safefile.Write(sidecar(o.out, "points"), o.force, func(w io.Writer) error { return scorestat.WritePointsCSV(w, names, pts, ds.N) })
 		}
 	} else {
-		err = safefile.Write(o.out, o.force, func(w io.Writer) error {
-			arrays := []npzArray{
-				f64Array("logp", logp, len(logp)), f64Array("params", params, len(logp), d),
-				f64Array("bits_per_site", bps, len(logp)), {"flagged", "|u1", []int{len(flags)}, flags},
-			}
-			arrays = append(arrays, pointArrays(pts, d)...)
-			return writeNPZ(w, arrays, map[string]any{"param_names": names, "checkpoint": ckPath, "data": dataPath, "units": "nats", "software_version": version})
-		})
+		arrays := scorestat.ScoreArrays(logp, params, flags, pts, len(names), ds.N)
+		err = writeNPZ(o.out, o.force, arrays, map[string]any{"param_names": names, "checkpoint": ckPath, "data": dataPath, "units": "nats", "software_version": version})
 	}
 	if err != nil {
 		return err
 	}
-	mean := 0.0
-	for _, v := range logp {
-		mean += v
-	}
-	mean /= float64(len(logp))
 	w := cmd.OutOrStdout()
-	printScoreStats(w, names, pts, ds.N)
+	scorestat.WriteTable(w, names, pts, ds.N)
 	nflag := 0
 	for _, f := range flags {
 		nflag += int(f)
 	}
-	fmt.Fprintf(w, "wrote %s: log p of %d snapshots, mean %.4f nats (%.5f bits per site); %d flagged\n", o.out, len(logp), mean, -mean/float64(ds.N)/math.Ln2, nflag)
+	mean := stat.Mean(logp, nil)
+	fmt.Fprintf(w, "wrote %s: log p of %d snapshots, mean %.4f nats (%.5f bits per site); %d flagged\n", o.out, len(logp), mean, scorestat.BitsPerSite(-mean, ds.N), nflag)
 	if ext == ".csv" {
 		fmt.Fprintf(w, "wrote %s: the per-point table\n", sidecar(o.out, "points"))
 	}
 	return nil
+}
+
+// writeNPZ writes arrays and meta (as the JSON array "meta") atomically to
+// path as an .npz archive.
+func writeNPZ(path string, force bool, arrays []data.Array, meta map[string]any) error {
+	js, err := data.JSONArray("meta", meta)
+	if err != nil {
+		return err
+	}
+	return safefile.Write(path, force, func(w io.Writer) error {
+		return data.WriteNPZ(w, zip.Deflate, append(arrays, js)...)
+	})
 }
 
 // sidecar returns the name of a second output file beside out:
@@ -322,118 +318,30 @@ func parsePosteriorGrid(s string, names []string) ([][]float64, error) {
 // runPosterior is score --posterior.
 func runPosterior(cmd *cobra.Command, m *model.Model, ds *data.Dataset, grid [][]float64, names []string, ckPath, dataPath, ext string, o *scoreOptions) error {
 	bar := progress.New(ds.M, "posterior", o.quiet)
-	pr, err := scorePosteriors(m, ds, grid, threadsOrDefault(o.threads), bar.Func())
+	pr, err := scorestat.Posterior(m, ds, grid, threadsOrDefault(o.threads), bar.Func())
 	bar.Done()
 	if err != nil {
 		return fmt.Errorf("score --posterior: %w", err)
 	}
-	d := len(names)
 	if ext == ".csv" {
-		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return writePosteriorCSV(w, names, ds, pr) })
+		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return pr.WriteSnapshotsCSV(w, names, ds) })
 		if err == nil {
-			err = safefile.Write(sidecar(o.out, "groups"), o.force, func(w io.Writer) error { return writeGroupsCSV(w, names, pr) })
+			err = safefile.Write(sidecar(o.out, "groups"), o.force, func(w io.Writer) error { return pr.WriteGroupsCSV(w, names) })
 		}
 	} else {
-		err = safefile.Write(o.out, o.force, func(w io.Writer) error {
-			return writeNPZ(w, posteriorArrays(pr, ds.M, d), map[string]any{
-				"param_names": names, "checkpoint": ckPath, "data": dataPath, "prior": "uniform over the grid points",
-				"grid": o.grid, "credible_mass": scoreCredible, "interval": "central (equal-tailed)", "units": "nats", "software_version": version,
-			})
+		err = writeNPZ(o.out, o.force, pr.Arrays(ds.M, len(names)), map[string]any{
+			"param_names": names, "checkpoint": ckPath, "data": dataPath, "prior": "uniform over the grid points",
+			"grid": o.grid, "credible_mass": scorestat.Credible, "interval": "central (equal-tailed)", "units": "nats", "software_version": version,
 		})
 	}
 	if err != nil {
 		return err
 	}
 	w := cmd.OutOrStdout()
-	printGroups(w, names, pr)
+	pr.WriteGroups(w, names)
 	fmt.Fprintf(w, "wrote %s: posteriors of %d snapshots over %d grid points\n", o.out, ds.M, len(grid))
 	if ext == ".csv" {
 		fmt.Fprintf(w, "wrote %s: the groups\n", sidecar(o.out, "groups"))
 	}
 	return nil
-}
-
-// scoreDataset returns log p(x_m|λ_m) of every snapshot and the λ used
-// (row-major M × d), each at its own λ or all at at.
-func scoreDataset(m *model.Model, ds *data.Dataset, at []float64, threads int, progress func(int)) ([]float64, []float64, error) {
-	d := m.Cfg.ParamDim
-	N := ds.N
-	logp := make([]float64, ds.M)
-	params := make([]float64, ds.M*d)
-	type job struct {
-		rows   []int
-		lambda []float64
-	}
-	var jobs []job
-	if at != nil {
-		const chunk = 1024
-		for lo := 0; lo < ds.M; lo += chunk {
-			rows := make([]int, 0, chunk)
-			for i := lo; i < min(lo+chunk, ds.M); i++ {
-				rows = append(rows, i)
-			}
-			jobs = append(jobs, job{rows, at})
-		}
-	} else {
-		g := data.NewGrid(ds)
-		for k, idx := range g.Index {
-			jobs = append(jobs, job{idx, g.Points[k]})
-		}
-	}
-	errs := make([]error, len(jobs))
-	next := make(chan int)
-	var wg sync.WaitGroup
-	for t := 0; t < max(threads, 1); t++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for j := range next {
-				jb := jobs[j]
-				xs := make([]uint8, 0, len(jb.rows)*N)
-				for _, r := range jb.rows {
-					xs = append(xs, ds.Row(r)...)
-				}
-				lp := make([]float64, len(jb.rows))
-				if err := m.LogProb(lp, xs, jb.lambda); err != nil {
-					errs[j] = err
-					continue
-				}
-				for i, r := range jb.rows {
-					logp[r] = lp[i]
-					copy(params[r*d:(r+1)*d], jb.lambda)
-				}
-				if progress != nil {
-					progress(len(jb.rows))
-				}
-			}
-		}()
-	}
-	for j := range jobs {
-		next <- j
-	}
-	close(next)
-	wg.Wait()
-	for _, err := range errs {
-		if err != nil {
-			return nil, nil, err
-		}
-	}
-	return logp, params, nil
-}
-
-func writeScoresCSV(w io.Writer, names []string, logp, params []float64) error {
-	bw := bufio.NewWriter(w)
-	d := len(names)
-	fmt.Fprintf(bw, "index,%s,logp\n", strings.Join(names, ","))
-	for i, v := range logp {
-		bw.WriteString(strconv.Itoa(i))
-		for _, p := range params[i*d : (i+1)*d] {
-			bw.WriteByte(',')
-			bw.WriteString(strconv.FormatFloat(p, 'g', -1, 64))
-		}
-		bw.WriteByte(',')
-		bw.WriteString(strconv.FormatFloat(v, 'g', -1, 64))
-		bw.WriteByte('\n')
-	}
-	return bw.Flush()
 }
