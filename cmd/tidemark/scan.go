@@ -15,6 +15,7 @@ import (
 	"tidemark/data/ising"
 	"tidemark/indicator"
 	"tidemark/indicator/report"
+	"tidemark/indicator/study"
 )
 
 func init() { commands = append(commands, newScanCmd) }
@@ -260,7 +261,7 @@ func printScan(w io.Writer, out string, res *indicator.Result, sum *report.Summa
 			continue
 		}
 		for _, pk := range c.Peaks {
-			p("  %-14s peak at %s, height %.4g ± %.2g\n", c.Name, peakString(res.Names, pk), pk.Height, pk.HeightErr)
+			p("  %-14s peak at %s, height %.4g ± %.2g\n", c.Name, study.FormatPeak(res.Names, pk), pk.Height, pk.HeightErr)
 		}
 	}
 	for _, b := range res.Boundaries {
@@ -275,7 +276,7 @@ func printScan(w io.Writer, out string, res *indicator.Result, sum *report.Summa
 		sort.Strings(names)
 		for _, name := range names {
 			for _, pk := range z.Indicators[name].Peaks {
-				p("    %-12s peak at %s\n", name, peakString(res.Names, indicator.Peak{At: pk.At, Err: pk.Err}))
+				p("    %-12s peak at %s\n", name, study.FormatPeak(res.Names, indicator.Peak{At: pk.At, Err: pk.Err}))
 			}
 		}
 	}
@@ -284,16 +285,4 @@ func printScan(w io.Writer, out string, res *indicator.Result, sum *report.Summa
 	}
 	p("caution: %s\n", indicator.Caution)
 	return nil
-}
-
-func peakString(names []string, pk indicator.Peak) string {
-	parts := make([]string, len(pk.At))
-	for i, v := range pk.At {
-		if i < len(pk.Err) && pk.Err[i] > 0 {
-			parts[i] = fmt.Sprintf("%s=%.5g ± %.2g", names[i], v, pk.Err[i])
-		} else {
-			parts[i] = fmt.Sprintf("%s=%.5g", names[i], v)
-		}
-	}
-	return strings.Join(parts, ", ")
 }

@@ -1,9 +1,10 @@
 //go:build validation
 
-package main
+package study
 
 import (
 	"bytes"
+	"context"
 	"math"
 	"path/filepath"
 	"testing"
@@ -14,13 +15,13 @@ import (
 // partition function (B. Kaufman, Phys. Rev. 76, 1232 (1949)): within 3% of
 // the same indicator's peak computed with the exact density of the same
 // snapshots, within 3% of the maximum of the Fisher information in T,
-// N·C/T² (what the indicators measure; fisherPeak), and within 5% of the
+// N·C/T² (what the indicators measure; ising.KaufmanFisherPeak), and within 5% of the
 // heat-capacity maximum (ising.KaufmanPeak), which lies 2% above it.
 func TestDemoFull(t *testing.T) {
-	o := defaultDemo()
-	o.out, o.quiet = filepath.Join(t.TempDir(), "demo"), true
+	o := DefaultDemo()
+	o.Out = filepath.Join(t.TempDir(), "demo")
 	var out bytes.Buffer
-	res, err := demo(&out, &o)
+	res, err := o.Run(context.Background(), &out)
 	if err != nil {
 		t.Fatalf("demo: %v\n%s", err, out.String())
 	}
