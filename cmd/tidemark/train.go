@@ -243,7 +243,7 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 		// Notes only once the settings and data have passed every check, so
 		// a bad input gets its one-line error alone.
 		if resumed == nil {
-			for _, n := range augmentNotes(ds.Meta.Source, opt.Settings.Augment) {
+			for _, n := range augmentNotes(ds.Meta, opt.Settings.Augment) {
 				fmt.Fprintf(stderr, "tidemark: train: note: %s\n", n)
 			}
 		}
