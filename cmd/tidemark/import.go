@@ -90,7 +90,7 @@ func runImport(cmd *cobra.Command, in string, o *importOptions) error {
 		return err
 	}
 	w := cmd.OutOrStdout()
-	fmt.Fprintf(w, "wrote %s: %d snapshots of %d sites (lattice %s, alphabet %d)", o.out, ds.M, ds.N, latticeString(ds.Meta.Lattice), ds.Meta.Alphabet)
+	fmt.Fprintf(w, "wrote %s: %d snapshots of %d sites (lattice %s, alphabet %d)", o.out, ds.M, ds.N, data.FormatLattice(ds.Meta.Lattice), ds.Meta.Alphabet)
 	if ds.D > 0 {
 		g := data.NewGrid(ds)
 		fmt.Fprintf(w, " at %d grid points of %s", g.K(), strings.Join(g.Names, ", "))
@@ -114,13 +114,4 @@ func parseLattice(s string) ([]int, error) {
 		out[i] = v
 	}
 	return out, nil
-}
-
-// latticeString formats sizes as 16x16.
-func latticeString(l []int) string {
-	s := make([]string, len(l))
-	for i, v := range l {
-		s[i] = strconv.Itoa(v)
-	}
-	return strings.Join(s, "x")
 }

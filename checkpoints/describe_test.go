@@ -1,0 +1,34 @@
+package checkpoints
+
+import (
+	"bytes"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// TestDescribe saves the test checkpoint and checks what Describe reports
+// and prints about it.
+func TestDescribe(t *testing.T) {
+	c := testCheckpoint(t)
+	path := filepath.Join(t.TempDir(), "m.ckpt")
+	if err := c.Save(path, false); err != nil {
+		t.Fatal(err)
+	}
+	r, err := Describe(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Kind != "checkpoint" || r.Sites != 9 || r.Parameters != c.NumParams() || len(r.HeldOut) != 1 || len(r.Metrics) != 1 || r.Architecture.CondAct != r.Architecture.Activation {
+		t.Errorf("description %+v", r)
+	}
+	var b bytes.Buffer
+	if err := r.WriteText(&b); err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"lattice 3×3", "held out", "T=2.2", "best"} {
+		if !strings.Contains(b.String(), want) {
+			t.Errorf("text lacks %q:\n%s", want, b.String())
+		}
+	}
+}
