@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"sort"
 	"strconv"
 	"strings"
 
@@ -245,44 +244,6 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if err != nil {
 		return fmt.Errorf("scan: %w", err)
 	}
-	return printScan(w, o.out, res, sum)
-}
-
-// printScan states every peak with its error, the notes and the caution.
-func printScan(w io.Writer, out string, res *indicator.Result, sum *report.Summary) error {
-	p := func(format string, a ...any) { fmt.Fprintf(w, format, a...) }
-	p("scan: %s source, %d grid points (%d scanned), results in %s\n", sum.Source, sum.Grid.Points, sum.Grid.Scanned, out)
-	for _, c := range res.Curves {
-		if len(c.Lines) == 0 {
-			continue
-		}
-		if len(c.Peaks) == 0 {
-			p("  %-14s no peak above the noise\n", c.Name)
-			continue
-		}
-		for _, pk := range c.Peaks {
-			p("  %-14s peak at %s, height %.4g ± %.2g\n", c.Name, study.FormatPeak(res.Names, pk), pk.Height, pk.HeightErr)
-		}
-	}
-	for _, b := range res.Boundaries {
-		p("  boundary from %s (ridge along %s): %d points\n", b.Indicator, b.Axis, len(b.Points))
-	}
-	for _, z := range sum.Zoom {
-		p("  zoom around %s (%d points of %s from %.6g to %.6g):\n", data.FormatPoint(res.Names, z.Around), z.Points, z.Axis, z.From, z.To)
-		names := make([]string, 0, len(z.Indicators))
-		for name := range z.Indicators {
-			names = append(names, name)
-		}
-		sort.Strings(names)
-		for _, name := range names {
-			for _, pk := range z.Indicators[name].Peaks {
-				p("    %-12s peak at %s\n", name, study.FormatPeak(res.Names, indicator.Peak{At: pk.At, Err: pk.Err}))
-			}
-		}
-	}
-	for _, n := range res.Notes {
-		p("note: %s\n", n)
-	}
-	p("caution: %s\n", indicator.Caution)
+	study.WriteScan(w, o.out, res, sum)
 	return nil
 }

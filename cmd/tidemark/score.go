@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"io"
 	"path/filepath"
-	"slices"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -94,33 +93,6 @@ does a posterior grid that reaches beyond it.`,
 	return c
 }
 
-// parseAt parses --at into a λ in the order of names: every name exactly once.
-func parseAt(s string, names []string) ([]float64, error) {
-	spec, err := data.ParseGridSpec(s)
-	if err != nil {
-		return nil, fmt.Errorf("--at: %w", err)
-	}
-	lam := make([]float64, len(names))
-	got := map[string]bool{}
-	for _, ax := range spec.Axes {
-		i := slices.Index(names, ax.Name)
-		if i < 0 {
-			return nil, fmt.Errorf("--at %q: expected the model's parameters %q, found %q", s, names, ax.Name)
-		}
-		if len(ax.Values) != 1 {
-			return nil, fmt.Errorf("--at %q: expected one value of %s, found %d", s, ax.Name, len(ax.Values))
-		}
-		lam[i] = ax.Values[0]
-		got[ax.Name] = true
-	}
-	for _, n := range names {
-		if !got[n] {
-			return nil, fmt.Errorf("--at %q: expected a value for every parameter %q, %s is missing", s, names, n)
-		}
-	}
-	return lam, nil
-}
-
 func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) error {
 	if o.out == "" {
 		return errors.New("score: expected an output file (-o SCORES.npz or SCORES.csv), found none")
@@ -154,14 +126,20 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 	names := ck.Header.ParamNames
 	var at []float64
 	if o.at != "" {
-		if at, err = parseAt(o.at, names); err != nil {
-			return err
+		if at, err = data.ParsePoint(o.at, names); err != nil {
+			return fmt.Errorf("--at %q: %w", o.at, err)
 		}
 	}
 	var grid [][]float64
 	if o.posterior {
-		if grid, err = parsePosteriorGrid(o.grid, names); err != nil {
-			return err
+		if o.grid == "" {
+			return fmt.Errorf(`--posterior: expected --grid with the model's parameters %q, e.g. "%s=1.5:3.5:81", found none`, names, names[0])
+		}
+		if grid, err = data.ParsePoints(o.grid, names); err != nil {
+			return fmt.Errorf("--grid %q: %w", o.grid, err)
+		}
+		if len(grid) < 2 {
+			return fmt.Errorf("--grid %q: expected at least 2 points, found %d", o.grid, len(grid))
 		}
 	}
 	ds, err := data.ReadWith(dataPath, data.ReadOptions{Unlabelled: at != nil || o.posterior})
@@ -276,43 +254,6 @@ func writeNPZ(path string, force bool, arrays []data.Array, meta map[string]any)
 func sidecar(out, what string) string {
 	ext := filepath.Ext(out)
 	return strings.TrimSuffix(out, ext) + "." + what + ext
-}
-
-// parsePosteriorGrid parses --grid for --posterior: the model's parameter
-// names, each once, in any order; the points are returned in the model's
-// order of parameters.
-func parsePosteriorGrid(s string, names []string) ([][]float64, error) {
-	if s == "" {
-		return nil, fmt.Errorf(`--posterior: expected --grid with the model's parameters %q, e.g. "%s=1.5:3.5:81", found none`, names, names[0])
-	}
-	spec, err := data.ParseGridSpec(s)
-	if err != nil {
-		return nil, fmt.Errorf("--grid: %w", err)
-	}
-	gn := spec.Names()
-	if len(gn) != len(names) {
-		return nil, fmt.Errorf("--grid %q: expected the model's parameters %q, found %q", s, names, gn)
-	}
-	perm := make([]int, len(names))
-	for i, n := range names {
-		j := slices.Index(gn, n)
-		if j < 0 {
-			return nil, fmt.Errorf("--grid %q: expected the model's parameters %q, found %q", s, names, gn)
-		}
-		perm[i] = j
-	}
-	var out [][]float64
-	for _, p := range spec.Points() {
-		q := make([]float64, len(names))
-		for i := range names {
-			q[i] = p[perm[i]]
-		}
-		out = append(out, q)
-	}
-	if len(out) < 2 {
-		return nil, fmt.Errorf("--grid %q: expected at least 2 points, found %d", s, len(out))
-	}
-	return out, nil
 }
 
 // runPosterior is score --posterior.
