@@ -180,15 +180,10 @@ func (d *Demo) simulate(ctx context.Context, w io.Writer, dir string) (*data.Dat
 		}
 		return nil, fmt.Errorf("simulate: %w", err)
 	}
-	meta := ising.SourceMeta{
-		Generator: "ising", Lattice: []int{L, L}, Boundary: "periodic", Jx: 1, Jy: 1,
-		Grid: gridText, Axes: cfg.Axes, Samples: d.Samples, Seed: d.Seed, Points: sim.Points,
-	}
-	ds, err := data.New(d.Points*d.Samples, L*L, cfg.Axes, 2, []int{L, L}, meta)
+	ds, err := sim.Dataset(cfg, gridText)
 	if err != nil {
 		return nil, err
 	}
-	ds.States, ds.Params = sim.States, sim.Params
 	if err := ds.Validate(DemoData); err != nil {
 		return nil, fmt.Errorf("internal check of the dataset: %w", err)
 	}
