@@ -7,13 +7,8 @@ import (
 	"github.com/spf13/cobra"
 
 	"tidemark/checkpoints"
-	"tidemark/cmd/internal/progress"
 	"tidemark/data"
-	"tidemark/data/exact"
-	"tidemark/data/ising"
-	"tidemark/indicator"
 	"tidemark/indicator/check"
-	"tidemark/train"
 )
 
 func init() { commands = append(commands, newCheckCmd) }
@@ -82,55 +77,17 @@ func runCheck(cmd *cobra.Command, path string, o *checkOptions) error {
 	if err := ck.CheckDataset(ds); err != nil {
 		return fmt.Errorf("check: %s and %s: %w", path, o.data, err)
 	}
-	sameData := checkpoints.Fingerprint(ds) == ck.Header.Dataset.Fingerprint
-	w := cmd.OutOrStdout()
-	src, err := exact.FromMeta(ds.Meta)
-	if _, large := src.(*ising.KaufmanSource); large {
-		// Too many sites to enumerate: the zero-field Ising model still has
-		// an exact entropy (Kaufman), against which the model's
-		// cross-entropy measures its misfit.
-		m, merr := ck.Model()
-		if merr != nil {
-			return fmt.Errorf("%s: %w", path, merr)
-		}
-		rep, handled, kerr := check.Kaufman(m, ds, ck.Header.HeldOut)
-		if kerr != nil {
-			return fmt.Errorf("check: %w", kerr)
-		}
-		if handled {
-			rep.Checkpoint, rep.Data, rep.SameData = path, o.data, sameData
-			if o.json {
-				return writeJSON(w, rep)
-			}
-			return rep.WriteText(w)
-		}
-	}
-	if err != nil {
-		return fmt.Errorf("check: %s has no exact reference to compare with: %w", o.data, err)
-	}
-	if en, ok := src.(indicator.Enumerable); !ok || !en.Enumerable() {
-		return fmt.Errorf("check: %s: the exact reference (%s) cannot list its states, so there is nothing to sum over", o.data, ds.Meta.Generator())
-	}
-	states := train.States(ds.Meta.Alphabet, ds.N)
-	if states < 0 {
-		return fmt.Errorf("check: %s: %d^%d states exceed the limit of %d that check enumerates", o.data, ds.Meta.Alphabet, ds.N, train.MaxEnumeratedStates)
-	}
 	if ck.Header.BestEpoch == 0 {
 		fmt.Fprintf(cmd.ErrOrStderr(), "tidemark: note: %s has no completed epoch; its weights are the untrained initial ones\n", path)
 	}
-	m, err := ck.Model()
-	if err != nil {
-		return fmt.Errorf("%s: %w", path, err)
-	}
-	bar := progress.New(check.Points(ds, ck.Header.HeldOut)*states, "check", o.quiet)
-	rep, err := check.Enumerate(src, m, ds, ck.Header.HeldOut, threadsOrDefault(o.threads), bar.Func())
-	bar.Done()
+	bars, done := stageBars(o.quiet)
+	rep, err := check.Compare(ck, path, ds, o.data, threadsOrDefault(o.threads), bars)
+	done()
 	if err != nil {
 		return fmt.Errorf("check: %w", err)
 	}
-	rep.Checkpoint, rep.Data, rep.Generator, rep.SameData = path, o.data, ds.Meta.Generator(), sameData
 	if o.json {
-		return writeJSON(w, rep)
+		return writeJSON(cmd.OutOrStdout(), rep)
 	}
-	return rep.WriteText(w)
+	return rep.WriteText(cmd.OutOrStdout())
 }

@@ -4,14 +4,10 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"strconv"
-	"strings"
 
 	"github.com/spf13/cobra"
 
 	"tidemark/data"
-	"tidemark/data/exact"
-	"tidemark/data/ising"
 	"tidemark/indicator"
 	"tidemark/indicator/report"
 	"tidemark/indicator/study"
@@ -101,76 +97,24 @@ each second pass gets its own zoom-<i>.csv.`,
 	return c
 }
 
-func parseSLRegions(s string) (*indicator.SLRegions, error) {
-	if s == "" {
-		return nil, nil
-	}
-	parts := strings.Split(s, ",")
-	if len(parts) != 2 {
-		return nil, fmt.Errorf(`--sl-regions: expected two ranges "lo:hi,lo:hi", found %q`, s)
-	}
-	var r indicator.SLRegions
-	for i, p := range parts {
-		ab := strings.Split(strings.TrimSpace(p), ":")
-		if len(ab) != 2 {
-			return nil, fmt.Errorf(`--sl-regions: expected a range "lo:hi", found %q`, p)
-		}
-		var v [2]float64
-		for j, x := range ab {
-			f, err := strconv.ParseFloat(strings.TrimSpace(x), 64)
-			if err != nil {
-				return nil, fmt.Errorf("--sl-regions: expected a number, found %q", x)
-			}
-			v[j] = f
-		}
-		if v[0] > v[1] {
-			return nil, fmt.Errorf("--sl-regions: range %q has lo > hi", p)
-		}
-		if i == 0 {
-			r.A = v
-		} else {
-			r.B = v
-		}
-	}
-	return &r, nil
-}
-
-func parseIndicators(s string) ([]string, error) {
-	if s == "" || s == "all" {
-		return indicator.AllIndicators, nil
-	}
-	var out []string
-	for _, n := range strings.Split(s, ",") {
-		n = strings.TrimSpace(n)
-		ok := false
-		for _, a := range indicator.AllIndicators {
-			ok = ok || a == n
-		}
-		if !ok {
-			return nil, fmt.Errorf("--indicators: expected all or some of %s, found %q", strings.Join(indicator.AllIndicators, ","), n)
-		}
-		out = append(out, n)
-	}
-	return out, nil
-}
-
 func runScan(w io.Writer, o *scanOptions) error {
-	nsrc := 0
-	for _, b := range []bool{o.exact, o.histogram, len(o.models) > 0} {
-		if b {
-			nsrc++
+	var kinds []string
+	for kind, given := range map[string]bool{study.SourceExact: o.exact, study.SourceHistogram: o.histogram, study.SourceModel: len(o.models) > 0} {
+		if given {
+			kinds = append(kinds, kind)
 		}
 	}
-	if nsrc != 1 {
+	if len(kinds) != 1 {
 		return errors.New("scan: expected exactly one density source: --exact, --histogram or --model FILE.ckpt")
 	}
-	inds, err := parseIndicators(o.indicators)
+	kind := kinds[0]
+	inds, err := study.ParseIndicators(o.indicators)
 	if err != nil {
-		return err
+		return fmt.Errorf("--indicators: %w", err)
 	}
-	reg, err := parseSLRegions(o.slRegions)
+	reg, err := study.ParseSLRegions(o.slRegions)
 	if err != nil {
-		return err
+		return fmt.Errorf("--sl-regions: %w", err)
 	}
 	if o.refine < 1 {
 		return fmt.Errorf("--refine: expected an integer ≥ 1, found %d", o.refine)
@@ -194,32 +138,9 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if err := ds.Validate(o.data); err != nil {
 		return err
 	}
-	var sources []indicator.Source
-	kind := ""
-	switch {
-	case o.exact:
-		kind = "exact"
-		src, err := exact.FromMeta(ds.Meta)
-		if err != nil {
-			return fmt.Errorf("scan --exact: %s: %w", o.data, err)
-		}
-		sources = append(sources, src)
-	case o.histogram:
-		kind = "histogram"
-		h, err := indicator.NewHistogram(ds)
-		if err != nil {
-			return fmt.Errorf("scan --histogram: %s: %w", o.data, err)
-		}
-		sources = append(sources, h)
-	default:
-		kind = "model"
-		for _, p := range o.models {
-			src, _, err := loadModelSource(p, ds)
-			if err != nil {
-				return fmt.Errorf("scan --model: %w", err)
-			}
-			sources = append(sources, src)
-		}
+	sources, err := study.Sources(kind, ds, o.data, o.models)
+	if err != nil {
+		return fmt.Errorf("scan --%s: %w", kind, err)
 	}
 	cfg := indicator.Config{
 		Indicators: inds, Refine: o.refine, ModelSamples: o.modelSamples, Zoom: o.zoom,
@@ -237,8 +158,8 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if err != nil {
 		return err
 	}
-	if sm, err := ising.ParseSourceMeta(ds.Meta); kind == "model" && err == nil && sm.HasExact() {
-		res.Notes = append(res.Notes, fmt.Sprintf("this dataset has an exact reference: `tidemark scan --data %s --exact` scores the same snapshots with the exact density; a misfit of the model (a spurious peak in the ordered phase, say) shows only in that comparison, not in the bootstrap errors", o.data))
+	if note := study.ExactNote(kind, ds, o.data); note != "" {
+		res.Notes = append(res.Notes, note)
 	}
 	sum, err := report.Write(o.out, o.force, res, report.Info{Source: kind, Data: o.data, Models: o.models, Refine: o.refine, Seed: o.seed})
 	if err != nil {
