@@ -32,3 +32,12 @@ func TestDescribe(t *testing.T) {
 		}
 	}
 }
+
+func TestOutside(t *testing.T) {
+	c := testCheckpoint(t) // trained on T in [1, 3]
+	for p, want := range map[float64]int{1: -1, 2.5: -1, 3: -1, 0.9: 0, 3.5: 0} {
+		if got := c.Outside([]float64{p}); got != want {
+			t.Errorf("Outside(T=%v) = %d, want %d", p, got, want)
+		}
+	}
+}

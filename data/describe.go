@@ -152,3 +152,20 @@ func FormatLattice(l []int) string {
 	}
 	return strings.Join(s, "x")
 }
+
+// ParseLattice reads lattice sizes written as "16x16", "16,16" or "256".
+func ParseLattice(s string) ([]int, error) {
+	parts := strings.FieldsFunc(s, func(r rune) bool { return r == 'x' || r == 'X' || r == ',' || r == '×' })
+	if len(parts) == 0 {
+		return nil, fmt.Errorf("expected sizes like 16x16, found %q", s)
+	}
+	out := make([]int, len(parts))
+	for i, p := range parts {
+		v, err := strconv.Atoi(strings.TrimSpace(p))
+		if err != nil || v <= 0 {
+			return nil, fmt.Errorf("expected positive whole sizes like 16x16, found %q in %q", p, s)
+		}
+		out[i] = v
+	}
+	return out, nil
+}

@@ -47,3 +47,16 @@ func TestHumanBytesAndFormatLattice(t *testing.T) {
 		t.Errorf("FormatLattice = %q", got)
 	}
 }
+
+func TestParseLattice(t *testing.T) {
+	for _, tc := range []struct {
+		s    string
+		want string
+		ok   bool
+	}{{"16x16", "16x16", true}, {"4,6", "4x6", true}, {"8×2", "8x2", true}, {"256", "256", true}, {"", "", false}, {"4x0", "", false}, {"4xa", "", false}} {
+		got, err := ParseLattice(tc.s)
+		if (err == nil) != tc.ok || (tc.ok && FormatLattice(got) != tc.want) {
+			t.Errorf("ParseLattice(%q) = %v, %v; want %s", tc.s, got, err, tc.want)
+		}
+	}
+}

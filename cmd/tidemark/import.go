@@ -2,7 +2,6 @@ package main
 
 import (
 	"fmt"
-	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -73,9 +72,9 @@ func runImport(cmd *cobra.Command, in string, o *importOptions) error {
 		return fmt.Errorf("--spins: expected pm1 (or nothing), found %q", o.spins)
 	}
 	if o.lattice != "" {
-		lat, err := parseLattice(o.lattice)
+		lat, err := data.ParseLattice(o.lattice)
 		if err != nil {
-			return err
+			return fmt.Errorf("--lattice: %w", err)
 		}
 		opt.Lattice = lat
 	}
@@ -97,21 +96,4 @@ func runImport(cmd *cobra.Command, in string, o *importOptions) error {
 	}
 	fmt.Fprintln(w)
 	return nil
-}
-
-// parseLattice reads "16x16", "16,16" or "256" into sizes.
-func parseLattice(s string) ([]int, error) {
-	parts := strings.FieldsFunc(s, func(r rune) bool { return r == 'x' || r == 'X' || r == ',' || r == '×' })
-	if len(parts) == 0 {
-		return nil, fmt.Errorf("--lattice: expected sizes like 16x16, found %q", s)
-	}
-	out := make([]int, len(parts))
-	for i, p := range parts {
-		v, err := strconv.Atoi(strings.TrimSpace(p))
-		if err != nil || v <= 0 {
-			return nil, fmt.Errorf("--lattice: expected positive whole sizes like 16x16, found %q in %q", p, s)
-		}
-		out[i] = v
-	}
-	return out, nil
 }

@@ -16,7 +16,6 @@ import (
 	"tidemark/data"
 	"tidemark/data/safefile"
 	"tidemark/indicator/scorestat"
-	"tidemark/model"
 )
 
 func init() { commands = append(commands, newScoreCmd) }
@@ -168,31 +167,21 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 		return fmt.Errorf("%s: %w", ckPath, err)
 	}
 	// Say so where the user reads it when the scores extrapolate.
-	lo, hi := m.Cfg.ParamLo, m.Cfg.ParamHi
-	outside := func(p []float64) int {
-		for i, v := range p {
-			if i < len(lo) && (v < lo[i] || v > hi[i]) {
-				return i
+	warnOutside := func(what string, pts ...[]float64) {
+		for _, p := range pts {
+			if i := ck.Outside(p); i >= 0 {
+				lo, hi := ck.Header.Model.ParamLo, ck.Header.Model.ParamHi
+				fmt.Fprintf(cmd.ErrOrStderr(), "tidemark: warning: %s reaches %s=%g, outside the range [%g, %g] the model was trained on; the scores there are extrapolations\n",
+					what, names[i], p[i], lo[i], hi[i])
+				return
 			}
-		}
-		return -1
-	}
-	warnOutside := func(what string, p []float64) {
-		if i := outside(p); i >= 0 {
-			fmt.Fprintf(cmd.ErrOrStderr(), "tidemark: warning: %s reaches %s=%g, outside the range [%g, %g] the model was trained on; the scores there are extrapolations\n",
-				what, names[i], p[i], lo[i], hi[i])
 		}
 	}
 	if at != nil {
 		warnOutside("--at", at)
 	}
 	if o.posterior {
-		for _, p := range grid {
-			if outside(p) >= 0 {
-				warnOutside("--grid", p)
-				break
-			}
-		}
+		warnOutside("--grid", grid...)
 		return runPosterior(cmd, m, ds, grid, names, ckPath, dataPath, ext, o)
 	}
 	bar := progress.New(ds.M, "score", o.quiet)
@@ -254,35 +243,4 @@ func writeNPZ(path string, force bool, arrays []data.Array, meta map[string]any)
 func sidecar(out, what string) string {
 	ext := filepath.Ext(out)
 	return strings.TrimSuffix(out, ext) + "." + what + ext
-}
-
-// runPosterior is score --posterior.
-func runPosterior(cmd *cobra.Command, m *model.Model, ds *data.Dataset, grid [][]float64, names []string, ckPath, dataPath, ext string, o *scoreOptions) error {
-	bar := progress.New(ds.M, "posterior", o.quiet)
-	pr, err := scorestat.Posterior(m, ds, grid, threadsOrDefault(o.threads), bar.Func())
-	bar.Done()
-	if err != nil {
-		return fmt.Errorf("score --posterior: %w", err)
-	}
-	if ext == ".csv" {
-		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return pr.WriteSnapshotsCSV(w, names, ds) })
-		if err == nil {
-			err = safefile.Write(sidecar(o.out, "groups"), o.force, func(w io.Writer) error { return pr.WriteGroupsCSV(w, names) })
-		}
-	} else {
-		err = writeNPZ(o.out, o.force, pr.Arrays(ds.M, len(names)), map[string]any{
-			"param_names": names, "checkpoint": ckPath, "data": dataPath, "prior": "uniform over the grid points",
-			"grid": o.grid, "credible_mass": scorestat.Credible, "interval": "central (equal-tailed)", "units": "nats", "software_version": version,
-		})
-	}
-	if err != nil {
-		return err
-	}
-	w := cmd.OutOrStdout()
-	pr.WriteGroups(w, names)
-	fmt.Fprintf(w, "wrote %s: posteriors of %d snapshots over %d grid points\n", o.out, ds.M, len(grid))
-	if ext == ".csv" {
-		fmt.Fprintf(w, "wrote %s: the groups\n", sidecar(o.out, "groups"))
-	}
-	return nil
 }
