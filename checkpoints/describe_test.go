@@ -5,6 +5,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"tidemark/data"
 )
 
 // TestDescribe saves the test checkpoint and checks what Describe reports
@@ -38,6 +40,27 @@ func TestOutside(t *testing.T) {
 	for p, want := range map[float64]int{1: -1, 2.5: -1, 3: -1, 0.9: 0, 3.5: 0} {
 		if got := c.Outside([]float64{p}); got != want {
 			t.Errorf("Outside(T=%v) = %d, want %d", p, got, want)
+		}
+	}
+}
+
+// TestCheckDatasetAs checks an unlabelled dataset in everything but the
+// parameter names: the right size passes, another size is refused.
+func TestCheckDatasetAs(t *testing.T) {
+	c := testCheckpoint(t)
+	for _, tc := range []struct {
+		n  int
+		ok bool
+	}{{9, true}, {4, false}} {
+		ds, err := data.New(2, tc.n, nil, 2, []int{tc.n}, map[string]any{"generator": "test"})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if tc.n == 9 {
+			ds.Meta.Lattice = []int{3, 3}
+		}
+		if err := c.CheckDatasetAs(ds); (err == nil) != tc.ok {
+			t.Errorf("%d sites: %v", tc.n, err)
 		}
 	}
 }

@@ -487,3 +487,16 @@ func (ds *Dataset) Bytes() ([]byte, error) {
 	err := ds.Encode(&b)
 	return b.Bytes(), err
 }
+
+// WriteNPZFile writes arrays and meta, stored as the UTF-8 JSON array
+// "meta", atomically to path as a deflated .npz archive; an existing file
+// is replaced only when force is true.
+func WriteNPZFile(path string, force bool, meta any, arrays ...Array) error {
+	js, err := JSONArray("meta", meta)
+	if err != nil {
+		return err
+	}
+	return safefile.Write(path, force, func(w io.Writer) error {
+		return WriteNPZ(w, zip.Deflate, append(arrays, js)...)
+	})
+}

@@ -55,3 +55,24 @@ func TestWriteNPZRefusesTwoArraysOfOneName(t *testing.T) {
 		t.Errorf("two arrays named a: error %v", err)
 	}
 }
+
+// TestWriteNPZFile writes a file with its meta and refuses to overwrite it
+// without force.
+func TestWriteNPZFile(t *testing.T) {
+	path := t.TempDir() + "/a.npz"
+	if err := WriteNPZFile(path, false, map[string]any{"units": "nats"}, Int64Array("n", []int{3})); err != nil {
+		t.Fatal(err)
+	}
+	r, err := npz.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer r.Close()
+	var meta []uint8
+	if err := r.Read("meta.npy", &meta); err != nil || string(meta) != `{"units":"nats"}` {
+		t.Errorf("meta %q, %v", meta, err)
+	}
+	if err := WriteNPZFile(path, false, nil); err == nil {
+		t.Error("an existing file was overwritten without force")
+	}
+}

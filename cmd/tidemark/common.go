@@ -16,12 +16,7 @@ import (
 
 // checkOutput refuses an existing output file unless force is set, before
 // any long work starts.
-func checkOutput(path string, force bool) error {
-	if err := safefile.CheckWritable(path, force); err != nil {
-		return err
-	}
-	return nil
-}
+func checkOutput(path string, force bool) error { return safefile.CheckWritable(path, force) }
 
 // threadsOrDefault returns n, or the number of CPUs when n ≤ 0.
 func threadsOrDefault(n int) int {

@@ -52,7 +52,8 @@ about two minutes on two cores.`,
   tidemark demo --quiet --seed 7 -o seed7/`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
-			return runDemo(cmd.OutOrStdout(), &o)
+			_, err := demo(cmd.OutOrStdout(), &o)
+			return err
 		},
 	}
 	f := c.Flags()
@@ -75,11 +76,6 @@ about two minutes on two cores.`,
 		f.MarkHidden(n)
 	}
 	return c
-}
-
-func runDemo(w io.Writer, o *demoOptions) error {
-	_, err := demo(w, o)
-	return err
 }
 
 // demo runs the scenario with the options' progress bars and turns a

@@ -1,7 +1,6 @@
 package main
 
 import (
-	"archive/zip"
 	"errors"
 	"fmt"
 	"io"
@@ -9,7 +8,6 @@ import (
 	"strings"
 
 	"github.com/spf13/cobra"
-	"gonum.org/v1/gonum/stat"
 
 	"tidemark/checkpoints"
 	"tidemark/cmd/internal/progress"
@@ -145,15 +143,7 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 	if err != nil {
 		return err
 	}
-	chk := ds
-	if ds.D == 0 {
-		// Unlabelled data scored at --at or for --posterior: check everything
-		// but the names.
-		c := *ds
-		c.Meta.ParamNames = names
-		chk = &c
-	}
-	if err := ck.CheckDataset(chk); err != nil {
+	if err := ck.CheckDatasetAs(ds); err != nil {
 		return fmt.Errorf("score: %s and %s: %w", ckPath, dataPath, err)
 	}
 	if ck.Header.BestEpoch == 0 {
@@ -206,8 +196,8 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 			err = safefile.Write(sidecar(o.out, "points"), o.force, func(w io.Writer) error { return scorestat.WritePointsCSV(w, names, pts, ds.N) })
 		}
 	} else {
-		arrays := scorestat.ScoreArrays(logp, params, flags, pts, len(names), ds.N)
-		err = writeNPZ(o.out, o.force, arrays, map[string]any{"param_names": names, "checkpoint": ckPath, "data": dataPath, "units": "nats", "software_version": version})
+		meta := map[string]any{"param_names": names, "checkpoint": ckPath, "data": dataPath, "units": "nats", "software_version": version}
+		err = data.WriteNPZFile(o.out, o.force, meta, scorestat.ScoreArrays(logp, params, flags, pts, len(names), ds.N)...)
 	}
 	if err != nil {
 		return err
@@ -218,24 +208,13 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 	for _, f := range flags {
 		nflag += int(f)
 	}
-	mean := stat.Mean(logp, nil)
-	fmt.Fprintf(w, "wrote %s: log p of %d snapshots, mean %.4f nats (%.5f bits per site); %d flagged\n", o.out, len(logp), mean, scorestat.BitsPerSite(-mean, ds.N), nflag)
+	mean, _, se := scorestat.MeanErr(logp)
+	fmt.Fprintf(w, "wrote %s: log p of %d snapshots, mean %.4f ± %.2g nats (%.5f ± %.2g bits per site); %d flagged\n",
+		o.out, len(logp), mean, se, scorestat.BitsPerSite(-mean, ds.N), scorestat.BitsPerSite(se, ds.N), nflag)
 	if ext == ".csv" {
 		fmt.Fprintf(w, "wrote %s: the per-point table\n", sidecar(o.out, "points"))
 	}
 	return nil
-}
-
-// writeNPZ writes arrays and meta (as the JSON array "meta") atomically to
-// path as an .npz archive.
-func writeNPZ(path string, force bool, arrays []data.Array, meta map[string]any) error {
-	js, err := data.JSONArray("meta", meta)
-	if err != nil {
-		return err
-	}
-	return safefile.Write(path, force, func(w io.Writer) error {
-		return data.WriteNPZ(w, zip.Deflate, append(arrays, js)...)
-	})
 }
 
 // sidecar returns the name of a second output file beside out:

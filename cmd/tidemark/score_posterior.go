@@ -27,10 +27,10 @@ func runPosterior(cmd *cobra.Command, m *model.Model, ds *data.Dataset, grid [][
 			err = safefile.Write(sidecar(o.out, "groups"), o.force, func(w io.Writer) error { return pr.WriteGroupsCSV(w, names) })
 		}
 	} else {
-		err = writeNPZ(o.out, o.force, pr.Arrays(ds.M, len(names)), map[string]any{
+		err = data.WriteNPZFile(o.out, o.force, map[string]any{
 			"param_names": names, "checkpoint": ckPath, "data": dataPath, "prior": "uniform over the grid points",
 			"grid": o.grid, "credible_mass": scorestat.Credible, "interval": "central (equal-tailed)", "units": "nats", "software_version": version,
-		})
+		}, pr.Arrays(ds.M, len(names))...)
 	}
 	if err != nil {
 		return err
