@@ -3,7 +3,8 @@ package study
 import (
 	"fmt"
 	"io"
-	"sort"
+	"maps"
+	"slices"
 
 	"tidemark/data"
 	"tidemark/indicator"
@@ -33,15 +34,15 @@ func WriteScan(w io.Writer, out string, res *indicator.Result, sum *report.Summa
 	}
 	for _, z := range sum.Zoom {
 		p("  zoom around %s (%d points of %s from %.6g to %.6g):\n", data.FormatPoint(res.Names, z.Around), z.Points, z.Axis, z.From, z.To)
-		names := make([]string, 0, len(z.Indicators))
-		for name := range z.Indicators {
-			names = append(names, name)
-		}
-		sort.Strings(names)
-		for _, name := range names {
+		n := 0
+		for _, name := range slices.Sorted(maps.Keys(z.Indicators)) {
 			for _, pk := range z.Indicators[name].Peaks {
 				p("    %-12s peak at %s\n", name, FormatPeak(res.Names, indicator.Peak{At: pk.At, Err: pk.Err}))
+				n++
 			}
+		}
+		if n == 0 {
+			p("    no peak rose above the noise on this finer grid\n")
 		}
 	}
 	for _, n := range res.Notes {
