@@ -2,7 +2,9 @@ package main
 
 import (
 	"encoding/json"
+	"math"
 	"path/filepath"
+	"regexp"
 	"testing"
 
 	"tidemark/data/ising"
@@ -26,6 +28,10 @@ func TestCheckLargeIsingUsesKaufman(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	text, err := execTidemark(t, "check", ck, "--data", ds)
+	if err != nil {
+		t.Fatal(err)
+	}
 	var rep check.KaufmanReport
 	if err := json.Unmarshal([]byte(out), &rep); err != nil {
 		t.Fatalf("%v in %q", err, out)
@@ -38,6 +44,13 @@ func TestCheckLargeIsingUsesKaufman(t *testing.T) {
 		if p.EntropyPerSite != s || !(p.StdErr > 0) {
 			t.Errorf("%s: entropy %v (want %v), std err %v", p.Label, p.EntropyPerSite, s, p.StdErr)
 		}
+	}
+	sq := 0.0
+	for _, p := range rep.Points {
+		sq += p.StdErr * p.StdErr
+	}
+	if want := math.Sqrt(sq) / 4; math.Abs(rep.MeanStdErr-want) > 1e-12 || !regexp.MustCompile(`mean NLL − S per site [+-][0-9.]+ ± [0-9.]+`).MatchString(text) {
+		t.Errorf("mean NLL − S standard error %v, want %v from the points' errors; text:\n%s", rep.MeanStdErr, want, text)
 	}
 	if rep.MeanNLLMinusS < 0.01 {
 		t.Errorf("one epoch of training: mean NLL − S = %v nats per site, expected clearly positive", rep.MeanNLLMinusS)

@@ -3,6 +3,7 @@ package main
 import (
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -30,5 +31,18 @@ func TestDemoRefusesBadSettings(t *testing.T) {
 		if err == nil {
 			t.Errorf("%v: no error", args)
 		}
+	}
+}
+
+// TestDemoModelSamplesAsScan checks that the demo draws as many model
+// snapshots per point for fisher_deriv as scan does by default, and that its
+// help says how many: fisher_deriv's peak moves with that number (issue 25).
+func TestDemoModelSamplesAsScan(t *testing.T) {
+	def := newScanCmd().Flags().Lookup("model-samples").DefValue
+	if got := strconv.Itoa(defaultDemo().ModelSamples); got != def {
+		t.Errorf("demo draws %s model snapshots per point, scan %s by default", got, def)
+	}
+	if long := newDemoCmd().Long; !strings.Contains(long, def+" model snapshots per point") {
+		t.Errorf("demo --help does not say it draws %s model snapshots per point", def)
 	}
 }

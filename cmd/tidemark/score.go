@@ -52,8 +52,8 @@ The output format follows the extension: .npz holds the arrays "logp" (M),
 "params" (M × d, the λ used), "bits_per_site" (M), "flagged" (M, 0/1) and the
 per-point table (point_params, point_count, point_mean_nll, point_std_nll,
 point_sem_nll, point_ref_lo, point_ref_hi, point_flagged); .csv has a header
-line and one row per snapshot (index, the parameters, logp), and the per-point
-table goes to SCORES.points.csv beside it.
+line and one row per snapshot (index, the parameters, logp in nats and
+bits_per_site), and the per-point table goes to SCORES.points.csv beside it.
 
 --posterior --grid "T=1.5:3.5:81" asks instead which parameters the snapshots
 came from: with a uniform prior over the grid points, the posterior of every
@@ -191,7 +191,7 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 		return fmt.Errorf("score: %w", err)
 	}
 	if ext == ".csv" {
-		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return scorestat.WriteScoresCSV(w, names, logp, params) })
+		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return scorestat.WriteScoresCSV(w, names, logp, params, ds.N) })
 		if err == nil {
 			err = safefile.Write(sidecar(o.out, "points"), o.force, func(w io.Writer) error { return scorestat.WritePointsCSV(w, names, pts, ds.N) })
 		}

@@ -8,6 +8,7 @@ import (
 
 	"tidemark/data"
 	"tidemark/indicator"
+	"tidemark/indicator/scorestat"
 	"tidemark/train"
 )
 
@@ -20,7 +21,9 @@ type Point struct {
 	TV              float64   `json:"tv"`
 	EntropyPerSite  float64   `json:"entropy_per_site"`
 	NLLMinusEntropy *float64  `json:"nll_minus_entropy_per_site"`
-	Samples         int       `json:"samples"`
+	// StdErr is the standard error of NLLMinusEntropy from the samples.
+	StdErr  *float64 `json:"nll_minus_entropy_std_err"`
+	Samples int      `json:"samples"`
 }
 
 // Report is the result of Enumerate; its JSON keys are stable.
@@ -141,11 +144,12 @@ func Enumerate(exact, mdl indicator.Source, ds *data.Dataset, heldOut [][]float6
 			if err != nil {
 				return nil, err
 			}
-			s := 0.0
-			for _, v := range nll {
-				s += v
+			for i := range nll {
+				nll[i] /= float64(N)
 			}
-			row.NLLMinusEntropy = finite(s/float64(len(nll))/float64(N) - d.Entropy/float64(N))
+			mean, _, se := scorestat.MeanErr(nll)
+			row.NLLMinusEntropy = finite(mean - d.Entropy/float64(N))
+			row.StdErr = finite(se)
 		}
 		rep.Points = append(rep.Points, row)
 		sum += kl
@@ -184,20 +188,20 @@ func fmtOpt(v *float64, format string) string {
 func (r *Report) WriteText(w io.Writer) error {
 	fmt.Fprintf(w, "model %s against the exact %s distribution of %s: %d states per point, nats per site\n", r.Checkpoint, r.Generator, r.Data, r.States)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintln(tw, "point\t\tKL\tTV\tNLL − H\tentropy\tsamples\t")
+	fmt.Fprintln(tw, "point\t\tKL\tTV\tNLL − H\t± std err\tentropy\tsamples\t")
 	for _, p := range r.Points {
 		held := ""
 		if p.HeldOut {
 			held = "held out"
 		}
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%.4f\t%s\t%.4f\t%d\t\n", p.Label, held, fmtOpt(p.KLPerSite, "%.5f"), p.TV, fmtOpt(p.NLLMinusEntropy, "%+.5f"), p.EntropyPerSite, p.Samples)
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%.4f\t%s\t%s\t%.4f\t%d\t\n", p.Label, held, fmtOpt(p.KLPerSite, "%.5f"), p.TV, fmtOpt(p.NLLMinusEntropy, "%+.5f"), fmtOpt(p.StdErr, "%.5f"), p.EntropyPerSite, p.Samples)
 	}
 	if err := tw.Flush(); err != nil {
 		return err
 	}
 	fmt.Fprintf(w, "mean KL per site %s (trained points %s, held-out points %s), max %s\n",
 		fmtOpt(r.MeanKLPerSite, "%.5f"), fmtOpt(r.MeanKLTrained, "%.5f"), fmtOpt(r.MeanKLHeldOut, "%.5f"), fmtOpt(r.MaxKLPerSite, "%.5f"))
-	fmt.Fprintln(w, "KL and TV are exact sums over all states; NLL − H averages over the dataset's samples at each point and carries their sampling noise")
+	fmt.Fprintln(w, "KL and TV are exact sums over all states (their means carry no sampling error); NLL − H averages over the dataset's samples at each point and carries their sampling noise (± its standard error)")
 	if !r.SameData {
 		fmt.Fprintln(w, "note: this dataset is not the one the model was trained on (fingerprints differ); NLL − H uses its samples")
 	}

@@ -58,6 +58,9 @@ func TestEnumerateExactAgainstItself(t *testing.T) {
 			s2 += lp[0] * lp[0] / 81
 		}
 		se := math.Sqrt((s2/n - (s/n)*(s/n)) / n)
+		if p.StdErr == nil || math.Abs(*p.StdErr-se*math.Sqrt(n/(n-1.0))) > 1e-9 {
+			t.Errorf("%s: standard error %v, want %v", p.Label, p.StdErr, se*math.Sqrt(n/(n-1.0)))
+		}
 		if d := *p.NLLMinusEntropy; math.Abs(d) > 4*se {
 			t.Errorf("%s: NLL − H = %v per site, more than 4 standard errors (%v) from 0", p.Label, d, se)
 		}

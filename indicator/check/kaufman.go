@@ -25,17 +25,20 @@ type KaufmanPoint struct {
 
 // KaufmanReport is the result of Kaufman; its JSON keys are stable.
 type KaufmanReport struct {
-	Checkpoint     string         `json:"checkpoint"`
-	Data           string         `json:"data"`
-	Generator      string         `json:"generator"`
-	Reference      string         `json:"reference"`
-	Sites          int            `json:"sites"`
-	Units          string         `json:"units"`
-	SameData       bool           `json:"same_data_as_training"`
-	Points         []KaufmanPoint `json:"points"`
-	MeanNLLMinusS  float64        `json:"mean_nll_minus_entropy_per_site"`
-	KLPerSite      *float64       `json:"mean_kl_per_site"`
-	KLNotAvailable string         `json:"kl_not_available"`
+	Checkpoint    string         `json:"checkpoint"`
+	Data          string         `json:"data"`
+	Generator     string         `json:"generator"`
+	Reference     string         `json:"reference"`
+	Sites         int            `json:"sites"`
+	Units         string         `json:"units"`
+	SameData      bool           `json:"same_data_as_training"`
+	Points        []KaufmanPoint `json:"points"`
+	MeanNLLMinusS float64        `json:"mean_nll_minus_entropy_per_site"`
+	// MeanStdErr is the standard error of MeanNLLMinusS from the points'
+	// errors, √(Σ σ_k²)/K (the points' samples are independent).
+	MeanStdErr     float64  `json:"mean_nll_minus_entropy_std_err"`
+	KLPerSite      *float64 `json:"mean_kl_per_site"`
+	KLNotAvailable string   `json:"kl_not_available"`
 	lattice        []int
 }
 
@@ -72,7 +75,7 @@ func Kaufman(mdl indicator.Source, ds *data.Dataset, heldOut [][]float64) (rep *
 		KLNotAvailable: fmt.Sprintf("the %d×%d lattice has 2^%d states, too many to sum KL and TV over; NLL − S estimates KL from the samples", sm.Lattice[0], sm.Lattice[1], N),
 		Points:         []KaufmanPoint{},
 	}
-	var sum float64
+	var sum, sq float64
 	for k, p := range g.Points {
 		c, err := sm.Couplings(p)
 		if err != nil {
@@ -93,8 +96,10 @@ func Kaufman(mdl indicator.Source, ds *data.Dataset, heldOut [][]float64) (rep *
 		rep.Points = append(rep.Points, KaufmanPoint{Params: p, Label: g.Label(k), HeldOut: isHeld(heldOut, p),
 			EntropyPerSite: s, NLLMinusEntropy: mean - s, StdErr: se, Samples: len(nll)})
 		sum += mean - s
+		sq += se * se
 	}
 	rep.MeanNLLMinusS = sum / float64(len(rep.Points))
+	rep.MeanStdErr = math.Sqrt(sq) / float64(len(rep.Points))
 	return rep, true, nil
 }
 
@@ -114,7 +119,7 @@ func (r *KaufmanReport) WriteText(w io.Writer) error {
 	if err := tw.Flush(); err != nil {
 		return err
 	}
-	fmt.Fprintf(w, "mean NLL − S per site %+.5f\n", r.MeanNLLMinusS)
+	fmt.Fprintf(w, "mean NLL − S per site %+.5f ± %.5f (standard error from the points' errors)\n", r.MeanNLLMinusS, r.MeanStdErr)
 	fmt.Fprintf(w, "NLL − S is the model's cross-entropy on the dataset's samples minus the exact entropy: it estimates KL(p_exact‖p_model) per site and carries the samples' noise (and their Monte Carlo correlations); %s\n", r.KLNotAvailable)
 	if !r.SameData {
 		fmt.Fprintln(w, "note: this dataset is not the one the model was trained on (fingerprints differ)")

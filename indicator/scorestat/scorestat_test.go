@@ -5,6 +5,7 @@ import (
 	"encoding/csv"
 	"math"
 	"math/rand/v2"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -207,5 +208,21 @@ func TestPosteriorFindsTheTemperature(t *testing.T) {
 	}
 	if a := pr.Arrays(ds.M, 1); len(a) != 13 || a[1].Name != "log_posterior" {
 		t.Errorf("arrays %v", a)
+	}
+}
+
+// TestWriteScoresCSVBitsPerSite checks the CSV's bits per site against the
+// conversion −ln p / (N ln 2) (common practice).
+func TestWriteScoresCSVBitsPerSite(t *testing.T) {
+	var b bytes.Buffer
+	if err := WriteScoresCSV(&b, []string{"T"}, []float64{-16 * math.Ln2, -8}, []float64{2, 3}, 16); err != nil {
+		t.Fatal(err)
+	}
+	rows, err := csv.NewReader(&b).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if strings.Join(rows[0], ",") != "index,T,logp,bits_per_site" || rows[1][3] != "1" || rows[2][3] != strconv.FormatFloat(8.0/16/math.Ln2, 'g', -1, 64) {
+		t.Errorf("CSV %v", rows)
 	}
 }

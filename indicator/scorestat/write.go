@@ -30,18 +30,18 @@ func WriteTable(w io.Writer, names []string, pts []Point, n int) {
 		100*RefLo, 100*RefHi, RefSamples)
 }
 
-// WriteScoresCSV writes one row per snapshot: its index, the λ it was
-// scored at and its log-likelihood (nats).
-func WriteScoresCSV(w io.Writer, names []string, logp, params []float64) error {
+// WriteScoresCSV writes one row per snapshot of n sites: its index, the λ
+// it was scored at, its log-likelihood (nats) and its NLL in bits per site.
+func WriteScoresCSV(w io.Writer, names []string, logp, params []float64, n int) error {
 	bw := bufio.NewWriter(w)
 	d := len(names)
-	fmt.Fprintf(bw, "index,%s,logp\n", strings.Join(names, ","))
+	fmt.Fprintf(bw, "index,%s,logp,bits_per_site\n", strings.Join(names, ","))
 	for i, v := range logp {
 		bw.WriteString(strconv.Itoa(i))
 		for _, p := range params[i*d : (i+1)*d] {
 			bw.WriteString("," + g(p))
 		}
-		bw.WriteString("," + g(v) + "\n")
+		bw.WriteString("," + g(v) + "," + g(BitsPerSite(-v, n)) + "\n")
 	}
 	return bw.Flush()
 }

@@ -2,44 +2,68 @@ package study
 
 import (
 	"fmt"
+	"math"
+	"slices"
 	"strings"
+
+	"gonum.org/v1/gonum/stat"
 
 	"tidemark/indicator"
 )
 
-// Answer returns the indicator whose peak gives the estimate of a
-// transition in a 1-D scan, and that peak: lbc when it has a peak above the
-// noise, else pbm, else sl (the other indicators that weigh the whole
-// grid), else the curve whose highest peak has the smallest position
-// error. lbc is preferred because every cut weighs the snapshots of the
-// whole grid, so a misfit of the model at a few points cannot make a sharp
-// wrong peak, whereas the local indicators (local, fisher, fisher_deriv)
-// follow the model point by point and a local misfit can make a sharp peak
-// whose bootstrap error is small but which is wrong. It is not always the
-// closest to the exact density's peak, which is why the demo prints that
-// comparison beside it.
-func Answer(res *indicator.Result) (string, indicator.Peak, bool) {
-	for _, want := range []string{indicator.LBC, indicator.PBM, indicator.SL} {
-		for _, c := range res.Curves {
-			if c.Name == want {
-				if pk, ok := TopPeak(c); ok {
-					return c.Name, pk, true
-				}
-			}
-		}
-	}
-	var best indicator.Peak
-	name := ""
+// Estimate is a transition point combined from the highest peaks of
+// several 1-D indicator curves.
+type Estimate struct {
+	// T is the mean of the peaks' positions.
+	T float64
+	// Err is √(mean of the peaks' squared bootstrap errors + Spread²): a
+	// typical single indicator's error (the indicators share the snapshots,
+	// so averaging them does not shrink it) widened by their disagreement.
+	Err float64
+	// Spread is the standard deviation of the peaks' positions.
+	Spread float64
+	// Indicators names the curves combined, in the order of the result.
+	Indicators []string
+}
+
+// Combine returns the Estimate from the highest tested peak (TopPeak) of
+// each curve of res named in names; ok is false when none has one.
+func Combine(res *indicator.Result, names []string) (Estimate, bool) {
+	var e Estimate
+	var at []float64
+	sq := 0.0
 	for _, c := range res.Curves {
-		top, ok := TopPeak(c)
-		if !ok {
+		pk, ok := TopPeak(c)
+		if !ok || !slices.Contains(names, c.Name) {
 			continue
 		}
-		if name == "" || top.Err[0] < best.Err[0] {
-			name, best = c.Name, top
-		}
+		e.Indicators = append(e.Indicators, c.Name)
+		at = append(at, pk.At[0])
+		sq += pk.Err[0] * pk.Err[0]
 	}
-	return name, best, name != ""
+	if len(at) == 0 {
+		return e, false
+	}
+	e.T = stat.Mean(at, nil)
+	if len(at) > 1 {
+		e.Spread = stat.StdDev(at, nil)
+	}
+	e.Err = math.Sqrt(sq/float64(len(at)) + e.Spread*e.Spread)
+	return e, true
+}
+
+// Agreement returns how many combined standard errors apart two estimates
+// lie, |a.T − b.T| / √(a.Err² + b.Err²), and says in words whether they
+// agree within their errors.
+func Agreement(a, b Estimate) (z float64, words string) {
+	z = math.Abs(a.T-b.T) / math.Hypot(a.Err, b.Err)
+	switch {
+	case z <= 1:
+		return z, "they agree within their errors"
+	case z <= 2:
+		return z, "they agree within two standard errors"
+	}
+	return z, fmt.Sprintf("they disagree beyond their errors (%.1f standard errors apart): the model misfits these snapshots, and the exact density's estimate is the one to trust", z)
 }
 
 // TopPeak returns the highest peak of a 1-D curve that stands above the

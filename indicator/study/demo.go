@@ -25,6 +25,11 @@ import (
 // (1944)).
 var OnsagerTc = 2 / math.Log(1+math.Sqrt2)
 
+// ScanModelSamples is the default number of snapshots a scan draws from a
+// source at every point for fisher_deriv and on refined grids; the demo
+// uses the same number.
+const ScanModelSamples = 1000
+
 // Files of the demo folder.
 const (
 	DemoData  = "monolayer.npz"
@@ -68,21 +73,29 @@ type Demo struct {
 func DefaultDemo() Demo {
 	return Demo{
 		Out: "tidemark-demo", Seed: 1, Threads: runtime.NumCPU(),
-		Size: 12, Points: 14, Samples: 600, Epochs: 30, ModelSamples: 500, Bootstrap: 100,
+		Size: 12, Points: 14, Samples: 600, Epochs: 30, ModelSamples: ScanModelSamples, Bootstrap: 100,
 		TLo: 1.6, THi: 3.2,
 	}
 }
 
 // Outcome is what a demo found.
 type Outcome struct {
+	// Indicator names the indicators combined into the estimate.
 	Indicator string
-	T, Err    float64
-	Kaufman   float64 // heat-capacity peak of the finite lattice
-	KaufmanF  float64 // peak of C/T² (the Fisher information per site) of the finite lattice
-	// Same is the peak of the same indicator computed with the exact
-	// density on the same snapshots (NaN when it has none above the noise).
+	// T and Err are the estimate from the model (Model.T, Model.Err).
+	T, Err   float64
+	Kaufman  float64 // heat-capacity peak of the finite lattice
+	KaufmanF float64 // peak of C/T² (the Fisher information per site) of the finite lattice
+	// Same is the estimate from the same indicators computed with the
+	// exact density on the same snapshots.
 	Same float64
-	Page string
+	// Model and Exact are the combined estimates from the model and from
+	// the exact density; Z is how many combined standard errors apart they
+	// lie and Agreement says it in words.
+	Model, Exact Estimate
+	Z            float64
+	Agreement    string
+	Page         string
 }
 
 // Validate checks the scenario's settings, naming the flag of each.
@@ -143,11 +156,11 @@ func (d *Demo) Run(ctx context.Context, w io.Writer) (*Outcome, error) {
 	if err != nil {
 		return nil, err
 	}
-	res, exactPeak, err := d.scan(ctx, w, ck, ds)
+	res, eres, err := d.scan(ctx, w, ck, ds)
 	if err != nil {
 		return nil, err
 	}
-	out, err := d.compare(res, exactPeak)
+	out, exactPeak, err := d.compare(res, eres)
 	if err != nil {
 		return nil, err
 	}
@@ -242,51 +255,60 @@ func (d *Demo) train(ctx context.Context, w io.Writer, ds *data.Dataset, dir str
 // scan computes the indicators with the model, and the same indicators
 // with the exact density of the same snapshots (Kaufman's ln Z; the lattice
 // is too large to enumerate but each snapshot's probability is exact), the
-// like-for-like reference for every curve, whose highest peaks it returns.
-func (d *Demo) scan(ctx context.Context, w io.Writer, ck *checkpoints.Checkpoint, ds *data.Dataset) (*indicator.Result, map[string]indicator.Peak, error) {
+// like-for-like reference for every curve.
+func (d *Demo) scan(ctx context.Context, w io.Writer, ck *checkpoints.Checkpoint, ds *data.Dataset) (res, eres *indicator.Result, err error) {
 	start := time.Now()
 	mdl, err := ck.Model()
 	if err != nil {
 		return nil, nil, err
 	}
 	cfg := indicator.Config{ModelSamples: d.ModelSamples, Bootstrap: d.Bootstrap, Threads: d.Threads, Seed: d.Seed, Progress: d.Progress}
-	res, stopped, err := Scan(ctx, []indicator.Source{mdl}, ds, cfg)
+	var stopped bool
+	res, stopped, err = Scan(ctx, []indicator.Source{mdl}, ds, cfg)
 	if stopped {
 		return nil, nil, ErrStopped
 	}
 	if err != nil {
 		return nil, nil, fmt.Errorf("scan: %w", err)
 	}
-	fmt.Fprintf(w, "scanned %d indicators in %.0f s (%d bootstrap resamples)\n", len(res.Curves), time.Since(start).Seconds(), res.Bootstrap)
+	fmt.Fprintf(w, "scanned %d indicators in %.0f s (%d bootstrap resamples; %d model snapshots per point for fisher_deriv, as scan --model-samples)\n",
+		len(res.Curves), time.Since(start).Seconds(), res.Bootstrap, d.ModelSamples)
 	ksrc, err := ising.NewKaufmanSource(ising.Lattice{Ly: d.Size, Lx: d.Size}, []string{"T"}, ising.Couplings{Jx: 1, Jy: 1})
 	if err != nil {
 		return nil, nil, err
 	}
 	cfg.Progress = nil
-	eres, err := indicator.Run([]indicator.Source{ksrc}, ds, cfg)
+	eres, err = indicator.Run([]indicator.Source{ksrc}, ds, cfg)
 	if err != nil {
 		return nil, nil, fmt.Errorf("exact scan: %w", err)
 	}
+	return res, eres, nil
+}
+
+// compare combines the indicators that have a peak above the noise both
+// with the model and with the exact density into one estimate each, says
+// whether they agree, and computes the exact references of the lattice.
+func (d *Demo) compare(res, eres *indicator.Result) (*Outcome, map[string]indicator.Peak, error) {
 	exactPeak := map[string]indicator.Peak{}
 	for _, c := range eres.Curves {
 		if pk, ok := TopPeak(c); ok {
 			exactPeak[c.Name] = pk
 		}
 	}
-	return res, exactPeak, nil
-}
-
-// compare chooses the estimate and computes the exact references.
-func (d *Demo) compare(res *indicator.Result, exactPeak map[string]indicator.Peak) (*Outcome, error) {
-	name, pk, ok := Answer(res)
+	var names []string
+	for _, c := range res.Curves {
+		if _, ok := exactPeak[c.Name]; ok {
+			names = append(names, c.Name)
+		}
+	}
+	model, ok := Combine(res, names)
 	if !ok {
-		return nil, errors.New("no indicator has a peak above the bootstrap noise; the model may be under-trained (this should not happen with the built-in settings)")
+		return nil, nil, errors.New("no indicator has a peak above the bootstrap noise with both the model and the exact density; the model may be under-trained (this should not happen with the built-in settings)")
 	}
-	out := &Outcome{Indicator: name, T: pk.At[0], Err: pk.Err[0], Same: math.NaN()}
-	if ep, ok := exactPeak[name]; ok {
-		out.Same = ep.At[0]
-	}
+	exact, _ := Combine(eres, model.Indicators)
+	out := &Outcome{Indicator: strings.Join(model.Indicators, ", "), T: model.T, Err: model.Err, Same: exact.T, Model: model, Exact: exact}
+	out.Z, out.Agreement = Agreement(model, exact)
 	out.Kaufman, _ = ising.KaufmanPeak(d.Size, d.Size, 1, 1, d.TLo, d.THi)
 	out.KaufmanF, _ = ising.KaufmanFisherPeak(d.Size, d.Size, 1, 1, d.TLo, d.THi)
-	return out, nil
+	return out, exactPeak, nil
 }
