@@ -138,6 +138,9 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if err := ds.Validate(o.data); err != nil {
 		return err
 	}
+	if k := data.NewGrid(ds).K(); k < 2 {
+		return fmt.Errorf("scan: %s: expected at least 2 distinct grid points, found %d (the indicators compare points)", o.data, k)
+	}
 	sources, err := study.Sources(kind, ds, o.data, o.models)
 	if err != nil {
 		return fmt.Errorf("scan --%s: %w", kind, err)

@@ -113,9 +113,6 @@ func (o *simulateChainOptions) chainSetup() (*chain.Source, data.GridSpec, error
 	if err != nil {
 		return nil, spec, fmt.Errorf("--grid: %w", err)
 	}
-	if k := len(spec.Points()); k < 2 {
-		return nil, spec, fmt.Errorf("--grid: expected at least 2 grid points, found %d", k)
-	}
 	h, err := chain.Parse(o.hamiltonian)
 	if err != nil {
 		return nil, spec, fmt.Errorf("--hamiltonian: %w", err)

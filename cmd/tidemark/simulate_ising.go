@@ -132,9 +132,6 @@ func (o *simulateIsingOptions) isingConfig() (ising.Config, error) {
 		return cfg, fmt.Errorf("--temperature: T is not a grid axis, so expected a temperature above 0, found %v", o.temperature)
 	}
 	points := spec.Points()
-	if len(points) < 2 {
-		return cfg, fmt.Errorf("--grid: expected at least 2 grid points, found %d", len(points))
-	}
 	lat := ising.Lattice{Ly: ly, Lx: o.size}
 	if err := lat.Validate(); err != nil {
 		return cfg, fmt.Errorf("--size: %w", err)

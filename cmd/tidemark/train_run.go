@@ -96,6 +96,9 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 	if err != nil {
 		return err
 	}
+	if k := data.NewGrid(ds).K(); k < 2 {
+		return fmt.Errorf("train: %s: expected at least 2 distinct grid points, found %d (the model learns how the snapshots change between points)", dataPath, k)
+	}
 	stdout, stderr := cmd.OutOrStdout(), cmd.ErrOrStderr()
 	var bar *progress.Bar
 	opt.Start = func(perEpoch, epochs int) {
