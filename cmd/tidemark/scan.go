@@ -66,7 +66,7 @@ trace of the metric from the divergences at the centres of the grid's cells. Wit
 each second pass gets its own zoom-<i>.csv.`,
 		Example: `  tidemark scan --data film.npz --model film.ckpt -o scan/
   tidemark scan --data film.npz --exact --exact-sums --indicators fisher,local -o exact-scan/
-  tidemark scan --data small.npz --histogram --bootstrap 200 -o hist-scan/
+  tidemark scan --data open8.npz --histogram --bootstrap 200 -o hist-scan/
   tidemark scan --data film.npz --model a.ckpt --model b.ckpt --refine 4 --zoom -o fine/ --force`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
