@@ -177,6 +177,14 @@ func Enumerate(exact, mdl indicator.Source, ds *data.Dataset, heldOut [][]float6
 // points of ds and the held-out points not among them.
 func Points(ds *data.Dataset, heldOut [][]float64) int { return len(targets(ds, heldOut)) }
 
+// heldLabel marks a held-out point in a table.
+func heldLabel(held bool) string {
+	if held {
+		return "held out"
+	}
+	return ""
+}
+
 func fmtOpt(v *float64, format string) string {
 	if v == nil {
 		return "—"
@@ -190,11 +198,7 @@ func (r *Report) WriteText(w io.Writer) error {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintln(tw, "point\t\tKL\tTV\tNLL − H\t± std err\tentropy\tsamples\t")
 	for _, p := range r.Points {
-		held := ""
-		if p.HeldOut {
-			held = "held out"
-		}
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%.4f\t%s\t%s\t%.4f\t%d\t\n", p.Label, held, fmtOpt(p.KLPerSite, "%.5f"), p.TV, fmtOpt(p.NLLMinusEntropy, "%+.5f"), fmtOpt(p.StdErr, "%.5f"), p.EntropyPerSite, p.Samples)
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%.4f\t%s\t%s\t%.4f\t%d\t\n", p.Label, heldLabel(p.HeldOut), fmtOpt(p.KLPerSite, "%.5f"), p.TV, fmtOpt(p.NLLMinusEntropy, "%+.5f"), fmtOpt(p.StdErr, "%.5f"), p.EntropyPerSite, p.Samples)
 	}
 	if err := tw.Flush(); err != nil {
 		return err

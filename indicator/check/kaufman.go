@@ -110,11 +110,7 @@ func (r *KaufmanReport) WriteText(w io.Writer) error {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintln(tw, "point\t\tNLL − S\t± std err\tentropy S\tsamples\t")
 	for _, p := range r.Points {
-		h := ""
-		if p.HeldOut {
-			h = "held out"
-		}
-		fmt.Fprintf(tw, "%s\t%s\t%+.5f\t%.5f\t%.5f\t%d\t\n", p.Label, h, p.NLLMinusEntropy, p.StdErr, p.EntropyPerSite, p.Samples)
+		fmt.Fprintf(tw, "%s\t%s\t%+.5f\t%.5f\t%.5f\t%d\t\n", p.Label, heldLabel(p.HeldOut), p.NLLMinusEntropy, p.StdErr, p.EntropyPerSite, p.Samples)
 	}
 	if err := tw.Flush(); err != nil {
 		return err
