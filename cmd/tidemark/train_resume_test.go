@@ -105,3 +105,21 @@ func TestTrainSignalHintRuns(t *testing.T) {
 		t.Errorf("the printed command continued from epoch %d to %d with %d metrics", first.Header.Optimizer.Epoch, c.Header.Optimizer.Epoch, len(c.Header.Metrics))
 	}
 }
+
+// TestTrainResumeNamesRecordedDataset resumes without DATA from a folder
+// where the recorded (relative) dataset path does not exist: the error says
+// the path came from the checkpoint and how to name the data instead.
+func TestTrainResumeNamesRecordedDataset(t *testing.T) {
+	dir := t.TempDir()
+	t.Chdir(dir)
+	ckptTestData(t, dir, "d.npz", 2)
+	ck := filepath.Join(dir, "m.ckpt")
+	if _, err := execTidemark(t, "train", "d.npz", "-o", ck, "--hidden", "16", "--epochs", "2", "--stop-after", "1", "--quiet"); err != nil {
+		t.Fatal(err)
+	}
+	t.Chdir(t.TempDir())
+	_, err := execTidemark(t, "train", "--resume", ck, "--quiet")
+	if err == nil || !strings.Contains(err.Error(), "the dataset recorded in "+ck) || !strings.Contains(err.Error(), "give DATA") {
+		t.Errorf("resume from elsewhere: %v", err)
+	}
+}

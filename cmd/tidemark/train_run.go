@@ -93,7 +93,9 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 		}
 	}
 	ds, err := data.Read(dataPath)
-	if err != nil {
+	if err != nil && resumed != nil && resumed.Header.Dataset.Path == dataPath {
+		return fmt.Errorf("%w (the dataset recorded in %s; give DATA to name another path to the same data)", err, o.resume)
+	} else if err != nil {
 		return err
 	}
 	if k := data.NewGrid(ds).K(); k < 2 {
