@@ -2,12 +2,14 @@
 # bench/run.sh — side-by-side throughput of tidemark's model package and a
 # PyTorch CPU peer of the same conditional MADE, in one run on one machine.
 #
-#   bench/run.sh [-s SHAPES] [-f SHAPES] [-g POINTS] [-b SECONDS] [-r REPS] [-n ROUNDS] [-o FILE]
+#   bench/run.sh [-s SHAPES] [-f SHAPES] [-a ACTIVATION] [-g POINTS] [-b SECONDS] [-r REPS] [-n ROUNDS] [-o FILE]
 #
 #   -s  comma-separated NxH shapes of the additive model (conditioning that
 #       shifts every layer, the peer's default; default 64x256,256x512,1024x1024)
 #   -f  comma-separated NxH shapes of the FiLM model (shift and scale, the
 #       trainer's default; default 256x512; "" skips it)
+#   -a  activation of the hidden layers and the conditioning net on both
+#       sides: softplus (default, the model train fits) or relu
 #   -g  the training batch's λ come from this many grid points, as a
 #       dataset's do (default 21); 0 gives every snapshot its own λ, which
 #       takes away our step's grouping of the conditioning heads by λ
@@ -26,21 +28,23 @@ set -eu
 cd "$(dirname "$0")/.."
 shapes=64x256,256x512,1024x1024
 filmshapes=256x512
+act=softplus
 grid=21
 budget=20
 reps=5
 rounds=2
 out=bench/RESULTS.md
-while getopts s:f:g:b:r:n:o: opt; do
+while getopts s:f:a:g:b:r:n:o: opt; do
 	case $opt in
 	s) shapes=$OPTARG ;;
 	f) filmshapes=$OPTARG ;;
+	a) act=$OPTARG ;;
 	g) grid=$OPTARG ;;
 	b) budget=$OPTARG ;;
 	r) reps=$OPTARG ;;
 	n) rounds=$OPTARG ;;
 	o) out=$OPTARG ;;
-	*) echo "usage: bench/run.sh [-s SHAPES] [-f SHAPES] [-g POINTS] [-b SECONDS] [-r REPS] [-n ROUNDS] [-o FILE]" >&2; exit 2 ;;
+	*) echo "usage: bench/run.sh [-s SHAPES] [-f SHAPES] [-a ACTIVATION] [-g POINTS] [-b SECONDS] [-r REPS] [-n ROUNDS] [-o FILE]" >&2; exit 2 ;;
 	esac
 done
 threads=2
@@ -107,9 +111,9 @@ while [ $round -le "$rounds" ]; do
 		for side in $sides; do
 			echo "bench: round $round, $shape, $kind model, $side" >&2
 			case $side in
-			gonum) "$tmp/gobench" -threads $threads -reps $reps -budget "$budget" -gemm 0 -shapes "$shape" -matrows $rows -grid $grid $gofilm >>"$raw" ;;
-			openblas) OPENBLAS_NUM_THREADS=1 "$tmp/gobench_openblas" -threads $threads -reps $reps -budget "$budget" -gemm 0 -shapes "$shape" -matrows $rows -grid $grid $gofilm >>"$raw" ;;
-			peer) env $peerenv OMP_WAIT_POLICY=PASSIVE /usr/bin/python3 bench/peer/made_peer.py --threads $threads --reps $reps --budget "$budget" --gemm 0 --shapes "$shape" --matrows $rows --grid $grid $peerfilm >>"$raw" ;;
+			gonum) "$tmp/gobench" -threads $threads -reps $reps -budget "$budget" -gemm 0 -shapes "$shape" -matrows $rows -grid $grid -activation $act $gofilm >>"$raw" ;;
+			openblas) OPENBLAS_NUM_THREADS=1 "$tmp/gobench_openblas" -threads $threads -reps $reps -budget "$budget" -gemm 0 -shapes "$shape" -matrows $rows -grid $grid -activation $act $gofilm >>"$raw" ;;
+			peer) env $peerenv OMP_WAIT_POLICY=PASSIVE /usr/bin/python3 bench/peer/made_peer.py --threads $threads --reps $reps --budget "$budget" --gemm 0 --shapes "$shape" --matrows $rows --grid $grid --activation $act $peerfilm >>"$raw" ;;
 			esac
 		done
 	done

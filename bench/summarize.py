@@ -44,7 +44,9 @@ def main():
             key = ("peer" if r["side"] == "peer" else label(r).split("/")[0], r["precision"])
             gemm[key] = max(gemm.get(key, 0), r["rate"])
             continue
-        k = (label(r), r["what"], r["n"], r["h"], r.get("model", "additive"))
+        # The model column names the conditioning and the activation (runs
+        # before the activation was recorded measured ReLU).
+        k = (label(r), r["what"], r["n"], r["h"], r.get("model", "additive") + ", " + r.get("activation", "relu"))
         groups[k].append(r["rate"])
         if "cpu_rate" in r:
             cpug[k].append(r["cpu_rate"])
@@ -62,7 +64,7 @@ def main():
     nproc = os.cpu_count()
     goversion = subprocess.run(["go", "version"], capture_output=True, text=True).stdout.strip()
     # The additive model's shapes first, then the FiLM model's.
-    shapes = sorted({(k[2], k[3], k[4]) for k in groups}, key=lambda t: (t[2] != "additive", t[0], t[1]))
+    shapes = sorted({(k[2], k[3], k[4]) for k in groups}, key=lambda t: (not t[2].startswith("additive"), t[0], t[1]))
     ours = [l for l in ("gonum/float64", "gonum/float32", "openblas/float64", "openblas/float32")
             if any(k[0] == l for k in groups)]
     p = print
@@ -82,8 +84,12 @@ def main():
       f"Each figure is the median of up to {a.reps} repetitions after a warm-up of 0.3 s (a repetition makes as many calls as the warm-up did), within a budget of "
       f"{a.budget} s per shape and side, then the median over rounds.")
     p()
-    p("Model: q = 2, two masked hidden layers of width H, conditioning MLP [64] (relu) on the features "
-      "t, sin(πft), cos(πft), f = 1, 2, direct connection, ReLU hidden units; batch 256; Adam. The "
+    acts = sorted({k[4].split(", ")[1] for k in groups})
+    p("Model: q = 2, two masked hidden layers of width H, conditioning MLP [64] on the features "
+      f"t, sin(πft), cos(πft), f = 1, 2, direct connection, {' and '.join(acts)} units in the hidden layers and the conditioning net "
+      "(the model column says which; tidemark's train fits softplus by default" +
+      ("" if acts == ["softplus"] else ", so figures marked relu are not those of the model a user trains") +
+      "); batch 256; Adam. The "
       "conditioning either adds a bias to every masked layer (*additive*, the peer's default "
       "conditioning) or also scales it, a·(1 + u·S) (*FiLM*, the conditioning tidemark's trainer "
       "uses by default; `gobench -film` and `made_peer.py --film`). `train` = snapshots per second through LossGrad + an Adam update over all "

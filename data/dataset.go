@@ -220,9 +220,6 @@ func (ds *Dataset) validate(file string, needParams bool) error {
 		}
 	}
 	g := NewGrid(ds)
-	if g.K() < 2 {
-		return bad("params", "at least 2 distinct grid points", fmt.Sprintf("%d", g.K()))
-	}
 	for k, idx := range g.Index {
 		if len(idx) < 2 {
 			return bad("params", "at least 2 samples at every grid point", fmt.Sprintf("%d at %s", len(idx), g.Label(k)))

@@ -1,6 +1,7 @@
 package data
 
 import (
+	"bytes"
 	"encoding/json"
 	"errors"
 	"io"
@@ -128,5 +129,29 @@ func TestValidateInMemory(t *testing.T) {
 	ds.Meta.ParamNames = []string{"T", "T"}
 	if err := ds.Validate("mem"); err == nil || !strings.Contains(err.Error(), "distinct") {
 		t.Fatalf("duplicate names: %v", err)
+	}
+}
+
+// TestOnePointDatasetIsValid checks that a dataset at a single grid point
+// (snapshots from one experiment, say) is valid and reads back: score and
+// check work on it, and only the commands that compare points refuse it.
+func TestOnePointDatasetIsValid(t *testing.T) {
+	ds, err := New(4, 2, []string{"T"}, 2, []int{2}, map[string]any{"generator": "test"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range ds.Params {
+		ds.Params[i] = 2.3
+	}
+	b, err := ds.Bytes()
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := Decode(bytes.NewReader(b), int64(len(b)), "one.npz", ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if g := NewGrid(got); g.K() != 1 || len(g.Index[0]) != 4 {
+		t.Errorf("grid of %d points, want 1 with 4 snapshots", g.K())
 	}
 }

@@ -335,40 +335,89 @@ func (ds *Dataset) Encode(w io.Writer) error {
 	if err != nil {
 		return fmt.Errorf("encoding meta: %w", err)
 	}
+	arrays := []Array{Uint8Array("states", ds.States, ds.M, ds.N)}
+	if ds.D > 0 {
+		arrays = append(arrays, Float64Array("params", ds.Params, ds.M, ds.D))
+	}
+	arrays = append(arrays, Uint8Array("meta", meta, len(meta)))
+	return WriteNPZ(w, zip.Deflate, arrays...)
+}
+
+// Array is one named array of an .npz archive written by WriteNPZ.
+type Array struct {
+	// Name is the array's name, without ".npy".
+	Name string
+	// Descr is the NPY dtype: "|u1", "<f8" or "<i8".
+	Descr string
+	// Shape is the C-order shape.
+	Shape []int
+	// Body writes the little-endian data.
+	Body func(io.Writer) error
+}
+
+// Float64Array returns v as a "<f8" array of the given shape.
+func Float64Array(name string, v []float64, shape ...int) Array {
+	return Array{name, "<f8", shape, func(w io.Writer) error { return WriteFloat64s(w, v) }}
+}
+
+// Uint8Array returns v as a "|u1" array of the given shape.
+func Uint8Array(name string, v []uint8, shape ...int) Array {
+	return Array{name, "|u1", shape, func(w io.Writer) error {
+		_, err := w.Write(v)
+		return err
+	}}
+}
+
+// Int64Array returns v as a 1-D "<i8" array.
+func Int64Array(name string, v []int) Array {
+	return Array{name, "<i8", []int{len(v)}, func(w io.Writer) error {
+		var buf [8]byte
+		for _, x := range v {
+			binary.LittleEndian.PutUint64(buf[:], uint64(int64(x)))
+			if _, err := w.Write(buf[:]); err != nil {
+				return err
+			}
+		}
+		return nil
+	}}
+}
+
+// JSONArray returns v encoded as UTF-8 JSON bytes in a "|u1" array, the way
+// tidemark stores metadata in an .npz archive.
+func JSONArray(name string, v any) (Array, error) {
+	js, err := json.Marshal(v)
+	if err != nil {
+		return Array{}, fmt.Errorf("encoding %s: %w", name, err)
+	}
+	return Uint8Array(name, js, len(js)), nil
+}
+
+// WriteNPZ writes arrays as a NumPy .npz archive (a zip of NPY 1.0 files)
+// to w, each entry deflated at the fastest level (method zip.Deflate) or
+// stored (zip.Store). Two arrays may not share a name.
+func WriteNPZ(w io.Writer, method uint16, arrays ...Array) error {
 	zw := zip.NewWriter(w)
 	zw.RegisterCompressor(zip.Deflate, func(out io.Writer) (io.WriteCloser, error) {
 		return flate.NewWriter(out, flate.BestSpeed)
 	})
-	put := func(name, descr string, shape []int, body func(io.Writer) error) error {
-		return PutNPY(zw, name, zip.Deflate, descr, shape, body)
-	}
-	if err := put("states.npy", "|u1", []int{ds.M, ds.N}, func(w io.Writer) error {
-		_, err := w.Write(ds.States)
-		return err
-	}); err != nil {
-		return err
-	}
-	if ds.D > 0 {
-		if err := put("params.npy", "<f8", []int{ds.M, ds.D}, func(w io.Writer) error {
-			return WriteFloat64s(w, ds.Params)
-		}); err != nil {
+	seen := map[string]bool{}
+	for _, a := range arrays {
+		if seen[a.Name] {
+			return fmt.Errorf("two arrays are named %q", a.Name)
+		}
+		seen[a.Name] = true
+		if err := putNPY(zw, a.Name+".npy", method, a.Descr, a.Shape, a.Body); err != nil {
 			return err
 		}
-	}
-	if err := put("meta.npy", "|u1", []int{len(meta)}, func(w io.Writer) error {
-		_, err := w.Write(meta)
-		return err
-	}); err != nil {
-		return err
 	}
 	return zw.Close()
 }
 
-// PutNPY adds the entry name (ending in .npy) to an .npz archive being
+// putNPY adds the entry name (ending in .npy) to an .npz archive being
 // written: an NPY 1.0 array of dtype descr ("|u1", "<f8", …) and the given
 // C-order shape, whose little-endian data body writes. method is
 // zip.Deflate or zip.Store.
-func PutNPY(zw *zip.Writer, name string, method uint16, descr string, shape []int, body func(io.Writer) error) error {
+func putNPY(zw *zip.Writer, name string, method uint16, descr string, shape []int, body func(io.Writer) error) error {
 	f, err := zw.CreateHeader(&zip.FileHeader{Name: name, Method: method, Modified: time.Now()})
 	if err != nil {
 		return fmt.Errorf("%s: %w", name, err)
@@ -435,4 +484,17 @@ func (ds *Dataset) Bytes() ([]byte, error) {
 	var b bytes.Buffer
 	err := ds.Encode(&b)
 	return b.Bytes(), err
+}
+
+// WriteNPZFile writes arrays and meta, stored as the UTF-8 JSON array
+// "meta", atomically to path as a deflated .npz archive; an existing file
+// is replaced only when force is true.
+func WriteNPZFile(path string, force bool, meta any, arrays ...Array) error {
+	js, err := JSONArray("meta", meta)
+	if err != nil {
+		return err
+	}
+	return safefile.Write(path, force, func(w io.Writer) error {
+		return WriteNPZ(w, zip.Deflate, append(arrays, js)...)
+	})
 }

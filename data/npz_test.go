@@ -178,9 +178,6 @@ func TestDecodeRejects(t *testing.T) {
 			e["states"] = arr{descr: "|u1", shape: []int{0, 4}}
 			e["params"] = arr{descr: "<f8", shape: []int{0, 1}}
 		})), "states", "at least one snapshot"},
-		{"one grid point", npzOf(t, false, with(func(e map[string]arr) {
-			e["params"] = arr{descr: "<f8", shape: []int{8, 1}, body: f64s(1, 1, 1, 1, 1, 1, 1, 1)}
-		})), "params", "at least 2 distinct grid points"},
 		{"point with one sample", npzOf(t, false, with(func(e map[string]arr) {
 			e["params"] = arr{descr: "<f8", shape: []int{8, 1}, body: f64s(1, 1, 1, 1, 2, 2, 2, 3)}
 		})), "params", "at least 2 samples at every grid point"},

@@ -408,14 +408,7 @@ func (r *run) resume(fp string) error {
 	if ck.AdamM == nil || ck.AdamV == nil {
 		return errors.New("resume: the checkpoint holds no optimiser state")
 	}
-	t := h.Training
-	r.st = Settings{
-		Arch:   Arch{Order: Order(t.OrderName)},
-		Epochs: t.Epochs, Batch: t.Batch, LR: t.LR, MinLR: t.MinLR, Seed: t.Seed, ValFrac: t.ValFrac,
-		Patience: t.Patience, Schedule: Schedule(t.Schedule), PlateauPatience: t.PlateauPatience, PlateauFactor: t.PlateauFactor,
-		WeightDecay: t.WeightDecay, Clip: t.Clip, Beta1: t.Beta1, Beta2: t.Beta2, Eps: t.Eps, Threads: t.Threads,
-		Augment: symmetriesOf(t.Augment), Average: t.AverageEpochs,
-	}
+	r.st = SavedSettings(ck)
 	if res.Epochs > 0 {
 		r.st.Epochs = res.Epochs
 	}
@@ -449,8 +442,8 @@ func (r *run) resume(fp string) error {
 		copy(r.adam.M[i], ck.AdamM[i].Data)
 		copy(r.adam.V[i], ck.AdamV[i].Data)
 	}
-	if (t.AverageEpochs > 0) != (ck.Average != nil) {
-		return fmt.Errorf("resume: the checkpoint records weight averaging over %v epochs but holds %d averaged tensors", t.AverageEpochs, len(ck.Average))
+	if (h.Training.AverageEpochs > 0) != (ck.Average != nil) {
+		return fmt.Errorf("resume: the checkpoint records weight averaging over %v epochs but holds %d averaged tensors", h.Training.AverageEpochs, len(ck.Average))
 	}
 	if ck.Average != nil {
 		r.avg = make([][]float64, len(ck.Average))

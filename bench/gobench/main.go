@@ -37,21 +37,23 @@ import (
 
 // result is one measured figure.
 type result struct {
-	Side      string  `json:"side"`
-	What      string  `json:"what"`
-	N         int     `json:"n,omitempty"`
-	Rows      int     `json:"rows,omitempty"` // snapshots per LogProbMatrix call
-	H         int     `json:"h,omitempty"`
-	Precision string  `json:"precision,omitempty"`
-	Model     string  `json:"model,omitempty"`    // "additive" (shifts only, the peer's default) or "film"
-	Rate      float64 `json:"rate"`               // per second of wall time, median
-	CPURate   float64 `json:"cpu_rate,omitempty"` // per second of process CPU time (all threads), median
-	Unit      string  `json:"unit"`
-	GFlops    float64 `json:"gflops,omitempty"`          // dense-equivalent GFLOP/s of a training step
-	GFlopsRun float64 `json:"gflops_executed,omitempty"` // GFLOP/s actually executed (all-zero mask blocks skipped)
-	Reps      int     `json:"reps"`
-	Threads   int     `json:"threads"`
-	BLAS      string  `json:"blas"`
+	Side      string `json:"side"`
+	What      string `json:"what"`
+	N         int    `json:"n,omitempty"`
+	Rows      int    `json:"rows,omitempty"` // snapshots per LogProbMatrix call
+	H         int    `json:"h,omitempty"`
+	Precision string `json:"precision,omitempty"`
+	Model     string `json:"model,omitempty"` // "additive" (shifts only, the peer's default) or "film"
+	// Activation is the model's hidden and conditioning activation.
+	Activation string  `json:"activation,omitempty"`
+	Rate       float64 `json:"rate"`               // per second of wall time, median
+	CPURate    float64 `json:"cpu_rate,omitempty"` // per second of process CPU time (all threads), median
+	Unit       string  `json:"unit"`
+	GFlops     float64 `json:"gflops,omitempty"`          // dense-equivalent GFLOP/s of a training step
+	GFlopsRun  float64 `json:"gflops_executed,omitempty"` // GFLOP/s actually executed (all-zero mask blocks skipped)
+	Reps       int     `json:"reps"`
+	Threads    int     `json:"threads"`
+	BLAS       string  `json:"blas"`
 }
 
 func main() {
@@ -68,6 +70,7 @@ func main() {
 	traceOut := flag.String("trace", "", "write an execution trace to this file (go tool trace; shows threads waiting)")
 	flag.IntVar(&grid, "grid", 0, "draw each training snapshot's λ from this many evenly spaced grid points in [0, 1], as datasets are (0: a continuous λ per snapshot)")
 	flag.BoolVar(&film, "film", false, "FiLM conditioning (the trainer's default model; the peer's with --film) instead of shifts only")
+	flag.StringVar(&activation, "activation", defaultActivation, "activation of the hidden layers and the conditioning net (default: train's); the peer's with --activation")
 	blasCore := flag.Bool("blascore", false, "print the OpenBLAS kernels in use (model.BLASCore) and exit")
 	flag.Parse()
 	if grid == 1 || grid < 0 {
@@ -109,6 +112,7 @@ func main() {
 			if film {
 				r.Model = "film"
 			}
+			r.Activation = activation
 		}
 		if c := model.BLASCore(); c != "" {
 			r.BLAS += ", " + c
@@ -204,9 +208,13 @@ const batch = 256
 var (
 	only       *string
 	chunksFlag *int
-	film       bool // FiLM conditioning (-film)
-	grid       int  // grid points λ is drawn from (-grid; 0 = continuous)
+	film       bool   // FiLM conditioning (-film)
+	activation string // hidden and conditioning activation (-activation)
+	grid       int    // grid points λ is drawn from (-grid; 0 = continuous)
 )
+
+// defaultActivation is -activation's default: the activation train fits.
+var defaultActivation = string(train.DefaultSettings().Arch.Activation)
 
 func want(what string) bool { return *only == "" || *only == what }
 
@@ -299,12 +307,22 @@ func measure(f func(), units float64, reps int, budget time.Duration) (float64, 
 	return median(rates), median(cpu), len(rates)
 }
 
-func measureShape(n, h int, prec string, threads, reps, matRows int, budget time.Duration) []result {
+// benchConfig is the model measured at N = n sites and two hidden layers
+// of width h: the peer's (bench/peer/made_peer.py), with the activation of
+// -activation (by default train's) in the hidden layers and the
+// conditioning net, and FiLM with -film.
+func benchConfig(n, h int, prec string) model.Config {
 	cfg := model.DefaultConfig(n, 2, 1, []float64{0}, []float64{1})
 	cfg.Hidden = []int{h, h}
-	cfg.Activation = "relu" // the peer's model (bench/peer/made_peer.py)
-	cfg.FiLM = film         // false: the peer's default conditioning only shifts the layers
+	cfg.Activation = model.Activation(activation)
+	cfg.CondActivation = model.Activation(activation)
+	cfg.FiLM = film // false: the peer's default conditioning only shifts the layers
 	cfg.Precision = prec
+	return cfg
+}
+
+func measureShape(n, h int, prec string, threads, reps, matRows int, budget time.Duration) []result {
+	cfg := benchConfig(n, h, prec)
 	m, err := model.New(cfg, 1)
 	if err != nil {
 		fmt.Fprintln(os.Stderr, "gobench:", err)

@@ -7,8 +7,10 @@ at autoregressive position s has degree s+1, hidden unit k of a width-h layer
 has degree 1 + k*(N-1)//h, hidden masks deg(k) >= deg(j), output and direct
 masks deg(out) > deg(in)), masks applied as weight*mask in every forward pass,
 conditioning features t, sin(pi f t), cos(pi f t) for f = 1..F of the
-normalised parameter, a conditioning MLP with one hidden layer of 64 relu
-units whose linear heads add a bias to every masked layer, a direct masked
+normalised parameter, a conditioning MLP with one hidden layer of 64 units
+whose linear heads add a bias to every masked layer (softplus units in the
+conditioning net and the hidden layers, as tidemark's train fits by default;
+--activation relu for ReLU), a direct masked
 input-to-output connection, Bernoulli logits, torch.optim.Adam, float32
 (PyTorch's default). Prints one JSON object per line.
 """
@@ -42,9 +44,10 @@ class MaskedLinear(nn.Module):
 
 
 class CondMADE(nn.Module):
-    def __init__(self, n, hidden, cond_hidden=64, fourier=2, film=False):
+    def __init__(self, n, hidden, cond_hidden=64, fourier=2, film=False, activation="softplus"):
         super().__init__()
         self.n, self.fourier, self.film = n, fourier, film
+        self.act = F.softplus if activation == "softplus" else F.relu
         din = torch.arange(1, n + 1)
         dh = [degrees(n, h) for h in hidden]
         masks, prev = [], din
@@ -73,7 +76,7 @@ class CondMADE(nn.Module):
         return torch.stack(fs, dim=1)
 
     def log_prob(self, x, lam):
-        u = F.relu(self.cond(self.features(lam)))
+        u = self.act(self.cond(self.features(lam)))
         h = x
         last = len(self.layers) - 1
         for i, layer in enumerate(self.layers):
@@ -82,7 +85,7 @@ class CondMADE(nn.Module):
                 if i == last:
                     a = a + self.direct(x)
                 a = a * (1 + self.scales[i](u))
-            h = F.relu(a) if i < last else a
+            h = self.act(a) if i < last else a
         z = h if self.film else h + self.direct(x)
         return -F.binary_cross_entropy_with_logits(z, x, reduction="none").sum(dim=1)
 
@@ -128,6 +131,7 @@ def main():
     ap.add_argument("--matrows", type=int, default=256)
     ap.add_argument("--grid", type=int, default=0, help="draw the training batch's lambda from this many grid points in [0, 1] (0: continuous)")
     ap.add_argument("--film", action="store_true", help="FiLM conditioning (tidemark's default model) instead of shifts only")
+    ap.add_argument("--activation", choices=("softplus", "relu"), default="softplus", help="activation of the hidden layers and the conditioning net (tidemark's train fits softplus)")
     a = ap.parse_args()
     if a.grid == 1 or a.grid < 0:
         ap.error(f"--grid must be 0 (continuous lambda) or at least 2 grid points, found {a.grid}")
@@ -139,6 +143,7 @@ def main():
         if kw["what"] != "gemm":
             kw["cpu_rate"] = median_rate.cpu
             kw["model"] = "film" if a.film else "additive"
+            kw["activation"] = a.activation
         print(json.dumps({**kw, **common}), flush=True)
 
     if a.gemm > 0:
@@ -152,7 +157,7 @@ def main():
         if not s.strip():
             continue
         n, h = (int(v) for v in s.split("x"))
-        net = CondMADE(n, [h, h], film=a.film)
+        net = CondMADE(n, [h, h], film=a.film, activation=a.activation)
         opt = torch.optim.Adam(net.parameters(), lr=1e-4)
         g = torch.Generator().manual_seed(7)
         x = torch.randint(0, 2, (B, n), generator=g).float()

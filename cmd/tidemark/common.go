@@ -8,6 +8,7 @@ import (
 	"os"
 	"os/signal"
 	"runtime"
+	"strings"
 	"syscall"
 
 	"tidemark/data/safefile"
@@ -15,12 +16,7 @@ import (
 
 // checkOutput refuses an existing output file unless force is set, before
 // any long work starts.
-func checkOutput(path string, force bool) error {
-	if err := safefile.CheckWritable(path, force); err != nil {
-		return err
-	}
-	return nil
-}
+func checkOutput(path string, force bool) error { return safefile.CheckWritable(path, force) }
 
 // threadsOrDefault returns n, or the number of CPUs when n ≤ 0.
 func threadsOrDefault(n int) int {
@@ -44,4 +40,16 @@ func writeJSON(w io.Writer, v any) error {
 // long work can stop cleanly (saving what it must) instead of dying.
 func signalContext() (context.Context, context.CancelFunc) {
 	return signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+}
+
+// shellQuote quotes s for a POSIX shell when it holds anything but letters,
+// digits and -_./:=+@%, so a printed command can be pasted as it is.
+func shellQuote(s string) string {
+	safe := s != "" && strings.IndexFunc(s, func(r rune) bool {
+		return !(r >= 'a' && r <= 'z' || r >= 'A' && r <= 'Z' || r >= '0' && r <= '9' || strings.ContainsRune("-_./:=+@%", r))
+	}) < 0
+	if safe {
+		return s
+	}
+	return "'" + strings.ReplaceAll(s, "'", `'\''`) + "'"
 }

@@ -2,7 +2,6 @@ package main
 
 import (
 	"archive/zip"
-	"encoding/json"
 	"fmt"
 	"io"
 
@@ -11,7 +10,6 @@ import (
 	"tidemark/checkpoints"
 	"tidemark/data"
 	"tidemark/data/safefile"
-	"tidemark/model"
 )
 
 func init() { commands = append(commands, newExportCmd) }
@@ -50,20 +48,6 @@ The best weights (lowest validation NLL) are exported unless --last is given.`,
 	return c
 }
 
-// exportConfig is the JSON object stored in the "config" array.
-type exportConfig struct {
-	Model      model.Config `json:"model"`
-	ParamNames []string     `json:"param_names"`
-	Lattice    []int        `json:"lattice"`
-	Alphabet   int          `json:"alphabet"`
-	Weights    []string     `json:"weights"`
-	Masks      []string     `json:"masks"`
-	Which      string       `json:"which"`
-	Epoch      int          `json:"epoch"`
-	Software   string       `json:"software_version"`
-	Checkpoint string       `json:"checkpoint"`
-}
-
 func runExport(cmd *cobra.Command, path string, o *exportOptions) error {
 	if o.out == "" {
 		return fmt.Errorf("export: expected an output file (-o WEIGHTS.npz), found none")
@@ -75,64 +59,15 @@ func runExport(cmd *cobra.Command, path string, o *exportOptions) error {
 	if err != nil {
 		return err
 	}
-	m, err := ck.Model()
-	which, epoch := "best", ck.Header.BestEpoch
-	if o.last {
-		m, err = ck.LastModel()
-		which, epoch = "last", ck.Header.Optimizer.Epoch
-	}
+	ex, err := ck.Export(o.last, path, version)
 	if err != nil {
 		return fmt.Errorf("%s: %w", path, err)
 	}
-	cfg := exportConfig{
-		Model: m.Cfg, ParamNames: ck.Header.ParamNames, Lattice: ck.Header.Lattice, Alphabet: ck.Header.Alphabet,
-		Which: which, Epoch: epoch, Software: version, Checkpoint: path,
-		Weights: []string{}, Masks: []string{},
-	}
-	masks := m.Masks()
-	for _, t := range m.Weights {
-		cfg.Weights = append(cfg.Weights, t.Name)
-	}
-	for _, t := range masks {
-		cfg.Masks = append(cfg.Masks, t.Name)
-	}
-	js, err := json.Marshal(cfg)
-	if err != nil {
-		return fmt.Errorf("export: encoding the config: %w", err)
-	}
-	tensors := append(append([]model.Tensor(nil), m.Weights...), masks...)
-	err = safefile.Write(o.out, o.force, func(w io.Writer) error { return writeTensorsNPZ(w, tensors, js) })
+	err = safefile.Write(o.out, o.force, func(w io.Writer) error { return data.WriteNPZ(w, zip.Store, ex.Arrays...) })
 	if err != nil {
 		return err
 	}
-	fmt.Fprintf(cmd.OutOrStdout(), "wrote %s: %d weight tensors (%s, epoch %d), %d masks, config\n", o.out, len(m.Weights), which, epoch, len(masks))
+	c := ex.Config
+	fmt.Fprintf(cmd.OutOrStdout(), "wrote %s: %d weight tensors (%s, epoch %d), %d masks, config\n", o.out, len(c.Weights), c.Which, c.Epoch, len(c.Masks))
 	return nil
-}
-
-// writeTensorsNPZ writes each tensor as a float64 NPY array and config as a
-// uint8 array into a zip archive (stored, not compressed).
-func writeTensorsNPZ(w io.Writer, ts []model.Tensor, config []byte) error {
-	zw := zip.NewWriter(w)
-	put := func(name, descr string, shape []int, body func(io.Writer) error) error {
-		return data.PutNPY(zw, name+".npy", zip.Store, descr, shape, body)
-	}
-	seen := map[string]bool{"config": true}
-	for _, t := range ts {
-		if seen[t.Name] {
-			return fmt.Errorf("two tensors are named %q", t.Name)
-		}
-		seen[t.Name] = true
-		if err := put(t.Name, "<f8", t.Shape, func(w io.Writer) error {
-			return data.WriteFloat64s(w, t.Data)
-		}); err != nil {
-			return err
-		}
-	}
-	if err := put("config", "|u1", []int{len(config)}, func(w io.Writer) error {
-		_, err := w.Write(config)
-		return err
-	}); err != nil {
-		return err
-	}
-	return zw.Close()
 }

@@ -2,7 +2,6 @@ package main
 
 import (
 	"fmt"
-	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -73,9 +72,9 @@ func runImport(cmd *cobra.Command, in string, o *importOptions) error {
 		return fmt.Errorf("--spins: expected pm1 (or nothing), found %q", o.spins)
 	}
 	if o.lattice != "" {
-		lat, err := parseLattice(o.lattice)
+		lat, err := data.ParseLattice(o.lattice)
 		if err != nil {
-			return err
+			return fmt.Errorf("--lattice: %w", err)
 		}
 		opt.Lattice = lat
 	}
@@ -90,37 +89,11 @@ func runImport(cmd *cobra.Command, in string, o *importOptions) error {
 		return err
 	}
 	w := cmd.OutOrStdout()
-	fmt.Fprintf(w, "wrote %s: %d snapshots of %d sites (lattice %s, alphabet %d)", o.out, ds.M, ds.N, latticeString(ds.Meta.Lattice), ds.Meta.Alphabet)
+	fmt.Fprintf(w, "wrote %s: %d snapshots of %d sites (lattice %s, alphabet %d)", o.out, ds.M, ds.N, data.FormatLattice(ds.Meta.Lattice), ds.Meta.Alphabet)
 	if ds.D > 0 {
 		g := data.NewGrid(ds)
 		fmt.Fprintf(w, " at %d grid points of %s", g.K(), strings.Join(g.Names, ", "))
 	}
 	fmt.Fprintln(w)
 	return nil
-}
-
-// parseLattice reads "16x16", "16,16" or "256" into sizes.
-func parseLattice(s string) ([]int, error) {
-	parts := strings.FieldsFunc(s, func(r rune) bool { return r == 'x' || r == 'X' || r == ',' || r == '×' })
-	if len(parts) == 0 {
-		return nil, fmt.Errorf("--lattice: expected sizes like 16x16, found %q", s)
-	}
-	out := make([]int, len(parts))
-	for i, p := range parts {
-		v, err := strconv.Atoi(strings.TrimSpace(p))
-		if err != nil || v <= 0 {
-			return nil, fmt.Errorf("--lattice: expected positive whole sizes like 16x16, found %q in %q", p, s)
-		}
-		out[i] = v
-	}
-	return out, nil
-}
-
-// latticeString formats sizes as 16x16.
-func latticeString(l []int) string {
-	s := make([]string, len(l))
-	for i, v := range l {
-		s[i] = strconv.Itoa(v)
-	}
-	return strings.Join(s, "x")
 }

@@ -2,13 +2,9 @@ package main
 
 import (
 	"bytes"
-	"encoding/json"
 	"fmt"
 	"io"
 	"os"
-	"slices"
-	"strings"
-	"text/tabwriter"
 
 	"github.com/spf13/cobra"
 
@@ -82,135 +78,13 @@ func unwrapPathErr(err error) error {
 	return err
 }
 
-// datasetReport is the JSON form of inspect for a dataset; its keys are stable.
-type datasetReport struct {
-	Kind            string          `json:"kind"`
-	File            string          `json:"file"`
-	FileBytes       int64           `json:"file_bytes"`
-	Samples         int             `json:"samples"`
-	Sites           int             `json:"sites"`
-	Alphabet        int             `json:"alphabet"`
-	Lattice         []int           `json:"lattice"`
-	Params          []paramReport   `json:"params"`
-	Grid            *gridReport     `json:"grid"`
-	SamplesPerPoint *countReport    `json:"samples_per_point"`
-	Generator       string          `json:"generator"`
-	Source          json.RawMessage `json:"source,omitempty"`
-	Created         string          `json:"created,omitempty"`
-}
-
-type paramReport struct {
-	Name   string  `json:"name"`
-	Min    float64 `json:"min"`
-	Max    float64 `json:"max"`
-	Values int     `json:"values"`
-}
-
-type gridReport struct {
-	Points  int   `json:"points"`
-	Shape   []int `json:"shape"`
-	Product bool  `json:"product"`
-}
-
-type countReport struct {
-	Min    int     `json:"min"`
-	Median float64 `json:"median"`
-	Max    int     `json:"max"`
-}
-
-func describeDataset(path string) (*datasetReport, error) {
-	ds, err := data.ReadWith(path, data.ReadOptions{Unlabelled: true})
-	if err != nil {
-		return nil, err
-	}
-	st, err := os.Stat(path)
-	if err != nil {
-		return nil, fmt.Errorf("%s: %w", path, err)
-	}
-	r := &datasetReport{
-		Kind: "dataset", File: path, FileBytes: st.Size(),
-		Samples: ds.M, Sites: ds.N, Alphabet: ds.Meta.Alphabet, Lattice: ds.Meta.Lattice,
-		Params:    []paramReport{},
-		Generator: ds.Meta.Generator(), Source: ds.Meta.Source, Created: ds.Meta.Created,
-	}
-	if ds.D == 0 {
-		return r, nil
-	}
-	g := data.NewGrid(ds)
-	for a, name := range g.Names {
-		ax := g.Axes[a]
-		r.Params = append(r.Params, paramReport{Name: name, Min: ax[0], Max: ax[len(ax)-1], Values: len(ax)})
-	}
-	r.Grid = &gridReport{Points: g.K(), Shape: g.Shape(), Product: g.Product}
-	counts := make([]int, g.K())
-	for k, idx := range g.Index {
-		counts[k] = len(idx)
-	}
-	slices.Sort(counts)
-	med := float64(counts[len(counts)/2])
-	if len(counts)%2 == 0 {
-		med = float64(counts[len(counts)/2-1]+counts[len(counts)/2]) / 2
-	}
-	r.SamplesPerPoint = &countReport{Min: counts[0], Median: med, Max: counts[len(counts)-1]}
-	return r, nil
-}
-
 func inspectDataset(w io.Writer, path string, asJSON bool) error {
-	r, err := describeDataset(path)
+	r, err := data.Describe(path)
 	if err != nil {
 		return err
 	}
 	if asJSON {
 		return writeJSON(w, r)
 	}
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintf(tw, "dataset\t%s (%s)\n", r.File, humanBytes(r.FileBytes))
-	fmt.Fprintf(tw, "samples\t%d\n", r.Samples)
-	fmt.Fprintf(tw, "sites\t%d (lattice %s)\n", r.Sites, latticeString(r.Lattice))
-	fmt.Fprintf(tw, "alphabet\t%d\n", r.Alphabet)
-	if len(r.Params) == 0 {
-		fmt.Fprintf(tw, "parameters\tnone (unlabelled dataset)\n")
-	}
-	for _, p := range r.Params {
-		fmt.Fprintf(tw, "parameter\t%s from %g to %g, %d values\n", p.Name, p.Min, p.Max, p.Values)
-	}
-	if r.Grid != nil {
-		shape := make([]string, len(r.Params))
-		for i, p := range r.Params {
-			shape[i] = fmt.Sprintf("%s: %d", p.Name, p.Values)
-		}
-		kind := "product grid"
-		if !r.Grid.Product {
-			kind = "scattered points (not a product grid: no 2-D maps)"
-		}
-		if len(r.Params) == 1 {
-			kind = "1-D grid"
-		}
-		fmt.Fprintf(tw, "grid\t%d points (%s), %s\n", r.Grid.Points, strings.Join(shape, ", "), kind)
-		s := r.SamplesPerPoint
-		fmt.Fprintf(tw, "samples per point\tmin %d, median %g, max %d\n", s.Min, s.Median, s.Max)
-	}
-	gen := r.Generator
-	if gen == "" {
-		gen = "unknown"
-	}
-	fmt.Fprintf(tw, "source\t%s\n", gen)
-	if r.Created != "" {
-		fmt.Fprintf(tw, "created\t%s\n", r.Created)
-	}
-	return tw.Flush()
-}
-
-// humanBytes formats a size as "51.2 MB" (powers of 1000).
-func humanBytes(n int64) string {
-	const unit = 1000
-	if n < unit {
-		return fmt.Sprintf("%d B", n)
-	}
-	v, u := float64(n), 0
-	for v >= unit && u < 4 {
-		v /= unit
-		u++
-	}
-	return fmt.Sprintf("%.1f %cB", v, "kMGTP"[u-1])
+	return r.WriteText(w)
 }

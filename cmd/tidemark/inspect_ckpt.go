@@ -2,58 +2,13 @@ package main
 
 import (
 	"bytes"
-	"fmt"
 	"io"
 	"os"
-	"strings"
-	"text/tabwriter"
 
 	"tidemark/checkpoints"
-	"tidemark/data"
-	"tidemark/model"
 )
 
 func init() { inspectHooks = append(inspectHooks, inspectCheckpoint) }
-
-// checkpointReport is the JSON form of inspect for a checkpoint; its keys
-// are stable.
-type checkpointReport struct {
-	Kind               string                     `json:"kind"`
-	File               string                     `json:"file"`
-	FileBytes          int64                      `json:"file_bytes"`
-	Software           string                     `json:"software_version"`
-	Created            string                     `json:"created"`
-	Architecture       archReport                 `json:"architecture"`
-	Parameters         int                        `json:"parameters"`
-	Sites              int                        `json:"sites"`
-	Alphabet           int                        `json:"alphabet"`
-	Lattice            []int                      `json:"lattice"`
-	ParamNames         []string                   `json:"param_names"`
-	Dataset            checkpoints.DatasetInfo    `json:"dataset"`
-	HeldOut            [][]float64                `json:"held_out"`
-	HoldoutSpec        string                     `json:"holdout_spec"`
-	BestEpoch          int                        `json:"best_epoch"`
-	BestValBitsPerSite float64                    `json:"best_val_bits_per_site"`
-	HeldOutBitsPerSite *float64                   `json:"heldout_bits_per_site"`
-	Epochs             int                        `json:"epochs_completed"`
-	Stopped            string                     `json:"stopped"`
-	Training           checkpoints.Training       `json:"training"`
-	Metrics            []checkpoints.EpochMetrics `json:"metrics"`
-}
-
-type archReport struct {
-	Hidden     []int     `json:"hidden"`
-	CondHidden []int     `json:"cond_hidden"`
-	Fourier    int       `json:"fourier"`
-	Activation string    `json:"activation"`
-	CondAct    string    `json:"cond_activation"`
-	Direct     bool      `json:"direct"`
-	Order      string    `json:"order"`
-	Symmetric  bool      `json:"symmetric"`
-	FiLM       bool      `json:"film"`
-	ParamLo    []float64 `json:"param_lo"`
-	ParamHi    []float64 `json:"param_hi"`
-}
 
 // inspectCheckpoint describes a file that starts with the checkpoint magic
 // bytes; it leaves other files to the other inspectors.
@@ -68,120 +23,12 @@ func inspectCheckpoint(path string, asJSON bool, w io.Writer) (bool, error) {
 	if !bytes.Equal(head[:n], []byte(checkpoints.Magic)) {
 		return false, nil
 	}
-	ck, err := checkpoints.Load(path)
+	r, err := checkpoints.Describe(path)
 	if err != nil {
 		return true, err
 	}
-	st, err := os.Stat(path)
-	if err != nil {
-		return true, fmt.Errorf("%s: %w", path, err)
-	}
-	h := ck.Header
-	c := h.Model
-	r := checkpointReport{
-		Kind: "checkpoint", File: path, FileBytes: st.Size(), Software: h.Software, Created: h.Created,
-		Architecture: archReport{Hidden: c.Hidden, CondHidden: c.CondHidden, Fourier: c.Fourier, Activation: string(c.Activation), CondAct: condActivation(c),
-			Direct: c.Direct, Order: h.Training.OrderName, Symmetric: c.Symmetric, FiLM: c.FiLM, ParamLo: c.ParamLo, ParamHi: c.ParamHi},
-		Parameters: ck.NumParams(), Sites: c.Sites, Alphabet: c.Alphabet, Lattice: h.Lattice, ParamNames: h.ParamNames,
-		Dataset: h.Dataset, HeldOut: h.HeldOut, HoldoutSpec: h.HoldoutSpec,
-		BestEpoch: h.BestEpoch, BestValBitsPerSite: h.BestValBitsPerSite, HeldOutBitsPerSite: h.HeldOutBitsPerSite,
-		Epochs: h.Optimizer.Epoch, Stopped: h.Stopped, Training: h.Training, Metrics: h.Metrics,
-	}
-	if r.HeldOut == nil {
-		r.HeldOut = [][]float64{}
-	}
-	if r.Metrics == nil {
-		r.Metrics = []checkpoints.EpochMetrics{}
-	}
-	r.Dataset.Source = nil
 	if asJSON {
 		return true, writeJSON(w, r)
 	}
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintf(tw, "checkpoint\t%s (%s), written by tidemark %s at %s\n", path, humanBytes(r.FileBytes), r.Software, r.Created)
-	a := r.Architecture
-	cond := "none"
-	if len(a.CondHidden) > 0 {
-		cond = intsString(a.CondHidden, ",")
-	}
-	mod := "shifts"
-	if a.FiLM {
-		mod = "scales and shifts (FiLM)"
-	}
-	freq := "frequencies"
-	if a.Fourier == 1 {
-		freq = "frequency"
-	}
-	fmt.Fprintf(tw, "architecture\tMADE, hidden %s, %s; conditioning net %s, %s, with %d Fourier %s, %s the layers; direct %v; order %s; symmetric %v\n",
-		intsString(a.Hidden, ","), a.Activation, cond, a.CondAct, a.Fourier, freq, mod, a.Direct, a.Order, a.Symmetric)
-	fmt.Fprintf(tw, "parameters\t%d trainable values\n", r.Parameters)
-	fmt.Fprintf(tw, "sites\t%d (lattice %s), alphabet %d\n", r.Sites, intsString(r.Lattice, "×"), r.Alphabet)
-	for i, name := range r.ParamNames {
-		fmt.Fprintf(tw, "parameter\t%s, normalised from [%g, %g]\n", name, a.ParamLo[i], a.ParamHi[i])
-	}
-	d := r.Dataset
-	fmt.Fprintf(tw, "dataset\t%s: %d snapshots, %d grid points, fingerprint %s\n", d.Path, d.Snapshots, d.Points, d.Fingerprint)
-	if len(r.HeldOut) == 0 {
-		fmt.Fprintf(tw, "held out\tnone\n")
-	} else {
-		pts := make([]string, len(r.HeldOut))
-		for i, p := range r.HeldOut {
-			pts[i] = data.FormatPoint(r.ParamNames, p)
-		}
-		ho := ""
-		if r.HeldOutBitsPerSite != nil {
-			ho = fmt.Sprintf("; best weights score %.5f bits/site there", *r.HeldOutBitsPerSite)
-		}
-		fmt.Fprintf(tw, "held out\t%s (%q)%s\n", strings.Join(pts, "; "), r.HoldoutSpec, ho)
-	}
-	t := r.Training
-	fmt.Fprintf(tw, "training\tseed %d, batch %d, lr %g (%s schedule), val-frac %g, patience %d, clip %g, weight decay %g, threads %d\n",
-		t.Seed, t.Batch, t.LR, t.Schedule, t.ValFrac, t.Patience, t.Clip, t.WeightDecay, t.Threads)
-	fmt.Fprintf(tw, "samples\t%d training, %d validation, %d held out\n", t.TrainSnapshots, t.ValSnapshots, t.HeldSnapshots)
-	if len(t.Augment) > 0 {
-		fmt.Fprintf(tw, "augmented\tby %s\n", strings.Join(t.Augment, ", "))
-	}
-	if t.AverageEpochs > 0 {
-		fmt.Fprintf(tw, "weights\tmoving average over %g epochs (validated and kept)\n", t.AverageEpochs)
-	}
-	stopped := r.Stopped
-	if stopped == "" {
-		stopped = "still running or killed"
-	}
-	fmt.Fprintf(tw, "epochs\t%d completed of at most %d (%s); best epoch %d, validation %.5f bits/site\n", r.Epochs, t.Epochs, stopped, r.BestEpoch, r.BestValBitsPerSite)
-	if err := tw.Flush(); err != nil {
-		return true, err
-	}
-	if len(r.Metrics) > 0 {
-		tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-		fmt.Fprintln(tw, "epoch\ttrain bits/site\tval bits/site\tsamples/s\tseconds\tlr\t\t")
-		for _, m := range r.Metrics {
-			mark := ""
-			if m.Epoch == r.BestEpoch {
-				mark = "best"
-			}
-			fmt.Fprintf(tw, "%d\t%.5f\t%.5f\t%.0f\t%.2f\t%.3g\t%s\t\n", m.Epoch, m.TrainBitsPerSite, m.ValBitsPerSite, m.SamplesPerS, m.Seconds, m.LR, mark)
-		}
-		if err := tw.Flush(); err != nil {
-			return true, err
-		}
-	}
-	return true, nil
-}
-
-func intsString(v []int, sep string) string {
-	s := make([]string, len(v))
-	for i, x := range v {
-		s[i] = fmt.Sprint(x)
-	}
-	return strings.Join(s, sep)
-}
-
-// condActivation is the conditioning net's activation ("" in a configuration
-// means the same as the hidden layers').
-func condActivation(c model.Config) string {
-	if c.CondActivation == "" {
-		return string(c.Activation)
-	}
-	return string(c.CondActivation)
+	return true, r.WriteText(w)
 }

@@ -4,18 +4,13 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"sort"
-	"strconv"
-	"strings"
 
 	"github.com/spf13/cobra"
 
 	"tidemark/data"
-	"tidemark/data/density"
-	"tidemark/data/ising"
 	"tidemark/indicator"
 	"tidemark/indicator/report"
-	"tidemark/indicator/report/inputs"
+	"tidemark/indicator/study"
 )
 
 func init() { commands = append(commands, newScanCmd) }
@@ -71,7 +66,7 @@ trace of the metric from the divergences at the centres of the grid's cells. Wit
 each second pass gets its own zoom-<i>.csv.`,
 		Example: `  tidemark scan --data film.npz --model film.ckpt -o scan/
   tidemark scan --data film.npz --exact --exact-sums --indicators fisher,local -o exact-scan/
-  tidemark scan --data small.npz --histogram --bootstrap 200 -o hist-scan/
+  tidemark scan --data open8.npz --histogram --bootstrap 200 -o hist-scan/
   tidemark scan --data film.npz --model a.ckpt --model b.ckpt --refine 4 --zoom -o fine/ --force`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
@@ -86,7 +81,7 @@ each second pass gets its own zoom-<i>.csv.`,
 	f.StringArrayVar(&o.models, "model", nil, "trained model checkpoint (.ckpt); repeat for several models, whose spread joins the errors")
 	f.StringVar(&o.indicators, "indicators", "all", "comma-separated indicators: all, or some of lbc,sl,pbm,local,fisher")
 	f.IntVar(&o.refine, "refine", 1, "insert R−1 points between neighbouring grid points on every axis (needs a source that samples)")
-	f.IntVar(&o.modelSamples, "model-samples", 1000, "snapshots drawn from the source at every point of a refined or zoomed grid, and at every point for fisher_deriv")
+	f.IntVar(&o.modelSamples, "model-samples", study.ScanModelSamples, "snapshots drawn from the source at every point of a refined or zoomed grid, and at every point for fisher_deriv")
 	f.BoolVar(&o.dataAtGrid, "data-at-grid", false, "on a refined grid, keep the data snapshots at the data's grid points (default: the source's own samples everywhere, for a consistent curve)")
 	f.BoolVar(&o.zoom, "zoom", false, "re-scan a finer grid (2R+1 points over ±1 step of the scanned grid, R = max(refine, 2)) around each peak; on a 2-D grid along the line of the peak")
 	f.IntVar(&o.bootstrap, "bootstrap", 100, "bootstrap resamples for the errors (0: no errors)")
@@ -102,76 +97,24 @@ each second pass gets its own zoom-<i>.csv.`,
 	return c
 }
 
-func parseSLRegions(s string) (*indicator.SLRegions, error) {
-	if s == "" {
-		return nil, nil
-	}
-	parts := strings.Split(s, ",")
-	if len(parts) != 2 {
-		return nil, fmt.Errorf(`--sl-regions: expected two ranges "lo:hi,lo:hi", found %q`, s)
-	}
-	var r indicator.SLRegions
-	for i, p := range parts {
-		ab := strings.Split(strings.TrimSpace(p), ":")
-		if len(ab) != 2 {
-			return nil, fmt.Errorf(`--sl-regions: expected a range "lo:hi", found %q`, p)
-		}
-		var v [2]float64
-		for j, x := range ab {
-			f, err := strconv.ParseFloat(strings.TrimSpace(x), 64)
-			if err != nil {
-				return nil, fmt.Errorf("--sl-regions: expected a number, found %q", x)
-			}
-			v[j] = f
-		}
-		if v[0] > v[1] {
-			return nil, fmt.Errorf("--sl-regions: range %q has lo > hi", p)
-		}
-		if i == 0 {
-			r.A = v
-		} else {
-			r.B = v
-		}
-	}
-	return &r, nil
-}
-
-func parseIndicators(s string) ([]string, error) {
-	if s == "" || s == "all" {
-		return indicator.AllIndicators, nil
-	}
-	var out []string
-	for _, n := range strings.Split(s, ",") {
-		n = strings.TrimSpace(n)
-		ok := false
-		for _, a := range indicator.AllIndicators {
-			ok = ok || a == n
-		}
-		if !ok {
-			return nil, fmt.Errorf("--indicators: expected all or some of %s, found %q", strings.Join(indicator.AllIndicators, ","), n)
-		}
-		out = append(out, n)
-	}
-	return out, nil
-}
-
 func runScan(w io.Writer, o *scanOptions) error {
-	nsrc := 0
-	for _, b := range []bool{o.exact, o.histogram, len(o.models) > 0} {
-		if b {
-			nsrc++
+	var kinds []string
+	for kind, given := range map[string]bool{study.SourceExact: o.exact, study.SourceHistogram: o.histogram, study.SourceModel: len(o.models) > 0} {
+		if given {
+			kinds = append(kinds, kind)
 		}
 	}
-	if nsrc != 1 {
+	if len(kinds) != 1 {
 		return errors.New("scan: expected exactly one density source: --exact, --histogram or --model FILE.ckpt")
 	}
-	inds, err := parseIndicators(o.indicators)
+	kind := kinds[0]
+	inds, err := study.ParseIndicators(o.indicators)
 	if err != nil {
-		return err
+		return fmt.Errorf("--indicators: %w", err)
 	}
-	reg, err := parseSLRegions(o.slRegions)
+	reg, err := study.ParseSLRegions(o.slRegions)
 	if err != nil {
-		return err
+		return fmt.Errorf("--sl-regions: %w", err)
 	}
 	if o.refine < 1 {
 		return fmt.Errorf("--refine: expected an integer ≥ 1, found %d", o.refine)
@@ -195,32 +138,12 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if err := ds.Validate(o.data); err != nil {
 		return err
 	}
-	var sources []density.Source
-	kind := ""
-	switch {
-	case o.exact:
-		kind = "exact"
-		src, err := density.ReferenceFor(ds.Meta)
-		if err != nil {
-			return fmt.Errorf("scan --exact: %s: %w", o.data, err)
-		}
-		sources = append(sources, src)
-	case o.histogram:
-		kind = "histogram"
-		h, err := density.NewHistogram(ds)
-		if err != nil {
-			return fmt.Errorf("scan --histogram: %s: %w", o.data, err)
-		}
-		sources = append(sources, h)
-	default:
-		kind = "model"
-		for _, p := range o.models {
-			src, _, err := loadModelSource(p, ds)
-			if err != nil {
-				return fmt.Errorf("scan --model: %w", err)
-			}
-			sources = append(sources, src)
-		}
+	if k := data.NewGrid(ds).K(); k < 2 {
+		return fmt.Errorf("scan: %s: expected at least 2 distinct grid points, found %d (the indicators compare points)", o.data, k)
+	}
+	sources, err := study.Sources(kind, ds, o.data, o.models)
+	if err != nil {
+		return fmt.Errorf("scan --%s: %w", kind, err)
 	}
 	cfg := indicator.Config{
 		Indicators: inds, Refine: o.refine, ModelSamples: o.modelSamples, Zoom: o.zoom,
@@ -238,63 +161,13 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if err != nil {
 		return err
 	}
-	if sm, err := ising.ParseSourceMeta(ds.Meta); kind == "model" && err == nil && sm.HasReference() {
-		res.Notes = append(res.Notes, fmt.Sprintf("this dataset has an exact reference: `tidemark scan --data %s --exact` scores the same snapshots with the exact density; a misfit of the model (a spurious peak in the ordered phase, say) shows only in that comparison, not in the bootstrap errors", o.data))
+	if note := study.ExactNote(kind, ds, o.data); note != "" {
+		res.Notes = append(res.Notes, note)
 	}
-	sum, err := report.Write(o.out, o.force, res, report.Info{Source: kind, Data: o.data, Models: o.models, Refine: o.refine, Seed: o.seed, Page: inputs.Page(o.data, o.models)})
+	sum, err := report.Write(o.out, o.force, res, report.Info{Source: kind, Data: o.data, Models: o.models, Refine: o.refine, Seed: o.seed})
 	if err != nil {
 		return fmt.Errorf("scan: %w", err)
 	}
-	return printScan(w, o.out, res, sum)
-}
-
-// printScan states every peak with its error, the notes and the caution.
-func printScan(w io.Writer, out string, res *indicator.Result, sum *report.Summary) error {
-	p := func(format string, a ...any) { fmt.Fprintf(w, format, a...) }
-	p("scan: %s source, %d grid points (%d scanned), results in %s\n", sum.Source, sum.Grid.Points, sum.Grid.Scanned, out)
-	for _, c := range res.Curves {
-		if len(c.Lines) == 0 {
-			continue
-		}
-		if len(c.Peaks) == 0 {
-			p("  %-14s no peak above the noise\n", c.Name)
-			continue
-		}
-		for _, pk := range c.Peaks {
-			p("  %-14s peak at %s, height %.4g ± %.2g\n", c.Name, peakString(res.Names, pk), pk.Height, pk.HeightErr)
-		}
-	}
-	for _, b := range res.Boundaries {
-		p("  boundary from %s (ridge along %s): %d points\n", b.Indicator, b.Axis, len(b.Points))
-	}
-	for _, z := range sum.Zoom {
-		p("  zoom around %s (%d points of %s from %.6g to %.6g):\n", data.FormatPoint(res.Names, z.Around), z.Points, z.Axis, z.From, z.To)
-		names := make([]string, 0, len(z.Indicators))
-		for name := range z.Indicators {
-			names = append(names, name)
-		}
-		sort.Strings(names)
-		for _, name := range names {
-			for _, pk := range z.Indicators[name].Peaks {
-				p("    %-12s peak at %s\n", name, peakString(res.Names, indicator.Peak{At: pk.At, Err: pk.Err}))
-			}
-		}
-	}
-	for _, n := range res.Notes {
-		p("note: %s\n", n)
-	}
-	p("caution: %s\n", indicator.Caution)
+	study.WriteScan(w, o.out, res, sum)
 	return nil
-}
-
-func peakString(names []string, pk indicator.Peak) string {
-	parts := make([]string, len(pk.At))
-	for i, v := range pk.At {
-		if i < len(pk.Err) && pk.Err[i] > 0 {
-			parts[i] = fmt.Sprintf("%s=%.5g ± %.2g", names[i], v, pk.Err[i])
-		} else {
-			parts[i] = fmt.Sprintf("%s=%.5g", names[i], v)
-		}
-	}
-	return strings.Join(parts, ", ")
 }

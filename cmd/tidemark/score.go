@@ -1,16 +1,11 @@
 package main
 
 import (
-	"bufio"
 	"errors"
 	"fmt"
 	"io"
-	"math"
 	"path/filepath"
-	"slices"
-	"strconv"
 	"strings"
-	"sync"
 
 	"github.com/spf13/cobra"
 
@@ -18,7 +13,7 @@ import (
 	"tidemark/cmd/internal/progress"
 	"tidemark/data"
 	"tidemark/data/safefile"
-	"tidemark/model"
+	"tidemark/indicator/scorestat"
 )
 
 func init() { commands = append(commands, newScoreCmd) }
@@ -57,8 +52,8 @@ The output format follows the extension: .npz holds the arrays "logp" (M),
 "params" (M × d, the λ used), "bits_per_site" (M), "flagged" (M, 0/1) and the
 per-point table (point_params, point_count, point_mean_nll, point_std_nll,
 point_sem_nll, point_ref_lo, point_ref_hi, point_flagged); .csv has a header
-line and one row per snapshot (index, the parameters, logp), and the per-point
-table goes to SCORES.points.csv beside it.
+line and one row per snapshot (index, the parameters, logp in nats and
+bits_per_site), and the per-point table goes to SCORES.points.csv beside it.
 
 --posterior --grid "T=1.5:3.5:81" asks instead which parameters the snapshots
 came from: with a uniform prior over the grid points, the posterior of every
@@ -95,33 +90,6 @@ does a posterior grid that reaches beyond it.`,
 	return c
 }
 
-// parseAt parses --at into a λ in the order of names: every name exactly once.
-func parseAt(s string, names []string) ([]float64, error) {
-	spec, err := data.ParseGridSpec(s)
-	if err != nil {
-		return nil, fmt.Errorf("--at: %w", err)
-	}
-	lam := make([]float64, len(names))
-	got := map[string]bool{}
-	for _, ax := range spec.Axes {
-		i := slices.Index(names, ax.Name)
-		if i < 0 {
-			return nil, fmt.Errorf("--at %q: expected the model's parameters %q, found %q", s, names, ax.Name)
-		}
-		if len(ax.Values) != 1 {
-			return nil, fmt.Errorf("--at %q: expected one value of %s, found %d", s, ax.Name, len(ax.Values))
-		}
-		lam[i] = ax.Values[0]
-		got[ax.Name] = true
-	}
-	for _, n := range names {
-		if !got[n] {
-			return nil, fmt.Errorf("--at %q: expected a value for every parameter %q, %s is missing", s, names, n)
-		}
-	}
-	return lam, nil
-}
-
 func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) error {
 	if o.out == "" {
 		return errors.New("score: expected an output file (-o SCORES.npz or SCORES.csv), found none")
@@ -155,29 +123,27 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 	names := ck.Header.ParamNames
 	var at []float64
 	if o.at != "" {
-		if at, err = parseAt(o.at, names); err != nil {
-			return err
+		if at, err = data.ParsePoint(o.at, names); err != nil {
+			return fmt.Errorf("--at %q: %w", o.at, err)
 		}
 	}
 	var grid [][]float64
 	if o.posterior {
-		if grid, err = parsePosteriorGrid(o.grid, names); err != nil {
-			return err
+		if o.grid == "" {
+			return fmt.Errorf(`--posterior: expected --grid with the model's parameters %q, e.g. "%s=1.5:3.5:81", found none`, names, names[0])
+		}
+		if grid, err = data.ParsePoints(o.grid, names); err != nil {
+			return fmt.Errorf("--grid %q: %w", o.grid, err)
+		}
+		if len(grid) < 2 {
+			return fmt.Errorf("--grid %q: expected at least 2 points, found %d", o.grid, len(grid))
 		}
 	}
 	ds, err := data.ReadWith(dataPath, data.ReadOptions{Unlabelled: at != nil || o.posterior})
 	if err != nil {
 		return err
 	}
-	chk := ds
-	if ds.D == 0 {
-		// Unlabelled data scored at --at or for --posterior: check everything
-		// but the names.
-		c := *ds
-		c.Meta.ParamNames = names
-		chk = &c
-	}
-	if err := ck.CheckDataset(chk); err != nil {
+	if err := ck.CheckDatasetAs(ds); err != nil {
 		return fmt.Errorf("score: %s and %s: %w", ckPath, dataPath, err)
 	}
 	if ck.Header.BestEpoch == 0 {
@@ -191,84 +157,60 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 		return fmt.Errorf("%s: %w", ckPath, err)
 	}
 	// Say so where the user reads it when the scores extrapolate.
-	lo, hi := m.Cfg.ParamLo, m.Cfg.ParamHi
-	outside := func(p []float64) int {
-		for i, v := range p {
-			if i < len(lo) && (v < lo[i] || v > hi[i]) {
-				return i
+	warnOutside := func(what string, pts ...[]float64) {
+		for _, p := range pts {
+			if i := ck.Outside(p); i >= 0 {
+				lo, hi := ck.Header.Model.ParamLo, ck.Header.Model.ParamHi
+				fmt.Fprintf(cmd.ErrOrStderr(), "tidemark: warning: %s reaches %s=%g, outside the range [%g, %g] the model was trained on; the scores there are extrapolations\n",
+					what, names[i], p[i], lo[i], hi[i])
+				return
 			}
-		}
-		return -1
-	}
-	warnOutside := func(what string, p []float64) {
-		if i := outside(p); i >= 0 {
-			fmt.Fprintf(cmd.ErrOrStderr(), "tidemark: warning: %s reaches %s=%g, outside the range [%g, %g] the model was trained on; the scores there are extrapolations\n",
-				what, names[i], p[i], lo[i], hi[i])
 		}
 	}
 	if at != nil {
 		warnOutside("--at", at)
 	}
 	if o.posterior {
-		for _, p := range grid {
-			if outside(p) >= 0 {
-				warnOutside("--grid", p)
-				break
-			}
-		}
+		warnOutside("--grid", grid...)
 		return runPosterior(cmd, m, ds, grid, names, ckPath, dataPath, ext, o)
 	}
 	bar := progress.New(ds.M, "score", o.quiet)
-	logp, params, err := scoreDataset(m, ds, at, threadsOrDefault(o.threads), bar.Func())
+	logp, params, err := scorestat.Score(m, ds, at, threadsOrDefault(o.threads), bar.Func())
 	bar.Done()
 	if err != nil {
 		return fmt.Errorf("score: %w", err)
 	}
-	d := len(names)
 	npts := 1
 	if at == nil {
 		npts = data.NewGrid(ds).K()
 	}
 	pbar := progress.New(npts, "reference", o.quiet)
-	pts, flags, err := scoreStats(m, logp, params, d, o.seed, pbar.Func())
+	pts, flags, err := scorestat.Stats(m, logp, params, len(names), o.seed, pbar.Func())
 	pbar.Done()
 	if err != nil {
 		return fmt.Errorf("score: %w", err)
 	}
-	bps := make([]float64, len(logp))
-	for i, v := range logp {
-		bps[i] = -v / float64(ds.N) / math.Ln2
-	}
 	if ext == ".csv" {
-		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return writeScoresCSV(w, names, logp, params) })
+		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return scorestat.WriteScoresCSV(w, names, logp, params, ds.N) })
 		if err == nil {
-			err = safefile.Write(sidecar(o.out, "points"), o.force, func(w io.Writer) error { return writePointsCSV(w, names, pts, ds.N) })
+			err = safefile.Write(sidecar(o.out, "points"), o.force, func(w io.Writer) error { return scorestat.WritePointsCSV(w, names, pts, ds.N) })
 		}
 	} else {
-		err = safefile.Write(o.out, o.force, func(w io.Writer) error {
-			arrays := []npzArray{
-				f64Array("logp", logp, len(logp)), f64Array("params", params, len(logp), d),
-				f64Array("bits_per_site", bps, len(logp)), {"flagged", "|u1", []int{len(flags)}, flags},
-			}
-			arrays = append(arrays, pointArrays(pts, d)...)
-			return writeNPZ(w, arrays, map[string]any{"param_names": names, "checkpoint": ckPath, "data": dataPath, "units": "nats", "software_version": version})
-		})
+		meta := map[string]any{"param_names": names, "checkpoint": ckPath, "data": dataPath, "units": "nats", "software_version": version}
+		err = data.WriteNPZFile(o.out, o.force, meta, scorestat.ScoreArrays(logp, params, flags, pts, len(names), ds.N)...)
 	}
 	if err != nil {
 		return err
 	}
-	mean := 0.0
-	for _, v := range logp {
-		mean += v
-	}
-	mean /= float64(len(logp))
 	w := cmd.OutOrStdout()
-	printScoreStats(w, names, pts, ds.N)
+	scorestat.WriteTable(w, names, pts, ds.N)
 	nflag := 0
 	for _, f := range flags {
 		nflag += int(f)
 	}
-	fmt.Fprintf(w, "wrote %s: log p of %d snapshots, mean %.4f nats (%.5f bits per site); %d flagged\n", o.out, len(logp), mean, -mean/float64(ds.N)/math.Ln2, nflag)
+	mean, _, se := scorestat.MeanErr(logp)
+	fmt.Fprintf(w, "wrote %s: log p of %d snapshots, mean %.4f ± %.2g nats (%.5f ± %.2g bits per site); %d flagged\n",
+		o.out, len(logp), mean, se, scorestat.BitsPerSite(-mean, ds.N), scorestat.BitsPerSite(se, ds.N), nflag)
 	if ext == ".csv" {
 		fmt.Fprintf(w, "wrote %s: the per-point table\n", sidecar(o.out, "points"))
 	}
@@ -280,160 +222,4 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 func sidecar(out, what string) string {
 	ext := filepath.Ext(out)
 	return strings.TrimSuffix(out, ext) + "." + what + ext
-}
-
-// parsePosteriorGrid parses --grid for --posterior: the model's parameter
-// names, each once, in any order; the points are returned in the model's
-// order of parameters.
-func parsePosteriorGrid(s string, names []string) ([][]float64, error) {
-	if s == "" {
-		return nil, fmt.Errorf(`--posterior: expected --grid with the model's parameters %q, e.g. "%s=1.5:3.5:81", found none`, names, names[0])
-	}
-	spec, err := data.ParseGridSpec(s)
-	if err != nil {
-		return nil, fmt.Errorf("--grid: %w", err)
-	}
-	gn := spec.Names()
-	if len(gn) != len(names) {
-		return nil, fmt.Errorf("--grid %q: expected the model's parameters %q, found %q", s, names, gn)
-	}
-	perm := make([]int, len(names))
-	for i, n := range names {
-		j := slices.Index(gn, n)
-		if j < 0 {
-			return nil, fmt.Errorf("--grid %q: expected the model's parameters %q, found %q", s, names, gn)
-		}
-		perm[i] = j
-	}
-	var out [][]float64
-	for _, p := range spec.Points() {
-		q := make([]float64, len(names))
-		for i := range names {
-			q[i] = p[perm[i]]
-		}
-		out = append(out, q)
-	}
-	if len(out) < 2 {
-		return nil, fmt.Errorf("--grid %q: expected at least 2 points, found %d", s, len(out))
-	}
-	return out, nil
-}
-
-// runPosterior is score --posterior.
-func runPosterior(cmd *cobra.Command, m *model.Model, ds *data.Dataset, grid [][]float64, names []string, ckPath, dataPath, ext string, o *scoreOptions) error {
-	bar := progress.New(ds.M, "posterior", o.quiet)
-	pr, err := scorePosteriors(m, ds, grid, threadsOrDefault(o.threads), bar.Func())
-	bar.Done()
-	if err != nil {
-		return fmt.Errorf("score --posterior: %w", err)
-	}
-	d := len(names)
-	if ext == ".csv" {
-		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return writePosteriorCSV(w, names, ds, pr) })
-		if err == nil {
-			err = safefile.Write(sidecar(o.out, "groups"), o.force, func(w io.Writer) error { return writeGroupsCSV(w, names, pr) })
-		}
-	} else {
-		err = safefile.Write(o.out, o.force, func(w io.Writer) error {
-			return writeNPZ(w, posteriorArrays(pr, ds.M, d), map[string]any{
-				"param_names": names, "checkpoint": ckPath, "data": dataPath, "prior": "uniform over the grid points",
-				"grid": o.grid, "credible_mass": scoreCredible, "interval": "central (equal-tailed)", "units": "nats", "software_version": version,
-			})
-		})
-	}
-	if err != nil {
-		return err
-	}
-	w := cmd.OutOrStdout()
-	printGroups(w, names, pr)
-	fmt.Fprintf(w, "wrote %s: posteriors of %d snapshots over %d grid points\n", o.out, ds.M, len(grid))
-	if ext == ".csv" {
-		fmt.Fprintf(w, "wrote %s: the groups\n", sidecar(o.out, "groups"))
-	}
-	return nil
-}
-
-// scoreDataset returns log p(x_m|λ_m) of every snapshot and the λ used
-// (row-major M × d), each at its own λ or all at at.
-func scoreDataset(m *model.Model, ds *data.Dataset, at []float64, threads int, progress func(int)) ([]float64, []float64, error) {
-	d := m.Cfg.ParamDim
-	N := ds.N
-	logp := make([]float64, ds.M)
-	params := make([]float64, ds.M*d)
-	type job struct {
-		rows   []int
-		lambda []float64
-	}
-	var jobs []job
-	if at != nil {
-		const chunk = 1024
-		for lo := 0; lo < ds.M; lo += chunk {
-			rows := make([]int, 0, chunk)
-			for i := lo; i < min(lo+chunk, ds.M); i++ {
-				rows = append(rows, i)
-			}
-			jobs = append(jobs, job{rows, at})
-		}
-	} else {
-		g := data.NewGrid(ds)
-		for k, idx := range g.Index {
-			jobs = append(jobs, job{idx, g.Points[k]})
-		}
-	}
-	errs := make([]error, len(jobs))
-	next := make(chan int)
-	var wg sync.WaitGroup
-	for t := 0; t < max(threads, 1); t++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for j := range next {
-				jb := jobs[j]
-				xs := make([]uint8, 0, len(jb.rows)*N)
-				for _, r := range jb.rows {
-					xs = append(xs, ds.Row(r)...)
-				}
-				lp := make([]float64, len(jb.rows))
-				if err := m.LogProb(lp, xs, jb.lambda); err != nil {
-					errs[j] = err
-					continue
-				}
-				for i, r := range jb.rows {
-					logp[r] = lp[i]
-					copy(params[r*d:(r+1)*d], jb.lambda)
-				}
-				if progress != nil {
-					progress(len(jb.rows))
-				}
-			}
-		}()
-	}
-	for j := range jobs {
-		next <- j
-	}
-	close(next)
-	wg.Wait()
-	for _, err := range errs {
-		if err != nil {
-			return nil, nil, err
-		}
-	}
-	return logp, params, nil
-}
-
-func writeScoresCSV(w io.Writer, names []string, logp, params []float64) error {
-	bw := bufio.NewWriter(w)
-	d := len(names)
-	fmt.Fprintf(bw, "index,%s,logp\n", strings.Join(names, ","))
-	for i, v := range logp {
-		bw.WriteString(strconv.Itoa(i))
-		for _, p := range params[i*d : (i+1)*d] {
-			bw.WriteByte(',')
-			bw.WriteString(strconv.FormatFloat(p, 'g', -1, 64))
-		}
-		bw.WriteByte(',')
-		bw.WriteString(strconv.FormatFloat(v, 'g', -1, 64))
-		bw.WriteByte('\n')
-	}
-	return bw.Flush()
 }

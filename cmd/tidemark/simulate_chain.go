@@ -158,9 +158,6 @@ func (o *simulateChainOptions) chainSetup() (*chain.Source, *chain.MPSSource, da
 	if err != nil {
 		return nil, nil, spec, fmt.Errorf("--grid: %w", err)
 	}
-	if k := len(spec.Points()); k < 2 {
-		return nil, nil, spec, fmt.Errorf("--grid: expected at least 2 grid points, found %d", k)
-	}
 	h, err := chain.Parse(o.hamiltonian)
 	if err != nil {
 		return nil, nil, spec, fmt.Errorf("--hamiltonian: %w", err)

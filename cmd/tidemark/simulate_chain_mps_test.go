@@ -10,6 +10,7 @@ import (
 
 	"tidemark/data"
 	"tidemark/data/chain"
+	"tidemark/indicator/check"
 )
 
 // TestChainMPSEndToEnd makes a 32-site random-basis dataset with the MPS
@@ -48,7 +49,7 @@ func TestChainMPSEndToEnd(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var rep sampledReport
+	var rep check.SampledReport
 	if err := json.Unmarshal([]byte(out), &rep); err != nil {
 		t.Fatalf("check --json: %v\n%s", err, out)
 	}

@@ -132,9 +132,6 @@ func (o *simulateIsingOptions) isingConfig() (ising.Config, error) {
 		return cfg, fmt.Errorf("--temperature: T is not a grid axis, so expected a temperature above 0, found %v", o.temperature)
 	}
 	points := spec.Points()
-	if len(points) < 2 {
-		return cfg, fmt.Errorf("--grid: expected at least 2 grid points, found %d", len(points))
-	}
 	lat := ising.Lattice{Ly: ly, Lx: o.size}
 	if err := lat.Validate(); err != nil {
 		return cfg, fmt.Errorf("--size: %w", err)
@@ -187,29 +184,10 @@ func runSimulateIsing(cmd *cobra.Command, o *simulateIsingOptions) error {
 		}
 		return fmt.Errorf("simulate ising: %w", err)
 	}
-	fixedT := cfg.Fixed.T
-	meta := ising.SourceMeta{
-		Generator:    "ising",
-		Lattice:      []int{cfg.Lattice.Ly, cfg.Lattice.Lx},
-		Boundary:     "periodic",
-		Jx:           o.jx,
-		Jy:           o.jy,
-		Field:        o.field,
-		Temperature:  fixedT,
-		Grid:         o.grid,
-		Axes:         cfg.Axes,
-		Samples:      cfg.Samples,
-		ExactSamples: cfg.Enumerated,
-		Seed:         cfg.Seed,
-		Points:       res.Points,
-	}
-	n := cfg.Lattice.N()
-	ds, err := data.New(len(cfg.Points)*cfg.Samples, n, cfg.Axes, 2, []int{cfg.Lattice.Ly, cfg.Lattice.Lx}, meta)
+	ds, err := res.Dataset(cfg, o.grid)
 	if err != nil {
 		return err
 	}
-	ds.States = res.States
-	ds.Params = res.Params
 	if err := ds.Validate(o.out); err != nil {
 		return fmt.Errorf("simulate ising: internal check of the dataset: %w", err)
 	}

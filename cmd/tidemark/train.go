@@ -1,19 +1,11 @@
 package main
 
 import (
-	"errors"
 	"fmt"
-	"io"
-	"os"
-	"path/filepath"
-	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
 
-	"tidemark/checkpoints"
-	"tidemark/cmd/internal/progress"
-	"tidemark/data"
 	"tidemark/model"
 	"tidemark/train"
 )
@@ -76,17 +68,18 @@ it smooths out the noise of the last minibatches.
 MODEL.ckpt is rewritten after every epoch. It holds the best weights (lowest
 validation NLL; used by score, check and scan), the last weights and the
 optimiser state, so --resume MODEL.ckpt continues exactly where it stopped
-(on the same data only). SIGINT or SIGTERM saves the state after the last
+(on the same data only; without DATA it reads the dataset recorded in the
+checkpoint). Settings repeated with --resume must keep their saved values. SIGINT or SIGTERM saves the state after the last
 complete epoch and exits with status 130.
 
 Runs are reproducible bit for bit with the same seed and --threads; other
 thread counts change results only by floating-point summation order.`,
 		Example: `  tidemark train film.npz -o film.ckpt
   tidemark train film.npz -o film.ckpt --hidden 256,256 --epochs 100 --holdout "T=2.2;2.3"
-  tidemark train film.npz -o film.ckpt --resume film.ckpt --epochs 150`,
-		Args: cobra.ExactArgs(1),
+  tidemark train --resume film.ckpt --epochs 150`,
+		Args: cobra.RangeArgs(0, 1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			return runTrain(cmd, args[0], &o)
+			return runTrain(cmd, strings.Join(args, ""), &o)
 		},
 	}
 	f := c.Flags()
@@ -122,38 +115,21 @@ thread counts change results only by floating-point summation order.`,
 	return c
 }
 
-// parseWidths parses "256,256" into widths; "none" or "" gives an empty list.
-func parseWidths(flag, s string) ([]int, error) {
-	s = strings.TrimSpace(s)
-	if s == "" || s == "none" {
-		return []int{}, nil
-	}
-	var w []int
-	for _, p := range strings.Split(s, ",") {
-		v, err := strconv.Atoi(strings.TrimSpace(p))
-		if err != nil || v < 1 {
-			return nil, fmt.Errorf("--%s: expected comma-separated positive widths like 256,256, found %q", flag, p)
-		}
-		w = append(w, v)
-	}
-	return w, nil
-}
-
 func (o *trainOptions) settings() (train.Settings, error) {
 	st := train.DefaultSettings()
 	if o.hidden != "" {
-		h, err := parseWidths("hidden", o.hidden)
+		h, err := train.ParseWidths(o.hidden)
 		if err != nil {
-			return st, err
+			return st, fmt.Errorf("--hidden: %w", err)
 		}
 		if len(h) == 0 {
 			return st, fmt.Errorf("--hidden: expected at least one width, found %q", o.hidden)
 		}
 		st.Arch.Hidden = h
 	}
-	ch, err := parseWidths("cond-hidden", o.condHidden)
+	ch, err := train.ParseWidths(o.condHidden)
 	if err != nil {
-		return st, err
+		return st, fmt.Errorf("--cond-hidden: %w", err)
 	}
 	st.Arch.CondHidden = ch
 	if o.fourier < 0 {
@@ -183,144 +159,4 @@ func (o *trainOptions) settings() (train.Settings, error) {
 		return st, fmt.Errorf("--%w", err)
 	}
 	return st, nil
-}
-
-func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
-	if o.stopAfter < 0 {
-		return fmt.Errorf("--stop-after: expected a number of epochs ≥ 0, found %d", o.stopAfter)
-	}
-	opt := train.Options{DataPath: dataPath, Software: version, StopAfter: o.stopAfter}
-	var resumed *checkpoints.Checkpoint
-	if o.resume != "" {
-		ck, err := checkpoints.Load(o.resume)
-		if err != nil {
-			return fmt.Errorf("--resume: %w", err)
-		}
-		resumed = ck
-		res := &train.Resume{From: ck}
-		fl := cmd.Flags()
-		if fl.Changed("epochs") {
-			res.Epochs = o.epochs
-		}
-		if fl.Changed("patience") {
-			res.Patience = o.patience
-		}
-		if fl.Changed("threads") {
-			res.Threads = threadsOrDefault(o.threads)
-		}
-		for _, name := range []string{"hidden", "cond-hidden", "fourier", "activation", "cond-activation", "direct", "order", "symmetric", "film", "precision", "augment", "batch", "lr", "min-lr", "seed", "val-frac", "schedule", "weight-decay", "clip", "holdout"} {
-			if fl.Changed(name) {
-				return fmt.Errorf("--%s: cannot be changed when resuming; the run keeps the settings saved in %s (only --epochs, --patience and --threads may change)", name, o.resume)
-			}
-		}
-		opt.Resume = res
-		if o.out == "" {
-			o.out = o.resume
-		}
-	} else {
-		st, err := o.settings()
-		if err != nil {
-			return err
-		}
-		opt.Settings = st
-		opt.Holdout = o.holdout
-	}
-	if o.out == "" {
-		return errors.New("train: expected an output checkpoint file (-o MODEL.ckpt), found none")
-	}
-	sameFile := o.resume != "" && samePath(o.out, o.resume)
-	if !sameFile {
-		if err := checkOutput(o.out, o.force); err != nil {
-			return err
-		}
-	}
-	ds, err := data.Read(dataPath)
-	if err != nil {
-		return err
-	}
-	stdout, stderr := cmd.OutOrStdout(), cmd.ErrOrStderr()
-	var bar *progress.Bar
-	opt.Start = func(perEpoch, epochs int) {
-		// Notes only once the settings and data have passed every check, so
-		// a bad input gets its one-line error alone.
-		if resumed == nil {
-			for _, n := range augmentNotes(ds.Meta.Source, opt.Settings.Augment) {
-				fmt.Fprintf(stderr, "tidemark: train: note: %s\n", n)
-			}
-		}
-		bar = progress.New(perEpoch*epochs, "train", o.quiet)
-		if !o.quiet {
-			what := "training"
-			if resumed != nil {
-				what = fmt.Sprintf("resuming after epoch %d:", resumed.Header.Optimizer.Epoch)
-			}
-			fmt.Fprintf(stdout, "%s %d snapshots per epoch, up to %d epochs\n", what, perEpoch, epochs)
-		}
-	}
-	opt.Progress = func(n int) { bar.Add(n) }
-	opt.Warn = func(msg string) { fmt.Fprintf(stderr, "tidemark: train: %s\n", msg) }
-	written := false
-	opt.OnEpoch = func(m checkpoints.EpochMetrics, ck *checkpoints.Checkpoint) error {
-		if !o.quiet {
-			mark := ""
-			if ck.Header.BestEpoch == m.Epoch {
-				mark = "  *best"
-			}
-			line := fmt.Sprintf("epoch %4d  train %.5f  val %.5f bits/site  %8.0f samples/s  lr %.3g%s\n",
-				m.Epoch, m.TrainBitsPerSite, m.ValBitsPerSite, m.SamplesPerS, m.LR, mark)
-			io.WriteString(stdout, line)
-		}
-		if err := ck.Save(o.out, written || sameFile || o.force); err != nil {
-			return err
-		}
-		written = true
-		return nil
-	}
-	ctx, stop := signalContext()
-	defer stop()
-	ck, err := train.Run(ctx, ds, opt)
-	bar.Done()
-	if errors.Is(err, train.ErrInterrupted) && ck != nil {
-		if serr := ck.Save(o.out, written || sameFile || o.force); serr != nil {
-			return fmt.Errorf("train: interrupted, and saving failed: %v: %w", serr, errInterrupted)
-		}
-		return fmt.Errorf("train: interrupted; saved the state after epoch %d to %s (continue with --resume %s): %w",
-			ck.Header.Optimizer.Epoch, o.out, o.out, errInterrupted)
-	}
-	if err != nil {
-		if written {
-			return fmt.Errorf("train: %w (the last completed epoch is saved in %s)", err, o.out)
-		}
-		return fmt.Errorf("train: %w", err)
-	}
-	if err := ck.Save(o.out, written || sameFile || o.force); err != nil {
-		return err
-	}
-	h := ck.Header
-	if !o.quiet {
-		fmt.Fprintf(stdout, "stopped: %s after epoch %d; best epoch %d, validation %.5f bits/site", h.Stopped, h.Optimizer.Epoch, h.BestEpoch, h.BestValBitsPerSite)
-		if h.HeldOutBitsPerSite != nil {
-			fmt.Fprintf(stdout, ", held-out points %.5f bits/site", *h.HeldOutBitsPerSite)
-		}
-		fmt.Fprintf(stdout, "\nsaved %s (%d parameters)\n", o.out, ck.NumParams())
-		if h.Stopped == "max epochs" && h.BestEpoch == h.Optimizer.Epoch {
-			fmt.Fprintf(stdout, "note: the validation NLL was still improving at the last epoch; more --epochs (with --resume %s) may fit better\n", o.out)
-		}
-	}
-	return nil
-}
-
-// samePath reports whether two paths name the same file (or would).
-func samePath(a, b string) bool {
-	if a == b {
-		return true
-	}
-	sa, errA := os.Stat(a)
-	sb, errB := os.Stat(b)
-	if errA == nil && errB == nil {
-		return os.SameFile(sa, sb)
-	}
-	aa, _ := filepath.Abs(a)
-	bb, _ := filepath.Abs(b)
-	return aa == bb
 }

@@ -145,7 +145,7 @@ func TestTrainInspectExportScoreCheck(t *testing.T) {
 	}
 	rows, err := csv.NewReader(f).ReadAll()
 	f.Close()
-	if err != nil || len(rows) != ds.M+1 || strings.Join(rows[0], ",") != "index,T,logp" {
+	if err != nil || len(rows) != ds.M+1 || strings.Join(rows[0], ",") != "index,T,logp,bits_per_site" {
 		t.Fatalf("score csv: %v, %d rows, header %v", err, len(rows), rows[0])
 	}
 	if v, _ := strconv.ParseFloat(rows[8][2], 64); v != want[0] {

@@ -153,7 +153,22 @@ func KaufmanHeatCapacity(ly, lx int, T, jx, jy float64) float64 {
 // ly×lx lattice in [lo, hi] and its height, by a scan of 200 points followed
 // by golden-section refinement (to about 1e-9 in T).
 func KaufmanPeak(ly, lx int, jx, jy, lo, hi float64) (T, c float64) {
-	f := func(t float64) float64 { return KaufmanHeatCapacity(ly, lx, t, jx, jy) }
+	return maximize(func(t float64) float64 { return KaufmanHeatCapacity(ly, lx, t, jx, jy) }, lo, hi)
+}
+
+// KaufmanFisherPeak returns the temperature of the maximum of C/(N T²) of
+// the periodic ly×lx lattice in [lo, hi] and its height: the Fisher
+// information in T per site, F_T/N = Var(E)/(N T⁴) (common practice), which
+// is what tidemark's indicators measure. It lies below the heat-capacity
+// maximum of KaufmanPeak.
+func KaufmanFisherPeak(ly, lx int, jx, jy, lo, hi float64) (T, f float64) {
+	return maximize(func(t float64) float64 { return KaufmanHeatCapacity(ly, lx, t, jx, jy) / (t * t) }, lo, hi)
+}
+
+// maximize returns the argument and value of the maximum of f on [lo, hi]
+// by a scan of 200 points followed by golden-section refinement (to about
+// 1e-9 in the argument) around the best one.
+func maximize(f func(float64) float64, lo, hi float64) (x, fx float64) {
 	const steps = 200
 	best, bestT := math.Inf(-1), lo
 	for i := 0; i <= steps; i++ {
@@ -178,6 +193,6 @@ func KaufmanPeak(ly, lx int, jx, jy, lo, hi float64) (T, c float64) {
 			f2 = f(x2)
 		}
 	}
-	T = (a + b) / 2
-	return T, f(T)
+	x = (a + b) / 2
+	return x, f(x)
 }

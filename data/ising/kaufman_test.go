@@ -135,3 +135,30 @@ func TestKaufmanDerivativesLargeLattice(t *testing.T) {
 		}
 	}
 }
+
+// TestKaufmanFisherPeakMatchesEnumeration checks the maximum of the Fisher
+// information in T per site, Var(E)/(N T⁴) (common practice), from
+// Kaufman's heat capacity against a fine scan of the same quantity from
+// exact enumeration of the 4×4 lattice (the enumeration is checked against
+// Beale's density of states, Phys. Rev. Lett. 76, 78 (1996)), and that it
+// lies below the heat-capacity maximum.
+func TestKaufmanFisherPeakMatchesEnumeration(t *testing.T) {
+	e, err := NewEnumeration(Lattice{Ly: 4, Lx: 4})
+	if err != nil {
+		t.Fatal(err)
+	}
+	bestT, best := 0.0, math.Inf(-1)
+	for T := 1.5; T <= 3.5; T += 1e-4 {
+		_, varE, _ := e.Moments(Couplings{T: T, Jx: 1, Jy: 1})
+		if v := varE / 16 / (T * T * T * T); v > best {
+			bestT, best = T, v
+		}
+	}
+	T, f := KaufmanFisherPeak(4, 4, 1, 1, 1.5, 3.5)
+	if math.Abs(T-bestT) > 2e-4 || math.Abs(f-best) > 1e-6*best {
+		t.Errorf("KaufmanFisherPeak = T %v, height %v; enumeration %v, %v", T, f, bestT, best)
+	}
+	if tc, _ := KaufmanPeak(4, 4, 1, 1, 1.5, 3.5); !(T < tc) {
+		t.Errorf("Fisher maximum %v not below the heat-capacity maximum %v", T, tc)
+	}
+}

@@ -129,3 +129,19 @@ func WriteBytes(path string, force bool, b []byte) error {
 		return err
 	})
 }
+
+// SamePath reports whether two paths name the same file, or would once
+// created (the same absolute path).
+func SamePath(a, b string) bool {
+	if a == b {
+		return true
+	}
+	sa, errA := os.Stat(a)
+	sb, errB := os.Stat(b)
+	if errA == nil && errB == nil {
+		return os.SameFile(sa, sb)
+	}
+	aa, _ := filepath.Abs(a)
+	bb, _ := filepath.Abs(b)
+	return aa == bb
+}

@@ -88,3 +88,20 @@ func TestCheckWritable(t *testing.T) {
 		}
 	}
 }
+
+func TestSamePath(t *testing.T) {
+	dir := t.TempDir()
+	a := filepath.Join(dir, "a")
+	if err := os.WriteFile(a, []byte("x"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	t.Chdir(dir)
+	for _, tc := range []struct {
+		x, y string
+		want bool
+	}{{a, "a", true}, {a, filepath.Join(dir, ".", "a"), true}, {"b", filepath.Join(dir, "b"), true}, {a, "b", false}} {
+		if got := SamePath(tc.x, tc.y); got != tc.want {
+			t.Errorf("SamePath(%q, %q) = %v, want %v", tc.x, tc.y, got, tc.want)
+		}
+	}
+}

@@ -100,7 +100,6 @@ func TestReadErrors(t *testing.T) {
 		{"digit string length", "1 0101\n1 011\n", T, 2, 2, "one string of 4 digits"},
 		{"digit above alphabet", "1 0101\n1 0131\n", Options{ParamNames: []string{"T"}, Alphabet: 2}, 2, 2, "site 3: expected a value below the alphabet 2"},
 		{"lattice size", "1 0 1 1\n", Options{ParamNames: []string{"T"}, Lattice: []int{2, 2}}, 1, 0, "has 4 sites, but this line has 3"},
-		{"one grid point", "1 0 1\n1 1 1\n", T, -1, 0, "at least 2 distinct grid points"},
 		{"lonely point", "1 0 1\n1 1 1\n2 0 0\n", T, -1, 0, "at least 2 samples at every grid point"},
 	}
 	for _, c := range cases {

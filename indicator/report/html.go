@@ -334,7 +334,7 @@ func HTML(res *indicator.Result, sum *Summary, pics map[string][]byte, pg *Page)
 		if !ok {
 			continue
 		}
-		d.Figures = append(d.Figures, pageFigure{Name: c.Name + ".svg", Caption: describe(c), SVG: inlineSVG(b)})
+		d.Figures = append(d.Figures, pageFigure{Name: c.Name + ".svg", Caption: describe(c) + refinedNote(c, sum.Grid.Refine), SVG: inlineSVG(b)})
 	}
 	for _, m := range pg.Models {
 		d.TrainCurves = append(d.TrainCurves, trainingSVG(m.Curve))

@@ -44,6 +44,17 @@ func describe(c *indicator.Curve) string {
 	return c.Name + ": " + base
 }
 
+// refinedNote warns, for the local indicator on a grid refined by a factor
+// refine > 1, that its heights are not comparable with a scan at the data's
+// grid points: neighbours there lie 1/refine of a grid step apart, so their
+// total-variation distance is smaller.
+func refinedNote(c *indicator.Curve, refine int) string {
+	if refine <= 1 || c.Indicator != indicator.Local {
+		return ""
+	}
+	return fmt.Sprintf(". On this grid, refined %d×, neighbouring points lie 1/%d of a data grid step apart, so the heights are smaller than, and not comparable with, those of a scan at the data's grid points; compare positions, not heights", refine, refine)
+}
+
 // Pictures renders every curve as <name>.svg and <name>.png: 1-D curves
 // with a ±1 standard error band and peak markers, 2-D curves as heat maps
 // with the boundary lines found from them.

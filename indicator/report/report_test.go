@@ -100,3 +100,17 @@ func TestWriteTwoDimensionalScan(t *testing.T) {
 		t.Errorf("left behind: %v", ents)
 	}
 }
+
+// TestRefinedLocalCaption checks that the local indicator's caption on a
+// refined grid says its heights are not comparable with those at the data's
+// grid points, and that other captions and unrefined grids say nothing.
+func TestRefinedLocalCaption(t *testing.T) {
+	local := &indicator.Curve{Name: "local", Indicator: indicator.Local}
+	lbc := &indicator.Curve{Name: "lbc", Indicator: indicator.LBC}
+	if n := refinedNote(local, 4); !strings.Contains(n, "not comparable") || !strings.Contains(n, "4×") {
+		t.Errorf("refined local: %q", n)
+	}
+	if n := refinedNote(local, 1) + refinedNote(lbc, 4); n != "" {
+		t.Errorf("unrefined local or refined lbc: %q", n)
+	}
+}

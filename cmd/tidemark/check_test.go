@@ -4,40 +4,12 @@ import (
 	"encoding/json"
 	"math"
 	"path/filepath"
+	"regexp"
 	"testing"
 
 	"tidemark/data/ising"
+	"tidemark/indicator/check"
 )
-
-// TestKaufmanEntropyMatchesEnumeration checks the entropy check uses for
-// large lattices against exact enumeration of the 4×4 and 4×6 lattices
-// (s = ln Z/N + ⟨E⟩/(N T)), which the ising package checks against
-// P. D. Beale's density of states (Phys. Rev. Lett. 76, 78 (1996)).
-func TestKaufmanEntropyMatchesEnumeration(t *testing.T) {
-	for _, tc := range []struct {
-		ly, lx int
-		c      ising.Couplings
-	}{
-		{4, 4, ising.Couplings{T: 1.5, Jx: 1, Jy: 1}},
-		{4, 4, ising.Couplings{T: 2.269, Jx: 1, Jy: 1}},
-		{4, 6, ising.Couplings{T: 3.2, Jx: 1, Jy: 0.5}},
-	} {
-		e, err := ising.NewEnumeration(ising.Lattice{Ly: tc.ly, Lx: tc.lx})
-		if err != nil {
-			t.Fatal(err)
-		}
-		n := float64(tc.ly * tc.lx)
-		meanE, _, _ := e.Moments(tc.c)
-		want := e.LogZ(tc.c)/n + meanE/n/tc.c.T
-		got, ok := kaufmanEntropy(tc.ly, tc.lx, tc.c)
-		if !ok || math.Abs(got-want) > 1e-9 {
-			t.Errorf("%d×%d %+v: entropy per site %v (ok %v), enumeration %v", tc.ly, tc.lx, tc.c, got, ok, want)
-		}
-	}
-	if _, ok := kaufmanEntropy(4, 4, ising.Couplings{T: 2, Jx: 1, Jy: 1, H: 0.1}); ok {
-		t.Error("a field has no Kaufman entropy, but kaufmanEntropy accepted it")
-	}
-}
 
 // TestCheckLargeIsingUsesKaufman runs check on a 6×6 dataset (36 sites, too
 // many to enumerate): it reports NLL − S per point, and a model trained for
@@ -56,7 +28,11 @@ func TestCheckLargeIsingUsesKaufman(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var rep kaufmanReport
+	text, err := execTidemark(t, "check", ck, "--data", ds)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var rep check.KaufmanReport
 	if err := json.Unmarshal([]byte(out), &rep); err != nil {
 		t.Fatalf("%v in %q", err, out)
 	}
@@ -64,10 +40,17 @@ func TestCheckLargeIsingUsesKaufman(t *testing.T) {
 		t.Fatalf("points %d, kl %v; want 4 points and no KL", len(rep.Points), rep.KLPerSite)
 	}
 	for _, p := range rep.Points {
-		s, _ := kaufmanEntropy(6, 6, ising.Couplings{T: p.Params[0], Jx: 1, Jy: 1})
+		s, _ := check.KaufmanEntropy(6, 6, ising.Couplings{T: p.Params[0], Jx: 1, Jy: 1})
 		if p.EntropyPerSite != s || !(p.StdErr > 0) {
 			t.Errorf("%s: entropy %v (want %v), std err %v", p.Label, p.EntropyPerSite, s, p.StdErr)
 		}
+	}
+	sq := 0.0
+	for _, p := range rep.Points {
+		sq += p.StdErr * p.StdErr
+	}
+	if want := math.Sqrt(sq) / 4; math.Abs(rep.MeanStdErr-want) > 1e-12 || !regexp.MustCompile(`mean NLL − S per site [+-][0-9.]+ ± [0-9.]+`).MatchString(text) {
+		t.Errorf("mean NLL − S standard error %v, want %v from the points' errors; text:\n%s", rep.MeanStdErr, want, text)
 	}
 	if rep.MeanNLLMinusS < 0.01 {
 		t.Errorf("one epoch of training: mean NLL − S = %v nats per site, expected clearly positive", rep.MeanNLLMinusS)

@@ -1,0 +1,174 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"io"
+
+	"github.com/spf13/cobra"
+	"github.com/spf13/pflag"
+
+	"tidemark/checkpoints"
+	"tidemark/cmd/internal/progress"
+	"tidemark/data"
+	"tidemark/data/safefile"
+	"tidemark/train"
+)
+
+// resumeFrom loads the checkpoint of --resume and returns what the resumed
+// run may change. Settings given again with their saved values are
+// accepted, so a command line can be repeated with --resume added.
+func (o *trainOptions) resumeFrom(fl *pflag.FlagSet) (*checkpoints.Checkpoint, *train.Resume, error) {
+	ck, err := checkpoints.Load(o.resume)
+	if err != nil {
+		return nil, nil, fmt.Errorf("--resume: %w", err)
+	}
+	res := &train.Resume{From: ck}
+	if fl.Changed("epochs") {
+		res.Epochs = o.epochs
+	}
+	if fl.Changed("patience") {
+		res.Patience = o.patience
+	}
+	if fl.Changed("threads") {
+		res.Threads = threadsOrDefault(o.threads)
+	}
+	given, err := o.settings()
+	if err != nil {
+		return nil, nil, err
+	}
+	var changed []string
+	for _, name := range train.FixedOnResume {
+		if fl.Changed(name) {
+			changed = append(changed, name)
+		}
+	}
+	diff := train.Differences(given, train.SavedSettings(ck), changed)
+	if fl.Changed("holdout") && o.holdout != ck.Header.HoldoutSpec {
+		diff = append(diff, "holdout")
+	}
+	if len(diff) > 0 {
+		return nil, nil, fmt.Errorf("--%s: cannot be changed when resuming; the run keeps the settings saved in %s (only --epochs, --patience and --threads may change; the others may only be repeated with their saved values)", diff[0], o.resume)
+	}
+	return ck, res, nil
+}
+
+func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
+	if o.stopAfter < 0 {
+		return fmt.Errorf("--stop-after: expected a number of epochs ≥ 0, found %d", o.stopAfter)
+	}
+	opt := train.Options{Software: version, StopAfter: o.stopAfter}
+	var resumed *checkpoints.Checkpoint
+	if o.resume != "" {
+		ck, res, err := o.resumeFrom(cmd.Flags())
+		if err != nil {
+			return err
+		}
+		resumed, opt.Resume = ck, res
+		if dataPath == "" {
+			dataPath = ck.Header.Dataset.Path
+		}
+		if o.out == "" {
+			o.out = o.resume
+		}
+	} else {
+		st, err := o.settings()
+		if err != nil {
+			return err
+		}
+		opt.Settings = st
+		opt.Holdout = o.holdout
+	}
+	if dataPath == "" {
+		return errors.New("train: expected a dataset (DATA.npz), found none (only --resume can do without: it reads the dataset recorded in the checkpoint)")
+	}
+	opt.DataPath = dataPath
+	if o.out == "" {
+		return errors.New("train: expected an output checkpoint file (-o MODEL.ckpt), found none")
+	}
+	sameFile := o.resume != "" && safefile.SamePath(o.out, o.resume)
+	if !sameFile {
+		if err := checkOutput(o.out, o.force); err != nil {
+			return err
+		}
+	}
+	ds, err := data.Read(dataPath)
+	if err != nil && resumed != nil && resumed.Header.Dataset.Path == dataPath {
+		return fmt.Errorf("%w (the dataset recorded in %s; give DATA to name another path to the same data)", err, o.resume)
+	} else if err != nil {
+		return err
+	}
+	if k := data.NewGrid(ds).K(); k < 2 {
+		return fmt.Errorf("train: %s: expected at least 2 distinct grid points, found %d (the model learns how the snapshots change between points)", dataPath, k)
+	}
+	stdout, stderr := cmd.OutOrStdout(), cmd.ErrOrStderr()
+	var bar *progress.Bar
+	opt.Start = func(perEpoch, epochs int) {
+		// Notes only once the settings and data have passed every check, so
+		// a bad input gets its one-line error alone.
+		if resumed == nil {
+			for _, n := range augmentNotes(ds.Meta, opt.Settings.Augment) {
+				fmt.Fprintf(stderr, "tidemark: train: note: %s\n", n)
+			}
+		}
+		bar = progress.New(perEpoch*epochs, "train", o.quiet)
+		if !o.quiet {
+			what := "training"
+			if resumed != nil {
+				what = fmt.Sprintf("resuming after epoch %d:", resumed.Header.Optimizer.Epoch)
+			}
+			fmt.Fprintf(stdout, "%s %d snapshots per epoch, up to %d epochs\n", what, perEpoch, epochs)
+		}
+	}
+	opt.Progress = func(n int) { bar.Add(n) }
+	opt.Warn = func(msg string) { fmt.Fprintf(stderr, "tidemark: train: %s\n", msg) }
+	written := false
+	opt.OnEpoch = func(m checkpoints.EpochMetrics, ck *checkpoints.Checkpoint) error {
+		if !o.quiet {
+			mark := ""
+			if ck.Header.BestEpoch == m.Epoch {
+				mark = "  *best"
+			}
+			line := fmt.Sprintf("epoch %4d  train %.5f  val %.5f bits/site  %8.0f samples/s  lr %.3g%s\n",
+				m.Epoch, m.TrainBitsPerSite, m.ValBitsPerSite, m.SamplesPerS, m.LR, mark)
+			io.WriteString(stdout, line)
+		}
+		if err := ck.Save(o.out, written || sameFile || o.force); err != nil {
+			return err
+		}
+		written = true
+		return nil
+	}
+	ctx, stop := signalContext()
+	defer stop()
+	ck, err := train.Run(ctx, ds, opt)
+	bar.Done()
+	if errors.Is(err, train.ErrInterrupted) && ck != nil {
+		if serr := ck.Save(o.out, written || sameFile || o.force); serr != nil {
+			return fmt.Errorf("train: stopped, and saving the state failed: %v: %w", serr, errInterrupted)
+		}
+		return fmt.Errorf("train: stopped; saved the state after epoch %d to %s (continue with: tidemark train %s --resume %s): %w",
+			ck.Header.Optimizer.Epoch, o.out, shellQuote(dataPath), shellQuote(o.out), errInterrupted)
+	}
+	if err != nil {
+		if written {
+			return fmt.Errorf("train: %w (the last completed epoch is saved in %s)", err, o.out)
+		}
+		return fmt.Errorf("train: %w", err)
+	}
+	if err := ck.Save(o.out, written || sameFile || o.force); err != nil {
+		return err
+	}
+	h := ck.Header
+	if !o.quiet {
+		fmt.Fprintf(stdout, "stopped: %s after epoch %d; best epoch %d, validation %.5f bits/site", h.Stopped, h.Optimizer.Epoch, h.BestEpoch, h.BestValBitsPerSite)
+		if h.HeldOutBitsPerSite != nil {
+			fmt.Fprintf(stdout, ", held-out points %.5f bits/site", *h.HeldOutBitsPerSite)
+		}
+		fmt.Fprintf(stdout, "\nsaved %s (%d parameters)\n", o.out, ck.NumParams())
+		if h.Stopped == "max epochs" && h.BestEpoch == h.Optimizer.Epoch {
+			fmt.Fprintf(stdout, "note: the validation NLL was still improving at the last epoch; more --epochs (with --resume %s) may fit better\n", o.out)
+		}
+	}
+	return nil
+}

@@ -1,0 +1,69 @@
+package scorestat
+
+import (
+	"context"
+	"fmt"
+
+	"tidemark/data"
+	"tidemark/data/density"
+)
+
+// scoreChunk is the number of snapshots scored in one job when every
+// snapshot is scored at the same λ.
+const scoreChunk = 1024
+
+// job is one batch of snapshots scored at one λ.
+type job struct {
+	rows   []int
+	lambda []float64
+}
+
+// Score returns log p(x_m|λ_m) in nats of every snapshot of ds and the λ
+// used (row-major M × d): each snapshot at its own λ, or all at at when at
+// is not nil. The jobs (one per grid point, or per block of snapshots) run
+// on up to threads goroutines (data.ForEachPoint); the result does not
+// depend on threads. progress, if set, receives the number of snapshots
+// scored.
+func Score(src density.Source, ds *data.Dataset, at []float64, threads int, progress func(int)) (logp, params []float64, err error) {
+	d := src.ParamDim()
+	logp = make([]float64, ds.M)
+	params = make([]float64, ds.M*d)
+	var jobs []job
+	if at != nil {
+		for lo := 0; lo < ds.M; lo += scoreChunk {
+			rows := make([]int, 0, scoreChunk)
+			for i := lo; i < min(lo+scoreChunk, ds.M); i++ {
+				rows = append(rows, i)
+			}
+			jobs = append(jobs, job{rows, at})
+		}
+	} else {
+		g := data.NewGrid(ds)
+		for k, idx := range g.Index {
+			jobs = append(jobs, job{idx, g.Points[k]})
+		}
+	}
+	err = data.ForEachPoint(context.Background(), len(jobs), threads, func(j int) error {
+		jb := jobs[j]
+		xs := make([]uint8, 0, len(jb.rows)*ds.N)
+		for _, r := range jb.rows {
+			xs = append(xs, ds.Row(r)...)
+		}
+		lp := make([]float64, len(jb.rows))
+		if err := src.LogProb(lp, xs, jb.lambda); err != nil {
+			return fmt.Errorf("at %v: %w", jb.lambda, err)
+		}
+		for i, r := range jb.rows {
+			logp[r] = lp[i]
+			copy(params[r*d:(r+1)*d], jb.lambda)
+		}
+		if progress != nil {
+			progress(len(jb.rows))
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, nil, err
+	}
+	return logp, params, nil
+}

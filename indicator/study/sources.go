@@ -1,0 +1,127 @@
+package study
+
+import (
+	"fmt"
+	"strconv"
+	"strings"
+
+	"tidemark/checkpoints"
+	"tidemark/data"
+	"tidemark/data/density"
+	"tidemark/data/ising"
+	"tidemark/indicator"
+)
+
+// Kinds of density source a scan uses.
+const (
+	SourceExact     = "exact"     // the exact reference recorded in the dataset
+	SourceHistogram = "histogram" // the empirical frequencies of the snapshots
+	SourceModel     = "model"     // trained models
+)
+
+// Sources opens the density sources of a scan of the dataset ds read from
+// dataPath: its exact reference, the histogram of its snapshots, or the
+// best weights of each checkpoint in models, each checked against ds
+// (sites, alphabet, lattice, parameter names).
+func Sources(kind string, ds *data.Dataset, dataPath string, models []string) ([]density.Source, error) {
+	switch kind {
+	case SourceExact:
+		src, err := density.ReferenceFor(ds.Meta)
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", dataPath, err)
+		}
+		return []density.Source{src}, nil
+	case SourceHistogram:
+		h, err := density.NewHistogram(ds)
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", dataPath, err)
+		}
+		return []density.Source{h}, nil
+	case SourceModel:
+		var sources []density.Source
+		for _, p := range models {
+			ck, err := checkpoints.Load(p)
+			if err != nil {
+				return nil, err
+			}
+			if err := ck.CheckDataset(ds); err != nil {
+				return nil, fmt.Errorf("%s does not fit the dataset: %w", p, err)
+			}
+			m, err := ck.Model()
+			if err != nil {
+				return nil, fmt.Errorf("%s: %w", p, err)
+			}
+			sources = append(sources, m)
+		}
+		return sources, nil
+	}
+	return nil, fmt.Errorf("expected a density source %s, %s or %s, found %q", SourceExact, SourceHistogram, SourceModel, kind)
+}
+
+// ExactNote returns, for a model scan of an Ising dataset with an exact
+// reference, a note that says how to compare with it: a misfit of the
+// model shows only in that comparison, not in the bootstrap errors. It
+// returns "" otherwise.
+func ExactNote(kind string, ds *data.Dataset, dataPath string) string {
+	if sm, err := ising.ParseSourceMeta(ds.Meta); kind == SourceModel && err == nil && sm.HasReference() {
+		return fmt.Sprintf("this dataset has an exact reference: `tidemark scan --data %s --exact` scores the same snapshots with the exact density; a misfit of the model (a spurious peak in the ordered phase, say) shows only in that comparison, not in the bootstrap errors", dataPath)
+	}
+	return ""
+}
+
+// ParseIndicators parses a comma-separated list of indicator names; ""
+// and "all" give every indicator.
+func ParseIndicators(s string) ([]string, error) {
+	if s == "" || s == "all" {
+		return indicator.AllIndicators, nil
+	}
+	var out []string
+	for _, n := range strings.Split(s, ",") {
+		n = strings.TrimSpace(n)
+		ok := false
+		for _, a := range indicator.AllIndicators {
+			ok = ok || a == n
+		}
+		if !ok {
+			return nil, fmt.Errorf("expected all or some of %s, found %q", strings.Join(indicator.AllIndicators, ","), n)
+		}
+		out = append(out, n)
+	}
+	return out, nil
+}
+
+// ParseSLRegions parses the end regions of supervised learning, two
+// parameter ranges "lo:hi,lo:hi"; "" gives nil (the default regions).
+func ParseSLRegions(s string) (*indicator.SLRegions, error) {
+	if s == "" {
+		return nil, nil
+	}
+	parts := strings.Split(s, ",")
+	if len(parts) != 2 {
+		return nil, fmt.Errorf(`expected two ranges "lo:hi,lo:hi", found %q`, s)
+	}
+	var r indicator.SLRegions
+	for i, p := range parts {
+		ab := strings.Split(strings.TrimSpace(p), ":")
+		if len(ab) != 2 {
+			return nil, fmt.Errorf(`expected a range "lo:hi", found %q`, p)
+		}
+		var v [2]float64
+		for j, x := range ab {
+			f, err := strconv.ParseFloat(strings.TrimSpace(x), 64)
+			if err != nil {
+				return nil, fmt.Errorf("expected a number, found %q", x)
+			}
+			v[j] = f
+		}
+		if v[0] > v[1] {
+			return nil, fmt.Errorf("range %q has lo > hi", p)
+		}
+		if i == 0 {
+			r.A = v
+		} else {
+			r.B = v
+		}
+	}
+	return &r, nil
+}

@@ -1,0 +1,78 @@
+package train
+
+import (
+	"reflect"
+	"slices"
+
+	"tidemark/checkpoints"
+)
+
+// SavedSettings returns the settings the run saved in ck was started with:
+// its training record and the architecture of its model.
+func SavedSettings(ck *checkpoints.Checkpoint) Settings {
+	t, m := ck.Header.Training, ck.Header.Model
+	return Settings{
+		Arch: Arch{
+			Hidden: slices.Clone(m.Hidden), CondHidden: slices.Clone(m.CondHidden), Fourier: m.Fourier,
+			Activation: m.Activation, CondActivation: m.CondActivation, Direct: m.Direct, Order: Order(t.OrderName),
+			Symmetric: m.Symmetric, FiLM: m.FiLM, Precision: m.Precision,
+		},
+		Epochs: t.Epochs, Batch: t.Batch, LR: t.LR, MinLR: t.MinLR, Seed: t.Seed, ValFrac: t.ValFrac,
+		Patience: t.Patience, Schedule: Schedule(t.Schedule), PlateauPatience: t.PlateauPatience, PlateauFactor: t.PlateauFactor,
+		WeightDecay: t.WeightDecay, Clip: t.Clip, Beta1: t.Beta1, Beta2: t.Beta2, Eps: t.Eps, Threads: t.Threads,
+		Augment: symmetriesOf(t.Augment), Average: t.AverageEpochs,
+	}
+}
+
+// setting reads one setting, named as train's command-line flag, in a
+// normal form: "" precision is float64, "" conditioning activation is the
+// hidden layers' and no augmentation is an empty list.
+var setting = map[string]func(s Settings) any{
+	"hidden":      func(s Settings) any { return s.Arch.Hidden },
+	"cond-hidden": func(s Settings) any { return s.Arch.CondHidden },
+	"fourier":     func(s Settings) any { return s.Arch.Fourier },
+	"activation":  func(s Settings) any { return s.Arch.Activation },
+	"cond-activation": func(s Settings) any {
+		if s.Arch.CondActivation == "" {
+			return s.Arch.Activation
+		}
+		return s.Arch.CondActivation
+	},
+	"direct":    func(s Settings) any { return s.Arch.Direct },
+	"order":     func(s Settings) any { return s.Arch.Order },
+	"symmetric": func(s Settings) any { return s.Arch.Symmetric },
+	"film":      func(s Settings) any { return s.Arch.FiLM },
+	"precision": func(s Settings) any {
+		if s.Arch.Precision == "" {
+			return "float64"
+		}
+		return s.Arch.Precision
+	},
+	"augment":      func(s Settings) any { return append([]string{}, symmetryNames(s.Augment)...) },
+	"batch":        func(s Settings) any { return s.Batch },
+	"lr":           func(s Settings) any { return s.LR },
+	"min-lr":       func(s Settings) any { return s.MinLR },
+	"seed":         func(s Settings) any { return s.Seed },
+	"val-frac":     func(s Settings) any { return s.ValFrac },
+	"schedule":     func(s Settings) any { return s.Schedule },
+	"weight-decay": func(s Settings) any { return s.WeightDecay },
+	"clip":         func(s Settings) any { return s.Clip },
+	"average":      func(s Settings) any { return s.Average },
+}
+
+// FixedOnResume lists the settings, named as train's flags, that a resumed
+// run keeps from its checkpoint.
+var FixedOnResume = []string{"hidden", "cond-hidden", "fourier", "activation", "cond-activation", "direct", "order", "symmetric", "film", "precision", "augment", "batch", "lr", "min-lr", "seed", "val-frac", "schedule", "weight-decay", "clip", "average"}
+
+// Differences returns those of the named settings (spelled as train's
+// flags, from FixedOnResume) whose values differ between a and b.
+func Differences(a, b Settings, names []string) []string {
+	var diff []string
+	for _, n := range names {
+		get, ok := setting[n]
+		if !ok || !reflect.DeepEqual(get(a), get(b)) {
+			diff = append(diff, n)
+		}
+	}
+	return diff
+}
