@@ -3,13 +3,11 @@ package main
 import (
 	"errors"
 	"fmt"
-	"strings"
 	"time"
 
 	"github.com/spf13/cobra"
 
 	"tidemark/cmd/internal/progress"
-	"tidemark/data"
 	"tidemark/data/chain"
 )
 
@@ -34,10 +32,6 @@ type simulateChainOptions struct {
 	pin          float64
 	openSet      bool // --open was given explicitly
 }
-
-// gapWarnThreshold is the in-sector gap below which snapshots depend on the
-// solver's arbitrary choice inside a (nearly) degenerate ground space.
-const gapWarnThreshold = 1e-8
 
 func newSimulateChainCmd() *cobra.Command {
 	var o simulateChainOptions
@@ -106,146 +100,41 @@ from the file alone.`,
 	return c
 }
 
-// pickSolver resolves --solver: "ed" or "mps".
-func (o *simulateChainOptions) pickSolver() (string, error) {
-	switch o.solver {
-	case "ed", "mps":
-		return o.solver, nil
-	case "auto", "":
-		if o.sites > chain.MaxSites {
-			return "mps", nil
-		}
-		return "ed", nil
-	}
-	return "", fmt.Errorf("--solver: expected ed, mps or auto, found %q", o.solver)
-}
-
-// chainSetup checks the options and builds the source (exact, or MPS when
-// the solver is mps) and the grid points.
-func (o *simulateChainOptions) chainSetup() (*chain.Source, *chain.MPSSource, data.GridSpec, error) {
-	var spec data.GridSpec
-	if o.out == "" {
-		return nil, nil, spec, errors.New("--output: expected an output file name (-o OUT.npz), found none")
-	}
-	solver, err := o.pickSolver()
+// request turns the flags into the library's request; its errors name the flag.
+func (o *simulateChainOptions) request() (chain.Request, error) {
+	solver, err := chain.ParseSolver(o.solver)
 	if err != nil {
-		return nil, nil, spec, err
+		return chain.Request{}, fmt.Errorf("--%w", err)
 	}
-	if limit := chain.MaxSites; solver == "ed" && (o.sites < 2 || o.sites > limit) {
-		return nil, nil, spec, fmt.Errorf("--sites: expected 2 to %d sites, found %d", limit, o.sites)
-	}
-	if limit := chain.MaxMPSSites; solver == "mps" && (o.sites < 2 || o.sites > limit) {
-		return nil, nil, spec, fmt.Errorf("--sites: expected 2 to %d sites with the MPS solver, found %d", limit, o.sites)
-	}
-	if strings.TrimSpace(o.hamiltonian) == "" {
-		return nil, nil, spec, errors.New(`--hamiltonian: expected a sum of Pauli words like "-ZZ - h*X", found none`)
-	}
-	if o.samples < 2 {
-		return nil, nil, spec, fmt.Errorf("--samples: expected at least 2 snapshots per grid point, found %d", o.samples)
-	}
-	basis, err := chain.ParseBasis(o.basis)
-	if err != nil {
-		return nil, nil, spec, fmt.Errorf("--%w", err)
-	}
-	sector, err := chain.ParseSector(o.sector)
-	if err != nil {
-		return nil, nil, spec, fmt.Errorf("--%w", err)
-	}
-	if o.grid == "" {
-		return nil, nil, spec, errors.New(`--grid: expected axes over the Hamiltonian's parameters like "h=0.2:2:19", found none`)
-	}
-	spec, err = data.ParseGridSpec(o.grid)
-	if err != nil {
-		return nil, nil, spec, fmt.Errorf("--grid: %w", err)
-	}
-	h, err := chain.Parse(o.hamiltonian)
-	if err != nil {
-		return nil, nil, spec, fmt.Errorf("--hamiltonian: %w", err)
-	}
-	inH := map[string]bool{}
-	for _, p := range h.Params() {
-		inH[p] = true
-	}
-	for _, name := range spec.Names() {
-		if !inH[name] {
-			return nil, nil, spec, fmt.Errorf("--grid: axis %q does not appear in the Hamiltonian %q (its parameters: %s)", name, o.hamiltonian, listOrNone(h.Params()))
-		}
-	}
-	onGrid := map[string]bool{}
-	for _, name := range spec.Names() {
-		onGrid[name] = true
-	}
-	for _, p := range h.Params() {
-		if !onGrid[p] {
-			return nil, nil, spec, fmt.Errorf("--hamiltonian: parameter %q is not a grid axis: expected it in --grid (axes: %s)", p, listOrNone(spec.Names()))
-		}
-	}
-	total := int64(len(spec.Points())) * int64(o.samples) * int64(o.sites)
-	if total > 1<<34 {
-		return nil, nil, spec, fmt.Errorf("--samples: %d points × %d snapshots × %d sites is %d values, expected at most %d", len(spec.Points()), o.samples, o.sites, total, int64(1)<<34)
-	}
-	open := o.open
-	if solver == "mps" && !o.openSet {
-		open = true // MPS default: open chains need far smaller bond dimensions
-	}
-	cfg := chain.Config{Sites: o.sites, Hamiltonian: o.hamiltonian, Params: spec.Names(), Open: open, Basis: basis, Sector: sector}
-	flagOf := func(err error) string {
-		if errors.Is(err, chain.ErrNoFlipSymmetry) {
-			return "--sector"
-		}
-		return "--hamiltonian"
-	}
-	if solver == "mps" {
-		if o.maxBond < 1 {
-			return nil, nil, spec, fmt.Errorf("--max-bond: expected at least 1, found %d", o.maxBond)
-		}
-		if !(o.cutoff > 0 && o.cutoff < 1) {
-			return nil, nil, spec, fmt.Errorf("--cutoff: expected a weight between 0 and 1 (exclusive), found %g", o.cutoff)
-		}
-		if !(o.energyTol > 0 && o.energyTol < 1) {
-			return nil, nil, spec, fmt.Errorf("--energy-tol: expected a relative change between 0 and 1 (exclusive), found %g", o.energyTol)
-		}
-		if !(o.pin >= 0 && o.pin < 1) {
-			return nil, nil, spec, fmt.Errorf("--pin: expected a small field strength, 0 ≤ ε < 1, found %g", o.pin)
-		}
-		ms, err := chain.NewMPS(cfg, chain.MPSOptions{MaxBond: o.maxBond, Cutoff: o.cutoff, Tol: o.energyTol, Pin: o.pin}, o.seed)
-		if err != nil {
-			return nil, nil, spec, fmt.Errorf("%s: %w", flagOf(err), err)
-		}
-		return nil, ms, spec, nil
-	}
-	src, err := chain.New(cfg)
-	if err != nil {
-		return nil, nil, spec, fmt.Errorf("%s: %w", flagOf(err), err)
-	}
-	return src, nil, spec, nil
-}
-
-func listOrNone(s []string) string {
-	if len(s) == 0 {
-		return "none"
-	}
-	return strings.Join(s, ", ")
+	return chain.Request{
+		Sites: o.sites, Hamiltonian: o.hamiltonian, Grid: o.grid, Basis: o.basis, Sector: o.sector,
+		Samples: o.samples, Open: o.open, OpenSet: o.openSet, Solver: solver, Seed: o.seed, Threads: o.threads,
+		MPS: chain.MPSOptions{MaxBond: o.maxBond, Cutoff: o.cutoff, Tol: o.energyTol, Pin: o.pin},
+	}, nil
 }
 
 func runSimulateChain(cmd *cobra.Command, o *simulateChainOptions) error {
 	o.openSet = cmd.Flags().Changed("open")
-	src, ms, spec, err := o.chainSetup()
+	if o.out == "" {
+		return errors.New("--output: expected an output file name (-o OUT.npz), found none")
+	}
+	req, err := o.request()
 	if err != nil {
 		return err
+	}
+	plan, err := req.Prepare()
+	if err != nil {
+		return fmt.Errorf("--%w", err)
 	}
 	if err := checkOutput(o.out, o.force); err != nil {
 		return err
 	}
-	if ms != nil {
-		return runSimulateChainMPS(cmd, o, ms, spec)
-	}
 	ctx, stop := signalContext()
 	defer stop()
-	points := spec.Points()
-	bar := progress.New(len(points)*o.samples, "chain", o.quiet)
+	total, label := plan.Work()
+	bar := progress.New(total, label, o.quiet)
 	start := time.Now()
-	res, err := chain.Simulate(ctx, src, points, o.samples, o.seed, threadsOrDefault(o.threads), bar.Func())
+	res, err := plan.Run(ctx, bar.Func())
 	bar.Done()
 	if err != nil {
 		if ctx.Err() != nil {
@@ -253,31 +142,18 @@ func runSimulateChain(cmd *cobra.Command, o *simulateChainOptions) error {
 		}
 		return fmt.Errorf("simulate chain: %w", err)
 	}
-	meta := src.Meta(o.seed, o.grid, res.Points)
-	ds, err := data.New(len(points)*o.samples, o.sites, spec.Names(), src.Alphabet(), []int{o.sites}, meta)
-	if err != nil {
-		return err
-	}
-	ds.States = res.States
-	ds.Params = res.Params
-	if err := ds.Validate(o.out); err != nil {
+	if err := res.Dataset.Validate(o.out); err != nil {
 		return fmt.Errorf("simulate chain: internal check of the dataset: %w", err)
 	}
-	if err := ds.Write(o.out, o.force); err != nil {
+	if err := res.Dataset.Write(o.out, o.force); err != nil {
 		return err
 	}
-	names := spec.Names()
-	var small []string
-	for _, p := range res.Points {
-		if p.Gap < gapWarnThreshold {
-			small = append(small, fmt.Sprintf("%s (gap %.2g)", data.FormatPoint(names, p.Params), p.Gap))
-		}
+	for _, line := range res.Summary {
+		fmt.Fprintln(cmd.OutOrStdout(), line)
 	}
-	if len(small) > 0 {
-		fmt.Fprintf(cmd.ErrOrStderr(), "tidemark: warning: the gap in sector %s is below %.0e at %d point(s): %s; the ground state there is (nearly) degenerate, so its snapshots depend on the solver; choose another --sector or check the Hamiltonian's symmetries\n",
-			meta.Sector, gapWarnThreshold, len(small), strings.Join(small, "; "))
+	for _, line := range res.Notices {
+		fmt.Fprintln(cmd.ErrOrStderr(), "tidemark: "+line)
 	}
-	fmt.Fprintf(cmd.OutOrStdout(), "wrote %s: %d-site %s chain, sector %s, basis %s, %d points × %d snapshots in %.1fs\n",
-		o.out, o.sites, meta.Boundary, meta.Sector, meta.Basis, len(points), o.samples, time.Since(start).Seconds())
+	fmt.Fprintf(cmd.OutOrStdout(), "wrote %s: %s in %.1fs\n", o.out, res.Description, time.Since(start).Seconds())
 	return nil
 }

@@ -2,7 +2,6 @@ package main
 
 import (
 	"encoding/json"
-	"fmt"
 	"math"
 	"path/filepath"
 	"strings"
@@ -67,62 +66,5 @@ func TestChainMPSEndToEnd(t *testing.T) {
 	scan := filepath.Join(dir, "scan.json")
 	if _, err := execTidemark(t, "scan", "--data", ds, "--exact", "--quiet", "-o", scan); err != nil {
 		t.Fatal(err)
-	}
-}
-
-// TestSimulateChainMPSIndependentOfThreads: the warm-start runs are fixed by
-// the grid alone, so --threads changes neither states nor snapshots.
-func TestSimulateChainMPSIndependentOfThreads(t *testing.T) {
-	dir := t.TempDir()
-	var files [2][]uint8
-	for i, th := range []string{"1", "2"} {
-		out := filepath.Join(dir, th+".npz")
-		if _, err := execTidemark(t, "simulate", "chain", "--sites", "20", "--solver", "mps", "--open", "--hamiltonian", "-ZZ - h*X", "--grid", "h=0.5:1.5:6",
-			"--basis", "z", "--samples", "30", "--threads", th, "--quiet", "-o", out); err != nil {
-			t.Fatal(err)
-		}
-		ds, err := data.Read(out)
-		if err != nil {
-			t.Fatal(err)
-		}
-		files[i] = ds.States
-	}
-	if string(files[0]) != string(files[1]) {
-		t.Error("snapshots differ between --threads 1 and --threads 2")
-	}
-}
-
-// TestSimulateChainMPSBoundaryDefault: MPS chains are open unless
-// --open=false; ED chains stay periodic by default.
-func TestSimulateChainMPSBoundaryDefault(t *testing.T) {
-	dir := t.TempDir()
-	cases := []struct {
-		args []string
-		want string
-	}{
-		{[]string{"--sites", "18"}, "open"},
-		{[]string{"--sites", "18", "--open=false", "--max-bond", "16"}, "periodic"},
-		{[]string{"--sites", "8"}, "periodic"},
-		{[]string{"--sites", "8", "--solver", "mps"}, "open"},
-	}
-	for i, c := range cases {
-		out := filepath.Join(dir, fmt.Sprintf("%d.npz", i))
-		args := append([]string{"simulate", "chain", "--hamiltonian", "-ZZ - h*X", "--grid", "h=0.8;1.2", "--samples", "10", "--quiet", "-o", out}, c.args...)
-		if _, err := execTidemark(t, args...); err != nil {
-			t.Fatalf("%v: %v", c.args, err)
-		}
-		ds, err := data.Read(out)
-		if err != nil {
-			t.Fatal(err)
-		}
-		var sm struct {
-			Boundary string `json:"boundary"`
-		}
-		if err := json.Unmarshal(ds.Meta.Source, &sm); err != nil {
-			t.Fatal(err)
-		}
-		if sm.Boundary != c.want {
-			t.Errorf("%v: boundary %s, expected %s", c.args, sm.Boundary, c.want)
-		}
 	}
 }

@@ -4,7 +4,6 @@ import (
 	"encoding/json"
 	"math"
 	"path/filepath"
-	"strings"
 	"testing"
 
 	"tidemark/data"
@@ -110,50 +109,6 @@ func TestSimulateChainWritesRebuildableDataset(t *testing.T) {
 					t.Fatalf("point %v snapshot %d: log p = %v", p, i, v)
 				}
 			}
-		}
-	}
-}
-
-func TestSimulateChainIndependentOfThreads(t *testing.T) {
-	// A grid point's stream depends only on (seed, grid index) (project rule).
-	dir := t.TempDir()
-	var files [2][]uint8
-	for i, th := range []string{"1", "2"} {
-		out := filepath.Join(dir, th+".npz")
-		if st := run([]string{"simulate", "chain", "--sites", "4", "--hamiltonian", "-XX - YY + 0.3*XY - 0.3*YX - h*Z", "--grid", "h=0:1:4",
-			"--basis", "random", "--samples", "30", "--threads", th, "--quiet", "-o", out}); st != exitOK {
-			t.Fatalf("threads %s: exit status %d", th, st)
-		}
-		ds, err := data.Read(out)
-		if err != nil {
-			t.Fatal(err)
-		}
-		files[i] = ds.States
-	}
-	if string(files[0]) != string(files[1]) {
-		t.Error("snapshots differ between --threads 1 and --threads 2")
-	}
-}
-
-func TestSimulateChainWarnsOnTinyGap(t *testing.T) {
-	// Without the ∏X sector the ordered Ising chain's two lowest states are
-	// split by a gap of order h^N (Pfeuty 1970), far below 1e-8 at h = 0.1.
-	dir := t.TempDir()
-	for _, tc := range []struct {
-		sector string
-		warn   bool
-	}{{"none", true}, {"even", false}} {
-		root := newRootCmd()
-		var stderr strings.Builder
-		root.SetOut(new(strings.Builder))
-		root.SetErr(&stderr)
-		root.SetArgs([]string{"simulate", "chain", "--sites", "10", "--hamiltonian", "-ZZ - h*X", "--grid", "h=0.1;0.2",
-			"--sector", tc.sector, "--samples", "10", "--quiet", "-o", filepath.Join(dir, tc.sector+".npz")})
-		if err := root.Execute(); err != nil {
-			t.Fatal(err)
-		}
-		if got := strings.Contains(stderr.String(), "warning: the gap in sector "+tc.sector); got != tc.warn {
-			t.Errorf("sector %s: warning printed = %v, want %v (stderr %q)", tc.sector, got, tc.warn, stderr.String())
 		}
 	}
 }

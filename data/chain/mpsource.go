@@ -11,6 +11,7 @@ import (
 	"strings"
 	"sync"
 
+	"tidemark/data"
 	"tidemark/data/chain/mps"
 )
 
@@ -670,7 +671,7 @@ func SimulateMPS(ctx context.Context, s *MPSSource, points [][]float64, samples 
 		return nil, err
 	}
 	runs := MPSRunBounds(len(points))
-	err := forEach(ctx, len(runs), threads, func(r int) error {
+	err := data.ForEachPoint(ctx, len(runs), threads, func(r int) error {
 		var prev *MPSState
 		for k := runs[r][0]; k < runs[r][1]; k++ {
 			st, err := s.Solve(ctx, points[k], prev)
@@ -710,35 +711,4 @@ func MPSRunBounds(n int) [][2]int {
 		out[i] = [2]int{i * n / r, (i + 1) * n / r}
 	}
 	return out
-}
-
-// forEach runs fn(0…n−1) on up to threads goroutines and returns the first
-// error (ctx's error when it was cancelled).
-func forEach(ctx context.Context, n, threads int, fn func(i int) error) error {
-	errs := make([]error, n)
-	var wg sync.WaitGroup
-	jobs := make(chan int)
-	for w := 0; w < max(1, threads); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := range jobs {
-				errs[i] = fn(i)
-			}
-		}()
-	}
-	for i := 0; i < n && ctx.Err() == nil; i++ {
-		jobs <- i
-	}
-	close(jobs)
-	wg.Wait()
-	if err := ctx.Err(); err != nil {
-		return err
-	}
-	for _, err := range errs {
-		if err != nil {
-			return err
-		}
-	}
-	return nil
 }
