@@ -3,14 +3,11 @@ package main
 import (
 	"errors"
 	"fmt"
-	"math"
-	"strings"
 	"time"
 
 	"github.com/spf13/cobra"
 
 	"tidemark/cmd/internal/progress"
-	"tidemark/data"
 	"tidemark/data/ising"
 )
 
@@ -77,90 +74,21 @@ listed on stderr.`,
 	return c
 }
 
-// isingConfig checks the options and turns them into a simulation config.
+// isingConfig checks the options and turns them into a simulation config;
+// its errors name the flag.
 func (o *simulateIsingOptions) isingConfig() (ising.Config, error) {
-	var cfg ising.Config
 	if o.out == "" {
-		return cfg, errors.New("--output: expected an output file name (-o OUT.npz), found none")
+		return ising.Config{}, errors.New("--output: expected an output file name (-o OUT.npz), found none")
 	}
-	if o.size < 2 {
-		return cfg, fmt.Errorf("--size: expected a lattice width of at least 2 sites, found %d", o.size)
-	}
-	ly := o.sizeY
-	if ly == 0 {
-		ly = o.size
-	}
-	if ly < 2 {
-		return cfg, fmt.Errorf("--size-y: expected a lattice height of at least 2 sites, found %d", ly)
-	}
-	if o.samples < 2 {
-		return cfg, fmt.Errorf("--samples: expected at least 2 snapshots per grid point, found %d", o.samples)
-	}
-	if o.grid == "" {
-		return cfg, errors.New(`--grid: expected axes like "T=1.5:3.5:21", found none`)
-	}
-	spec, err := data.ParseGridSpec(o.grid)
-	if err != nil {
-		return cfg, fmt.Errorf("--grid: %w", err)
-	}
-	names := spec.Names()
-	if len(names) > 2 {
-		return cfg, fmt.Errorf("--grid: expected one or two axes, found %d (%s)", len(names), strings.Join(names, ", "))
-	}
-	onGrid := map[string]bool{}
-	for _, n := range names {
-		ok := false
-		for _, p := range ising.ParamNames {
-			ok = ok || n == p
-		}
-		if !ok {
-			return cfg, fmt.Errorf("--grid: unknown axis %q: expected T, Jx, Jy or h", n)
-		}
-		onGrid[n] = true
-	}
-	for _, ax := range spec.Axes {
-		if ax.Name != "T" {
-			continue
-		}
-		for _, v := range ax.Values {
-			if !(v > 0) {
-				return cfg, fmt.Errorf("--grid: axis T: expected temperatures above 0, found %v", v)
-			}
-		}
-	}
-	if !onGrid["T"] && !(o.temperature > 0) {
-		return cfg, fmt.Errorf("--temperature: T is not a grid axis, so expected a temperature above 0, found %v", o.temperature)
-	}
-	points := spec.Points()
-	lat := ising.Lattice{Ly: ly, Lx: o.size}
-	if err := lat.Validate(); err != nil {
-		return cfg, fmt.Errorf("--size: %w", err)
-	}
-	if o.exactSamples && lat.N() > ising.MaxEnumeratedSites {
-		return cfg, fmt.Errorf("--exact-samples: expected at most %d sites, found %d×%d = %d", ising.MaxEnumeratedSites, ly, o.size, lat.N())
-	}
-	total := int64(len(points)) * int64(o.samples) * int64(lat.N())
-	if total > 1<<31 {
-		return cfg, fmt.Errorf("--samples: %d points × %d snapshots × %d sites is %d values, expected at most %d", len(points), o.samples, lat.N(), total, int64(1)<<31)
-	}
-	for _, v := range []struct {
-		flag string
-		x    float64
-	}{{"--jx", o.jx}, {"--jy", o.jy}, {"--field", o.field}, {"--temperature", o.temperature}} {
-		if math.IsNaN(v.x) || math.IsInf(v.x, 0) {
-			return cfg, fmt.Errorf("%s: expected a finite number, found %v", v.flag, v.x)
-		}
-	}
-	return ising.Config{
-		Lattice:    lat,
+	cfg, err := ising.Request{
+		Lx: o.size, Ly: o.sizeY, Grid: o.grid, Samples: o.samples,
 		Fixed:      ising.Couplings{T: o.temperature, Jx: o.jx, Jy: o.jy, H: o.field},
-		Axes:       names,
-		Points:     points,
-		Samples:    o.samples,
-		Enumerated: o.exactSamples,
-		Seed:       o.seed,
-		Threads:    threadsOrDefault(o.threads),
-	}, nil
+		Enumerated: o.exactSamples, Seed: o.seed, Threads: threadsOrDefault(o.threads),
+	}.Config()
+	if err != nil {
+		return cfg, fmt.Errorf("--%w", err)
+	}
+	return cfg, nil
 }
 
 func runSimulateIsing(cmd *cobra.Command, o *simulateIsingOptions) error {
@@ -194,24 +122,9 @@ func runSimulateIsing(cmd *cobra.Command, o *simulateIsingOptions) error {
 	if err := ds.Write(o.out, o.force); err != nil {
 		return err
 	}
-	var unsettled []string
-	maxTau := 0.0
-	for _, p := range res.Points {
-		maxTau = math.Max(maxTau, math.Max(p.TauEnergy, p.TauAbsM))
-		if !p.TauConverged {
-			unsettled = append(unsettled, data.FormatPoint(cfg.Axes, p.Params))
-		}
+	for _, line := range res.Notices(cfg) {
+		fmt.Fprintln(cmd.ErrOrStderr(), "tidemark: "+line)
 	}
-	errw := cmd.ErrOrStderr()
-	if len(unsettled) > 0 {
-		fmt.Fprintf(errw, "tidemark: warning: the autocorrelation time did not settle within the burn-in at %d point(s) (%s); their snapshots may be more correlated than the recorded τ says\n",
-			len(unsettled), strings.Join(unsettled, "; "))
-	}
-	method := "Monte Carlo"
-	if cfg.Enumerated {
-		method = "exact samples"
-	}
-	fmt.Fprintf(cmd.OutOrStdout(), "wrote %s: %d×%d lattice, %d points × %d snapshots (%s, largest τ %.3g sweeps) in %.1fs\n",
-		o.out, cfg.Lattice.Ly, cfg.Lattice.Lx, len(cfg.Points), cfg.Samples, method, maxTau, time.Since(start).Seconds())
+	fmt.Fprintf(cmd.OutOrStdout(), "wrote %s: %s in %.1fs\n", o.out, res.Describe(cfg), time.Since(start).Seconds())
 	return nil
 }
