@@ -42,6 +42,13 @@ func TestOutside(t *testing.T) {
 			t.Errorf("Outside(T=%v) = %d, want %d", p, got, want)
 		}
 	}
+	if n := c.ExtrapolationNote("--grid", []float64{2}, []float64{3}); n != "" {
+		t.Errorf("points inside the range: note %q", n)
+	}
+	want := "warning: --grid reaches T=3.5, outside the range [1, 3] the model was trained on; the scores there are extrapolations"
+	if n := c.ExtrapolationNote("--grid", []float64{2}, []float64{3.5}, []float64{0.5}); n != want {
+		t.Errorf("note %q, expected %q", n, want)
+	}
 }
 
 // TestCheckDatasetAs checks an unlabelled dataset in everything but the

@@ -116,17 +116,13 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if err != nil {
 		return fmt.Errorf("--sl-regions: %w", err)
 	}
-	if o.refine < 1 {
-		return fmt.Errorf("--refine: expected an integer ≥ 1, found %d", o.refine)
+	cfg := indicator.Config{
+		Indicators: inds, Refine: o.refine, ModelSamples: o.modelSamples, Zoom: o.zoom,
+		Bootstrap: o.bootstrap, ExactSums: o.exactSums, DataAtGridPoints: o.dataAtGrid, Window: o.window, SLRegions: reg,
+		Threads: threadsOrDefault(o.threads), Seed: o.seed,
 	}
-	if o.bootstrap < 0 {
-		return fmt.Errorf("--bootstrap: expected an integer ≥ 0, found %d", o.bootstrap)
-	}
-	if o.window < 1 {
-		return fmt.Errorf("--window: expected an integer ≥ 1, found %d", o.window)
-	}
-	if o.modelSamples < 1 {
-		return fmt.Errorf("--model-samples: expected an integer ≥ 1, found %d", o.modelSamples)
+	if err := cfg.CheckSettings(); err != nil {
+		return fmt.Errorf("--%w", err)
 	}
 	if err := report.CheckDir(o.out, o.force); err != nil {
 		return fmt.Errorf("scan: %w", err)
@@ -144,11 +140,6 @@ func runScan(w io.Writer, o *scanOptions) error {
 	sources, err := study.Sources(kind, ds, o.data, o.models)
 	if err != nil {
 		return fmt.Errorf("scan --%s: %w", kind, err)
-	}
-	cfg := indicator.Config{
-		Indicators: inds, Refine: o.refine, ModelSamples: o.modelSamples, Zoom: o.zoom,
-		Bootstrap: o.bootstrap, ExactSums: o.exactSums, DataAtGridPoints: o.dataAtGrid, Window: o.window, SLRegions: reg,
-		Threads: threadsOrDefault(o.threads), Seed: o.seed,
 	}
 	// The scan writes nothing until it is complete, so a signal can simply
 	// stop it: nothing is lost and nothing half-written is left.

@@ -158,13 +158,8 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 	}
 	// Say so where the user reads it when the scores extrapolate.
 	warnOutside := func(what string, pts ...[]float64) {
-		for _, p := range pts {
-			if i := ck.Outside(p); i >= 0 {
-				lo, hi := ck.Header.Model.ParamLo, ck.Header.Model.ParamHi
-				fmt.Fprintf(cmd.ErrOrStderr(), "tidemark: warning: %s reaches %s=%g, outside the range [%g, %g] the model was trained on; the scores there are extrapolations\n",
-					what, names[i], p[i], lo[i], hi[i])
-				return
-			}
+		if note := ck.ExtrapolationNote(what, pts...); note != "" {
+			fmt.Fprintln(cmd.ErrOrStderr(), "tidemark: "+note)
 		}
 	}
 	if at != nil {
