@@ -12,19 +12,30 @@ import (
 // ctx is done and then returns ctx's error; otherwise it returns the error
 // of the lowest-numbered point that failed, or nil.
 func ForEachPoint(ctx context.Context, n, threads int, fn func(k int) error) error {
+	return ForEachWith(ctx, n, threads, func() struct{} { return struct{}{} }, func(k int, _ struct{}) error { return fn(k) })
+}
+
+// ForEachWith is the one parallel loop of the project: ForEachPoint with
+// per-worker scratch. Each goroutine calls scratch once and hands the value
+// to every fn(k, s) it runs, so buffers are made once per worker, not once
+// per item. Like ForEachPoint it runs every item unless ctx is done and
+// returns the error of the lowest-numbered item that failed, so the error
+// does not depend on threads either.
+func ForEachWith[S any](ctx context.Context, n, threads int, scratch func() S, fn func(k int, s S) error) error {
 	jobs := make(chan int)
 	errs := make([]error, n)
 	var wg sync.WaitGroup
-	for w := 0; w < Threads(threads); w++ {
+	for w := 0; w < min(Threads(threads), max(n, 1)); w++ {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
+			s := scratch()
 			for k := range jobs {
 				if err := ctx.Err(); err != nil {
 					errs[k] = err
 					continue
 				}
-				errs[k] = fn(k)
+				errs[k] = fn(k, s)
 			}
 		}()
 	}

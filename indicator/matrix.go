@@ -5,8 +5,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"sync"
-	"sync/atomic"
 
 	"tidemark/data"
 	"tidemark/data/density"
@@ -92,53 +90,24 @@ func computeMatrix(ctx context.Context, src density.Source, xs []uint8, n int, p
 		}
 		return mx, checkNaN(mx)
 	}
-	type job struct{ lo, hi, k int }
-	jobs := make(chan job)
-	var wg sync.WaitGroup
-	var once sync.Once
-	var firstErr error
-	var failed atomic.Bool
-	for w := 0; w < threads; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			buf := make([]float64, block)
-			for j := range jobs {
-				if failed.Load() {
-					continue
-				}
-				d := buf[:j.hi-j.lo]
-				if err := src.LogProb(d, xs[j.lo*N:j.hi*N], points[j.k]); err != nil {
-					once.Do(func() { firstErr = fmt.Errorf("log-likelihood matrix at point %d: %w", j.k, err) })
-					failed.Store(true)
-					continue
-				}
-				for i, v := range d {
-					mx.L[(j.lo+i)*K+j.k] = v
-				}
-				if opt.Progress != nil {
-					opt.Progress(len(d))
-				}
-			}
-		}()
-	}
-feed:
-	for lo := 0; lo < n; lo += block {
+	blocks := (n + block - 1) / block
+	err := data.ForEachWith(ctx, blocks*K, threads, func() []float64 { return make([]float64, block) }, func(u int, buf []float64) error {
+		lo, k := (u/K)*block, u%K
 		hi := min(lo+block, n)
-		for k := 0; k < K; k++ {
-			if ctx.Err() != nil || failed.Load() {
-				break feed
-			}
-			jobs <- job{lo, hi, k}
+		d := buf[:hi-lo]
+		if err := src.LogProb(d, xs[lo*N:hi*N], points[k]); err != nil {
+			return fmt.Errorf("log-likelihood matrix at point %d: %w", k, err)
 		}
-	}
-	close(jobs)
-	wg.Wait()
-	if err := ctx.Err(); err != nil {
+		for i, v := range d {
+			mx.L[(lo+i)*K+k] = v
+		}
+		if opt.Progress != nil {
+			opt.Progress(len(d))
+		}
+		return nil
+	})
+	if err != nil {
 		return nil, err
-	}
-	if firstErr != nil {
-		return nil, firstErr
 	}
 	return mx, checkNaN(mx)
 }

@@ -1,10 +1,10 @@
 package density
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
-	"sync"
 
 	"tidemark/data"
 )
@@ -72,63 +72,53 @@ func ExhaustiveDivergence(ref, mdl Source, lambda []float64, threads int, progre
 	nb := (total + enumBlock - 1) / enumBlock
 	type part struct{ kl, tv, h, pm, qm float64 }
 	parts := make([]part, nb)
-	errs := make([]error, nb)
-	next := make(chan int)
-	var wg sync.WaitGroup
-	for t := 0; t < threads; t++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			xs := make([]uint8, enumBlock*n)
-			lp := make([]float64, enumBlock)
-			lq := make([]float64, enumBlock)
-			for b := range next {
-				lo := b * enumBlock
-				r := min(enumBlock, total-lo)
-				for i := 0; i < r; i++ {
-					s := lo + i
-					row := xs[i*n : (i+1)*n]
-					for j := range row {
-						row[j] = uint8(s % q)
-						s /= q
-					}
-				}
-				if err := ref.LogProb(lp[:r], xs[:r*n], lambda); err != nil {
-					errs[b] = fmt.Errorf("exact source: %w", err)
-					continue
-				}
-				if err := mdl.LogProb(lq[:r], xs[:r*n], lambda); err != nil {
-					errs[b] = fmt.Errorf("model: %w", err)
-					continue
-				}
-				var pt part
-				for i := 0; i < r; i++ {
-					p, qq := math.Exp(lp[i]), math.Exp(lq[i])
-					pt.pm += p
-					pt.qm += qq
-					pt.tv += math.Abs(p - qq)
-					if p > 0 {
-						pt.kl += p * (lp[i] - lq[i])
-						pt.h -= p * lp[i]
-					}
-				}
-				parts[b] = pt
-				if progress != nil {
-					progress(r)
-				}
+	type scratch struct {
+		xs     []uint8
+		lp, lq []float64
+	}
+	newScratch := func() scratch {
+		return scratch{make([]uint8, enumBlock*n), make([]float64, enumBlock), make([]float64, enumBlock)}
+	}
+	err := data.ForEachWith(context.Background(), nb, threads, newScratch, func(b int, sc scratch) error {
+		xs, lp, lq := sc.xs, sc.lp, sc.lq
+		lo := b * enumBlock
+		r := min(enumBlock, total-lo)
+		for i := 0; i < r; i++ {
+			s := lo + i
+			row := xs[i*n : (i+1)*n]
+			for j := range row {
+				row[j] = uint8(s % q)
+				s /= q
 			}
-		}()
-	}
-	for b := 0; b < nb; b++ {
-		next <- b
-	}
-	close(next)
-	wg.Wait()
-	var d Divergence
-	for b, pt := range parts {
-		if errs[b] != nil {
-			return Divergence{}, errs[b]
 		}
+		if err := ref.LogProb(lp[:r], xs[:r*n], lambda); err != nil {
+			return fmt.Errorf("exact source: %w", err)
+		}
+		if err := mdl.LogProb(lq[:r], xs[:r*n], lambda); err != nil {
+			return fmt.Errorf("model: %w", err)
+		}
+		var pt part
+		for i := 0; i < r; i++ {
+			p, qq := math.Exp(lp[i]), math.Exp(lq[i])
+			pt.pm += p
+			pt.qm += qq
+			pt.tv += math.Abs(p - qq)
+			if p > 0 {
+				pt.kl += p * (lp[i] - lq[i])
+				pt.h -= p * lp[i]
+			}
+		}
+		parts[b] = pt
+		if progress != nil {
+			progress(r)
+		}
+		return nil
+	})
+	if err != nil {
+		return Divergence{}, err
+	}
+	var d Divergence
+	for _, pt := range parts {
 		d.KL += pt.kl
 		d.TV += pt.tv
 		d.Entropy += pt.h
