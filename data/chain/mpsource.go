@@ -11,6 +11,8 @@ import (
 	"strings"
 	"sync"
 
+	"gonum.org/v1/gonum/stat"
+
 	"tidemark/data"
 	"tidemark/data/chain/mps"
 )
@@ -594,8 +596,8 @@ func (s *MPSSource) EntropyEstimate(lambda []float64, n int, rng *rand.Rand) (me
 	if s.cfg.Basis == BasisRandom {
 		extra = float64(ns) * math.Log(1.0/3)
 	}
-	var sum, sq float64
-	for m := 0; m < n; m++ {
+	x := make([]float64, n)
+	for m := range x {
 		for j := range bases {
 			if s.cfg.Basis == BasisRandom {
 				bases[j] = rng.IntN(3)
@@ -603,13 +605,10 @@ func (s *MPSSource) EntropyEstimate(lambda []float64, n int, rng *rand.Rand) (me
 				bases[j] = fixed
 			}
 		}
-		v := -(extra + mm.Sample(bases, outs, rng)) / float64(ns)
-		sum += v
-		sq += v * v
+		x[m] = -(extra + mm.Sample(bases, outs, rng)) / float64(ns)
 	}
-	mean = sum / float64(n)
-	vr := (sq - float64(n)*mean*mean) / float64(n-1)
-	return mean, math.Sqrt(max(vr, 0) / float64(n)), nil
+	mean, sd := stat.MeanStdDev(x, nil)
+	return mean, sd / math.Sqrt(float64(n)), nil
 }
 
 // MPSPoint records the ground state found at one grid point of an MPS run.

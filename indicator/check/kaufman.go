@@ -75,7 +75,6 @@ func Kaufman(mdl density.Source, ds *data.Dataset, heldOut [][]float64) (rep *Ka
 		KLNotAvailable: fmt.Sprintf("the %d×%d lattice has 2^%d states, too many to sum KL and TV over; NLL − S estimates KL from the samples", sm.Lattice[0], sm.Lattice[1], N),
 		Points:         []KaufmanPoint{},
 	}
-	var sum, sq float64
 	for k, p := range g.Points {
 		c, err := sm.Couplings(p)
 		if err != nil {
@@ -95,11 +94,8 @@ func Kaufman(mdl density.Source, ds *data.Dataset, heldOut [][]float64) (rep *Ka
 		mean, _, se := scorestat.MeanErr(nll)
 		rep.Points = append(rep.Points, KaufmanPoint{Params: p, Label: g.Label(k), HeldOut: isHeld(heldOut, p),
 			EntropyPerSite: s, NLLMinusEntropy: mean - s, StdErr: se, Samples: len(nll)})
-		sum += mean - s
-		sq += se * se
 	}
-	rep.MeanNLLMinusS = sum / float64(len(rep.Points))
-	rep.MeanStdErr = math.Sqrt(sq) / float64(len(rep.Points))
+	rep.MeanNLLMinusS, rep.MeanStdErr = averagePoints(rep.Points)
 	return rep, true, nil
 }
 
@@ -123,4 +119,15 @@ func (r *KaufmanReport) WriteText(w io.Writer) error {
 		fmt.Fprintln(w, "note: these are the training samples; a fresh dataset from the same settings (another --seed) gives an unbiased estimate")
 	}
 	return nil
+}
+
+// averagePoints returns the mean of the points' NLL − S and its standard
+// error from theirs, √(Σ σ_k²)/K (the points' samples are independent).
+func averagePoints(pts []KaufmanPoint) (mean, stderr float64) {
+	var sum, sq float64
+	for _, p := range pts {
+		sum += p.NLLMinusEntropy
+		sq += p.StdErr * p.StdErr
+	}
+	return sum / float64(len(pts)), math.Sqrt(sq) / float64(len(pts))
 }

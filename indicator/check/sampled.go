@@ -3,11 +3,13 @@ package check
 import (
 	"fmt"
 	"io"
-	"math"
 	"text/tabwriter"
+
+	"gonum.org/v1/gonum/stat"
 
 	"tidemark/data"
 	"tidemark/data/density"
+	"tidemark/indicator/scorestat"
 )
 
 // SampledReport is the result of Sampled; its JSON keys are stable.
@@ -44,7 +46,6 @@ func Sampled(mdl, src density.Source, ds *data.Dataset, heldOut [][]float64) (*S
 		KLNotAvailable: fmt.Sprintf("%d^%d states are too many to sum KL and TV over; NLL − S estimates KL from the samples", ds.Meta.Alphabet, N),
 		Points:         []KaufmanPoint{},
 	}
-	var sum, sq float64
 	for k, p := range g.Points {
 		idx := g.Index[k]
 		if len(idx) < 2 {
@@ -58,27 +59,20 @@ func Sampled(mdl, src density.Source, ds *data.Dataset, heldOut [][]float64) (*S
 		if err != nil {
 			return nil, fmt.Errorf("exact reference at %s: %w", g.Label(k), err)
 		}
-		n := float64(len(idx))
-		var s, d, d2 float64
+		diff := make([]float64, len(idx))
 		for i := range np {
-			s += np[i] / float64(N)
-			v := (nq[i] - np[i]) / float64(N)
-			d += v
-			d2 += v * v
+			np[i] /= float64(N)
+			diff[i] = nq[i]/float64(N) - np[i]
 		}
-		s /= n
-		d /= n
-		se := math.Sqrt(math.Max(d2/n-d*d, 0) / (n - 1))
+		s := stat.Mean(np, nil)
+		d, _, se := scorestat.MeanErr(diff)
 		rep.Points = append(rep.Points, KaufmanPoint{Params: p, Label: g.Label(k), HeldOut: isHeld(heldOut, p),
 			EntropyPerSite: s, NLLMinusEntropy: d, StdErr: se, Samples: len(idx)})
-		sum += d
-		sq += se * se
 	}
 	if len(rep.Points) == 0 {
 		return nil, fmt.Errorf("expected at least 2 samples at some grid point, found none")
 	}
-	rep.MeanNLLMinusS = sum / float64(len(rep.Points))
-	rep.MeanStdErr = math.Sqrt(sq) / float64(len(rep.Points))
+	rep.MeanNLLMinusS, rep.MeanStdErr = averagePoints(rep.Points)
 	return rep, nil
 }
 
