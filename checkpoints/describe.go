@@ -30,6 +30,7 @@ type Description struct {
 	HoldoutSpec        string          `json:"holdout_spec"`
 	BestEpoch          int             `json:"best_epoch"`
 	BestValBitsPerSite float64         `json:"best_val_bits_per_site"`
+	BestValStdErr      float64         `json:"best_val_stderr_bits_per_site,omitempty"`
 	HeldOutBitsPerSite *float64        `json:"heldout_bits_per_site"`
 	Epochs             int             `json:"epochs_completed"`
 	Stopped            string          `json:"stopped"`
@@ -70,7 +71,7 @@ func Describe(path string) (*Description, error) {
 			Direct: c.Direct, Order: h.Training.OrderName, Symmetric: c.Symmetric, FiLM: c.FiLM, ParamLo: c.ParamLo, ParamHi: c.ParamHi},
 		Parameters: ck.NumParams(), Sites: c.Sites, Alphabet: c.Alphabet, Lattice: h.Lattice, ParamNames: h.ParamNames,
 		Dataset: h.Dataset, HeldOut: h.HeldOut, HoldoutSpec: h.HoldoutSpec,
-		BestEpoch: h.BestEpoch, BestValBitsPerSite: h.BestValBitsPerSite, HeldOutBitsPerSite: h.HeldOutBitsPerSite,
+		BestEpoch: h.BestEpoch, BestValBitsPerSite: h.BestValBitsPerSite, BestValStdErr: h.BestValStdErrBitsPerSite, HeldOutBitsPerSite: h.HeldOutBitsPerSite,
 		Epochs: h.Optimizer.Epoch, Stopped: h.Stopped, Training: h.Training, Metrics: h.Metrics,
 	}
 	if r.HeldOut == nil {
@@ -137,7 +138,8 @@ func (r *Description) WriteText(w io.Writer) error {
 	if stopped == "" {
 		stopped = "still running or killed"
 	}
-	fmt.Fprintf(tw, "epochs\t%d completed of at most %d (%s); best epoch %d, validation %.5f bits/site\n", r.Epochs, t.Epochs, stopped, r.BestEpoch, r.BestValBitsPerSite)
+	fmt.Fprintf(tw, "epochs\t%d completed of at most %d (%s); best epoch %d, validation %s bits/site\n", r.Epochs, t.Epochs, stopped, r.BestEpoch,
+		WithError(r.BestValBitsPerSite, r.BestValStdErr, 5))
 	if err := tw.Flush(); err != nil {
 		return err
 	}

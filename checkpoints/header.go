@@ -38,6 +38,9 @@ type Header struct {
 	// BestValBitsPerSite is the validation NLL of the best weights in bits
 	// per site.
 	BestValBitsPerSite float64 `json:"best_val_bits_per_site"`
+	// BestValStdErrBitsPerSite is its standard error over the validation
+	// snapshots (0: not recorded, as in older files).
+	BestValStdErrBitsPerSite float64 `json:"best_val_stderr_bits_per_site,omitempty"`
 	// HeldOutBitsPerSite is the NLL of the best weights on the held-out
 	// points' samples in bits per site, when there are held-out points.
 	HeldOutBitsPerSite *float64 `json:"heldout_bits_per_site,omitempty"`
@@ -106,9 +109,12 @@ type EpochMetrics struct {
 	Epoch            int     `json:"epoch"`
 	TrainBitsPerSite float64 `json:"train_bits_per_site"`
 	ValBitsPerSite   float64 `json:"val_bits_per_site"`
-	SamplesPerS      float64 `json:"samples_per_s"`
-	Seconds          float64 `json:"seconds"`
-	LR               float64 `json:"lr"`
+	// ValStdErrBitsPerSite is the standard error of ValBitsPerSite over
+	// the validation snapshots (0: not recorded, as in older files).
+	ValStdErrBitsPerSite float64 `json:"val_stderr_bits_per_site,omitempty"`
+	SamplesPerS          float64 `json:"samples_per_s"`
+	Seconds              float64 `json:"seconds"`
+	LR                   float64 `json:"lr"`
 }
 
 // OptimizerState is what Adam and the schedule need to continue a run

@@ -7,7 +7,6 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
-	"sync"
 	"time"
 
 	"tidemark/checkpoints"
@@ -653,7 +652,7 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 			return nil, err
 		}
 		trainSec := time.Since(t0).Seconds()
-		val, current, err := r.validate(trainNLL)
+		val, valSE, current, err := r.validate(trainNLL)
 		if err != nil {
 			return nil, err
 		}
@@ -674,8 +673,12 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 			Seconds:          sec,
 			LR:               r.lr,
 		}
+		met.ValStdErrBitsPerSite = bitsOrZero(valSE)
 		r.hdr.Metrics = append(r.hdr.Metrics, met)
 		r.keepBest(epoch, val, sched)
+		if r.hdr.BestEpoch == epoch {
+			r.hdr.BestValStdErrBitsPerSite = met.ValStdErrBitsPerSite
+		}
 		if current != nil {
 			copy2(r.w, current)
 		}
@@ -694,23 +697,23 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 }
 
 // validate is the validation stage of an epoch whose training NLL was
-// trainNLL: the validation NLL in nats per site, NaN when the training loss
-// was already NaN. With averaging the averaged weights are validated (and
+// trainNLL: the validation NLL in nats per site and its standard error, NaN
+// when the training loss was already NaN. With averaging the averaged weights are validated (and
 // kept as the best); the optimiser's own are returned as current, to be
 // restored after.
-func (r *run) validate(trainNLL float64) (val float64, current [][]float64, err error) {
+func (r *run) validate(trainNLL float64) (val, valSE float64, current [][]float64, err error) {
 	if math.IsNaN(trainNLL) {
-		return math.NaN(), nil, nil
+		return math.NaN(), math.NaN(), nil, nil
 	}
 	if r.avg != nil {
 		current = clone2(r.w)
 		r.averaged(r.w)
 	}
-	val, err = r.nll(r.valIdx, r.grid.Points, r.m)
+	val, valSE, err = r.nllStats(r.valIdx, r.grid.Points, r.m)
 	if err != nil {
-		return 0, nil, err
+		return 0, 0, nil, err
 	}
-	return val, current, nil
+	return val, valSE, current, nil
 }
 
 // recoverNonFinite restores the weights before an epoch whose loss was not
@@ -803,58 +806,6 @@ func (r *run) epoch(ctx context.Context, epoch int) (float64, error) {
 		}
 	}
 	return sum / float64(len(order)), nil
-}
-
-// nll returns the mean negative log-likelihood in nats per site of the
-// samples in groups (group k at point pts[k]), computed with the scoring
-// kernel, one goroutine per thread over groups; the sum runs in group order,
-// so the result does not depend on the thread count.
-func (r *run) nll(groups [][]int, pts [][]float64, m *model.Model) (float64, error) {
-	N := r.ds.N
-	sums := make([]float64, len(groups))
-	errs := make([]error, len(groups))
-	next := make(chan int)
-	var wg sync.WaitGroup
-	for t := 0; t < r.st.Threads; t++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for k := range next {
-				idx := groups[k]
-				xs := make([]uint8, len(idx)*N)
-				for i, s := range idx {
-					copy(xs[i*N:(i+1)*N], r.ds.States[s*N:(s+1)*N])
-				}
-				lp := make([]float64, len(idx))
-				if err := m.LogProb(lp, xs, pts[k]); err != nil {
-					errs[k] = err
-					continue
-				}
-				for _, v := range lp {
-					sums[k] -= v
-				}
-			}
-		}()
-	}
-	for k, g := range groups {
-		if len(g) > 0 {
-			next <- k
-		}
-	}
-	close(next)
-	wg.Wait()
-	total, n := 0.0, 0
-	for k, g := range groups {
-		if errs[k] != nil {
-			return 0, errs[k]
-		}
-		total += sums[k]
-		n += len(g)
-	}
-	if n == 0 {
-		return math.NaN(), nil
-	}
-	return total / float64(n) / float64(N), nil
 }
 
 // checkpoint builds the checkpoint of the current state.

@@ -129,8 +129,8 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 			if ck.Header.BestEpoch == m.Epoch {
 				mark = "  *best"
 			}
-			line := fmt.Sprintf("epoch %4d  train %.5f  val %.5f bits/site  %8.0f samples/s  lr %.3g%s\n",
-				m.Epoch, m.TrainBitsPerSite, m.ValBitsPerSite, m.SamplesPerS, m.LR, mark)
+			line := fmt.Sprintf("epoch %4d  train %.5f  val %s bits/site  %8.0f samples/s  lr %.3g%s\n",
+				m.Epoch, m.TrainBitsPerSite, checkpoints.WithError(m.ValBitsPerSite, m.ValStdErrBitsPerSite, 5), m.SamplesPerS, m.LR, mark)
 			io.WriteString(stdout, line)
 		}
 		if err := ck.Save(o.out, written || sameFile || o.force); err != nil {
@@ -161,7 +161,8 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 	}
 	h := ck.Header
 	if !o.quiet {
-		fmt.Fprintf(stdout, "stopped: %s after epoch %d; best epoch %d, validation %.5f bits/site", h.Stopped, h.Optimizer.Epoch, h.BestEpoch, h.BestValBitsPerSite)
+		fmt.Fprintf(stdout, "stopped: %s after epoch %d; best epoch %d, validation %s bits/site", h.Stopped, h.Optimizer.Epoch, h.BestEpoch,
+			checkpoints.WithError(h.BestValBitsPerSite, h.BestValStdErrBitsPerSite, 5))
 		if h.HeldOutBitsPerSite != nil {
 			fmt.Fprintf(stdout, ", held-out points %.5f bits/site", *h.HeldOutBitsPerSite)
 		}

@@ -247,8 +247,8 @@ func (d *Demo) train(ctx context.Context, w io.Writer, ds *data.Dataset, dir str
 		return nil, err
 	}
 	h := ck.Header
-	fmt.Fprintf(w, "trained %d epochs in %.0f s (%s): best validation NLL %.4f bits per site at epoch %d, %d parameters\n",
-		h.Optimizer.Epoch, time.Since(start).Seconds(), h.Stopped, h.BestValBitsPerSite, h.BestEpoch, ck.NumParams())
+	fmt.Fprintf(w, "trained %d epochs in %.0f s (%s): best validation NLL %s bits per site at epoch %d, %d parameters\n",
+		h.Optimizer.Epoch, time.Since(start).Seconds(), h.Stopped, checkpoints.WithError(h.BestValBitsPerSite, h.BestValStdErrBitsPerSite, 4), h.BestEpoch, ck.NumParams())
 	fmt.Fprintf(w, "      (snapshots augmented by the lattice's symmetries: %s; train --augment)\n", density.JoinSymmetries(st.Augment, ", "))
 	return ck, nil
 }

@@ -6,6 +6,8 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"regexp"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -66,6 +68,13 @@ func TestDemoSmall(t *testing.T) {
 			t.Errorf("output lacks %q:\n%s", want, text)
 		}
 	}
+	// The best validation NLL carries its standard error (issue 25: every
+	// printed mean has one).
+	if m := regexp.MustCompile(`best validation NLL (\d+\.\d+) ± (\d[\d.e-]*) bits per site`).FindStringSubmatch(text); m == nil {
+		t.Errorf("output gives the best validation NLL without its error:\n%s", text)
+	} else if mean, se := parseFloat(m[1]), parseFloat(m[2]); !(se > 0 && se < mean) {
+		t.Errorf("best validation NLL %s ± %s: expected a positive error below the mean", m[1], m[2])
+	}
 	page, _ := os.ReadFile(filepath.Join(dir, DemoPage))
 	for _, want := range []string{"Check against exact results", "Kaufman", "Onsager", "monolayer.ckpt", "<svg"} {
 		if !strings.Contains(string(page), want) {
@@ -77,4 +86,13 @@ func TestDemoSmall(t *testing.T) {
 	if len(ents) != 1 {
 		t.Errorf("left beside the demo folder: %v", ents)
 	}
+}
+
+// parseFloat reads a printed number; NaN when it is not one.
+func parseFloat(s string) float64 {
+	v, err := strconv.ParseFloat(s, 64)
+	if err != nil {
+		return math.NaN()
+	}
+	return v
 }
