@@ -7,10 +7,10 @@ import (
 	"io"
 	"os"
 	"os/signal"
-	"runtime"
 	"strings"
 	"syscall"
 
+	"tidemark/data"
 	"tidemark/data/safefile"
 )
 
@@ -18,13 +18,8 @@ import (
 // any long work starts.
 func checkOutput(path string, force bool) error { return safefile.CheckWritable(path, force) }
 
-// threadsOrDefault returns n, or the number of CPUs when n ≤ 0.
-func threadsOrDefault(n int) int {
-	if n <= 0 {
-		return runtime.NumCPU()
-	}
-	return n
-}
+// threadsOrDefault returns n, or the number of CPUs when n ≤ 0 (data.Threads).
+func threadsOrDefault(n int) int { return data.Threads(n) }
 
 // writeJSON prints v as indented JSON.
 func writeJSON(w io.Writer, v any) error {

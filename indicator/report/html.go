@@ -64,10 +64,11 @@ type ModelInfo struct {
 	// weights are used; Stopped why training ended.
 	Epochs, BestEpoch int
 	Stopped           string
-	// BestVal is the best validation NLL in bits per site; HeldOut the NLL
-	// of held-out grid points (nil when there were none).
-	BestVal float64
-	HeldOut *float64
+	// BestVal is the best validation NLL in bits per site and BestValErr
+	// its standard error (0: not recorded); HeldOut the NLL of held-out grid
+	// points (nil when there were none).
+	BestVal, BestValErr float64
+	HeldOut             *float64
 	// Curve holds the training and validation NLL (bits per site) per epoch.
 	Curve []EpochPoint
 }
@@ -465,7 +466,7 @@ Parameters: {{.Params}}; {{.GridPoints}} grid points{{if ne .Scanned .GridPoints
 <tr><th>architecture</th><td>{{$m.Architecture}}</td></tr>
 <tr><th>trainable parameters</th><td>{{$m.Params}}</td></tr>
 <tr><th>training</th><td>{{$m.Epochs}} epochs ({{$m.Stopped}}); best epoch {{$m.BestEpoch}}</td></tr>
-<tr><th>best validation NLL</th><td>{{bits $m.BestVal}} bits per site</td></tr>
+<tr><th>best validation NLL</th><td>{{bits $m.BestVal}}{{if $m.BestValErr}} ± {{printf "%.2g" $m.BestValErr}}{{end}} bits per site</td></tr>
 {{with $m.HeldOut}}<tr><th>held-out points' NLL</th><td>{{bits .}} bits per site</td></tr>{{end}}
 </table>
 {{with index $.TrainCurves $i}}<figure>{{.}}<figcaption>Training and validation negative log-likelihood per epoch, in bits per site. The training figure is the mean over the epoch's minibatches while the weights changed; the validation figure uses the weights at the end of the epoch.</figcaption></figure>{{end}}

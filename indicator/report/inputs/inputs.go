@@ -42,7 +42,7 @@ func ModelSummary(path string, ck *checkpoints.Checkpoint) report.ModelInfo {
 	m := report.ModelInfo{
 		Path: path, Architecture: arch, Params: ck.NumParams(),
 		Epochs: h.Optimizer.Epoch, BestEpoch: h.BestEpoch, Stopped: h.Stopped,
-		BestVal: h.BestValBitsPerSite, HeldOut: h.HeldOutBitsPerSite,
+		BestVal: h.BestValBitsPerSite, BestValErr: h.BestValStdErrBitsPerSite, HeldOut: h.HeldOutBitsPerSite,
 	}
 	for _, e := range h.Metrics {
 		m.Curve = append(m.Curve, report.EpochPoint{Epoch: e.Epoch, Train: e.TrainBitsPerSite, Val: e.ValBitsPerSite})
