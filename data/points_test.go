@@ -62,3 +62,30 @@ func TestSamePoint(t *testing.T) {
 		t.Error("NamesValue: six printed digits must name the grid value, four must not (2.091)")
 	}
 }
+
+// TestForEachWith: every item runs once, each worker makes its scratch once
+// (at most threads of them), and no two workers share one.
+func TestForEachWith(t *testing.T) {
+	const n, threads = 50, 3
+	var made atomic.Int64
+	seen := make([]atomic.Int64, n)
+	err := ForEachWith(context.Background(), n, threads, func() *[]int {
+		made.Add(1)
+		return new([]int)
+	}, func(k int, s *[]int) error {
+		*s = append(*s, k) // a data race here if two workers shared s
+		seen[k].Add(1)
+		return nil
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m := made.Load(); m < 1 || m > threads {
+		t.Errorf("scratch made %d times, expected 1 to %d", m, threads)
+	}
+	for k := range seen {
+		if c := seen[k].Load(); c != 1 {
+			t.Errorf("item %d ran %d times", k, c)
+		}
+	}
+}

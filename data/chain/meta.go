@@ -74,31 +74,49 @@ func SourceFromMeta(m data.Meta) (*Source, error) {
 	if err := json.Unmarshal(m.Source, &sm); err != nil {
 		return nil, fmt.Errorf("meta.source: expected a chain source object: %w", err)
 	}
+	cfg, err := metaConfig(m, sm.Sites, sm.Boundary, sm.Hamiltonian, sm.Basis, sm.Sector)
+	if err != nil {
+		return nil, err
+	}
+	s, err := New(cfg)
+	if err != nil {
+		return nil, fmt.Errorf("meta.source: %w", err)
+	}
+	if err := checkAlphabet(m, s.Alphabet(), cfg.Basis); err != nil {
+		return nil, err
+	}
+	return s, nil
+}
+
+// metaConfig reads the Config of a chain dataset from its meta and the
+// fields of its source record that both solvers write.
+func metaConfig(m data.Meta, sites int, boundary, hamiltonian, basisText, sectorText string) (Config, error) {
 	var open bool
-	switch sm.Boundary {
+	switch boundary {
 	case "periodic":
 	case "open":
 		open = true
 	default:
-		return nil, fmt.Errorf("meta.source.boundary: expected periodic or open, found %q", sm.Boundary)
+		return Config{}, fmt.Errorf("meta.source.boundary: expected periodic or open, found %q", boundary)
 	}
-	basis, err := ParseBasis(sm.Basis)
+	basis, err := ParseBasis(basisText)
 	if err != nil {
-		return nil, fmt.Errorf("meta.source.%w", err)
+		return Config{}, fmt.Errorf("meta.source.%w", err)
 	}
-	sector, err := ParseSector(sm.Sector)
+	sector, err := ParseSector(sectorText)
 	if err != nil {
-		return nil, fmt.Errorf("meta.source.%w", err)
+		return Config{}, fmt.Errorf("meta.source.%w", err)
 	}
-	if len(m.Lattice) != 1 || m.Lattice[0] != sm.Sites {
-		return nil, fmt.Errorf("meta.lattice: expected [%d] (the chain's sites), found %v", sm.Sites, m.Lattice)
+	if len(m.Lattice) != 1 || m.Lattice[0] != sites {
+		return Config{}, fmt.Errorf("meta.lattice: expected [%d] (the chain's sites), found %v", sites, m.Lattice)
 	}
-	s, err := New(Config{Sites: sm.Sites, Hamiltonian: sm.Hamiltonian, Params: m.ParamNames, Open: open, Basis: basis, Sector: sector})
-	if err != nil {
-		return nil, fmt.Errorf("meta.source: %w", err)
+	return Config{Sites: sites, Hamiltonian: hamiltonian, Params: m.ParamNames, Open: open, Basis: basis, Sector: sector}, nil
+}
+
+// checkAlphabet checks meta.alphabet against the source's alphabet q.
+func checkAlphabet(m data.Meta, q int, basis Basis) error {
+	if m.Alphabet != q {
+		return fmt.Errorf("meta.alphabet: expected %d for basis %s, found %d", q, basis, m.Alphabet)
 	}
-	if m.Alphabet != s.Alphabet() {
-		return nil, fmt.Errorf("meta.alphabet: expected %d for basis %s, found %d", s.Alphabet(), basis, m.Alphabet)
-	}
-	return s, nil
+	return nil
 }

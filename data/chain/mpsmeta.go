@@ -83,35 +83,19 @@ func MPSSourceFromMeta(m data.Meta) (*MPSSource, error) {
 	if sm.Solver != SolverMPS {
 		return nil, fmt.Errorf("meta.source.solver: expected %q, found %q", SolverMPS, sm.Solver)
 	}
-	var open bool
-	switch sm.Boundary {
-	case "periodic":
-	case "open":
-		open = true
-	default:
-		return nil, fmt.Errorf("meta.source.boundary: expected periodic or open, found %q", sm.Boundary)
-	}
-	basis, err := ParseBasis(sm.Basis)
+	cfg, err := metaConfig(m, sm.Sites, sm.Boundary, sm.Hamiltonian, sm.Basis, sm.Sector)
 	if err != nil {
-		return nil, fmt.Errorf("meta.source.%w", err)
-	}
-	sector, err := ParseSector(sm.Sector)
-	if err != nil {
-		return nil, fmt.Errorf("meta.source.%w", err)
-	}
-	if len(m.Lattice) != 1 || m.Lattice[0] != sm.Sites {
-		return nil, fmt.Errorf("meta.lattice: expected [%d] (the chain's sites), found %v", sm.Sites, m.Lattice)
+		return nil, err
 	}
 	if sm.MaxBond < 1 || sm.Cutoff <= 0 || sm.Tol <= 0 || sm.MaxSweeps < 1 {
 		return nil, fmt.Errorf("meta.source: expected max_bond ≥ 1, cutoff > 0, energy_tol > 0 and max_sweeps ≥ 1, found %d, %g, %g and %d", sm.MaxBond, sm.Cutoff, sm.Tol, sm.MaxSweeps)
 	}
-	s, err := NewMPS(Config{Sites: sm.Sites, Hamiltonian: sm.Hamiltonian, Params: m.ParamNames, Open: open, Basis: basis, Sector: sector},
-		MPSOptions{MaxBond: sm.MaxBond, Cutoff: sm.Cutoff, Tol: sm.Tol, MaxSweeps: sm.MaxSweeps, Pin: sm.Pin}, sm.DMRGSeed)
+	s, err := NewMPS(cfg, MPSOptions{MaxBond: sm.MaxBond, Cutoff: sm.Cutoff, Tol: sm.Tol, MaxSweeps: sm.MaxSweeps, Pin: sm.Pin}, sm.DMRGSeed)
 	if err != nil {
 		return nil, fmt.Errorf("meta.source: %w", err)
 	}
-	if m.Alphabet != s.Alphabet() {
-		return nil, fmt.Errorf("meta.alphabet: expected %d for basis %s, found %d", s.Alphabet(), basis, m.Alphabet)
+	if err := checkAlphabet(m, s.Alphabet(), cfg.Basis); err != nil {
+		return nil, err
 	}
 	grid := make([][]float64, len(sm.Points))
 	for k, p := range sm.Points {

@@ -271,18 +271,6 @@ func (s *MPSSource) Enumerable() bool {
 	return math.Pow(float64(s.Alphabet()), float64(s.cfg.Sites)) <= maxEnumerable
 }
 
-func (s *MPSSource) checkLambda(lambda []float64) error {
-	if len(lambda) != len(s.cfg.Params) {
-		return fmt.Errorf("chain: expected %d parameters %v, found %d", len(s.cfg.Params), s.cfg.Params, len(lambda))
-	}
-	for i, v := range lambda {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return fmt.Errorf("chain: parameter %s: expected a finite number, found %v", s.cfg.Params[i], v)
-		}
-	}
-	return nil
-}
-
 // terms places H at λ on the chain.
 func (s *MPSSource) terms(lambda []float64) []mps.Term {
 	idx := map[string]int{}
@@ -313,7 +301,7 @@ func (s *MPSSource) terms(lambda []float64) []mps.Term {
 
 // MPO returns the matrix-product operator of H at λ.
 func (s *MPSSource) MPO(lambda []float64) (*mps.MPO, error) {
-	if err := s.checkLambda(lambda); err != nil {
+	if err := s.cfg.checkLambda(lambda); err != nil {
 		return nil, err
 	}
 	return mps.BuildMPO(s.cfg.Sites, s.terms(lambda))
@@ -340,7 +328,7 @@ func (s *MPSSource) lambdaStream(lambda []float64) *rand.Rand {
 // same branch inside a (near) degeneracy. Without a grid DMRG starts from a
 // random state fixed by the seed and λ.
 func (s *MPSSource) GroundState(lambda []float64) (*MPSState, error) {
-	if err := s.checkLambda(lambda); err != nil {
+	if err := s.cfg.checkLambda(lambda); err != nil {
 		return nil, err
 	}
 	s.mu.Lock()
@@ -393,7 +381,7 @@ func (s *MPSSource) gridPoint(grid [][]float64, k int) (*MPSState, error) {
 func (s *MPSSource) SetGrid(points [][]float64) error {
 	g := make([][]float64, len(points))
 	for k, p := range points {
-		if err := s.checkLambda(p); err != nil {
+		if err := s.cfg.checkLambda(p); err != nil {
 			return fmt.Errorf("grid point %d: %w", k, err)
 		}
 		g[k] = append([]float64(nil), p...)
@@ -409,7 +397,7 @@ func (s *MPSSource) SetGrid(points [][]float64) error {
 // when warm is nil, from a random state fixed by the seed and λ. The result
 // is cached per λ: a λ solved before is returned as it was.
 func (s *MPSSource) Solve(ctx context.Context, lambda []float64, warm *MPSState) (*MPSState, error) {
-	if err := s.checkLambda(lambda); err != nil {
+	if err := s.cfg.checkLambda(lambda); err != nil {
 		return nil, err
 	}
 	key := fmt.Sprint(lambda)
@@ -659,7 +647,7 @@ func SimulateMPS(ctx context.Context, s *MPSSource, points [][]float64, samples 
 		Points: make([]MPSPoint, len(points)),
 	}
 	for k, p := range points {
-		if err := s.checkLambda(p); err != nil {
+		if err := s.cfg.checkLambda(p); err != nil {
 			return nil, fmt.Errorf("grid point %d: %w", k, err)
 		}
 		for m := 0; m < samples; m++ {

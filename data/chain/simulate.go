@@ -34,7 +34,7 @@ func Simulate(ctx context.Context, s *Source, points [][]float64, samples int, s
 		Points: make([]PointMeta, len(points)),
 	}
 	for k, p := range points {
-		if err := s.checkLambda(p); err != nil {
+		if err := s.cfg.checkLambda(p); err != nil {
 			return nil, fmt.Errorf("grid point %d: %w", k, err)
 		}
 		for m := 0; m < samples; m++ {

@@ -212,13 +212,15 @@ func (s *Source) Enumerable() bool {
 	return math.Pow(float64(s.Alphabet()), float64(s.cfg.Sites)) <= maxEnumerable
 }
 
-func (s *Source) checkLambda(lambda []float64) error {
-	if len(lambda) != len(s.cfg.Params) {
-		return fmt.Errorf("chain: expected %d parameters %v, found %d", len(s.cfg.Params), s.cfg.Params, len(lambda))
+// checkLambda checks that lambda gives a finite value for each of the
+// chain's parameters.
+func (c Config) checkLambda(lambda []float64) error {
+	if len(lambda) != len(c.Params) {
+		return fmt.Errorf("chain: expected %d parameters %v, found %d", len(c.Params), c.Params, len(lambda))
 	}
 	for i, v := range lambda {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return fmt.Errorf("chain: parameter %s: expected a finite number, found %v", s.cfg.Params[i], v)
+			return fmt.Errorf("chain: parameter %s: expected a finite number, found %v", c.Params[i], v)
 		}
 	}
 	return nil
@@ -227,7 +229,7 @@ func (s *Source) checkLambda(lambda []float64) error {
 // GroundState returns the ground state at λ in the chosen sector, with E0
 // and the gap to the next level of the same sector, computed once per λ.
 func (s *Source) GroundState(lambda []float64) (*State, error) {
-	if err := s.checkLambda(lambda); err != nil {
+	if err := s.cfg.checkLambda(lambda); err != nil {
 		return nil, err
 	}
 	key := fmt.Sprint(lambda)
