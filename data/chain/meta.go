@@ -46,19 +46,25 @@ const Generator = "chain"
 // Meta returns the meta.source object of a dataset drawn from s with the
 // given seed, grid text and ground states per point.
 func (s *Source) Meta(seed uint64, grid string, points []PointMeta) SourceMeta {
-	b := "periodic"
-	if s.cfg.Open {
-		b = "open"
-	}
-	enc := encodingFixed
-	if s.cfg.Basis == BasisRandom {
-		enc = encodingRandom
-	}
+	b, enc := s.cfg.boundaryEncoding()
 	return SourceMeta{
 		Generator: Generator, Sites: s.cfg.Sites, Boundary: b, Hamiltonian: s.cfg.Hamiltonian,
 		Basis: s.cfg.Basis.String(), Sector: s.sector.String(), Encoding: enc,
 		Seed: seed, Grid: grid, Points: points,
 	}
+}
+
+// boundaryEncoding returns the boundary ("periodic" or "open") and the
+// encoding text a source record of c states.
+func (c Config) boundaryEncoding() (boundary, encoding string) {
+	boundary, encoding = "periodic", encodingFixed
+	if c.Open {
+		boundary = "open"
+	}
+	if c.Basis == BasisRandom {
+		encoding = encodingRandom
+	}
+	return boundary, encoding
 }
 
 // SourceFromMeta rebuilds the exact source of a chain dataset from its meta

@@ -43,14 +43,7 @@ type MPSSourceMeta struct {
 // Meta returns the meta.source object of a dataset drawn from s with the
 // given sampling seed, grid text and ground states per point.
 func (s *MPSSource) Meta(seed uint64, grid string, points []MPSPoint) MPSSourceMeta {
-	b := "periodic"
-	if s.cfg.Open {
-		b = "open"
-	}
-	enc := encodingFixed
-	if s.cfg.Basis == BasisRandom {
-		enc = encodingRandom
-	}
+	b, enc := s.cfg.boundaryEncoding()
 	return MPSSourceMeta{
 		Generator: Generator, Solver: SolverMPS, Sites: s.cfg.Sites, Boundary: b, Hamiltonian: s.cfg.Hamiltonian,
 		Basis: s.cfg.Basis.String(), Sector: s.sector.String(), Encoding: enc,

@@ -497,14 +497,8 @@ func (s *MPSSource) rowBases(row []uint8, bases, outs []int) {
 // basis).
 func (s *MPSSource) LogProb(dst []float64, xs []uint8, lambda []float64) error {
 	n := s.cfg.Sites
-	if len(xs) != len(dst)*n {
-		return fmt.Errorf("chain: LogProb: expected %d values (%d rows of %d sites), found %d", len(dst)*n, len(dst), n, len(xs))
-	}
-	q := uint8(s.Alphabet())
-	for i, v := range xs {
-		if v >= q {
-			return fmt.Errorf("chain: LogProb: row %d site %d: expected a value below %d, found %d", i/n, i%n, q, v)
-		}
+	if err := checkRows(xs, len(dst), n, s.Alphabet()); err != nil {
+		return err
 	}
 	st, err := s.GroundState(lambda)
 	if err != nil {

@@ -212,6 +212,20 @@ func (s *Source) Enumerable() bool {
 	return math.Pow(float64(s.Alphabet()), float64(s.cfg.Sites)) <= maxEnumerable
 }
 
+// checkRows checks that xs holds rows snapshots of n sites with values
+// below q, for LogProb.
+func checkRows(xs []uint8, rows, n, q int) error {
+	if len(xs) != rows*n {
+		return fmt.Errorf("chain: LogProb: expected %d values (%d rows of %d sites), found %d", rows*n, rows, n, len(xs))
+	}
+	for i, v := range xs {
+		if int(v) >= q {
+			return fmt.Errorf("chain: LogProb: row %d site %d: expected a value below %d, found %d", i/n, i%n, q, v)
+		}
+	}
+	return nil
+}
+
 // checkLambda checks that lambda gives a finite value for each of the
 // chain's parameters.
 func (c Config) checkLambda(lambda []float64) error {
@@ -380,14 +394,8 @@ func (s *Source) Probabilities(lambda []float64) ([]float64, error) {
 // For the random basis it includes the (1/3)^N probability of the bases.
 func (s *Source) LogProb(dst []float64, xs []uint8, lambda []float64) error {
 	n := s.cfg.Sites
-	if len(xs) != len(dst)*n {
-		return fmt.Errorf("chain: LogProb: expected %d values (%d rows of %d sites), found %d", len(dst)*n, len(dst), n, len(xs))
-	}
-	q := uint8(s.Alphabet())
-	for i, v := range xs {
-		if v >= q {
-			return fmt.Errorf("chain: LogProb: row %d site %d: expected a value below %d, found %d", i/n, i%n, q, v)
-		}
+	if err := checkRows(xs, len(dst), n, s.Alphabet()); err != nil {
+		return err
 	}
 	st, err := s.GroundState(lambda)
 	if err != nil {
