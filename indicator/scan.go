@@ -62,6 +62,9 @@ type Config struct {
 	Threads int
 	// Seed seeds model sampling and bootstrap resampling.
 	Seed uint64
+	// MetricScale is the per-axis unit s_a of a 2-D scan's Fisher-metric
+	// map (nil: parameter units): the map shows the metric of λ_a/s_a.
+	MetricScale []float64
 	// Progress, if not nil, is called before each long stage with its name
 	// and number of steps and returns the callback that counts them.
 	Progress func(stage string, total int) func(n int)
@@ -77,6 +80,8 @@ type Result struct {
 	Curves []*Curve
 	// Boundaries are ridge polylines of the local and fisher maps (2-D).
 	Boundaries []Boundary
+	// Phases is the phase diagram of a 2-D scan (nil in 1-D).
+	Phases *PhaseDiagram
 	// Zoom holds the results of the finer second pass around peaks.
 	Zoom []ZoomResult
 	// Sources is the number of sources combined.
@@ -202,6 +207,11 @@ func Run(sources []Source, ds *data.Dataset, cfg Config) (*Result, error) {
 					res.Boundaries = append(res.Boundaries, boundaries(c, g.Names)...)
 				}
 			}
+		}
+	}
+	if g.Dim() == 2 {
+		if res.Phases, err = phaseDiagram(res, cfg); err != nil {
+			return nil, err
 		}
 	}
 	if cfg.Zoom {
@@ -398,6 +408,7 @@ func runPass(sources []Source, ds *data.Dataset, g *data.Grid, dataLo, lo Layout
 				srcVals = append(srcVals, vals[s][c])
 			}
 		}
+		cv.srcs = srcVals
 		findPeaks(&cv, cv.reps, srcVals, B > 0 || cfg.ExactSums, noise)
 		out[c] = &cv
 	}
