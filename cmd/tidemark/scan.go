@@ -38,6 +38,8 @@ type scanOptions struct {
 	seed         uint64
 	force        bool
 	quiet        bool
+	metricScale  string
+	references   []string
 }
 
 func newScanCmd() *cobra.Command {
@@ -96,6 +98,8 @@ each second pass gets its own zoom-<i>.csv.`,
 	f.Uint64Var(&o.seed, "seed", 1, "seed of model sampling and bootstrap resampling")
 	f.BoolVar(&o.force, "force", false, "replace an existing output folder")
 	f.BoolVar(&o.quiet, "quiet", false, "draw no progress bars")
+	f.StringVar(&o.metricScale, "metric-scale", "", `2-D: the unit of each parameter for the Fisher-metric map, "name=unit,name=unit" (default: 1, parameter units)`)
+	f.StringArrayVar(&o.references, "reference", nil, "2-D: a CSV file of reference curves (rows x,y or x,y,name; a blank row starts a new line) drawn beside the boundaries; repeatable")
 	c.MarkFlagRequired("data")
 	c.MarkFlagRequired("output")
 	return c
@@ -194,6 +198,14 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if err := ds.Validate(o.data); err != nil {
 		return err
 	}
+	scale, err := parseMetricScale(o.metricScale, ds.Meta.ParamNames)
+	if err != nil {
+		return err
+	}
+	refs, err := readReferences(o.references, ds.Meta.ParamNames)
+	if err != nil {
+		return err
+	}
 	var sources []indicator.Source
 	kind := ""
 	switch {
@@ -224,7 +236,7 @@ func runScan(w io.Writer, o *scanOptions) error {
 	cfg := indicator.Config{
 		Indicators: inds, Refine: o.refine, ModelSamples: o.modelSamples, Zoom: o.zoom,
 		Bootstrap: o.bootstrap, ExactSums: o.exactSums, DataAtGridPoints: o.dataAtGrid, Window: o.window, SLRegions: reg,
-		Threads: threadsOrDefault(o.threads), Seed: o.seed,
+		Threads: threadsOrDefault(o.threads), Seed: o.seed, MetricScale: scale,
 	}
 	// The scan writes nothing until it is complete, so a signal can simply
 	// stop it: nothing is lost and nothing half-written is left.
@@ -236,6 +248,9 @@ func runScan(w io.Writer, o *scanOptions) error {
 	}
 	if err != nil {
 		return err
+	}
+	if res.Phases != nil {
+		res.Phases.References = append(exactReferences(ds, res.Layout), refs...)
 	}
 	if sm, err := ising.ParseSourceMeta(ds.Meta); kind == "model" && err == nil && sm.HasExact() {
 		res.Notes = append(res.Notes, fmt.Sprintf("this dataset has an exact reference: `tidemark scan --data %s --exact` scores the same snapshots with the exact density; a misfit of the model (a spurious peak in the ordered phase, say) shows only in that comparison, not in the bootstrap errors", o.data))
@@ -266,6 +281,7 @@ func printScan(w io.Writer, out string, res *indicator.Result, sum *report.Summa
 	for _, b := range res.Boundaries {
 		p("  boundary from %s (ridge along %s): %d points\n", b.Indicator, b.Axis, len(b.Points))
 	}
+	printPhases(p, res)
 	for _, z := range sum.Zoom {
 		p("  zoom around %s (%d points of %s from %.6g to %.6g):\n", data.FormatPoint(res.Names, z.Around), z.Points, z.Axis, z.From, z.To)
 		names := make([]string, 0, len(z.Indicators))
