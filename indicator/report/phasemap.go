@@ -144,7 +144,11 @@ func phasePlot(res *indicator.Result, m indicator.PhaseMap) (*plot.Plot, error) 
 	}
 	s := newColourScale(m.Strength)
 	p := plot.New()
-	p.Title.Text = fmt.Sprintf("%s: %d phase(s)\n%s\n%s", m.Indicator, m.Phases.Count, m.Invariant, s.legend())
+	key := "numbers: phases; cyan line: boundary between phases (bars ±1 s.e.)"
+	if len(res.Phases.References) > 0 {
+		key += "; dashed magenta: reference"
+	}
+	p.Title.Text = fmt.Sprintf("%s: %d phase(s)\n%s\n%s\n%s", m.Indicator, m.Phases.Count, m.Invariant, s.legend(), key)
 	p.Title.TextStyle.Font.Size = vg.Points(9)
 	p.X.Label.Text = lo.Names[0]
 	p.Y.Label.Text = lo.Names[1]
@@ -186,7 +190,6 @@ func phasePlot(res *indicator.Result, m indicator.PhaseMap) (*plot.Plot, error) 
 		labels.TextStyle[i].YAlign = draw.YCenter
 	}
 	p.Add(labels)
-	legendDone := false
 	for _, b := range m.Boundaries {
 		xy := make(plotter.XYs, len(b.Points))
 		xe := make(plotter.XErrors, len(b.Points))
@@ -217,12 +220,7 @@ func phasePlot(res *indicator.Result, m indicator.PhaseMap) (*plot.Plot, error) 
 		}
 		xb.Color, yb.Color = boundaryColor, boundaryColor
 		p.Add(l, sc, xb, yb)
-		if !legendDone {
-			p.Legend.Add("boundary between phases (±1 s.e.)", l, sc)
-			legendDone = true
-		}
 	}
-	refNames := map[string]bool{}
 	for _, c := range res.Phases.References {
 		xy := make(plotter.XYs, len(c.Points))
 		for i, q := range c.Points {
@@ -235,20 +233,13 @@ func phasePlot(res *indicator.Result, m indicator.PhaseMap) (*plot.Plot, error) 
 		l.Color, l.Width = referenceColor, vg.Points(1.5)
 		l.Dashes = []vg.Length{vg.Points(5), vg.Points(3)}
 		p.Add(l)
-		if !refNames[c.Name] {
-			p.Legend.Add("reference: "+c.Name, l)
-			refNames[c.Name] = true
-		}
 	}
 	// The heat map's extent; references outside it do not widen the view.
 	dx := (x0[len(x0)-1] - x0[0]) / float64(2*(len(x0)-1))
 	dy := (x1[len(x1)-1] - x1[0]) / float64(2*(len(x1)-1))
 	p.X.Min, p.X.Max = x0[0]-dx, x0[len(x0)-1]+dx
 	p.Y.Min, p.Y.Max = x1[0]-dy, x1[len(x1)-1]+dy
-	// The legend goes below the axes, never over the data.
-	p.Legend.Top = false
-	p.Legend.Left = true
-	p.Legend.YOffs = -vg.Points(40)
+	// The key is in the title, above the axes: nothing covers the data.
 	return p, nil
 }
 
