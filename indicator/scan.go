@@ -82,6 +82,9 @@ type Result struct {
 	Boundaries []Boundary
 	// Phases is the phase diagram of a 2-D scan (nil in 1-D).
 	Phases *PhaseDiagram
+	// Exact is a scan of the same data with the exact density, set by the
+	// caller to be drawn beside the model's curves (nil: none).
+	Exact *Result
 	// Zoom holds the results of the finer second pass around peaks.
 	Zoom []ZoomResult
 	// Sources is the number of sources combined.

@@ -82,7 +82,7 @@ each second pass gets its own zoom-<i>.csv.`,
 	f := c.Flags()
 	f.StringVar(&o.data, "data", "", "dataset file (.npz) whose grid and snapshots are scanned")
 	f.StringVarP(&o.out, "output", "o", "", "output folder (created; an existing non-empty folder needs --force)")
-	f.BoolVar(&o.exact, "exact", false, "use the exact density of the generator recorded in the dataset (small systems)")
+	f.BoolVar(&o.exact, "exact", false, "use the exact density of the generator recorded in the dataset (small systems); beside --model, draw its curves in the model's 1-D pictures")
 	f.BoolVar(&o.histogram, "histogram", false, "use the empirical frequencies of the snapshots at each grid point (small systems)")
 	f.StringArrayVar(&o.models, "model", nil, "trained model checkpoint (.ckpt); repeat for several models, whose spread joins the errors")
 	f.StringVar(&o.indicators, "indicators", "all", "comma-separated indicators: all, or some of lbc,sl,pbm,local,fisher")
@@ -160,13 +160,16 @@ func parseIndicators(s string) ([]string, error) {
 
 func runScan(w io.Writer, o *scanOptions) error {
 	nsrc := 0
-	for _, b := range []bool{o.exact, o.histogram, len(o.models) > 0} {
+	// --exact beside --model scores the same data with both and draws the
+	// exact curves beside the model's.
+	withExact := o.exact && len(o.models) > 0
+	for _, b := range []bool{o.exact && !withExact, o.histogram, len(o.models) > 0} {
 		if b {
 			nsrc++
 		}
 	}
 	if nsrc != 1 {
-		return errors.New("scan: expected exactly one density source: --exact, --histogram or --model FILE.ckpt")
+		return errors.New("scan: expected exactly one density source: --exact, --histogram or --model FILE.ckpt (--exact may join --model, to draw both)")
 	}
 	inds, err := parseIndicators(o.indicators)
 	if err != nil {
@@ -209,7 +212,7 @@ func runScan(w io.Writer, o *scanOptions) error {
 	var sources []indicator.Source
 	kind := ""
 	switch {
-	case o.exact:
+	case o.exact && !withExact:
 		kind = "exact"
 		src, err := exact.FromMeta(ds.Meta)
 		if err != nil {
@@ -251,6 +254,11 @@ func runScan(w io.Writer, o *scanOptions) error {
 	}
 	if res.Phases != nil {
 		res.Phases.References = append(exactReferences(ds, res.Layout), refs...)
+	}
+	if withExact {
+		if res.Exact, err = exactBeside(ctx, ds, cfg, o); err != nil {
+			return err
+		}
 	}
 	if sm, err := ising.ParseSourceMeta(ds.Meta); kind == "model" && err == nil && sm.HasExact() {
 		res.Notes = append(res.Notes, fmt.Sprintf("this dataset has an exact reference: `tidemark scan --data %s --exact` scores the same snapshots with the exact density; a misfit of the model (a spurious peak in the ordered phase, say) shows only in that comparison, not in the bootstrap errors", o.data))

@@ -272,3 +272,52 @@ func TestScanModelPointsToExact(t *testing.T) {
 		t.Errorf("summary.json lacks %q", want)
 	}
 }
+
+// TestScanModelBesideExact: --exact beside --model draws the exact curve in
+// the model's 1-D picture.
+func TestScanModelBesideExact(t *testing.T) {
+	dir := t.TempDir()
+	ds := ckptTestData(t, dir, "d.npz", 1)
+	ck := filepath.Join(dir, "m.ckpt")
+	if _, err := execTidemark(t, append([]string{"train", ds, "-o", ck}, tinyTrain...)...); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "scan")
+	if _, err := execTidemark(t, "scan", "--model", ck, "--exact", "--data", ds, "--indicators", "lbc", "--bootstrap", "0", "-o", out, "--quiet"); err != nil {
+		t.Fatal(err)
+	}
+	b, err := os.ReadFile(filepath.Join(out, "lbc.svg"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(b), "exact density (same snapshots)") {
+		t.Error("lbc.svg has no exact curve beside the model's")
+	}
+}
+
+func TestParseMetricScale(t *testing.T) {
+	names := []string{"T", "Jy"}
+	for _, tc := range []struct {
+		in   string
+		want []float64
+		err  string
+	}{
+		{"", nil, ""},
+		{"Jy=0.5", []float64{1, 0.5}, ""},
+		{"T=2, Jy=0.5", []float64{2, 0.5}, ""},
+		{"h=1", nil, "expected one of the parameters T, Jy"},
+		{"T=0", nil, "expected a positive unit"},
+		{"T", nil, "expected name=unit"},
+	} {
+		got, err := parseMetricScale(tc.in, names)
+		if tc.err != "" {
+			if err == nil || !strings.Contains(err.Error(), tc.err) {
+				t.Errorf("%q: error %v, want %q", tc.in, err, tc.err)
+			}
+			continue
+		}
+		if err != nil || len(got) != len(tc.want) || (len(got) == 2 && (got[0] != tc.want[0] || got[1] != tc.want[1])) {
+			t.Errorf("%q: %v, %v; want %v", tc.in, got, err, tc.want)
+		}
+	}
+}

@@ -53,6 +53,9 @@ func Pictures(res *indicator.Result) (map[string][]byte, error) {
 		var err error
 		if len(res.Names) == 1 {
 			p, err = curvePlot(c, res.Names[0])
+			if err == nil {
+				err = overlayExact(p, c, res)
+			}
 		} else {
 			p, err = heatPlot(c, res)
 		}
