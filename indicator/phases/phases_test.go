@@ -214,3 +214,41 @@ func TestReadReference(t *testing.T) {
 		})
 	}
 }
+
+// TestBoundaryErrorsFromMembers: with maps of several sources whose ridge
+// is displaced by ±δ along axis 0, the boundary points' errors along axis 0
+// are of order δ (the spread across sources), and zero without them.
+func TestBoundaryErrorsFromMembers(t *testing.T) {
+	g := Grid{X0: linspace(0, 2, 21), X1: linspace(0, 1, 5)}
+	ridge := func(c float64) []float64 {
+		v := make([]float64, g.K())
+		for k := range v {
+			p := g.Point(k)
+			v[k] = 1 + 50/(1+math.Pow((p[0]-c)/0.15, 2))
+		}
+		return v
+	}
+	v := ridge(1.03)
+	seg, err := Segment(g, v, nil, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if seg.Count != 2 {
+		t.Fatalf("%d phases, want 2", seg.Count)
+	}
+	none, err := Boundaries(g, v, nil, nil, seg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	members := [][]float64{ridge(0.98), ridge(1.03), ridge(1.08)}
+	with, err := Boundaries(g, v, nil, members, seg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, p := range with[0].Points {
+		e := with[0].Err[i][0]
+		if math.Abs(p[0]-1.03) > 0.02 || e < 0.02 || e > 0.1 || none[0].Err[i][0] != 0 {
+			t.Errorf("point %v error %g (without members %g), want near 1.03 with an error of order 0.05", p, e, none[0].Err[i][0])
+		}
+	}
+}
