@@ -43,6 +43,10 @@ type PhaseMap struct {
 // changes sign across a boundary and is not a strength: it gets no map.
 func phaseDiagram(res *Result, cfg Config) (*PhaseDiagram, error) {
 	lo := res.Layout
+	if len(lo.Axes) != 2 || len(lo.Axes[0]) < 3 || len(lo.Axes[1]) < 3 {
+		// A line of points, or a 2-wide strip, has no interior to divide.
+		return nil, nil
+	}
 	g := phases.Grid{X0: lo.Axes[0], X1: lo.Axes[1]}
 	scale := cfg.MetricScale
 	if scale == nil {

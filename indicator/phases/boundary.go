@@ -16,12 +16,16 @@ type Boundary struct {
 	// Err are their standard errors per axis: along the grid line on which
 	// a point was located, and 0 across it.
 	Err [][2]float64 `json:"err"`
+	// Along holds, for each point, the axis of the grid line on which it
+	// was located (its other coordinate is that line's grid value).
+	Along []int `json:"along_axis"`
 }
 
 // crossing is a boundary point on one grid line.
 type crossing struct {
 	a, b int // phases, a < b
 	p, e [2]float64
+	axis int
 }
 
 // Boundaries locates the boundaries between the phases of seg. Along every
@@ -78,7 +82,7 @@ func Boundaries(g Grid, strength []float64, reps, members [][]float64, seg *Segm
 				if la == lb {
 					continue
 				}
-				c := crossing{a: min(la, lb), b: max(la, lb)}
+				c := crossing{a: min(la, lb), b: max(la, lb), axis: axis}
 				at := func(w []float64) float64 { return ridgeAt(xs, w, pt, i) }
 				x := at(v)
 				var e2 float64
@@ -189,6 +193,7 @@ func chain(g Grid, cs []crossing) []Boundary {
 				left--
 				b.Points = append(b.Points, pts[cur].p)
 				b.Err = append(b.Err, pts[cur].e)
+				b.Along = append(b.Along, pts[cur].axis)
 				next, nd := -1, math.Inf(1)
 				for i, p := range pts {
 					if d := dist(p.p, pts[cur].p); !used[i] && d < nd {

@@ -73,7 +73,7 @@ func Segment(g Grid, strength []float64, reps [][]float64, opt Options) (*Segmen
 		}
 	}
 	if opt.Depth <= 0 {
-		opt.Depth = math.Log(3)
+		opt.Depth = math.Log(2)
 	}
 	if opt.Noise <= 0 {
 		opt.Noise = 3

@@ -278,6 +278,7 @@ type PhaseBoundary struct {
 	Between   [2]int       `json:"between"`
 	Points    [][2]float64 `json:"points"`
 	Err       [][2]float64 `json:"err"`
+	Along     []string     `json:"located_along"`
 }
 
 func phasesSummary(res *indicator.Result) *PhasesSummary {
@@ -310,7 +311,11 @@ func phaseBoundaries(res *indicator.Result) []PhaseBoundary {
 	pm := pd.Maps[pd.Primary]
 	var out []PhaseBoundary
 	for _, b := range pm.Boundaries {
-		out = append(out, PhaseBoundary{Indicator: "phases:" + pm.Indicator, Between: b.Between, Points: b.Points, Err: b.Err})
+		pb := PhaseBoundary{Indicator: "phases:" + pm.Indicator, Between: b.Between, Points: b.Points, Err: b.Err}
+		for _, a := range b.Along {
+			pb.Along = append(pb.Along, res.Names[a])
+		}
+		out = append(out, pb)
 	}
 	return out
 }
