@@ -1,6 +1,7 @@
 package chain
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -70,32 +71,35 @@ func TestCollapseSharedMatchesCollapse(t *testing.T) {
 }
 
 // BenchmarkCollapse compares the per-row chain rule with the shared-prefix
-// one on 4000 random-basis rows of a 12-site state (the ratio of the two
-// is the speed-up of chain.Source.LogProb in the random basis).
+// one on 1024 (the block of indicator.ComputeMatrix) and 4096 random-basis
+// rows of a 12-site state: the ratio is the speed-up of chain.Source.LogProb
+// in the random basis.
 func BenchmarkCollapse(b *testing.B) {
-	const n, m = 12, 4000
-	rng := rand.New(rand.NewPCG(1, 2))
-	amp := randomState(n, rng)
-	xs := make([]uint8, n*m)
-	for i := range xs {
-		xs[i] = uint8(rng.IntN(6))
-	}
-	dst := make([]float64, m)
-	b.Run("per-row", func(b *testing.B) {
-		buf := make([]complex128, len(amp))
-		bases, outs := make([]int, n), make([]int, n)
-		for i := 0; i < b.N; i++ {
-			for r := 0; r < m; r++ {
-				for j, v := range xs[r*n : (r+1)*n] {
-					bases[j], outs[j] = int(v)/2, 1-int(v)%2
+	const n = 12
+	for _, m := range []int{1024, 4096} {
+		rng := rand.New(rand.NewPCG(1, 2))
+		amp := randomState(n, rng)
+		xs := make([]uint8, n*m)
+		for i := range xs {
+			xs[i] = uint8(rng.IntN(6))
+		}
+		dst := make([]float64, m)
+		b.Run(fmt.Sprintf("rows=%d/per-row", m), func(b *testing.B) {
+			buf := make([]complex128, len(amp))
+			bases, outs := make([]int, n), make([]int, n)
+			for i := 0; i < b.N; i++ {
+				for r := 0; r < m; r++ {
+					for j, v := range xs[r*n : (r+1)*n] {
+						bases[j], outs[j] = int(v)/2, 1-int(v)%2
+					}
+					dst[r] = collapse(amp, buf, bases, outs, nil)
 				}
-				dst[r] = collapse(amp, buf, bases, outs, nil)
 			}
-		}
-	})
-	b.Run("shared-prefix", func(b *testing.B) {
-		for i := 0; i < b.N; i++ {
-			collapseShared(amp, xs, n, dst)
-		}
-	})
+		})
+		b.Run(fmt.Sprintf("rows=%d/shared-prefix", m), func(b *testing.B) {
+			for i := 0; i < b.N; i++ {
+				collapseShared(amp, xs, n, dst)
+			}
+		})
+	}
 }
