@@ -11,9 +11,9 @@ import (
 type Options struct {
 	// Depth is the least depth, in natural-log units of the strength, of a
 	// basin below the lowest pass to a neighbouring basin for the two to
-	// stay separate phases (≤ 0 means ln 3: the ridge between two phases
-	// stands at least three times above the lower of the two phase
-	// interiors).
+	// stay separate phases (≤ 0 means ln 2: the lowest pass between two
+	// phases stands at least twice as high as the higher of their two
+	// minima).
 	Depth float64
 	// Noise is the number of standard errors of the depth (from the
 	// replicas) it must also exceed (≤ 0 means 3).

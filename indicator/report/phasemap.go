@@ -368,7 +368,7 @@ func boundaryList(res *indicator.Result) []any {
 }
 
 var phaseTemplate = template.Must(template.New("phases").Parse(`<h2>Phase diagram</h2>
-<p>{{.Count}} phase(s) from the {{.Indicator}} map ({{.Invariant}}). The grid is divided into regions separated by the ridges of the boundary strength (a watershed of its logarithm, with regions merged unless the ridge between them stands at least three times above the lower region and three standard errors above the noise); the boundaries are located between grid points on every grid line that crosses them{{if .References}}, with reference lines dashed{{end}}.</p>
+<p>{{.Count}} phase(s) from the {{.Indicator}} map ({{.Invariant}}). The grid is divided into regions separated by the ridges of the boundary strength (a watershed of its logarithm, with neighbouring regions merged unless the ridge between them stands at least twice as high as the higher of their floors and three standard errors above the noise); the boundaries are located between grid points on every grid line that crosses them{{if .References}}, with reference lines dashed{{end}}.</p>
 {{range .Figures}}<figure>{{.SVG}}<figcaption>{{.Caption}} (<code>{{.Name}}</code>)</figcaption></figure>
 {{end}}{{with .Rows}}<table>
 <tr><th>between phases</th><th>boundary point (± 1 standard error along its grid line)</th></tr>
