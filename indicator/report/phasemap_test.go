@@ -11,6 +11,7 @@ import (
 	"path/filepath"
 	"sort"
 	"strings"
+	"sync"
 	"testing"
 
 	"gonum.org/v1/plot"
@@ -27,11 +28,26 @@ import (
 // (T, Jy) at Jx = 1 from low T, where the Fisher information is
 // exponentially small, to high T: its maps span many decades, the case in
 // which a linear colour scale shows one bright cell and black elsewhere.
+// The scan is shared by the tests that read it (none changes it).
 func isingScan(t *testing.T) *indicator.Result {
 	t.Helper()
+	isingOnce.Do(func() { isingRes, isingErr = runIsingScan() })
+	if isingErr != nil {
+		t.Fatal(isingErr)
+	}
+	return isingRes
+}
+
+var (
+	isingOnce sync.Once
+	isingRes  *indicator.Result
+	isingErr  error
+)
+
+func runIsingScan() (*indicator.Result, error) {
 	src, err := ising.NewSource(ising.Lattice{Ly: 4, Lx: 4}, []string{"T", "Jy"}, ising.Couplings{Jx: 1})
 	if err != nil {
-		t.Fatal(err)
+		return nil, err
 	}
 	var pts [][]float64
 	for i := 0; i < 9; i++ {
@@ -41,17 +57,13 @@ func isingScan(t *testing.T) *indicator.Result {
 	}
 	ds, err := data.New(2*len(pts), 16, []string{"T", "Jy"}, 2, nil, map[string]any{"generator": "test"})
 	if err != nil {
-		t.Fatal(err)
+		return nil, err
 	}
 	for k, p := range pts {
 		copy(ds.Params[4*k:], p)
 		copy(ds.Params[4*k+2:], p)
 	}
-	res, err := indicator.Run([]indicator.Source{src}, ds, indicator.Config{ExactSums: true, Threads: 2, Indicators: []string{indicator.Fisher, indicator.Local, indicator.LBC}})
-	if err != nil {
-		t.Fatal(err)
-	}
-	return res
+	return indicator.Run([]indicator.Source{src}, ds, indicator.Config{ExactSums: true, Threads: 2, Indicators: []string{indicator.Fisher, indicator.Local, indicator.LBC}})
 }
 
 // cellLuminance renders p and returns the luminance (0..1, Rec. 709
