@@ -61,7 +61,10 @@ files (trained with different seeds) add their spread in quadrature. Peaks are l
 whose height above the neighbouring minimum exceeds two standard errors of that
 difference, refined by a parabola.
 On a 2-D product grid the curves become maps and the ridges of local and fisher become
-boundary lines. The folder gets indicators.csv, summary.json and SVG/PNG pictures.
+boundary lines; each indicator's boundary strength (for fisher the metric's largest
+eigenvalue, in the units of --metric-scale) is divided into phases with boundaries between
+them (phases_<indicator>.png, "phases" in summary.json), beside Onsager's exact line for an
+Ising dataset and the curves of --reference files. The folder gets indicators.csv, summary.json and SVG/PNG pictures.
 
 indicators.csv has the parameter columns, then <name> and <name>_err for every curve,
 one row per position: the union of the grid points (fisher_deriv, and the 2-D pbm
