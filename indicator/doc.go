@@ -43,4 +43,12 @@
 // trace of the metric from the divergences, at the centres of the grid's
 // cells; and boundaries join each line's highest peak of the local and
 // fisher maps into polylines, in both orientations.
+//
+// # Phases
+//
+// A 2-D scan also gets Result.Phases: one boundary-strength map per
+// indicator (for fisher the largest eigenvalue of the metric), divided into
+// phases with boundaries between them by package indicator/phases, which
+// works on plain arrays; the bootstrap replicas and the per-source values of
+// the curves supply its errors.
 package indicator

@@ -136,6 +136,8 @@ type Curve struct {
 	Peaks []Peak
 	// reps holds the bootstrap replicates, reps[b][t].
 	reps [][]float64
+	// srcs holds each source's values when several are combined.
+	srcs [][]float64
 }
 
 // curveSpec is a curve before evaluation: its stat and geometry.

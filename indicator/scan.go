@@ -57,6 +57,9 @@ type Config struct {
 	Threads int
 	// Seed seeds model sampling and bootstrap resampling.
 	Seed uint64
+	// MetricScale is the per-axis unit s_a of a 2-D scan's Fisher-metric
+	// map (nil: parameter units): the map shows the metric of λ_a/s_a.
+	MetricScale []float64
 	// Progress, if not nil, is called before each long stage with its name
 	// and number of steps and returns the callback that counts them.
 	Progress func(stage string, total int) func(n int)
@@ -72,6 +75,11 @@ type Result struct {
 	Curves []*Curve
 	// Boundaries are ridge polylines of the local and fisher maps (2-D).
 	Boundaries []Boundary
+	// Phases is the phase diagram of a 2-D scan (nil in 1-D).
+	Phases *PhaseDiagram
+	// Exact is a scan of the same data with the exact density, set by the
+	// caller to be drawn beside the model's curves (nil: none).
+	Exact *Result
 	// Zoom holds the results of the finer second pass around peaks.
 	Zoom []ZoomResult
 	// Sources is the number of sources combined.
@@ -116,6 +124,9 @@ func Run(ctx context.Context, sources []density.Source, ds *data.Dataset, cfg Co
 	res.Bootstrap = scanNotes(res, sources, cfg)
 	if g.Dim() == 2 {
 		res.Boundaries = curveBoundaries(res.Curves, g.Names)
+		if res.Phases, err = phaseDiagram(res, cfg); err != nil {
+			return nil, err
+		}
 	}
 	if cfg.Zoom {
 		if err := zoomPass(ctx, res, sources, ds, g, cfg, ind); err != nil {
@@ -309,6 +320,7 @@ func runPass(ctx context.Context, sources []density.Source, ds *data.Dataset, g 
 				srcVals = append(srcVals, evals[s].vals[c])
 			}
 		}
+		cv.srcs = srcVals
 		findPeaks(&cv, cv.reps, srcVals, B > 0 || cfg.ExactSums, noise)
 		out[c] = &cv
 	}

@@ -34,6 +34,8 @@ type scanOptions struct {
 	seed         uint64
 	force        bool
 	quiet        bool
+	metricScale  string
+	references   []string
 }
 
 func newScanCmd() *cobra.Command {
@@ -55,7 +57,10 @@ files (trained with different seeds) add their spread in quadrature. Peaks are l
 whose height above the neighbouring minimum exceeds two standard errors of that
 difference, refined by a parabola.
 On a 2-D product grid the curves become maps and the ridges of local and fisher become
-boundary lines. The folder gets indicators.csv, summary.json and SVG/PNG pictures.
+boundary lines; each indicator's boundary strength (for fisher the metric's largest
+eigenvalue, in the units of --metric-scale) is divided into phases with boundaries between
+them (phases_<indicator>.png, "phases" in summary.json), beside Onsager's exact line for an
+Ising dataset and the curves of --reference files. The folder gets indicators.csv, summary.json and SVG/PNG pictures.
 
 indicators.csv has the parameter columns, then <name> and <name>_err for every curve,
 one row per position: the union of the grid points (fisher_deriv, and the 2-D pbm
@@ -76,7 +81,7 @@ each second pass gets its own zoom-<i>.csv.`,
 	f := c.Flags()
 	f.StringVar(&o.data, "data", "", "dataset file (.npz) whose grid and snapshots are scanned")
 	f.StringVarP(&o.out, "output", "o", "", "output folder (created; an existing non-empty folder needs --force)")
-	f.BoolVar(&o.exact, "exact", false, "use the exact density of the generator recorded in the dataset (small systems)")
+	f.BoolVar(&o.exact, "exact", false, "use the exact density of the generator recorded in the dataset (small systems); beside --model, draw its curves in the model's 1-D pictures")
 	f.BoolVar(&o.histogram, "histogram", false, "use the empirical frequencies of the snapshots at each grid point (small systems)")
 	f.StringArrayVar(&o.models, "model", nil, "trained model checkpoint (.ckpt); repeat for several models, whose spread joins the errors")
 	f.StringVar(&o.indicators, "indicators", "all", "comma-separated indicators: all, or some of lbc,sl,pbm,local,fisher")
@@ -94,18 +99,23 @@ each second pass gets its own zoom-<i>.csv.`,
 	f.BoolVar(&o.quiet, "quiet", false, "draw no progress bars")
 	c.MarkFlagRequired("data")
 	c.MarkFlagRequired("output")
+	f.StringVar(&o.metricScale, "metric-scale", "", `2-D: the unit of each parameter for the Fisher-metric map, "name=unit,name=unit" (default: 1, parameter units)`)
+	f.StringArrayVar(&o.references, "reference", nil, "2-D: a CSV file of reference curves (rows x,y or x,y,name; a blank row starts a new line) drawn beside the boundaries; repeatable")
 	return c
 }
 
 func runScan(w io.Writer, o *scanOptions) error {
+	// --exact beside --model scores the same data with both and draws the
+	// exact curves beside the model's.
+	withExact := o.exact && len(o.models) > 0
 	var kinds []string
-	for kind, given := range map[string]bool{study.SourceExact: o.exact, study.SourceHistogram: o.histogram, study.SourceModel: len(o.models) > 0} {
+	for kind, given := range map[string]bool{study.SourceExact: o.exact && !withExact, study.SourceHistogram: o.histogram, study.SourceModel: len(o.models) > 0} {
 		if given {
 			kinds = append(kinds, kind)
 		}
 	}
 	if len(kinds) != 1 {
-		return errors.New("scan: expected exactly one density source: --exact, --histogram or --model FILE.ckpt")
+		return errors.New("scan: expected exactly one density source: --exact, --histogram or --model FILE.ckpt (--exact may join --model, to draw both)")
 	}
 	kind := kinds[0]
 	inds, err := study.ParseIndicators(o.indicators)
@@ -137,6 +147,13 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if k := data.NewGrid(ds).K(); k < 2 {
 		return fmt.Errorf("scan: %s: expected at least 2 distinct grid points, found %d (the indicators compare points)", o.data, k)
 	}
+	if cfg.MetricScale, err = study.ParseMetricScale(o.metricScale, ds.Meta.ParamNames); err != nil {
+		return err
+	}
+	refs, err := study.ReadReferences(o.references, ds.Meta.ParamNames)
+	if err != nil {
+		return err
+	}
 	sources, err := study.Sources(kind, ds, o.data, o.models)
 	if err != nil {
 		return fmt.Errorf("scan --%s: %w", kind, err)
@@ -151,6 +168,14 @@ func runScan(w io.Writer, o *scanOptions) error {
 	}
 	if err != nil {
 		return err
+	}
+	if res.Phases != nil {
+		res.Phases.References = append(study.ExactReferences(ds, res.Layout), refs...)
+	}
+	if withExact {
+		if res.Exact, err = exactBeside(ctx, ds, cfg, o); err != nil {
+			return err
+		}
 	}
 	if note := study.ExactNote(kind, ds, o.data); note != "" {
 		res.Notes = append(res.Notes, note)

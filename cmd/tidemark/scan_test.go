@@ -13,6 +13,7 @@ import (
 	"tidemark/data"
 	"tidemark/data/density"
 	"tidemark/data/ising"
+	"tidemark/indicator/study"
 )
 
 // smallDataset writes a dataset of 4 independent sites, each 1 with
@@ -245,5 +246,112 @@ func TestScanModelPointsToExact(t *testing.T) {
 	}
 	if !strings.Contains(string(b), want) {
 		t.Errorf("summary.json lacks %q", want)
+	}
+}
+
+// TestScanModelBesideExact: --exact beside --model draws the exact curve in
+// the model's 1-D picture.
+func TestScanModelBesideExact(t *testing.T) {
+	dir := t.TempDir()
+	ds := ckptTestData(t, dir, "d.npz", 1)
+	ck := filepath.Join(dir, "m.ckpt")
+	if _, err := execTidemark(t, append([]string{"train", ds, "-o", ck}, tinyTrain...)...); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "scan")
+	if _, err := execTidemark(t, "scan", "--model", ck, "--exact", "--data", ds, "--indicators", "lbc", "--bootstrap", "0", "-o", out, "--quiet"); err != nil {
+		t.Fatal(err)
+	}
+	b, err := os.ReadFile(filepath.Join(out, "lbc.svg"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(b), "exact density (same snapshots)") {
+		t.Error("lbc.svg has no exact curve beside the model's")
+	}
+}
+
+func TestParseMetricScale(t *testing.T) {
+	names := []string{"T", "Jy"}
+	for _, tc := range []struct {
+		in   string
+		want []float64
+		err  string
+	}{
+		{"", nil, ""},
+		{"Jy=0.5", []float64{1, 0.5}, ""},
+		{"T=2, Jy=0.5", []float64{2, 0.5}, ""},
+		{"h=1", nil, "expected one of the parameters T, Jy"},
+		{"T=0", nil, "expected a positive unit"},
+		{"T", nil, "expected name=unit"},
+	} {
+		got, err := study.ParseMetricScale(tc.in, names)
+		if tc.err != "" {
+			if err == nil || !strings.Contains(err.Error(), tc.err) {
+				t.Errorf("%q: error %v, want %q", tc.in, err, tc.err)
+			}
+			continue
+		}
+		if err != nil || len(got) != len(tc.want) || (len(got) == 2 && (got[0] != tc.want[0] || got[1] != tc.want[1])) {
+			t.Errorf("%q: %v, %v; want %v", tc.in, got, err, tc.want)
+		}
+	}
+}
+
+// TestScan2DReferences: a 2-D Ising scan lists Onsager's exact line and the
+// curves of a --reference file among the references in summary.json, and
+// reports its phases.
+func TestScan2DReferences(t *testing.T) {
+	dir := t.TempDir()
+	ds := filepath.Join(dir, "d.npz")
+	if _, err := execTidemark(t, "simulate", "ising", "--size", "3", "--grid", "T=1:4:5,Jy=0.5:1.5:4", "--samples", "50",
+		"--exact-samples", "--seed", "1", "--quiet", "-o", ds); err != nil {
+		t.Fatal(err)
+	}
+	ref := filepath.Join(dir, "lines.csv")
+	if err := os.WriteFile(ref, []byte("Jy,T\n0.5,2\n1.5,3,guess\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "scan")
+	msg, err := execTidemark(t, "scan", "--data", ds, "--exact", "--exact-sums", "--indicators", "fisher", "--reference", ref, "--metric-scale", "Jy=0.5", "-o", out, "--quiet")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(msg, "phases from fisher") || !strings.Contains(msg, "reference lines: 3") {
+		t.Errorf("output lacks the phases or the 3 reference lines:\n%s", msg)
+	}
+	var sum struct {
+		Phases struct {
+			Count      int
+			Labels     []int
+			Scale      []float64 `json:"metric_scale"`
+			References []struct {
+				Name   string
+				Points [][]float64
+			}
+		}
+	}
+	b, err := os.ReadFile(filepath.Join(out, "summary.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, &sum); err != nil {
+		t.Fatal(err)
+	}
+	if len(sum.Phases.Labels) != 20 || len(sum.Phases.Scale) != 2 || sum.Phases.Scale[1] != 0.5 {
+		t.Errorf("phases %+v", sum.Phases)
+	}
+	names := map[string]bool{}
+	for _, r := range sum.Phases.References {
+		names[r.Name] = true
+	}
+	// the swapped header puts T first: the file's row "0.5,2" is the point (2, 0.5)
+	if !names["Onsager's exact line (infinite lattice)"] || !names[ref] || !names["guess"] {
+		t.Errorf("references %v", names)
+	}
+	for _, r := range sum.Phases.References {
+		if r.Name == ref && (len(r.Points) != 1 || r.Points[0][0] != 2 || r.Points[0][1] != 0.5) {
+			t.Errorf("reference %s: %v, want [[2 0.5]]", r.Name, r.Points)
+		}
 	}
 }

@@ -412,16 +412,11 @@ func (s *Source) LogProb(dst []float64, xs []uint8, lambda []float64) error {
 		}
 		return nil
 	}
-	amp := st.Amplitudes()
-	buf := make([]complex128, len(amp))
-	bases := make([]int, n)
-	outs := make([]int, n)
+	// Snapshots sharing their first measured sites share that work
+	// (collapseShared), the bulk of the O(2^N) cost per snapshot.
+	collapseShared(st.Amplitudes(), xs, n, dst)
 	for m := range dst {
-		for j, v := range xs[m*n : (m+1)*n] {
-			bases[j] = int(v) / 2
-			outs[j] = 1 - int(v)%2 // internal bit: 0 for eigenvalue +1
-		}
-		dst[m] = float64(n)*math.Log(1.0/3) + collapse(amp, buf, bases, outs, nil)
+		dst[m] += float64(n) * math.Log(1.0/3)
 	}
 	return nil
 }

@@ -252,6 +252,7 @@ type pageData struct {
 	Caution            string
 	Files              []string
 	TrainCurves        []template.HTML
+	Phases             template.HTML
 }
 
 func fmtPoint(names []string, at, err []float64) string {
@@ -274,6 +275,7 @@ func HTML(res *indicator.Result, sum *Summary, pics map[string][]byte, pg *Page)
 	if pg == nil {
 		pg = &Page{}
 	}
+	var err error
 	d := pageData{
 		Page: pg, Source: sum.Source, Params: strings.Join(res.Names, ", "),
 		GridPoints: res.Data.K(), Scanned: res.Layout.K(), Bootstrap: res.Bootstrap, Sources: res.Sources,
@@ -336,6 +338,9 @@ func HTML(res *indicator.Result, sum *Summary, pics map[string][]byte, pg *Page)
 			continue
 		}
 		d.Figures = append(d.Figures, pageFigure{Name: c.Name + ".svg", Caption: describe(c) + refinedNote(c, sum.Grid.Refine), SVG: inlineSVG(b)})
+	}
+	if d.Phases, err = phaseSection(res, pics); err != nil {
+		return nil, err
 	}
 	for _, m := range pg.Models {
 		d.TrainCurves = append(d.TrainCurves, trainingSVG(m.Curve))
@@ -472,6 +477,7 @@ Parameters: {{.Params}}; {{.GridPoints}} grid points{{if ne .Scanned .GridPoints
 {{with index $.TrainCurves $i}}<figure>{{.}}<figcaption>Training and validation negative log-likelihood per epoch, in bits per site. The training figure is the mean over the epoch's minibatches while the weights changed; the validation figure uses the weights at the end of the epoch.</figcaption></figure>{{end}}
 {{end}}
 
+{{.Phases}}
 <h2>Indicators</h2>
 {{range .Figures}}<figure>{{.SVG}}<figcaption>{{.Caption}} (<code>{{.Name}}</code>)</figcaption></figure>
 {{else}}<p>No pictures.</p>{{end}}

@@ -8,7 +8,6 @@ import (
 	"sort"
 
 	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/palette/moreland"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
@@ -65,6 +64,9 @@ func Pictures(res *indicator.Result) (map[string][]byte, error) {
 		var err error
 		if len(res.Names) == 1 {
 			p, err = curvePlot(c, res.Names[0])
+			if err == nil {
+				err = overlayExact(p, c, res)
+			}
 		} else {
 			p, err = heatPlot(c, res)
 		}
@@ -85,6 +87,9 @@ func Pictures(res *indicator.Result) (map[string][]byte, error) {
 			}
 			out[c.Name+"."+ext] = buf.Bytes()
 		}
+	}
+	if err := phasePictures(res, out); err != nil {
+		return nil, err
 	}
 	return out, nil
 }
@@ -214,28 +219,15 @@ func heatPlot(c *indicator.Curve, res *indicator.Result) (*plot.Plot, error) {
 			g.z[r][i] = math.NaN()
 		}
 	}
-	lo, hi := math.Inf(1), math.Inf(-1)
 	for t, p := range c.Pos {
-		v := c.Val[t]
-		g.z[yi[p[1]]][xi[p[0]]] = v
-		if !math.IsNaN(v) && !math.IsInf(v, 0) {
-			lo, hi = math.Min(lo, v), math.Max(hi, v)
-		}
+		g.z[yi[p[1]]][xi[p[0]]] = c.Val[t]
 	}
-	if !(hi > lo) {
-		hi = lo + 1
-		if math.IsInf(lo, 0) {
-			return nil, nil
-		}
-	}
-	cm := moreland.ExtendedBlackBody()
-	cm.SetMin(lo)
-	cm.SetMax(hi)
-	h := plotter.NewHeatMap(g, cm.Palette(255))
-	h.Min, h.Max = lo, hi
-	h.NaN = color.Gray{Y: 0xcc}
+	// An outlier-proof scale (log or percentile-clipped, see colourScale)
+	// and a monotone-luminance colour map.
+	sc := newColourScale(c.Val)
+	h := scaledHeat(g, sc)
 	p := plot.New()
-	p.Title.Text = fmt.Sprintf("%s\nrange %.4g (dark) to %.4g (bright)", describe(c), lo, hi)
+	p.Title.Text = fmt.Sprintf("%s\n%s", describe(c), sc.legend())
 	p.X.Label.Text = res.Names[0]
 	p.Y.Label.Text = res.Names[1]
 	p.Add(h)

@@ -19,7 +19,8 @@ type Summary struct {
 	Sources    int                         `json:"sources"`
 	Seed       uint64                      `json:"seed"`
 	Indicators map[string]IndicatorSummary `json:"indicators"`
-	Boundaries []indicator.Boundary        `json:"boundaries,omitempty"`
+	Boundaries []any                       `json:"boundaries,omitempty"`
+	Phases     *PhasesSummary              `json:"phases,omitempty"`
 	Zoom       []ZoomSummary               `json:"zoom,omitempty"`
 	Notes      []string                    `json:"notes,omitempty"`
 	CSVRows    string                      `json:"csv_rows"`
@@ -96,7 +97,8 @@ func NewSummary(res *indicator.Result, info Info) *Summary {
 		Grid:      GridInfo{Points: res.Data.K(), Refine: max(1, info.Refine), Scanned: res.Layout.K()},
 		Bootstrap: res.Bootstrap, ExactSums: res.ExactSums, Sources: res.Sources, Seed: info.Seed,
 		Indicators: summarize(res.Curves, res.Names),
-		Boundaries: res.Boundaries,
+		Boundaries: boundaryList(res),
+		Phases:     phasesSummary(res),
 		Notes:      res.Notes,
 		Caution:    indicator.Caution,
 		CSVRows:    "indicators.csv has one row per position, the union of the grid points (curves with placement \"points\"), the midpoints between neighbouring grid points (placement \"midpoints\") and, in 2-D, the centres of the grid's cells (placement \"cell centres\"); cells are empty where a curve has no value",

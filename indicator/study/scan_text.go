@@ -32,6 +32,7 @@ func WriteScan(w io.Writer, out string, res *indicator.Result, sum *report.Summa
 	for _, b := range res.Boundaries {
 		p("  boundary from %s (ridge along %s): %d points\n", b.Indicator, b.Axis, len(b.Points))
 	}
+	writePhases(p, res)
 	for _, z := range sum.Zoom {
 		p("  zoom around %s (%d points of %s from %.6g to %.6g):\n", data.FormatPoint(res.Names, z.Around), z.Points, z.Axis, z.From, z.To)
 		n := 0

@@ -1,0 +1,212 @@
+package phases
+
+import (
+	"fmt"
+	"math"
+	"sort"
+)
+
+// Boundary is a polyline between two phases.
+type Boundary struct {
+	// Between holds the two phases' labels, lower first.
+	Between [2]int `json:"between"`
+	// Points are the boundary points as (axis 0, axis 1) pairs, in order
+	// along the line.
+	Points [][2]float64 `json:"points"`
+	// Err are their standard errors per axis: along the grid line on which
+	// a point was located, and 0 across it.
+	Err [][2]float64 `json:"err"`
+	// Along holds, for each point, the axis of the grid line on which it
+	// was located (its other coordinate is that line's grid value).
+	Along []int `json:"along_axis"`
+}
+
+// crossing is a boundary point on one grid line.
+type crossing struct {
+	a, b int // phases, a < b
+	p, e [2]float64
+	axis int
+}
+
+// Boundaries locates the boundaries between the phases of seg. Along every
+// grid line (both orientations), where the phase changes between
+// neighbouring points i and i+1, the point is the vertex of the parabola
+// through the log strength at the higher of the two and its neighbours
+// along the line, kept within one spacing of it (a ridge between grid
+// points). Its error is the standard deviation of the same construction on
+// every replica in reps (bootstrap) and, in quadrature, across the maps in
+// members (one per source of an ensemble; nil or one map for none). The
+// points of each pair of phases are joined into polylines by walking to the
+// nearest unused point (in units of each axis's range) and starting a new
+// polyline where that step exceeds three grid spacings.
+func Boundaries(g Grid, strength []float64, reps, members [][]float64, seg *Segmentation) ([]Boundary, error) {
+	if err := g.Check(); err != nil {
+		return nil, err
+	}
+	K := g.K()
+	if len(strength) != K || len(seg.Labels) != K {
+		return nil, fmt.Errorf("phases: %d strength values and %d labels, expected %d", len(strength), len(seg.Labels), K)
+	}
+	for _, r := range append(append([][]float64(nil), reps...), members...) {
+		if len(r) != K {
+			return nil, fmt.Errorf("phases: a replica has %d values, expected %d", len(r), K)
+		}
+	}
+	v := LogLandscape(strength)
+	var vr, vm [][]float64
+	for _, r := range reps {
+		vr = append(vr, LogLandscape(r))
+	}
+	if len(members) > 1 {
+		for _, r := range members {
+			vm = append(vm, LogLandscape(r))
+		}
+	}
+	n0, n1 := g.N0(), g.N1()
+	var cs []crossing
+	for axis := 0; axis < 2; axis++ {
+		nl, nAlong := n1, n0
+		xs := g.X0
+		if axis == 1 {
+			nl, nAlong, xs = n0, n1, g.X1
+		}
+		for l := 0; l < nl; l++ {
+			pt := func(i int) int {
+				if axis == 0 {
+					return i*n1 + l
+				}
+				return l*n1 + i
+			}
+			for i := 0; i+1 < nAlong; i++ {
+				la, lb := seg.Labels[pt(i)], seg.Labels[pt(i+1)]
+				if la == lb {
+					continue
+				}
+				c := crossing{a: min(la, lb), b: max(la, lb), axis: axis}
+				at := func(w []float64) float64 { return ridgeAt(xs, w, pt, i) }
+				x := at(v)
+				var e2 float64
+				if len(vr) > 1 {
+					var xb []float64
+					for _, w := range vr {
+						xb = append(xb, at(w))
+					}
+					e := stdDev(xb)
+					e2 += e * e
+				}
+				if len(vm) > 1 {
+					var xm []float64
+					for _, w := range vm {
+						xm = append(xm, at(w))
+					}
+					e := stdDev(xm)
+					e2 += e * e
+				}
+				if axis == 0 {
+					c.p = [2]float64{x, g.X1[l]}
+					c.e = [2]float64{math.Sqrt(e2), 0}
+				} else {
+					c.p = [2]float64{g.X0[l], x}
+					c.e = [2]float64{0, math.Sqrt(e2)}
+				}
+				cs = append(cs, c)
+			}
+		}
+	}
+	return chain(g, cs), nil
+}
+
+// ridgeAt locates the ridge between positions i and i+1 of a line (pt maps
+// a position to its point) on the log landscape w.
+func ridgeAt(xs, w []float64, pt func(int) int, i int) float64 {
+	n := len(xs)
+	j := i
+	if w[pt(i+1)] > w[pt(i)] {
+		j = i + 1
+	}
+	if j == 0 || j == n-1 {
+		// At the grid's edge: the ridge is between the two points, nearer
+		// the higher one in proportion to its excess.
+		return (xs[i] + xs[i+1]) / 2
+	}
+	y0, y1, y2 := w[pt(j-1)], w[pt(j)], w[pt(j+1)]
+	if y1 < y0 || y1 < y2 {
+		return (xs[i] + xs[i+1]) / 2 // not a maximum along the line: the ridge runs obliquely
+	}
+	// Vertex of the parabola through the three points (Newton divided
+	// differences), clamped to the neighbouring points.
+	x0, x1, x2 := xs[j-1], xs[j], xs[j+1]
+	a := (y1 - y0) / (x1 - x0)
+	b := ((y2-y1)/(x2-x1) - a) / (x2 - x0)
+	if !(b < 0) {
+		return x1
+	}
+	x := (x0+x1)/2 - a/(2*b)
+	return math.Max(x0, math.Min(x2, x))
+}
+
+// chain joins the crossings of each pair of phases into polylines.
+func chain(g Grid, cs []crossing) []Boundary {
+	r0 := g.X0[g.N0()-1] - g.X0[0]
+	r1 := g.X1[g.N1()-1] - g.X1[0]
+	step := 3 * math.Max((g.X0[1]-g.X0[0])/r0, (g.X1[1]-g.X1[0])/r1)
+	dist := func(p, q [2]float64) float64 { return math.Hypot((p[0]-q[0])/r0, (p[1]-q[1])/r1) }
+	byPair := map[[2]int][]crossing{}
+	var keys [][2]int
+	for _, c := range cs {
+		k := [2]int{c.a, c.b}
+		if _, ok := byPair[k]; !ok {
+			keys = append(keys, k)
+		}
+		byPair[k] = append(byPair[k], c)
+	}
+	sort.Slice(keys, func(i, j int) bool {
+		if keys[i][0] != keys[j][0] {
+			return keys[i][0] < keys[j][0]
+		}
+		return keys[i][1] < keys[j][1]
+	})
+	var out []Boundary
+	for _, k := range keys {
+		pts := byPair[k]
+		used := make([]bool, len(pts))
+		left := len(pts)
+		for left > 0 {
+			// Start at the unused point farthest from the unused points'
+			// centroid: an end of a line-like set.
+			var cx, cy float64
+			for i, p := range pts {
+				if !used[i] {
+					cx += p.p[0] / float64(left)
+					cy += p.p[1] / float64(left)
+				}
+			}
+			cur, far := -1, -1.0
+			for i, p := range pts {
+				if d := dist(p.p, [2]float64{cx, cy}); !used[i] && d > far {
+					cur, far = i, d
+				}
+			}
+			b := Boundary{Between: k}
+			for cur >= 0 {
+				used[cur] = true
+				left--
+				b.Points = append(b.Points, pts[cur].p)
+				b.Err = append(b.Err, pts[cur].e)
+				b.Along = append(b.Along, pts[cur].axis)
+				next, nd := -1, math.Inf(1)
+				for i, p := range pts {
+					if d := dist(p.p, pts[cur].p); !used[i] && d < nd {
+						next, nd = i, d
+					}
+				}
+				if next < 0 || nd > step {
+					break
+				}
+				cur = next
+			}
+			out = append(out, b)
+		}
+	}
+	return out
+}
