@@ -17,6 +17,7 @@ func init() { simulateCommands = append(simulateCommands, newSimulateChainCmd) }
 
 type simulateChainOptions struct {
 	sites        int
+	siteList     string
 	hamiltonian  string
 	grid         string
 	basis        string
@@ -61,14 +62,21 @@ The exact log-probabilities (including the (1/3)^N of the bases) can be rebuilt
 from the file alone.`,
 		Example: `  tidemark simulate chain --sites 12 --hamiltonian "-ZZ - h*X" --grid "h=0.2:2:19" --basis random --samples 1000 --seed 1 -o chain.npz
   tidemark simulate chain --sites 8 --hamiltonian "-ZZ - h*X" --grid "h=0.5:1.5:11" --basis z --open -o open8.npz
-  tidemark simulate chain --sites 10 --hamiltonian "-XX - YY - D*XY + D*YX - h*Z" --grid "h=0:2:9,D=0;0.5" --basis random -o dm.npz`,
+  tidemark simulate chain --sites 10 --hamiltonian "-XX - YY - D*XY + D*YX - h*Z" --grid "h=0:2:9,D=0;0.5" --basis random -o dm.npz
+  tidemark simulate chain --sites 8,12,16 --hamiltonian "-ZZ - h*X" --grid "h=0.5:1.5:21" --basis z -o tfi.npz   # tfi-N8.npz, tfi-N12.npz, tfi-N16.npz`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
-			return runSimulateChain(cmd, &o)
+			return simulateSeries("--sites", o.siteList, o.out, "N", func(n int, out string) error {
+				o.sites, o.out = n, out
+				if _, _, err := o.chainSetup(); err != nil {
+					return err
+				}
+				return checkOutput(o.out, o.force)
+			}, func() error { return runSimulateChain(cmd, &o) })
 		},
 	}
 	f := c.Flags()
-	f.IntVar(&o.sites, "sites", 0, "number of spin-1/2 sites N (2 to 16)")
+	f.StringVar(&o.siteList, "sites", "", "number of spin-1/2 sites N (2 to 16); a list like 8,12,16 writes one dataset per length, named OUT-N8.npz, OUT-N12.npz, …")
 	f.StringVar(&o.hamiltonian, "hamiltonian", "", `Hamiltonian as a sum of Pauli words, e.g. "-ZZ - h*X" (energies in the units of its coefficients)`)
 	f.StringVar(&o.grid, "grid", "", `parameter grid over the Hamiltonian's parameters, e.g. "h=0.2:2:19"`)
 	f.StringVar(&o.basis, "basis", "z", "measurement basis: z, x, y (same on every site) or random (per site and shot)")
