@@ -133,6 +133,9 @@ func FitPeaks(pts []Point, opt FitOptions) (*Fit, error) {
 	if err != nil {
 		return nil, err
 	}
+	if f.NuFitted && (f.Nu < nuLo*1.001 || f.Nu > nuHi*0.999) {
+		return nil, fmt.Errorf("%w: the fitted ν ran to the edge of the range searched (%g … %g): the peaks do not determine it; give ν with --nu", ErrBadInput, nuLo, nuHi)
+	}
 	f.Weighted = weighted
 	f.Points = append([]Point(nil), pts...)
 	if !weighted {

@@ -120,7 +120,24 @@ func writeSynced(path string, b []byte) error {
 	return f.Close()
 }
 
+// exactTicks labels gonum's default ticks with enough digits to tell them
+// apart (the default labels round 2.25 to "2.2").
+type exactTicks struct{}
+
+// Ticks returns the default ticks of [lo, hi], labelled exactly.
+func (exactTicks) Ticks(lo, hi float64) []plot.Tick {
+	ts := plot.DefaultTicks{}.Ticks(lo, hi)
+	for i := range ts {
+		if ts[i].Label != "" {
+			ts[i].Label = strconv.FormatFloat(ts[i].Value, 'g', 6, 64)
+		}
+	}
+	return ts
+}
+
 func render(p *plot.Plot, name string, out map[string][]byte) error {
+	p.X.Tick.Marker = exactTicks{}
+	p.Y.Tick.Marker = exactTicks{}
 	for _, ext := range []string{"svg", "png"} {
 		w, err := p.WriterTo(16*vg.Centimeter, 11*vg.Centimeter, ext)
 		if err != nil {
@@ -142,8 +159,7 @@ func peaksPlot(res *Result) (*plot.Plot, error) {
 	p.Title.Text = "peak positions and their extrapolation to L = ∞"
 	p.X.Label.Text = "L^(−1/ν)"
 	p.Y.Label.Text = res.Param + " at the peak"
-	p.Legend.Top = true
-	p.Legend.Left = true
+	p.Legend.Top = false
 	for i, e := range res.Estimates {
 		col := palette[i%len(palette)]
 		f := e.fit
