@@ -320,7 +320,7 @@ func page(res *Result, pics map[string][]byte, collapses []string) ([]byte, erro
 		Peaks    fig
 		Collapse []fig
 	}{Style: template.CSS(report.Style), R: res}
-	d.Peaks = fig{report.InlineSVG(pics["peaks.svg"]), "Peak positions against L^(−1/ν) with error bars, the weighted fits (dashed) and the extrapolated values at L = ∞ (squares)."}
+	d.Peaks = fig{report.InlineSVG(pics["peaks.svg"]), "Peak positions against L^(−1/ν) (each indicator with its own ν) with error bars, the weighted fits (dashed) and the extrapolated values at L = ∞ (squares)."}
 	for _, c := range collapses {
 		d.Collapse = append(d.Collapse, fig{report.InlineSVG(pics[c+".svg"]), "Curves of all sizes against the scaling variable, each divided by its maximum: they fall on one curve near 0 when the sizes obey the fitted scaling."})
 	}
