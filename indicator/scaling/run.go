@@ -59,6 +59,7 @@ type Estimate struct {
 	Chi2Dof   float64   `json:"chi2_per_dof"`
 	CovErr    float64   `json:"err_covariance"`
 	BootErr   float64   `json:"err_bootstrap"`
+	Drift     float64   `json:"err_drift"`
 	Weighted  bool      `json:"weighted"`
 
 	fit *Fit
@@ -244,7 +245,7 @@ func Run(dirs []string, opt Options) (*Result, error) {
 		e := Estimate{
 			Indicator: name, Param: res.Param, Value: f.Value, Err: f.Err, Nu: f.Nu, NuErr: f.NuErr, NuFitted: f.NuFitted,
 			Omega: f.Omega, A: f.A, B: f.B, Chi2: f.Chi2, Dof: f.Dof, Chi2Dof: f.Chi2 / float64(f.Dof),
-			CovErr: f.CovErr, BootErr: f.BootErr, Weighted: f.Weighted, fit: f,
+			CovErr: f.CovErr, BootErr: f.BootErr, Drift: f.Drift, Weighted: f.Weighted, fit: f,
 		}
 		for _, p := range pts {
 			e.Sizes = append(e.Sizes, p.Size)
