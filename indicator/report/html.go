@@ -398,14 +398,9 @@ var pageTemplate = template.Must(template.New("report").Funcs(template.FuncMap{
 	"inc": func(i int) int { return i + 1 },
 }).Parse(pageHTML))
 
-const pageHTML = `<!DOCTYPE html>
-<html lang="en">
-<head>
-<meta charset="utf-8">
-<meta name="viewport" content="width=device-width, initial-scale=1">
-<title>{{.Title}}</title>
-<style>
-body { margin: 0; background: #f4f2ee; color: #1d1d1d; font: 16px/1.5 Georgia, "DejaVu Serif", serif; }
+// Style is the CSS of report.html, for other pages of tidemark's output to
+// look the same.
+const Style = `body { margin: 0; background: #f4f2ee; color: #1d1d1d; font: 16px/1.5 Georgia, "DejaVu Serif", serif; }
 main { max-width: 60rem; margin: 0 auto; padding: 1.5rem 2rem 3rem; background: #fff; border-left: 1px solid #ddd8cf; border-right: 1px solid #ddd8cf; }
 h1 { font-size: 1.9rem; margin: 0.4rem 0 0.8rem; color: #123a73; border-bottom: 3px solid #123a73; padding-bottom: 0.3rem; }
 h2 { font-size: 1.3rem; margin: 2rem 0 0.6rem; color: #123a73; border-bottom: 1px solid #cfd8e6; }
@@ -425,7 +420,20 @@ figcaption { font: 13px/1.4 "DejaVu Sans", Verdana, sans-serif; color: #444; mar
 ul.notes li { margin-bottom: 0.3rem; }
 code { font-family: "DejaVu Sans Mono", monospace; font-size: 0.92em; background: #f1f1f1; padding: 0 0.2em; }
 footer { margin-top: 2rem; font: 13px/1.4 "DejaVu Sans", Verdana, sans-serif; color: #666; }
-</style>
+`
+
+// InlineSVG returns an SVG document as an element to place in a page styled
+// with Style.
+func InlineSVG(b []byte) template.HTML { return inlineSVG(b) }
+
+const pageHTML = `<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<title>{{.Title}}</title>
+<style>
+` + Style + `</style>
 </head>
 <body>
 <main>

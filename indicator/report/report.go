@@ -115,17 +115,20 @@ func Write(dir string, force bool, res *indicator.Result, info Info) (*Summary, 
 	}
 	names = append(names, "summary.json", "report.html")
 	sort.Strings(names)
+	pg := info.Page
+	if pg == nil {
+		pg = &Page{}
+	}
 	sum := NewSummary(res, info)
 	sum.Files = names
+	if pg.Dataset != nil {
+		sum.Lattice = pg.Dataset.Lattice
+	}
 	js, err := json.MarshalIndent(sum, "", "  ")
 	if err != nil {
 		return nil, fmt.Errorf("summary.json: %w", err)
 	}
 	files["summary.json"] = append(js, '\n')
-	pg := info.Page
-	if pg == nil {
-		pg = &Page{}
-	}
 	if files["report.html"], err = HTML(res, sum, pics, pg); err != nil {
 		return nil, err
 	}

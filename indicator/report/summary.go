@@ -9,10 +9,13 @@ import (
 // Summary is the content of summary.json (schema: design/indicators.md;
 // the keys beyond it are additions).
 type Summary struct {
-	Source     string                      `json:"source"`
-	Data       string                      `json:"data,omitempty"`
-	Models     []string                    `json:"models,omitempty"`
-	Params     []string                    `json:"params"`
+	Source string   `json:"source"`
+	Data   string   `json:"data,omitempty"`
+	Models []string `json:"models,omitempty"`
+	Params []string `json:"params"`
+	// Lattice is the scanned dataset's lattice shape (row-major, from its
+	// meta); absent when the dataset could not be read.
+	Lattice    []int                       `json:"lattice,omitempty"`
 	Grid       GridInfo                    `json:"grid"`
 	Bootstrap  int                         `json:"bootstrap"`
 	ExactSums  bool                        `json:"exact_sums"`
