@@ -10,6 +10,7 @@ import (
 	"tidemark/data"
 	"tidemark/indicator"
 	"tidemark/indicator/report"
+	"tidemark/indicator/report/inputs"
 	"tidemark/indicator/study"
 )
 
@@ -180,7 +181,7 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if note := study.ExactNote(kind, ds, o.data); note != "" {
 		res.Notes = append(res.Notes, note)
 	}
-	sum, err := report.Write(o.out, o.force, res, report.Info{Source: kind, Data: o.data, Models: o.models, Refine: o.refine, Seed: o.seed})
+	sum, err := report.Write(o.out, o.force, res, report.Info{Source: kind, Data: o.data, Models: o.models, Refine: o.refine, Seed: o.seed, Page: inputs.Page(o.data, o.models)})
 	if err != nil {
 		return fmt.Errorf("scan: %w", err)
 	}
