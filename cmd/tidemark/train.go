@@ -21,6 +21,8 @@ func init() { commands = append(commands, newTrainCmd) }
 
 type trainOptions struct {
 	hidden, condHidden string
+	arch               string
+	window             int
 	fourier            int
 	activation         string
 	condActivation     string
@@ -90,6 +92,8 @@ thread counts change results only by floating-point summation order.`,
 	}
 	f := c.Flags()
 	f.StringVar(&o.hidden, "hidden", "", "masked hidden layer widths in units, comma-separated (default: two layers of the smallest multiple of 32 ≥ sites, 32 to 256)")
+	f.StringVar(&o.arch, "arch", train.ArchDense, "network: dense (masked MADE over all sites; any data) or conv (masked convolution with weights shared across a periodic 2-D lattice; its --hidden are channels, default 16,16)")
+	f.IntVar(&o.window, "window", 0, "conv network: rows above and columns either side each masked layer reads (0: 3)")
 	f.StringVar(&o.condHidden, "cond-hidden", "64", `hidden widths of the conditioning net in units, comma-separated, or "none"`)
 	f.IntVar(&o.fourier, "fourier", d.Arch.Fourier, "Fourier frequencies of the normalised parameters fed to the conditioning net")
 	f.StringVar(&o.activation, "activation", d.Arch.Activation, "activation of the masked hidden layers: softplus (smooth in the parameters), relu or tanh")
@@ -159,6 +163,7 @@ func (o *trainOptions) settings() (train.Settings, error) {
 		return st, fmt.Errorf("--fourier: expected a count ≥ 0, found %d", o.fourier)
 	}
 	st.Arch.Fourier = o.fourier
+	st.Arch.Kind, st.Arch.Window = o.arch, o.window
 	st.Arch.Activation = o.activation
 	st.Arch.CondActivation = o.condActivation
 	st.Arch.Direct = o.direct
@@ -207,7 +212,7 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 		if fl.Changed("threads") {
 			res.Threads = threadsOrDefault(o.threads)
 		}
-		for _, name := range []string{"hidden", "cond-hidden", "fourier", "activation", "cond-activation", "direct", "order", "symmetric", "film", "precision", "augment", "batch", "lr", "min-lr", "seed", "val-frac", "schedule", "weight-decay", "clip", "holdout"} {
+		for _, name := range []string{"arch", "window", "hidden", "cond-hidden", "fourier", "activation", "cond-activation", "direct", "order", "symmetric", "film", "precision", "augment", "batch", "lr", "min-lr", "seed", "val-frac", "schedule", "weight-decay", "clip", "holdout"} {
 			if fl.Changed(name) {
 				return fmt.Errorf("--%s: cannot be changed when resuming; the run keeps the settings saved in %s (only --epochs, --patience and --threads may change)", name, o.resume)
 			}
