@@ -43,6 +43,7 @@ func (m *Model) convBackward(w *convWork, conds []*convCond, r int, dz []float64
 		dgamma[i] = make([][]float64, L+1)
 	}
 	dh := w.dh
+	softp := c.Activation == "softplus"
 	for k := L; k >= 0; k-- {
 		wt := m.Weights[l.madeW[k]]
 		rows, out := wt.Shape[0], wt.Shape[1]
@@ -55,11 +56,13 @@ func (m *Model) convBackward(w *convWork, conds []*convCond, r int, dz []float64
 			for j := 0; j < N*out; j += out {
 				for o := range out {
 					var dA float64
-					if k == L {
+					switch {
+					case k == L:
 						dA = dz[off+j+o]
-					} else {
-						a := g[o] * pre[off+j+o]
-						dA = dh[off+j+o] * actDeriv(c.Activation, w.h[k][off+j+o], a)
+					case softp:
+						dA = dh[off+j+o] / (1 + math.Exp(-g[o]*pre[off+j+o]))
+					default:
+						dA = dh[off+j+o] * actDeriv(c.Activation, w.h[k][off+j+o], g[o]*pre[off+j+o])
 					}
 					dg[o] += dA * pre[off+j+o]
 					d := dA * g[o]
