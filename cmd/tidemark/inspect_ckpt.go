@@ -42,17 +42,20 @@ type checkpointReport struct {
 }
 
 type archReport struct {
-	Hidden     []int     `json:"hidden"`
-	CondHidden []int     `json:"cond_hidden"`
-	Fourier    int       `json:"fourier"`
-	Activation string    `json:"activation"`
-	CondAct    string    `json:"cond_activation"`
-	Direct     bool      `json:"direct"`
-	Order      string    `json:"order"`
-	Symmetric  bool      `json:"symmetric"`
-	FiLM       bool      `json:"film"`
-	ParamLo    []float64 `json:"param_lo"`
-	ParamHi    []float64 `json:"param_hi"`
+	Hidden     []int  `json:"hidden"`
+	CondHidden []int  `json:"cond_hidden"`
+	Fourier    int    `json:"fourier"`
+	Activation string `json:"activation"`
+	CondAct    string `json:"cond_activation"`
+	Direct     bool   `json:"direct"`
+	Order      string `json:"order"`
+	Symmetric  bool   `json:"symmetric"`
+	// Conv is the convolutional network's lattice and window; absent for
+	// the dense MADE.
+	Conv    *model.ConvConfig `json:"conv,omitempty"`
+	FiLM    bool              `json:"film"`
+	ParamLo []float64         `json:"param_lo"`
+	ParamHi []float64         `json:"param_hi"`
 }
 
 // inspectCheckpoint describes a file that starts with the checkpoint magic
@@ -81,7 +84,7 @@ func inspectCheckpoint(path string, asJSON bool, w io.Writer) (bool, error) {
 	r := checkpointReport{
 		Kind: "checkpoint", File: path, FileBytes: st.Size(), Software: h.Software, Created: h.Created,
 		Architecture: archReport{Hidden: c.Hidden, CondHidden: c.CondHidden, Fourier: c.Fourier, Activation: c.Activation, CondAct: condActivation(c),
-			Direct: c.Direct, Order: h.Training.OrderName, Symmetric: c.Symmetric, FiLM: c.FiLM, ParamLo: c.ParamLo, ParamHi: c.ParamHi},
+			Direct: c.Direct, Order: h.Training.OrderName, Symmetric: c.Symmetric, FiLM: c.FiLM, Conv: c.Conv, ParamLo: c.ParamLo, ParamHi: c.ParamHi},
 		Parameters: ck.NumParams(), Sites: c.Sites, Alphabet: c.Alphabet, Lattice: h.Lattice, ParamNames: h.ParamNames,
 		Dataset: h.Dataset, HeldOut: h.HeldOut, HoldoutSpec: h.HoldoutSpec,
 		BestEpoch: h.BestEpoch, BestValBitsPerSite: h.BestValBitsPerSite, HeldOutBitsPerSite: h.HeldOutBitsPerSite,
@@ -112,8 +115,12 @@ func inspectCheckpoint(path string, asJSON bool, w io.Writer) (bool, error) {
 	if a.Fourier == 1 {
 		freq = "frequency"
 	}
-	fmt.Fprintf(tw, "architecture\tMADE, hidden %s, %s; conditioning net %s, %s, with %d Fourier %s, %s the layers; direct %v; order %s; symmetric %v\n",
-		intsString(a.Hidden, ","), a.Activation, cond, a.CondAct, a.Fourier, freq, mod, a.Direct, a.Order, a.Symmetric)
+	kind := "MADE, hidden"
+	if a.Conv != nil {
+		kind = fmt.Sprintf("masked convolution on %d×%d (periodic), window %d, channels", a.Conv.Height, a.Conv.Width, a.Conv.Window)
+	}
+	fmt.Fprintf(tw, "architecture\t%s %s, %s; conditioning net %s, %s, with %d Fourier %s, %s the layers; direct %v; order %s; symmetric %v\n",
+		kind, intsString(a.Hidden, ","), a.Activation, cond, a.CondAct, a.Fourier, freq, mod, a.Direct, a.Order, a.Symmetric)
 	fmt.Fprintf(tw, "parameters\t%d trainable values\n", r.Parameters)
 	fmt.Fprintf(tw, "sites\t%d (lattice %s), alphabet %d\n", r.Sites, intsString(r.Lattice, "×"), r.Alphabet)
 	for i, name := range r.ParamNames {

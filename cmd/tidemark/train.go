@@ -103,7 +103,7 @@ thread counts change results only by floating-point summation order.`,
 	f.BoolVar(&o.film, "film", d.Arch.FiLM, "let the conditioning net scale every masked layer's pre-activation as well as shift it (FiLM; --film=false for shifts only)")
 	f.BoolVar(&o.symmetric, "symmetric", false, "make the model invariant under flipping every spin (alphabet 2 only)")
 	f.StringVar(&o.precision, "precision", "float64", "arithmetic of the masked matrix products: float64, or float32 (faster, above all in the OpenBLAS build; sums stay float64)")
-	f.StringVar(&o.augment, "augment", "none", `symmetries of the system to augment the training snapshots with, comma-separated: translate (periodic boundaries), mirror, rotate (square lattices), flip (alphabet 2); name only symmetries every grid point has`)
+	f.StringVar(&o.augment, "augment", "none", `symmetries of the system to augment the training snapshots with, comma-separated: translate (periodic boundaries), mirror, rotate (square lattices), flip (alphabet 2); name only symmetries every grid point has (default: those the source record of a simulated dataset states, none for imported data)`)
 	f.IntVar(&o.epochs, "epochs", d.Epochs, "maximum number of passes over the training samples")
 	f.IntVar(&o.batch, "batch", d.Batch, "minibatch size in snapshots")
 	f.Float64Var(&o.lr, "lr", d.LR, "initial learning rate (per Adam step)")
@@ -115,7 +115,7 @@ thread counts change results only by floating-point summation order.`,
 	f.Float64Var(&o.average, "average", d.Average, "time constant in epochs of the moving average of the weights that is validated and kept (Polyak averaging; 0 for the optimiser's own weights)")
 	f.Float64Var(&o.weightDecay, "weight-decay", 0, "decoupled weight decay per unit learning rate (AdamW), on weight matrices; 0 for none")
 	f.Float64Var(&o.clip, "clip", d.Clip, "largest global L2 norm of the gradient of the NLL per site (nats); 0 for no clipping")
-	f.IntVar(&o.threads, "threads", 1, "minibatch shards computed in parallel (0: number of CPUs; 2 threads ran 1.4× faster on 2 cores); results are bit-reproducible for a fixed value")
+	f.IntVar(&o.threads, "threads", 0, "minibatch shards computed in parallel (0: number of CPUs; 2 threads ran 1.4× faster on 2 cores); results are bit-reproducible for a fixed value, not across values")
 	f.StringVar(&o.holdout, "holdout", "", `grid points kept out of training and validation: "T=2.2;2.3" (values) or "T=2.1:2.4" (a range); axes joined by ","`)
 	f.StringVar(&o.resume, "resume", "", "continue the run saved in this checkpoint (same dataset; its settings are kept, --epochs, --patience and --threads may change)")
 	f.IntVar(&o.stopAfter, "stop-after", 0, "stop after this many epochs of this invocation, keeping the run resumable (0: no limit)")
@@ -242,11 +242,22 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 	if err != nil {
 		return err
 	}
+	// Without --augment, the symmetries a simulated dataset's source record
+	// states are applied (see isingSymmetries); imported data get none.
+	var autoAug []string
+	if resumed == nil && !cmd.Flags().Changed("augment") {
+		if syms, ok := isingSymmetries(ds.Meta.Source); ok {
+			opt.Settings.Augment, autoAug = syms, syms
+		}
+	}
 	stdout, stderr := cmd.OutOrStdout(), cmd.ErrOrStderr()
 	var bar *progress.Bar
 	opt.Start = func(perEpoch, epochs int) {
 		// Notes only once the settings and data have passed every check, so
 		// a bad input gets its one-line error alone.
+		if len(autoAug) > 0 {
+			fmt.Fprintf(stderr, "tidemark: train: note: augmenting with %s, the symmetries this dataset's source record states (--augment none to switch off)\n", strings.Join(autoAug, ","))
+		}
 		if resumed == nil {
 			for _, n := range augmentNotes(ds.Meta.Source, opt.Settings.Augment) {
 				fmt.Fprintf(stderr, "tidemark: train: note: %s\n", n)
