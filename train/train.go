@@ -903,7 +903,7 @@ const (
 
 // DefaultConvWindow is the conv network's default window: the first layer
 // reads the sites up to this many rows above and columns either side.
-const DefaultConvWindow = 3
+const DefaultConvWindow = 2
 
 // DefaultConvChannels are the conv network's default hidden channels.
 var DefaultConvChannels = []int{16, 16}

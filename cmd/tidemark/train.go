@@ -93,7 +93,7 @@ thread counts change results only by floating-point summation order.`,
 	f := c.Flags()
 	f.StringVar(&o.hidden, "hidden", "", "masked hidden layer widths in units, comma-separated (default: two layers of the smallest multiple of 32 ≥ sites, 32 to 256)")
 	f.StringVar(&o.arch, "arch", train.ArchDense, "network: dense (masked MADE over all sites; any data) or conv (masked convolution with weights shared across a periodic 2-D lattice; its --hidden are channels, default 16,16)")
-	f.IntVar(&o.window, "window", 0, "conv network: rows above and columns either side each masked layer reads (0: 3)")
+	f.IntVar(&o.window, "window", 0, "conv network: rows above and columns either side each masked layer reads (0: 2, the measured setting)")
 	f.StringVar(&o.condHidden, "cond-hidden", "64", `hidden widths of the conditioning net in units, comma-separated, or "none"`)
 	f.IntVar(&o.fourier, "fourier", d.Arch.Fourier, "Fourier frequencies of the normalised parameters fed to the conditioning net")
 	f.StringVar(&o.activation, "activation", d.Arch.Activation, "activation of the masked hidden layers: softplus (smooth in the parameters), relu or tanh")
