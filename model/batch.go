@@ -22,6 +22,8 @@ type BatchGraph struct {
 	// deferred[w], when set, are the float32 products of weight w in each
 	// graph, whose float32 gradients LossGrad combines itself.
 	deferred [][]*maskedLinear
+	// conv replaces the graphs for a convolutional model.
+	conv *convBatch
 }
 
 // combineRows is the number of consecutive weight rows one thread
@@ -46,6 +48,9 @@ func NewBatchGraph(m *Model, batch, threads int) (*BatchGraph, error) {
 	}
 	if threads < 1 {
 		return nil, fmt.Errorf("model: NewBatchGraph needs at least 1 thread, found %d", threads)
+	}
+	if m.conv != nil {
+		return &BatchGraph{m: m, batch: batch, conv: newConvBatch(m, batch, threads)}, nil
 	}
 	T := min(threads, batch)
 	per := (batch + T - 1) / T
@@ -137,7 +142,12 @@ func (bg *BatchGraph) Batch() int { return bg.batch }
 
 // Threads returns the number of graphs (and goroutines) a batch is split
 // over.
-func (bg *BatchGraph) Threads() int { return len(bg.graphs) }
+func (bg *BatchGraph) Threads() int {
+	if bg.conv != nil {
+		return len(bg.conv.works)
+	}
+	return len(bg.graphs)
+}
 
 // LossGrad computes the mean negative log-likelihood (nats per snapshot) of
 // the n ≤ Batch() snapshots xs (n·N values) at their parameters params (n·d
@@ -153,6 +163,9 @@ func (bg *BatchGraph) LossGrad(xs []uint8, params []float64, n int, scale float6
 	}
 	if len(xs) != n*N || len(params) != n*d {
 		return 0, fmt.Errorf("model: batch of %d needs %d site and %d parameter values, found %d and %d", n, n*N, n*d, len(xs), len(params))
+	}
+	if bg.conv != nil {
+		return bg.convLossGrad(xs, params, n, scale, grads)
 	}
 	T := len(bg.graphs)
 	if T == 1 {

@@ -46,6 +46,10 @@ type Config struct {
 	// inverse temperature of the conditionals. S starts at zero, so a new
 	// model starts as the additive one. See DefaultConfig for why.
 	FiLM bool `json:"film,omitempty"`
+	// Conv, when set, makes the model a masked convolutional network on
+	// a periodic lattice instead of a dense MADE (see ConvConfig); nil,
+	// the value of every older checkpoint, is the dense MADE.
+	Conv *ConvConfig `json:"conv,omitempty"`
 }
 
 // The accepted Config.Precision values.
@@ -190,6 +194,11 @@ func (c Config) Validate() error {
 	}
 	if c.Precision != "" && c.Precision != PrecisionFloat64 && c.Precision != PrecisionFloat32 {
 		return fmt.Errorf("model config: precision must be %q or %q, found %q", PrecisionFloat64, PrecisionFloat32, c.Precision)
+	}
+	if c.Conv != nil {
+		if err := c.Conv.validate(c.Sites, c.Order); err != nil {
+			return err
+		}
 	}
 	if c.Symmetric && c.Alphabet != 2 {
 		return fmt.Errorf("model config: symmetric needs alphabet 2, found %d", c.Alphabet)

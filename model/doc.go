@@ -14,6 +14,21 @@
 // over the site ordering o (Config.Order) makes every probability exactly
 // normalised, and ancestral sampling exact.
 //
+// Convolutional models. With Config.Conv set the model is instead a masked
+// convolutional network on a periodic 2-D lattice (ConvConfig; van den
+// Oord et al., ICML 2016; Wu, Wang and Zhang, Phys. Rev. Lett. 122, 080602
+// (2019)): the same autoregressive factorisation in row-major order and
+// the same per-channel FiLM conditioning, but each layer's weights are
+// shared across lattice translations and read only a window of earlier
+// sites, so the weight count does not grow with the lattice. Its
+// operations are hand-written (conv.go, conv_ops.go): a layer gathers the
+// window of every site into a matrix (im2col) and multiplies it by the
+// weights with one GEMM; the backward pass multiplies by the transposes
+// and scatters the gathered gradient back. It has no gorgonia graph
+// (NewGraph refuses it); NewBatchGraph, LogProb, LogProbMatrix and Sample
+// serve both kinds. Sampling computes every layer at one site at a time,
+// so a draw costs one forward pass.
+//
 // Config and the []Tensor weights are plain Go values, so checkpoints can
 // store and restore a model without knowing gorgonia.
 //

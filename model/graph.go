@@ -55,6 +55,9 @@ func NewGraph(m *Model, batch int) (gr *Graph, err error) {
 	if batch < 1 {
 		return nil, fmt.Errorf("model: NewGraph needs a batch size ≥ 1, found %d", batch)
 	}
+	if m.conv != nil {
+		return nil, fmt.Errorf("model: NewGraph builds dense models only; a convolutional model trains through NewBatchGraph")
+	}
 	c := m.Cfg
 	l := m.lay
 	B := batch

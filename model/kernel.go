@@ -640,6 +640,10 @@ func (m *Model) LogProb(dst []float64, xs []uint8, lambda []float64) (err error)
 	if n == 0 {
 		return nil
 	}
+	if m.conv != nil {
+		m.convLogProb(dst, xs, lambda)
+		return nil
+	}
 	p := m.prepareScore()
 	defer m.pool.Put(p)
 	cb := [][][]float64{m.condBias(lambda)}
@@ -678,6 +682,12 @@ func (m *Model) LogProbMatrix(xs []uint8, n int, lambdas [][]float64, threads in
 	K := len(lambdas)
 	out = make([]float64, n*K)
 	if n == 0 || K == 0 {
+		return out, nil
+	}
+	if m.conv != nil {
+		if err := m.convLogProbMatrix(out, xs, n, lambdas, threads); err != nil {
+			return nil, err
+		}
 		return out, nil
 	}
 	if threads <= 0 {
@@ -762,6 +772,10 @@ func (m *Model) Sample(dst []uint8, n int, lambda []float64, rng *rand.Rand) (er
 		return err
 	}
 	if n == 0 {
+		return nil
+	}
+	if m.conv != nil {
+		m.convSample(dst, n, lambda, rng)
 		return nil
 	}
 	p := m.prepare()

@@ -40,6 +40,7 @@ type Model struct {
 	tiles  []tiling  // block structure of each mask, in the order of masks
 	pool   sync.Pool // *prep
 	wsPool sync.Pool // *workspace of blockRows rows
+	conv   *convNet  // non-nil for a convolutional model (Config.Conv)
 }
 
 // layout records where each parameter lives in Weights.
@@ -56,6 +57,9 @@ type layout struct {
 }
 
 func newLayout(c Config) layout {
+	if c.Conv != nil {
+		return newConvLayout(c)
+	}
 	var l layout
 	l.din, l.per = c.inDim(), c.outPer()
 	l.dout = c.Sites * l.per
@@ -111,6 +115,11 @@ func (m *Model) build() {
 	m.deg = make([]int, n)
 	for i, s := range c.Order {
 		m.deg[s] = i
+	}
+	if c.Conv != nil {
+		m.conv = newConvNet(c)
+		m.masks, m.hdeg, m.tiles = nil, nil, nil
+		return
 	}
 	qin := c.inDim() / n
 	inDeg := make([]int, m.lay.din)
@@ -175,6 +184,9 @@ func (m *Model) build() {
 
 // maskOf returns the mask of weight index w, or nil for an unmasked weight.
 func (m *Model) maskOf(w int) []float64 {
+	if m.conv != nil {
+		return nil
+	}
 	for i, idx := range m.lay.madeW {
 		if idx == w {
 			return m.masks[i].Data
@@ -312,6 +324,10 @@ func cloneConfig(c Config) Config {
 	c.Order = append([]int(nil), c.Order...)
 	c.ParamLo = append([]float64(nil), c.ParamLo...)
 	c.ParamHi = append([]float64(nil), c.ParamHi...)
+	if c.Conv != nil {
+		cc := *c.Conv
+		c.Conv = &cc
+	}
 	return c
 }
 

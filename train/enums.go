@@ -26,6 +26,30 @@ func (o Order) MarshalText() ([]byte, error) { return []byte(o), nil }
 // UnmarshalText reads an order's name.
 func (o *Order) UnmarshalText(b []byte) error { return textenum.Parse(o, b, Orders, "order") }
 
+// ArchKind is the network a new run builds.
+type ArchKind string
+
+// The networks.
+const (
+	// ArchDense is the masked MADE over all sites (any data).
+	ArchDense ArchKind = "dense"
+	// ArchConv is the masked convolution on the dataset's periodic 2-D
+	// lattice (model.ConvConfig).
+	ArchConv ArchKind = "conv"
+)
+
+// ArchKinds lists the networks.
+var ArchKinds = []ArchKind{ArchDense, ArchConv}
+
+// String returns the network's name.
+func (k ArchKind) String() string { return string(k) }
+
+// MarshalText returns the network's name.
+func (k ArchKind) MarshalText() ([]byte, error) { return []byte(k), nil }
+
+// UnmarshalText reads a network's name.
+func (k *ArchKind) UnmarshalText(b []byte) error { return textenum.Parse(k, b, ArchKinds, "arch") }
+
 // Schedule is the learning-rate schedule of a run.
 type Schedule string
 

@@ -11,8 +11,13 @@ import (
 // its training record and the architecture of its model.
 func SavedSettings(ck *checkpoints.Checkpoint) Settings {
 	t, m := ck.Header.Training, ck.Header.Model
+	kind, window := ArchDense, 0
+	if m.Conv != nil {
+		kind, window = ArchConv, m.Conv.Window
+	}
 	return Settings{
 		Arch: Arch{
+			Kind: kind, Window: window,
 			Hidden: slices.Clone(m.Hidden), CondHidden: slices.Clone(m.CondHidden), Fourier: m.Fourier,
 			Activation: m.Activation, CondActivation: m.CondActivation, Direct: m.Direct, Order: Order(t.OrderName),
 			Symmetric: m.Symmetric, FiLM: m.FiLM, Precision: m.Precision,
@@ -28,6 +33,21 @@ func SavedSettings(ck *checkpoints.Checkpoint) Settings {
 // normal form: "" precision is float64, "" conditioning activation is the
 // hidden layers' and no augmentation is an empty list.
 var setting = map[string]func(s Settings) any{
+	"arch": func(s Settings) any {
+		if s.Arch.Kind == "" {
+			return ArchDense
+		}
+		return s.Arch.Kind
+	},
+	"window": func(s Settings) any {
+		switch {
+		case s.Arch.Kind != ArchConv:
+			return 0
+		case s.Arch.Window == 0:
+			return DefaultConvWindow
+		}
+		return s.Arch.Window
+	},
 	"hidden":      func(s Settings) any { return s.Arch.Hidden },
 	"cond-hidden": func(s Settings) any { return s.Arch.CondHidden },
 	"fourier":     func(s Settings) any { return s.Arch.Fourier },
@@ -62,7 +82,7 @@ var setting = map[string]func(s Settings) any{
 
 // FixedOnResume lists the settings, named as train's flags, that a resumed
 // run keeps from its checkpoint.
-var FixedOnResume = []string{"hidden", "cond-hidden", "fourier", "activation", "cond-activation", "direct", "order", "symmetric", "film", "precision", "augment", "batch", "lr", "min-lr", "seed", "val-frac", "schedule", "weight-decay", "clip", "average"}
+var FixedOnResume = []string{"arch", "window", "hidden", "cond-hidden", "fourier", "activation", "cond-activation", "direct", "order", "symmetric", "film", "precision", "augment", "batch", "lr", "min-lr", "seed", "val-frac", "schedule", "weight-decay", "clip", "average"}
 
 // Differences returns those of the named settings (spelled as train's
 // flags, from FixedOnResume) whose values differ between a and b.

@@ -17,6 +17,14 @@ import (
 
 // Arch is the architecture a new run builds.
 type Arch struct {
+	// Kind is the network: "" or "dense" for the dense MADE, "conv" for
+	// the masked convolutional network on the dataset's 2-D lattice
+	// (model.ConvConfig), whose Hidden are channels (default
+	// DefaultConvChannels).
+	Kind ArchKind
+	// Window is the conv network's window (model.ConvConfig.Window);
+	// 0 means DefaultConvWindow.
+	Window int
 	// Hidden lists the masked hidden widths; nil means two layers of
 	// model.DefaultHiddenWidth(N).
 	Hidden []int
@@ -150,6 +158,12 @@ func (s Settings) Validate() error {
 		return fmt.Errorf("adam: expected 0 ≤ β1, β2 < 1 and ε > 0, found %v, %v, %v", s.Beta1, s.Beta2, s.Eps)
 	case s.Threads < 1:
 		return fmt.Errorf("threads: expected at least 1, found %d", s.Threads)
+	case s.Arch.Kind != "" && !slices.Contains(ArchKinds, s.Arch.Kind):
+		return fmt.Errorf("arch: expected one of %v, found %q", ArchKinds, s.Arch.Kind)
+	case s.Arch.Window < 0 || s.Arch.Window > model.MaxConvWindow:
+		return fmt.Errorf("window: expected 0 (default) to %d sites, found %d", model.MaxConvWindow, s.Arch.Window)
+	case s.Arch.Kind == ArchConv && s.Arch.Order == OrderSnake:
+		return fmt.Errorf("order: the conv network needs rowmajor, found snake")
 	case !slices.Contains(Orders, s.Arch.Order):
 		return fmt.Errorf("order: expected rowmajor or snake, found %q", s.Arch.Order)
 	}
@@ -322,6 +336,20 @@ func (r *run) start(fp string) error {
 	cfg.Symmetric = a.Symmetric
 	cfg.FiLM = a.FiLM
 	cfg.Precision = a.Precision
+	if a.Kind == ArchConv {
+		lat := ds.Meta.Lattice
+		if len(lat) != 2 || lat[0]*lat[1] != ds.N {
+			return fmt.Errorf("arch conv: expected a 2-D lattice of %d sites in the dataset, found lattice %v", ds.N, lat)
+		}
+		w := a.Window
+		if w == 0 {
+			w = DefaultConvWindow
+		}
+		cfg.Conv = &model.ConvConfig{Height: lat[0], Width: lat[1], Window: w}
+		if a.Hidden == nil {
+			cfg.Hidden = slices.Clone(DefaultConvChannels)
+		}
+	}
 	if a.Order == OrderSnake {
 		lat := ds.Meta.Lattice
 		if len(lat) != 2 {
@@ -853,3 +881,10 @@ func (r *run) checkpoint() (*checkpoints.Checkpoint, error) {
 	}
 	return &checkpoints.Checkpoint{Header: h, Best: ck.Best, Last: ck.Last, AdamM: ck.AdamM, AdamV: ck.AdamV, Average: ck.Average}, nil
 }
+
+// DefaultConvWindow is the conv network's default window: the first layer
+// reads the sites up to this many rows above and columns either side.
+const DefaultConvWindow = 2
+
+// DefaultConvChannels are the conv network's default hidden channels.
+var DefaultConvChannels = []int{16, 16}

@@ -14,6 +14,8 @@ func init() { commands = append(commands, newTrainCmd) }
 
 type trainOptions struct {
 	hidden, condHidden string
+	arch               string
+	window             int
 	fourier            int
 	activation         string
 	condActivation     string
@@ -84,6 +86,8 @@ thread counts change results only by floating-point summation order.`,
 	}
 	f := c.Flags()
 	f.StringVar(&o.hidden, "hidden", "", "masked hidden layer widths in units, comma-separated (default: two layers of the smallest multiple of 32 ≥ sites, 32 to 256)")
+	f.StringVar(&o.arch, "arch", string(train.ArchDense), "network: dense (masked MADE over all sites; any data) or conv (masked convolution with weights shared across a periodic 2-D lattice; its --hidden are channels, default 16,16)")
+	f.IntVar(&o.window, "window", 0, "conv network: rows above and columns either side each masked layer reads (0: 2, the measured setting)")
 	f.StringVar(&o.condHidden, "cond-hidden", "64", `hidden widths of the conditioning net in units, comma-separated, or "none"`)
 	f.IntVar(&o.fourier, "fourier", d.Arch.Fourier, "Fourier frequencies of the normalised parameters fed to the conditioning net")
 	f.StringVar(&o.activation, "activation", string(d.Arch.Activation), "activation of the masked hidden layers: softplus (smooth in the parameters), relu or tanh")
@@ -93,7 +97,7 @@ thread counts change results only by floating-point summation order.`,
 	f.BoolVar(&o.film, "film", d.Arch.FiLM, "let the conditioning net scale every masked layer's pre-activation as well as shift it (FiLM; --film=false for shifts only)")
 	f.BoolVar(&o.symmetric, "symmetric", false, "make the model invariant under flipping every spin (alphabet 2 only)")
 	f.StringVar(&o.precision, "precision", "float64", "arithmetic of the masked matrix products: float64, or float32 (faster, above all in the OpenBLAS build; sums stay float64)")
-	f.StringVar(&o.augment, "augment", "none", `symmetries of the system to augment the training snapshots with, comma-separated: translate (periodic boundaries), mirror, rotate (square lattices), flip (alphabet 2); name only symmetries every grid point has`)
+	f.StringVar(&o.augment, "augment", "none", `symmetries of the system to augment the training snapshots with, comma-separated: translate (periodic boundaries), mirror, rotate (square lattices), flip (alphabet 2); name only symmetries every grid point has (default: those the source record of a simulated dataset states, none for imported data)`)
 	f.IntVar(&o.epochs, "epochs", d.Epochs, "maximum number of passes over the training samples")
 	f.IntVar(&o.batch, "batch", d.Batch, "minibatch size in snapshots")
 	f.Float64Var(&o.lr, "lr", d.LR, "initial learning rate (per Adam step)")
@@ -105,7 +109,7 @@ thread counts change results only by floating-point summation order.`,
 	f.Float64Var(&o.average, "average", d.Average, "time constant in epochs of the moving average of the weights that is validated and kept (Polyak averaging; 0 for the optimiser's own weights)")
 	f.Float64Var(&o.weightDecay, "weight-decay", 0, "decoupled weight decay per unit learning rate (AdamW), on weight matrices; 0 for none")
 	f.Float64Var(&o.clip, "clip", d.Clip, "largest global L2 norm of the gradient of the NLL per site (nats); 0 for no clipping")
-	f.IntVar(&o.threads, "threads", 1, "minibatch shards computed in parallel (0: number of CPUs; 2 threads ran 1.4× faster on 2 cores); results are bit-reproducible for a fixed value")
+	f.IntVar(&o.threads, "threads", 0, "minibatch shards computed in parallel (0: number of CPUs; 2 threads ran 1.4× faster on 2 cores); results are bit-reproducible for a fixed value, not across values")
 	f.StringVar(&o.holdout, "holdout", "", `grid points kept out of training and validation: "T=2.2;2.3" (values) or "T=2.1:2.4" (a range); axes joined by ","`)
 	f.StringVar(&o.resume, "resume", "", "continue the run saved in this checkpoint (same dataset; its settings are kept, --epochs, --patience and --threads may change)")
 	f.IntVar(&o.stopAfter, "stop-after", 0, "stop after this many epochs of this invocation, keeping the run resumable (0: no limit)")
@@ -136,6 +140,7 @@ func (o *trainOptions) settings() (train.Settings, error) {
 		return st, fmt.Errorf("--fourier: expected a count ≥ 0, found %d", o.fourier)
 	}
 	st.Arch.Fourier = o.fourier
+	st.Arch.Kind, st.Arch.Window = train.ArchKind(o.arch), o.window
 	st.Arch.Activation = model.Activation(o.activation)
 	st.Arch.CondActivation = model.Activation(o.condActivation)
 	st.Arch.Direct = o.direct

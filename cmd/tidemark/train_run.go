@@ -11,6 +11,8 @@ import (
 	"tidemark/checkpoints"
 	"tidemark/cmd/internal/progress"
 	"tidemark/data"
+	"tidemark/data/density"
+	"tidemark/data/ising"
 	"tidemark/data/safefile"
 	"tidemark/train"
 )
@@ -101,6 +103,15 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 	if k := data.NewGrid(ds).K(); k < 2 {
 		return fmt.Errorf("train: %s: expected at least 2 distinct grid points, found %d (the model learns how the snapshots change between points)", dataPath, k)
 	}
+	// Without --augment, the symmetries a simulated dataset's source record
+	// states are applied; imported data get none.
+	var autoAug []density.Symmetry
+	if resumed == nil && !cmd.Flags().Changed("augment") {
+		if sm, err := ising.ParseSourceMeta(ds.Meta); err == nil {
+			autoAug = sm.Symmetries()
+			opt.Settings.Augment = autoAug
+		}
+	}
 	stdout, stderr := cmd.OutOrStdout(), cmd.ErrOrStderr()
 	var bar *progress.Bar
 	opt.Start = func(perEpoch, epochs int) {
@@ -109,6 +120,9 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 		if resumed == nil {
 			for _, n := range augmentNotes(ds.Meta, opt.Settings.Augment) {
 				fmt.Fprintf(stderr, "tidemark: train: note: %s\n", n)
+			}
+			if len(autoAug) > 0 {
+				fmt.Fprintf(stderr, "tidemark: train: note: augmenting with %s, the symmetries this dataset's source record states (--augment none to switch off)\n", density.JoinSymmetries(autoAug, ","))
 			}
 		}
 		bar = progress.New(perEpoch*epochs, "train", o.quiet)
