@@ -1,6 +1,7 @@
 package train
 
 import (
+	"fmt"
 	"reflect"
 	"slices"
 
@@ -95,4 +96,19 @@ func Differences(a, b Settings, names []string) []string {
 		}
 	}
 	return diff
+}
+
+// CheckResume refuses a resumed run whose settings named in changed (as
+// train's flags, from FixedOnResume, and "holdout") differ from those saved
+// in ck: given holds the settings and holdout the holdout spec as the
+// command line states them. The error names the first flag that differs.
+func CheckResume(ck *checkpoints.Checkpoint, given Settings, holdout string, changed []string) error {
+	diff := Differences(given, SavedSettings(ck), slices.DeleteFunc(slices.Clone(changed), func(n string) bool { return n == "holdout" }))
+	if slices.Contains(changed, "holdout") && holdout != ck.Header.HoldoutSpec {
+		diff = append(diff, "holdout")
+	}
+	if len(diff) > 0 {
+		return fmt.Errorf("--%s: cannot be changed when resuming; the run keeps the settings saved", diff[0])
+	}
+	return nil
 }

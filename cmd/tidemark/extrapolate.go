@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"math"
 
 	"github.com/spf13/cobra"
 
@@ -72,16 +71,10 @@ func runExtrapolate(w io.Writer, dirs []string, o *extrapolateOptions) error {
 	if o.out == "" {
 		return errors.New("extrapolate: --output: expected an output folder (-o OUT/), found none")
 	}
-	if o.nu < 0 || math.IsNaN(o.nu) || math.IsInf(o.nu, 0) {
-		return fmt.Errorf("extrapolate: --nu: expected an exponent above 0, found %v", o.nu)
-	}
-	if o.omega < 0 || math.IsNaN(o.omega) || math.IsInf(o.omega, 0) {
-		return fmt.Errorf("extrapolate: --omega: expected an exponent above 0, found %v", o.omega)
-	}
-	if o.bootstrap < 0 {
-		return fmt.Errorf("extrapolate: --bootstrap: expected 0 or more replicates, found %d", o.bootstrap)
-	}
 	opt := scaling.Options{Fit: scaling.FitOptions{Nu: o.nu, Omega: o.omega, Bootstrap: o.bootstrap, Seed: o.seed}}
+	if err := opt.Fit.Check(); err != nil {
+		return fmt.Errorf("extrapolate: --%w", err)
+	}
 	if o.sizes != "" {
 		s, err := scaling.ParseSizes(o.sizes)
 		if err != nil {
@@ -102,21 +95,6 @@ func runExtrapolate(w io.Writer, dirs []string, o *extrapolateOptions) error {
 		return fmt.Errorf("extrapolate: %w", err)
 	}
 	fmt.Fprintf(w, "wrote %s: %d scans, %s\n", o.out, len(res.Scans), res.Form)
-	for _, e := range res.Estimates {
-		nu := fmt.Sprintf("ν = %.4g", e.Nu)
-		if e.NuFitted {
-			nu = fmt.Sprintf("ν = %.3g ± %.2g (fitted)", e.Nu, e.NuErr)
-		}
-		fmt.Fprintf(w, "  %-14s %s_c = %.6g ± %.2g   %s, χ²/dof = %.2f, %d sizes\n", e.Indicator, e.Param, e.Value, e.Err, nu, e.Chi2Dof, len(e.Sizes))
-	}
-	c := res.Combined
-	agree := "the indicators agree within their errors"
-	if !c.Agree {
-		agree = "the indicators do NOT agree within their errors"
-	}
-	fmt.Fprintf(w, "combined: %s_c = %.6g ± %.2g (%d indicators; %s, χ² = %.2f for %d dof)\n", c.Param, c.Value, c.Err, len(c.Indicators), agree, c.Chi2, c.Dof)
-	for _, n := range res.Notes {
-		fmt.Fprintf(w, "note: %s\n", n)
-	}
+	res.WriteText(w)
 	return nil
 }

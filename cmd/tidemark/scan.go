@@ -1,7 +1,6 @@
 package main
 
 import (
-	"errors"
 	"fmt"
 	"io"
 
@@ -106,19 +105,10 @@ each second pass gets its own zoom-<i>.csv.`,
 }
 
 func runScan(w io.Writer, o *scanOptions) error {
-	// --exact beside --model scores the same data with both and draws the
-	// exact curves beside the model's.
-	withExact := o.exact && len(o.models) > 0
-	var kinds []string
-	for kind, given := range map[string]bool{study.SourceExact: o.exact && !withExact, study.SourceHistogram: o.histogram, study.SourceModel: len(o.models) > 0} {
-		if given {
-			kinds = append(kinds, kind)
-		}
+	kind, withExact, err := study.SourceKind(o.exact, o.histogram, len(o.models))
+	if err != nil {
+		return fmt.Errorf("scan: %w", err)
 	}
-	if len(kinds) != 1 {
-		return errors.New("scan: expected exactly one density source: --exact, --histogram or --model FILE.ckpt (--exact may join --model, to draw both)")
-	}
-	kind := kinds[0]
 	inds, err := study.ParseIndicators(o.indicators)
 	if err != nil {
 		return fmt.Errorf("--indicators: %w", err)

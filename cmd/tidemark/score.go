@@ -3,7 +3,6 @@ package main
 import (
 	"errors"
 	"fmt"
-	"io"
 	"path/filepath"
 	"strings"
 
@@ -12,7 +11,6 @@ import (
 	"tidemark/checkpoints"
 	"tidemark/cmd/internal/progress"
 	"tidemark/data"
-	"tidemark/data/safefile"
 	"tidemark/indicator/scorestat"
 )
 
@@ -102,9 +100,9 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 		return err
 	}
 	if ext == ".csv" {
-		side := sidecar(o.out, "points")
+		side := scorestat.Sidecar(o.out, "points")
 		if o.posterior {
-			side = sidecar(o.out, "groups")
+			side = scorestat.Sidecar(o.out, "groups")
 		}
 		if err := checkOutput(side, o.force); err != nil {
 			return err
@@ -185,36 +183,18 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 	if err != nil {
 		return fmt.Errorf("score: %w", err)
 	}
-	if ext == ".csv" {
-		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return scorestat.WriteScoresCSV(w, names, logp, params, ds.N) })
-		if err == nil {
-			err = safefile.Write(sidecar(o.out, "points"), o.force, func(w io.Writer) error { return scorestat.WritePointsCSV(w, names, pts, ds.N) })
-		}
-	} else {
-		meta := map[string]any{"param_names": names, "checkpoint": ckPath, "data": dataPath, "units": "nats", "software_version": version}
-		err = data.WriteNPZFile(o.out, o.force, meta, scorestat.ScoreArrays(logp, params, flags, pts, len(names), ds.N)...)
-	}
-	if err != nil {
+	meta := map[string]any{"param_names": names, "checkpoint": ckPath, "data": dataPath, "units": "nats", "software_version": version}
+	if err := scorestat.WriteFiles(o.out, o.force, meta, names, logp, params, flags, pts, ds.N); err != nil {
 		return err
 	}
 	w := cmd.OutOrStdout()
 	scorestat.WriteTable(w, names, pts, ds.N)
-	nflag := 0
-	for _, f := range flags {
-		nflag += int(f)
-	}
+	nflag := scorestat.Flagged(flags)
 	mean, _, se := scorestat.MeanErr(logp)
 	fmt.Fprintf(w, "wrote %s: log p of %d snapshots, mean %.4f ± %.2g nats (%.5f ± %.2g bits per site); %d flagged\n",
 		o.out, len(logp), mean, se, scorestat.BitsPerSite(-mean, ds.N), scorestat.BitsPerSite(se, ds.N), nflag)
 	if ext == ".csv" {
-		fmt.Fprintf(w, "wrote %s: the per-point table\n", sidecar(o.out, "points"))
+		fmt.Fprintf(w, "wrote %s: the per-point table\n", scorestat.Sidecar(o.out, "points"))
 	}
 	return nil
-}
-
-// sidecar returns the name of a second output file beside out:
-// "scores.csv" → "scores.<what>.csv".
-func sidecar(out, what string) string {
-	ext := filepath.Ext(out)
-	return strings.TrimSuffix(out, ext) + "." + what + ext
 }

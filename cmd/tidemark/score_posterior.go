@@ -24,7 +24,7 @@ func runPosterior(cmd *cobra.Command, m *model.Model, ds *data.Dataset, grid [][
 	if ext == ".csv" {
 		err = safefile.Write(o.out, o.force, func(w io.Writer) error { return pr.WriteSnapshotsCSV(w, names, ds) })
 		if err == nil {
-			err = safefile.Write(sidecar(o.out, "groups"), o.force, func(w io.Writer) error { return pr.WriteGroupsCSV(w, names) })
+			err = safefile.Write(scorestat.Sidecar(o.out, "groups"), o.force, func(w io.Writer) error { return pr.WriteGroupsCSV(w, names) })
 		}
 	} else {
 		err = data.WriteNPZFile(o.out, o.force, map[string]any{
@@ -39,7 +39,7 @@ func runPosterior(cmd *cobra.Command, m *model.Model, ds *data.Dataset, grid [][
 	pr.WriteGroups(w, names)
 	fmt.Fprintf(w, "wrote %s: posteriors of %d snapshots over %d grid points\n", o.out, ds.M, len(grid))
 	if ext == ".csv" {
-		fmt.Fprintf(w, "wrote %s: the groups\n", sidecar(o.out, "groups"))
+		fmt.Fprintf(w, "wrote %s: the groups\n", scorestat.Sidecar(o.out, "groups"))
 	}
 	return nil
 }

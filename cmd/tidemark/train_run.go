@@ -40,17 +40,13 @@ func (o *trainOptions) resumeFrom(fl *pflag.FlagSet) (*checkpoints.Checkpoint, *
 		return nil, nil, err
 	}
 	var changed []string
-	for _, name := range train.FixedOnResume {
+	for _, name := range append(train.FixedOnResume, "holdout") {
 		if fl.Changed(name) {
 			changed = append(changed, name)
 		}
 	}
-	diff := train.Differences(given, train.SavedSettings(ck), changed)
-	if fl.Changed("holdout") && o.holdout != ck.Header.HoldoutSpec {
-		diff = append(diff, "holdout")
-	}
-	if len(diff) > 0 {
-		return nil, nil, fmt.Errorf("--%s: cannot be changed when resuming; the run keeps the settings saved in %s (only --epochs, --patience and --threads may change; the others may only be repeated with their saved values)", diff[0], o.resume)
+	if err := train.CheckResume(ck, given, o.holdout, changed); err != nil {
+		return nil, nil, fmt.Errorf("%w in %s (only --epochs, --patience and --threads may change; the others may only be repeated with their saved values)", err, o.resume)
 	}
 	return ck, res, nil
 }
@@ -118,7 +114,7 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 		// Notes only once the settings and data have passed every check, so
 		// a bad input gets its one-line error alone.
 		if resumed == nil {
-			for _, n := range augmentNotes(ds.Meta, opt.Settings.Augment) {
+			for _, n := range ising.AugmentNotes(ds.Meta, opt.Settings.Augment) {
 				fmt.Fprintf(stderr, "tidemark: train: note: %s\n", n)
 			}
 			if len(autoAug) > 0 {

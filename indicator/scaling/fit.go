@@ -31,6 +31,21 @@ type FitOptions struct {
 	Seed uint64
 }
 
+// Check refuses settings no fit can use; its errors name the setting as
+// extrapolate's flag does.
+func (o FitOptions) Check() error {
+	if o.Nu < 0 || math.IsNaN(o.Nu) || math.IsInf(o.Nu, 0) {
+		return fmt.Errorf("nu: expected an exponent above 0, found %v", o.Nu)
+	}
+	if o.Omega < 0 || math.IsNaN(o.Omega) || math.IsInf(o.Omega, 0) {
+		return fmt.Errorf("omega: expected an exponent above 0, found %v", o.Omega)
+	}
+	if o.Bootstrap < 0 {
+		return fmt.Errorf("bootstrap: expected 0 or more replicates, found %d", o.Bootstrap)
+	}
+	return nil
+}
+
 // Fit is the extrapolation of one indicator's peaks.
 type Fit struct {
 	// Value is λ_c and Err its standard error: the bootstrap spread (or the

@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -296,4 +297,25 @@ func contains(s []string, x string) bool {
 		}
 	}
 	return false
+}
+
+// WriteText prints one line per indicator's estimate, the combined
+// estimate with whether the indicators agree, and the notes.
+func (r *Result) WriteText(w io.Writer) {
+	for _, e := range r.Estimates {
+		nu := fmt.Sprintf("ν = %.4g", e.Nu)
+		if e.NuFitted {
+			nu = fmt.Sprintf("ν = %.3g ± %.2g (fitted)", e.Nu, e.NuErr)
+		}
+		fmt.Fprintf(w, "  %-14s %s_c = %.6g ± %.2g   %s, χ²/dof = %.2f, %d sizes\n", e.Indicator, e.Param, e.Value, e.Err, nu, e.Chi2Dof, len(e.Sizes))
+	}
+	c := r.Combined
+	agree := "the indicators agree within their errors"
+	if !c.Agree {
+		agree = "the indicators do NOT agree within their errors"
+	}
+	fmt.Fprintf(w, "combined: %s_c = %.6g ± %.2g (%d indicators; %s, χ² = %.2f for %d dof)\n", c.Param, c.Value, c.Err, len(c.Indicators), agree, c.Chi2, c.Dof)
+	for _, n := range r.Notes {
+		fmt.Fprintf(w, "note: %s\n", n)
+	}
 }

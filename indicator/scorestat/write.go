@@ -5,10 +5,12 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"path/filepath"
 	"strconv"
 	"strings"
 
 	"tidemark/data"
+	"tidemark/data/safefile"
 	"tidemark/indicator/posterior"
 )
 
@@ -225,4 +227,34 @@ func (pr *Posteriors) Arrays(M, d int) []data.Array {
 		data.Float64Array("group_mean", sums(gAxes, func(s posterior.Summary) float64 { return s.Mean }), G, d),
 		data.Float64Array("group_std", sums(gAxes, func(s posterior.Summary) float64 { return s.Std }), G, d),
 	}
+}
+
+// Sidecar returns the name of a second output file beside out:
+// "scores.csv" → "scores.<what>.csv".
+func Sidecar(out, what string) string {
+	ext := filepath.Ext(out)
+	return strings.TrimSuffix(out, ext) + "." + what + ext
+}
+
+// Flagged counts the snapshots flags marks as outliers.
+func Flagged(flags []uint8) int {
+	n := 0
+	for _, f := range flags {
+		n += int(f)
+	}
+	return n
+}
+
+// WriteFiles writes score's output out atomically (never over an existing
+// file unless force): a .csv of every snapshot's log p with the per-point
+// table beside it (Sidecar "points"), or one .npz holding both, the flags
+// and meta. names are the parameter names and n the number of sites.
+func WriteFiles(out string, force bool, meta map[string]any, names []string, logp, params []float64, flags []uint8, pts []Point, n int) error {
+	if strings.ToLower(filepath.Ext(out)) != ".csv" {
+		return data.WriteNPZFile(out, force, meta, ScoreArrays(logp, params, flags, pts, len(names), n)...)
+	}
+	if err := safefile.Write(out, force, func(w io.Writer) error { return WriteScoresCSV(w, names, logp, params, n) }); err != nil {
+		return err
+	}
+	return safefile.Write(Sidecar(out, "points"), force, func(w io.Writer) error { return WritePointsCSV(w, names, pts, n) })
 }

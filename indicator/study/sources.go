@@ -1,6 +1,7 @@
 package study
 
 import (
+	"errors"
 	"fmt"
 	"strconv"
 	"strings"
@@ -11,6 +12,24 @@ import (
 	"tidemark/data/ising"
 	"tidemark/indicator"
 )
+
+// SourceKind returns the kind of density source a scan asked for with
+// exact (--exact), histogram (--histogram) and models model files: exactly
+// one of them, except that exact beside models scores the same data with
+// both (withExact) so the exact curves are drawn beside the model's.
+func SourceKind(exact, histogram bool, models int) (kind string, withExact bool, err error) {
+	withExact = exact && models > 0
+	var kinds []string
+	for k, given := range map[string]bool{SourceExact: exact && !withExact, SourceHistogram: histogram, SourceModel: models > 0} {
+		if given {
+			kinds = append(kinds, k)
+		}
+	}
+	if len(kinds) != 1 {
+		return "", false, errors.New("expected exactly one density source: --exact, --histogram or --model FILE.ckpt (--exact may join --model, to draw both)")
+	}
+	return kinds[0], withExact, nil
+}
 
 // Kinds of density source a scan uses.
 const (
