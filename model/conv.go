@@ -143,22 +143,8 @@ func (n *convNet) rowsOf(l int) int {
 // conditioning net, then per masked layer L conv.wL [window·in, out],
 // conv.bL and cond.vL, then conv.direct, then the FiLM heads cond.sL.
 func newConvLayout(c Config) layout {
-	var l layout
-	l.din, l.per = c.inDim(), c.outPer()
-	l.dout = c.Sites * l.per
-	l.direct = -1
-	add := func(name string, shape ...int) int {
-		l.names = append(l.names, name)
-		l.shapes = append(l.shapes, shape)
-		return len(l.names) - 1
-	}
-	in := c.featDim()
-	for i, h := range c.CondHidden {
-		l.condW = append(l.condW, add(fmt.Sprintf("cond.w%d", i), in, h))
-		l.condB = append(l.condB, add(fmt.Sprintf("cond.b%d", i), h))
-		in = h
-	}
-	l.condOut = in
+	l := condLayout(c)
+	add := l.add
 	n := newConvNet(c)
 	widths := append(append([]int(nil), c.Hidden...), l.per)
 	for i, h := range widths {
@@ -174,7 +160,7 @@ func newConvLayout(c Config) layout {
 			l.condS = append(l.condS, add(fmt.Sprintf("cond.s%d", i), l.condOut, h))
 		}
 	}
-	return l
+	return *l
 }
 
 // convCond holds the conditioning of one row: the conditioning net's

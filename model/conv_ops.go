@@ -472,25 +472,7 @@ func (m *Model) convSample(dst []uint8, n int, lambda []float64, rng *rand.Rand)
 					}
 					x0[i*N+s] = 2*float64(v) - 1
 				} else {
-					mx := math.Inf(-1)
-					for _, t := range z {
-						mx = math.Max(mx, t)
-					}
-					tot := 0.0
-					for k, t := range z {
-						probs[k] = math.Exp(t - mx)
-						tot += probs[k]
-					}
-					u *= tot
-					v = q - 1
-					acc := 0.0
-					for k := 0; k < q-1; k++ {
-						acc += probs[k]
-						if u < acc {
-							v = k
-							break
-						}
-					}
+					v = drawCategorical(z, probs, u)
 					x0[(i*N+s)*q+v] = 1
 				}
 				x[i*N+s] = uint8(v)

@@ -837,26 +837,7 @@ func (m *Model) Sample(dst []uint8, n int, lambda []float64, rng *rand.Rand) (er
 						v = 1
 					}
 				} else {
-					zi := z[i*q : (i+1)*q]
-					mx := zi[0]
-					for _, t := range zi[1:] {
-						mx = math.Max(mx, t)
-					}
-					tot := 0.0
-					for k, t := range zi {
-						probs[k] = math.Exp(t - mx)
-						tot += probs[k]
-					}
-					u *= tot
-					v = q - 1
-					acc := 0.0
-					for k := 0; k < q-1; k++ {
-						acc += probs[k]
-						if u < acc {
-							v = k
-							break
-						}
-					}
+					v = drawCategorical(z[i*q:(i+1)*q], probs, u)
 				}
 				x[i*N+s] = uint8(v)
 				if q == 2 && v == 0 {
@@ -977,4 +958,27 @@ func grow64(b []float64, n int) []float64 {
 		return make([]float64, n)
 	}
 	return b[:n]
+}
+
+// drawCategorical returns the state k of probability softmax(z)_k that the
+// uniform number u in [0, 1) picks (inverse CDF), using probs as scratch.
+func drawCategorical(z, probs []float64, u float64) int {
+	mx := z[0]
+	for _, t := range z[1:] {
+		mx = math.Max(mx, t)
+	}
+	tot := 0.0
+	for k, t := range z {
+		probs[k] = math.Exp(t - mx)
+		tot += probs[k]
+	}
+	u *= tot
+	acc := 0.0
+	for k := 0; k < len(z)-1; k++ {
+		acc += probs[k]
+		if u < acc {
+			return k
+		}
+	}
+	return len(z) - 1
 }

@@ -60,22 +60,8 @@ func newLayout(c Config) layout {
 	if c.Conv != nil {
 		return newConvLayout(c)
 	}
-	var l layout
-	l.din, l.per = c.inDim(), c.outPer()
-	l.dout = c.Sites * l.per
-	l.direct = -1
-	add := func(name string, shape ...int) int {
-		l.names = append(l.names, name)
-		l.shapes = append(l.shapes, shape)
-		return len(l.names) - 1
-	}
-	in := c.featDim()
-	for i, h := range c.CondHidden {
-		l.condW = append(l.condW, add(fmt.Sprintf("cond.w%d", i), in, h))
-		l.condB = append(l.condB, add(fmt.Sprintf("cond.b%d", i), h))
-		in = h
-	}
-	l.condOut = in
+	l := condLayout(c)
+	add := l.add
 	prev := l.din
 	widths := append(append([]int(nil), c.Hidden...), l.dout)
 	for i, h := range widths {
@@ -94,7 +80,7 @@ func newLayout(c Config) layout {
 			l.condS = append(l.condS, add(fmt.Sprintf("cond.s%d", i), l.condOut, h))
 		}
 	}
-	return l
+	return *l
 }
 
 // WeightNames returns the names and shapes of the trainable parameters of a
@@ -360,3 +346,26 @@ func (m *Model) Alphabet() int { return m.Cfg.Alphabet }
 
 // ParamDim returns d, the length of λ.
 func (m *Model) ParamDim() int { return m.Cfg.ParamDim }
+
+// condLayout starts the layout of either network: the sizes, and the
+// conditioning net's weights, which come first.
+func condLayout(c Config) *layout {
+	l := &layout{din: c.inDim(), per: c.outPer(), direct: -1}
+	l.dout = c.Sites * l.per
+	in := c.featDim()
+	for i, h := range c.CondHidden {
+		l.condW = append(l.condW, l.add(fmt.Sprintf("cond.w%d", i), in, h))
+		l.condB = append(l.condB, l.add(fmt.Sprintf("cond.b%d", i), h))
+		in = h
+	}
+	l.condOut = in
+	return l
+}
+
+// add appends a weight tensor of the given name and shape and returns its
+// index.
+func (l *layout) add(name string, shape ...int) int {
+	l.names = append(l.names, name)
+	l.shapes = append(l.shapes, shape)
+	return len(l.names) - 1
+}

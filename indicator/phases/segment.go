@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 	"sort"
+
+	"gonum.org/v1/gonum/stat"
 )
 
 // Options controls the segmentation.
@@ -311,20 +313,13 @@ func regions(g Grid, label []int, find func(int) int, v []float64, vr [][]float6
 	return rs
 }
 
+// stdDev returns the sample standard deviation (n−1), or 0 for fewer than
+// two values.
 func stdDev(v []float64) float64 {
 	if len(v) < 2 {
 		return 0
 	}
-	m := 0.0
-	for _, x := range v {
-		m += x
-	}
-	m /= float64(len(v))
-	s := 0.0
-	for _, x := range v {
-		s += (x - m) * (x - m)
-	}
-	return math.Sqrt(s / float64(len(v)-1))
+	return stat.StdDev(v, nil)
 }
 
 // Quantile returns the q-quantile (0 ≤ q ≤ 1) of v by linear interpolation

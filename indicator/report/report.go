@@ -133,7 +133,7 @@ func Write(dir string, force bool, res *indicator.Result, info Info) (*Summary, 
 		return nil, err
 	}
 	for _, n := range names {
-		if err := writeSynced(filepath.Join(tmp, n), files[n]); err != nil {
+		if err := WriteSynced(filepath.Join(tmp, n), files[n]); err != nil {
 			return nil, fmt.Errorf("%s: %w", dir, err)
 		}
 	}
@@ -144,7 +144,9 @@ func Write(dir string, force bool, res *indicator.Result, info Info) (*Summary, 
 	return sum, nil
 }
 
-func writeSynced(path string, b []byte) error {
+// WriteSynced writes b to the new file path (it must not exist) and
+// syncs it to disk before closing it.
+func WriteSynced(path string, b []byte) error {
 	f, err := os.OpenFile(path, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
 	if err != nil {
 		return err

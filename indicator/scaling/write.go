@@ -93,7 +93,7 @@ func Write(dir string, force bool, res *Result) error {
 		}
 	}()
 	for _, n := range names {
-		if err := writeSynced(filepath.Join(tmp, n), files[n]); err != nil {
+		if err := report.WriteSynced(filepath.Join(tmp, n), files[n]); err != nil {
 			return fmt.Errorf("%s: %w", dir, err)
 		}
 	}
@@ -102,22 +102,6 @@ func Write(dir string, force bool, res *Result) error {
 	}
 	ok = true
 	return nil
-}
-
-func writeSynced(path string, b []byte) error {
-	f, err := os.OpenFile(path, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
-	if err != nil {
-		return err
-	}
-	if _, err := f.Write(b); err != nil {
-		f.Close()
-		return err
-	}
-	if err := f.Sync(); err != nil {
-		f.Close()
-		return err
-	}
-	return f.Close()
 }
 
 // exactTicks labels gonum's default ticks with enough digits to tell them
