@@ -59,7 +59,7 @@ func TestXYChainThreePhases(t *testing.T) {
 	hs := linspace(0.2, 1.8, 9)
 	src, ds := xyDataset(t, 32, gs, hs, 500)
 	t0 := time.Now()
-	res, err := indicator.Run([]density.Source{src}, ds, indicator.Config{Indicators: []string{indicator.Local, indicator.Fisher}, Bootstrap: 20, Threads: 2, Seed: 1})
+	res, err := indicator.Run(context.Background(), []density.Source{src}, ds, indicator.Config{Indicators: []string{indicator.Local, indicator.Fisher}, Bootstrap: 20, Threads: 2, Seed: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -158,7 +158,7 @@ func TestIsing16AnisotropicLine(t *testing.T) {
 		t.Fatal(err)
 	}
 	t0 = time.Now()
-	res, err := indicator.Run([]density.Source{src}, ds, indicator.Config{Indicators: []string{indicator.Fisher}, Bootstrap: 20, Threads: 2, Seed: 1})
+	res, err := indicator.Run(context.Background(), []density.Source{src}, ds, indicator.Config{Indicators: []string{indicator.Fisher}, Bootstrap: 20, Threads: 2, Seed: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
