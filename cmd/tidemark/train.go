@@ -97,7 +97,7 @@ thread counts change results only by floating-point summation order.`,
 	f.BoolVar(&o.film, "film", d.Arch.FiLM, "let the conditioning net scale every masked layer's pre-activation as well as shift it (FiLM; --film=false for shifts only)")
 	f.BoolVar(&o.symmetric, "symmetric", false, "make the model invariant under flipping every spin (alphabet 2 only)")
 	f.StringVar(&o.precision, "precision", "float64", "arithmetic of the masked matrix products: float64, or float32 (faster, above all in the OpenBLAS build; sums stay float64)")
-	f.StringVar(&o.augment, "augment", "none", `symmetries of the system to augment the training snapshots with, comma-separated: translate (periodic boundaries), mirror, rotate (square lattices), flip (alphabet 2); name only symmetries every grid point has (default: those the source record of a simulated dataset states, none for imported data)`)
+	f.StringVar(&o.augment, "augment", "none", `symmetries of the system to augment the training snapshots with, comma-separated: translate (periodic boundaries), mirror, rotate (square lattices), flip (alphabet 2); name only symmetries every grid point has; auto: those the source record of a simulated dataset states (none for imported data)`)
 	f.IntVar(&o.epochs, "epochs", d.Epochs, "maximum number of passes over the training samples")
 	f.IntVar(&o.batch, "batch", d.Batch, "minibatch size in snapshots")
 	f.Float64Var(&o.lr, "lr", d.LR, "initial learning rate (per Adam step)")
@@ -148,7 +148,11 @@ func (o *trainOptions) settings() (train.Settings, error) {
 	st.Arch.Symmetric = o.symmetric
 	st.Arch.FiLM = o.film
 	st.Arch.Precision = o.precision
-	aug, err := train.ParseAugment(o.augment)
+	spec := o.augment
+	if spec == "auto" {
+		spec = "" // chosen from the dataset once it is read
+	}
+	aug, err := train.ParseAugment(spec)
 	if err != nil {
 		return st, fmt.Errorf("--%w", err)
 	}

@@ -99,10 +99,10 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 	if k := data.NewGrid(ds).K(); k < 2 {
 		return fmt.Errorf("train: %s: expected at least 2 distinct grid points, found %d (the model learns how the snapshots change between points)", dataPath, k)
 	}
-	// Without --augment, the symmetries a simulated dataset's source record
+	// --augment auto: the symmetries a simulated dataset's source record
 	// states are applied; imported data get none.
 	var autoAug []density.Symmetry
-	if resumed == nil && !cmd.Flags().Changed("augment") {
+	if resumed == nil && o.augment == "auto" {
 		if sm, err := ising.ParseSourceMeta(ds.Meta); err == nil {
 			autoAug = sm.Symmetries()
 			opt.Settings.Augment = autoAug
@@ -118,7 +118,7 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 				fmt.Fprintf(stderr, "tidemark: train: note: %s\n", n)
 			}
 			if len(autoAug) > 0 {
-				fmt.Fprintf(stderr, "tidemark: train: note: augmenting with %s, the symmetries this dataset's source record states (--augment none to switch off)\n", density.JoinSymmetries(autoAug, ","))
+				fmt.Fprintf(stderr, "tidemark: train: note: augmenting with %s, the symmetries this dataset's source record states (--augment auto)\n", density.JoinSymmetries(autoAug, ","))
 			}
 		}
 		bar = progress.New(perEpoch*epochs, "train", o.quiet)
