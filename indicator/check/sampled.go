@@ -12,22 +12,10 @@ import (
 	"tidemark/indicator/scorestat"
 )
 
-// SampledReport is the result of Sampled; its JSON keys are stable.
+// SampledReport is the result of Sampled: a Kaufman report's figures with
+// the entropy estimated on the samples; its JSON keys are the same.
 type SampledReport struct {
-	Checkpoint    string         `json:"checkpoint"`
-	Data          string         `json:"data"`
-	Generator     string         `json:"generator"`
-	Reference     string         `json:"reference"`
-	Sites         int            `json:"sites"`
-	Units         string         `json:"units"`
-	SameData      bool           `json:"same_data_as_training"`
-	Points        []KaufmanPoint `json:"points"`
-	MeanNLLMinusS float64        `json:"mean_nll_minus_entropy_per_site"`
-	// MeanStdErr is the standard error of MeanNLLMinusS from the points'
-	// errors, √(Σ σ_k²)/K.
-	MeanStdErr     float64  `json:"mean_nll_minus_entropy_std_err"`
-	KLPerSite      *float64 `json:"mean_kl_per_site"`
-	KLNotAvailable string   `json:"kl_not_available"`
+	KaufmanReport
 }
 
 // Sampled compares mdl with an exact source that gives log p of any
@@ -40,12 +28,12 @@ type SampledReport struct {
 func Sampled(mdl, src density.Source, ds *data.Dataset, heldOut [][]float64) (*SampledReport, error) {
 	g := data.NewGrid(ds)
 	N := ds.N
-	rep := &SampledReport{
+	rep := &SampledReport{KaufmanReport{
 		Generator: ds.Meta.Generator(), Sites: N, Units: "nats per site",
 		Reference:      "exact log-probabilities of the dataset's samples under the source that drew them; entropy S = mean −log p/N over those samples",
 		KLNotAvailable: fmt.Sprintf("%d^%d states are too many to sum KL and TV over; NLL − S estimates KL from the samples", ds.Meta.Alphabet, N),
 		Points:         []KaufmanPoint{},
-	}
+	}}
 	for k, p := range g.Points {
 		idx := g.Index[k]
 		if len(idx) < 2 {

@@ -104,23 +104,7 @@ func growLeft(L *env, a []float64, dl, dr int, w *mpoTensor) *env {
 				continue
 			}
 			any = true
-			o := w.at(x, b)
-			t := T[x*sz : (x+1)*sz]
-			for l := 0; l < dl; l++ {
-				for s := 0; s < 2; s++ {
-					dst := U[(l*2+s)*dr : (l*2+s+1)*dr]
-					for sp := 0; sp < 2; sp++ {
-						c := o[s*2+sp]
-						if c == 0 {
-							continue
-						}
-						src := t[(l*2+sp)*dr : (l*2+sp+1)*dr]
-						for r := range dst {
-							dst[r] += c * src[r]
-						}
-					}
-				}
-			}
+			addPhysical(U, w.at(x, b), T[x*sz:(x+1)*sz], dl, dr)
 		}
 		if any {
 			gemm(true, false, dr, dr, dl*2, 1, a, dr, U, dr, 0, out.block(b), dr)
@@ -150,23 +134,7 @@ func growRight(R *env, a []float64, dl, dr int, w *mpoTensor) *env {
 				continue
 			}
 			any = true
-			o := w.at(x, b)
-			t := T[b*sz : (b+1)*sz]
-			for l := 0; l < dl; l++ {
-				for s := 0; s < 2; s++ {
-					dst := U[(l*2+s)*dr : (l*2+s+1)*dr]
-					for sp := 0; sp < 2; sp++ {
-						c := o[s*2+sp]
-						if c == 0 {
-							continue
-						}
-						src := t[(l*2+sp)*dr : (l*2+sp+1)*dr]
-						for r := range dst {
-							dst[r] += c * src[r]
-						}
-					}
-				}
-			}
+			addPhysical(U, w.at(x, b), T[b*sz:(b+1)*sz], dl, dr)
 		}
 		if any {
 			gemm(false, true, dl, dl, 2*dr, 1, a, 2*dr, U, 2*dr, 0, out.block(x), dl)
@@ -465,4 +433,25 @@ func Expect(m *MPS, h *MPO) float64 {
 		L = growLeft(L, m.A[j], m.Dims[j], m.Dims[j+1], &h.w[j])
 	}
 	return L.v[0] / Overlap(m, m)
+}
+
+// addPhysical adds to U[l, s, r] the sum over s' of o[s, s'] · t[l, s', r]:
+// one MPO element's 2×2 operator applied to the physical index of a
+// dl×2×dr block.
+func addPhysical(U []float64, o *op2, t []float64, dl, dr int) {
+	for l := 0; l < dl; l++ {
+		for s := 0; s < 2; s++ {
+			dst := U[(l*2+s)*dr : (l*2+s+1)*dr]
+			for sp := 0; sp < 2; sp++ {
+				c := o[s*2+sp]
+				if c == 0 {
+					continue
+				}
+				src := t[(l*2+sp)*dr : (l*2+sp+1)*dr]
+				for r := range dst {
+					dst[r] += c * src[r]
+				}
+			}
+		}
+	}
 }
