@@ -6,7 +6,6 @@ import (
 	"math/rand/v2"
 	"runtime"
 	"sync"
-	"sync/atomic"
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
@@ -348,43 +347,23 @@ func (m *Model) convLogProbMatrix(out []float64, xs []uint8, n int, lambdas [][]
 	}
 	blocks := (n + R - 1) / R
 	units := blocks * K
-	threads = min(threads, units)
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	var once sync.Once
-	var err error
-	for t := 0; t < threads; t++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			defer func() {
-				if r := recover(); r != nil {
-					once.Do(func() { err = fmt.Errorf("model: LogProbMatrix failed: %v", r) })
-				}
-			}()
-			w := m.newConvWork(R)
-			conds := make([]*convCond, R)
-			col := make([]float64, R)
-			for {
-				u := int(next.Add(1)) - 1
-				if u >= units {
-					return
-				}
-				b, k := u/K, u%K
-				i := b * R
-				r := min(R, n-i)
-				for j := range conds {
-					conds[j] = ccs[k]
-				}
-				m.convScore(col[:r], xs[i*N:(i+r)*N], w, conds, r)
-				for j := 0; j < r; j++ {
-					out[(i+j)*K+k] = col[j]
-				}
+	return forEachUnit(threads, units, "LogProbMatrix", func() (func(u int), func()) {
+		w := m.newConvWork(R)
+		conds := make([]*convCond, R)
+		col := make([]float64, R)
+		return func(u int) {
+			b, k := u/K, u%K
+			i := b * R
+			r := min(R, n-i)
+			for j := range conds {
+				conds[j] = ccs[k]
 			}
-		}()
-	}
-	wg.Wait()
-	return err
+			m.convScore(col[:r], xs[i*N:(i+r)*N], w, conds, r)
+			for j := 0; j < r; j++ {
+				out[(i+j)*K+k] = col[j]
+			}
+		}, func() {}
+	})
 }
 
 // convSample draws n snapshots ancestrally: at site s it computes every

@@ -709,42 +709,23 @@ func (m *Model) LogProbMatrix(xs []uint8, n int, lambdas [][]float64, threads in
 	per := (K + groups - 1) / groups
 	groups = (K + per - 1) / per
 	units := blocks * groups
-	threads = min(threads, units)
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	var once sync.Once
-	for t := 0; t < threads; t++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			defer func() {
-				if r := recover(); r != nil {
-					once.Do(func() { err = fmt.Errorf("model: LogProbMatrix failed: %v", r) })
-				}
-			}()
-			w := m.getWorkspace()
-			defer m.wsPool.Put(w)
-			col := make([]float64, blockRows)
-			for {
-				u := int(next.Add(1)) - 1
-				if u >= units {
-					return
-				}
-				b, grp := u/groups, u%groups
-				i := b * blockRows
-				r := min(blockRows, n-i)
-				x := xs[i*N : (i+r)*N]
-				m.gatherAll(p, x, r, w)
-				for k := grp * per; k < min(K, (grp+1)*per); k++ {
-					m.scoreBlock(col[:r], x, p, cbs[k], w, r)
-					for j := 0; j < r; j++ {
-						out[(i+j)*K+k] = col[j]
-					}
+	err = forEachUnit(threads, units, "LogProbMatrix", func() (func(u int), func()) {
+		w := m.getWorkspace()
+		col := make([]float64, blockRows)
+		return func(u int) {
+			b, grp := u/groups, u%groups
+			i := b * blockRows
+			r := min(blockRows, n-i)
+			x := xs[i*N : (i+r)*N]
+			m.gatherAll(p, x, r, w)
+			for k := grp * per; k < min(K, (grp+1)*per); k++ {
+				m.scoreBlock(col[:r], x, p, cbs[k], w, r)
+				for j := 0; j < r; j++ {
+					out[(i+j)*K+k] = col[j]
 				}
 			}
-		}()
-	}
-	wg.Wait()
+		}, func() { m.wsPool.Put(w) }
+	})
 	if err != nil {
 		return nil, err
 	}
@@ -981,4 +962,38 @@ func drawCategorical(z, probs []float64, u float64) int {
 		}
 	}
 	return len(z) - 1
+}
+
+// forEachUnit runs work units 0..units−1 on up to threads goroutines, each
+// handed out once from a shared counter. Every goroutine calls worker once
+// for its unit function (with the scratch it owns) and a cleanup run when
+// it stops. A panic in a unit becomes the returned error, naming what.
+// Which goroutine runs a unit never changes its result.
+func forEachUnit(threads, units int, what string, worker func() (do func(u int), done func())) error {
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	var once sync.Once
+	var err error
+	for t := 0; t < min(threads, units); t++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			defer func() {
+				if r := recover(); r != nil {
+					once.Do(func() { err = fmt.Errorf("model: %s failed: %v", what, r) })
+				}
+			}()
+			do, done := worker()
+			defer done()
+			for {
+				u := int(next.Add(1)) - 1
+				if u >= units {
+					return
+				}
+				do(u)
+			}
+		}()
+	}
+	wg.Wait()
+	return err
 }

@@ -521,9 +521,8 @@ func (s *MPSSource) LogProb(dst []float64, xs []uint8, lambda []float64) error {
 // of the MPS: independent snapshots, each drawn site by site from its
 // conditional probabilities.
 func (s *MPSSource) Sample(dst []uint8, n int, lambda []float64, rng *rand.Rand) error {
-	ns := s.cfg.Sites
-	if len(dst) != n*ns {
-		return fmt.Errorf("chain: Sample: expected room for %d values (%d snapshots of %d sites), found %d", n*ns, n, ns, len(dst))
+	if err := checkSampleRoom(dst, n, s.cfg.Sites); err != nil {
+		return err
 	}
 	st, err := s.GroundState(lambda)
 	if err != nil {

@@ -226,6 +226,14 @@ func checkRows(xs []uint8, rows, n, q int) error {
 	return nil
 }
 
+// checkSampleRoom checks that dst holds n snapshots of ns sites.
+func checkSampleRoom(dst []uint8, n, ns int) error {
+	if len(dst) != n*ns {
+		return fmt.Errorf("chain: Sample: expected room for %d values (%d snapshots of %d sites), found %d", n*ns, n, ns, len(dst))
+	}
+	return nil
+}
+
 // checkLambda checks that lambda gives a finite value for each of the
 // chain's parameters.
 func (c Config) checkLambda(lambda []float64) error {
@@ -490,8 +498,8 @@ func collapse(amp, buf []complex128, bases, outs []int, rng *rand.Rand) float64 
 // outcomes site by site from their conditional probabilities.
 func (s *Source) Sample(dst []uint8, n int, lambda []float64, rng *rand.Rand) error {
 	ns := s.cfg.Sites
-	if len(dst) != n*ns {
-		return fmt.Errorf("chain: Sample: expected room for %d values (%d snapshots of %d sites), found %d", n*ns, n, ns, len(dst))
+	if err := checkSampleRoom(dst, n, ns); err != nil {
+		return err
 	}
 	st, err := s.GroundState(lambda)
 	if err != nil {
