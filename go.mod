@@ -4,6 +4,7 @@ go 1.26
 
 require (
 	codeberg.org/sbinet/npyio v0.14.0
+	github.com/BurntSushi/toml v1.6.0
 	github.com/chewxy/hm v1.0.0
 	github.com/schollz/progressbar/v3 v3.19.1
 	github.com/spf13/cobra v1.10.2

@@ -10,23 +10,8 @@ import (
 	"tidemark/indicator/study"
 )
 
-// stageBars returns a progress callback of the shape indicator.Config.Progress
-// takes that draws one bar per stage (none when quiet), finishing the
-// previous bar when the next stage starts, and a function that finishes the
-// last one.
-func stageBars(quiet bool) (start func(stage string, total int) func(int), done func()) {
-	var bar *progress.Bar
-	done = func() {
-		bar.Done()
-		bar = nil
-	}
-	start = func(stage string, total int) func(int) {
-		done()
-		bar = progress.New(total, stage, quiet)
-		return bar.Func()
-	}
-	return start, done
-}
+// stageBars draws one progress bar per stage (progress.Stages).
+var stageBars = progress.Stages
 
 // scanWithProgress runs study.Scan with one progress bar per stage (none
 // when quiet; cfg.Progress is replaced) until it finishes or ctx is done. A

@@ -37,8 +37,11 @@ type Config struct {
 	// Enumerated draws exact independent samples by enumeration (N ≤ 24)
 	// instead of Monte Carlo.
 	Enumerated bool
-	// Seed seeds every point's stream PCG(Seed, point index).
+	// Seed seeds every point's stream PCG(Seed, FirstPoint + point index).
 	Seed uint64
+	// FirstPoint is the index in a larger grid of Points[0], so that one
+	// point of that grid can be drawn alone with the stream it has there.
+	FirstPoint uint64
 	// Threads is the number of points run at once (≤ 0: every CPU, data.Threads).
 	Threads int
 	// Progress, when set, is called with the number of snapshots just
@@ -93,7 +96,7 @@ func Simulate(ctx context.Context, cfg Config) (*Result, error) {
 	}
 	err := data.ForEachPoint(ctx, len(cfg.Points), cfg.Threads, func(k int) error {
 		dst := res.States[k*per*n : (k+1)*per*n]
-		info, err := samplePoint(ctx, cfg, exact, coup[k], uint64(k), dst)
+		info, err := samplePoint(ctx, cfg, exact, coup[k], cfg.FirstPoint+uint64(k), dst)
 		info.Params = append([]float64(nil), cfg.Points[k]...)
 		res.Points[k] = info
 		for j := 0; j < per; j++ {

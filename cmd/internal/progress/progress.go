@@ -78,3 +78,21 @@ func (b *Bar) Done() {
 	b.bar.Finish()
 	b.mu.Unlock()
 }
+
+// Stages returns a progress callback of the shape indicator.Config.Progress
+// takes that draws one bar per stage (none when quiet), finishing the
+// previous bar when the next stage starts, and a function that finishes the
+// last one.
+func Stages(quiet bool) (start func(stage string, total int) func(int), done func()) {
+	var bar *Bar
+	done = func() {
+		bar.Done()
+		bar = nil
+	}
+	start = func(stage string, total int) func(int) {
+		done()
+		bar = New(total, stage, quiet)
+		return bar.Func()
+	}
+	return start, done
+}
