@@ -17,7 +17,7 @@ func newRunCmd() *cobra.Command {
 		Example: "  tidemark run study.toml -o study/ --parallel 2\n  tidemark run study.toml -o study/ --slurm",
 		Args:    cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			return o.Execute(args[0], cmd.OutOrStdout(), version)
+			return o.Execute(args[0], cmd.OutOrStdout(), version, errInterrupted)
 		},
 	}
 	f := c.Flags()

@@ -28,12 +28,17 @@ type Command struct {
 }
 
 // Execute runs the study file study with the command's options until it
-// is done or SIGINT or SIGTERM stops it, printing to stdout.
-func (c *Command) Execute(study string, stdout io.Writer, version string) error {
+// is done or SIGINT or SIGTERM stops it, printing to stdout. A stopped run
+// returns an error that wraps interrupted.
+func (c *Command) Execute(study string, stdout io.Writer, version string, interrupted error) error {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
 	c.Study, c.Stdout, c.Version = study, stdout, version
-	return c.Run(ctx)
+	err := c.Run(ctx)
+	if err != nil && ctx.Err() != nil {
+		return fmt.Errorf("run: stopped; the finished units are kept and the same command resumes the study: %w", interrupted)
+	}
+	return err
 }
 
 // Run loads the study and runs what the options ask for.

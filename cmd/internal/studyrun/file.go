@@ -137,9 +137,9 @@ func Load(path string) (*Study, error) {
 		if errors.As(err, &pe) {
 			key := ""
 			if pe.LastKey != "" {
-				key = fmt.Sprintf(" (key %s)", pe.LastKey)
+				key = fmt.Sprintf(" key %s:", pe.LastKey)
 			}
-			return nil, fmt.Errorf("%w: %s:%d%s: %s", ErrStudyFile, path, pe.Position.Line, key, oneLine(pe.Message))
+			return nil, fmt.Errorf("%w: %s:%d:%s %s", ErrStudyFile, path, pe.Position.Line, key, oneLine(pe.Message))
 		}
 		if m := typeErr.FindStringSubmatch(err.Error()); m != nil {
 			return nil, fmt.Errorf("%w: %s:%s: key %s: expected %s, found %s", ErrStudyFile, path, m[1], m[2], goTypeWord(m[4]), m[3])

@@ -58,7 +58,8 @@ func (st *Study) check() *keyErr {
 			}
 			if err != nil {
 				key, _, _ := strings.Cut(err.Error(), ":")
-				return &keyErr{key: toml.Key{"system", studyKey(key)}, err: fmt.Errorf("[system] size %d: %w", l, err)}
+				k := studyKey(key)
+				return &keyErr{key: toml.Key{"system", k}, err: fmt.Errorf("key system.%s: at size %d: %w", k, l, err)}
 			}
 		}
 	}
@@ -76,8 +77,7 @@ func (st *Study) check() *keyErr {
 		return bad("model", "threads", "expected at least 1 thread, found %d", m.Threads)
 	}
 	if _, err := st.trainSettings(0); err != nil {
-		key, _, _ := strings.Cut(err.Error(), ":")
-		return &keyErr{key: toml.Key{"model", studyKey(key)}, err: fmt.Errorf("[model] %w", err)}
+		return keyErrOf("model", err)
 	}
 	sc := &st.Scan
 	if sc.Bootstrap == nil {
@@ -96,8 +96,7 @@ func (st *Study) check() *keyErr {
 	if cfg, err := st.scanConfig(0); err != nil {
 		return bad("scan", "threads", "%v", err)
 	} else if err := cfg.CheckSettings(); err != nil {
-		key, _, _ := strings.Cut(err.Error(), ":")
-		return &keyErr{key: toml.Key{"scan", studyKey(key)}, err: fmt.Errorf("[scan] %w", err)}
+		return keyErrOf("scan", err)
 	}
 	e := &st.Extrapolate
 	if e.Enabled == nil {
@@ -111,14 +110,21 @@ func (st *Study) check() *keyErr {
 	if *e.Enabled {
 		opt := st.fitOptions(0)
 		if err := opt.Check(); err != nil {
-			key, _, _ := strings.Cut(err.Error(), ":")
-			return &keyErr{key: toml.Key{"extrapolate", studyKey(key)}, err: fmt.Errorf("[extrapolate] %w", err)}
+			return keyErrOf("extrapolate", err)
 		}
 		if need := max(3, scaling.MinSizes(opt)); len(s.Sizes) < need {
 			return bad("extrapolate", "enabled", "the extrapolation needs at least %d sizes with these settings, found %d (set nu, or enabled = false)", need, len(s.Sizes))
 		}
 	}
 	return nil
+}
+
+// keyErrOf turns a library error that begins with an option's name
+// ("epochs: …") into an error naming the study file's key.
+func keyErrOf(section string, err error) *keyErr {
+	key, _, _ := strings.Cut(err.Error(), ":")
+	k := studyKey(key)
+	return &keyErr{key: toml.Key{section, k}, err: fmt.Errorf("key %s.%s:%s", section, k, strings.TrimPrefix(err.Error(), key+":"))}
 }
 
 // studyKey turns the option name a library error begins with into the

@@ -1,0 +1,216 @@
+package studyrun
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+	"testing"
+
+	"tidemark/data"
+	"tidemark/data/ising"
+)
+
+func loadSmall(t *testing.T, text string) (*Plan, string) {
+	t.Helper()
+	st, err := Load(writeStudy(t, text))
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(t.TempDir(), "out")
+	p, err := NewPlan(st, out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return p, out
+}
+
+func allNames(p *Plan) []string {
+	var s []string
+	for _, st := range Stages {
+		for _, u := range p.Units[st] {
+			s = append(s, u.Name)
+		}
+	}
+	return s
+}
+
+// TestResume stops a local run (through its context) after some units and
+// checks that the next run runs exactly the units the first did not
+// finish, that a third run runs none, and that changing one scan setting
+// reruns only the scans and what follows.
+func TestResume(t *testing.T) {
+	if testing.Short() {
+		t.Skip("trains six small models")
+	}
+	p, out := loadSmall(t, smallStudy)
+	ctx, cancel := context.WithCancel(context.Background())
+	const stopAfter = 25 // inside the simulate and gather stages: 21 points, 3 gathers
+	n := 0
+	first, err := Run(ctx, p, Options{OnUnit: func(Unit, bool) {
+		if n++; n == stopAfter {
+			cancel()
+		}
+	}})
+	if !errors.Is(err, context.Canceled) {
+		t.Fatalf("first run: expected to be stopped, got %v", err)
+	}
+	if len(first.Ran) != stopAfter {
+		t.Fatalf("first run ran %d units, want %d", len(first.Ran), stopAfter)
+	}
+	second, err := Run(context.Background(), p, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	all := allNames(p)
+	if want := all[stopAfter:]; !slices.Equal(second.Ran, want) {
+		t.Errorf("second run ran %v\nwant the unfinished units %v", second.Ran, want)
+	}
+	if !slices.Equal(second.Skipped, first.Ran) {
+		t.Errorf("second run skipped %v, want %v", second.Skipped, first.Ran)
+	}
+	third, err := Run(context.Background(), p, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(third.Ran) != 0 {
+		t.Errorf("third run ran %v, want none", third.Ran)
+	}
+	sum1, err := os.ReadFile(filepath.Join(out, summaryFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+
+	// A finished unit whose output was damaged is redone, alone with what
+	// depends on it.
+	if err := os.WriteFile(filepath.Join(out, modelPath(6, 2)), []byte("damaged"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	fourth, err := Run(context.Background(), p, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := []string{"train/L6/m2", "scan/L6", "finish"}; !slices.Equal(fourth.Ran, want) {
+		t.Errorf("after damaging one model the run redid %v, want %v", fourth.Ran, want)
+	}
+	sum2, err := os.ReadFile(filepath.Join(out, summaryFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(sum1, sum2) {
+		t.Error("retraining one member with its own seed changed summary.json")
+	}
+
+	// Another scan setting: the scans and the finish rerun, nothing else.
+	st2, err := Load(writeStudy(t, strings.Replace(smallStudy, "bootstrap = 10", "bootstrap = 12", 1)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	p2, _ := NewPlan(st2, out)
+	fifth, err := Run(context.Background(), p2, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := []string{"scan/L4", "scan/L6", "scan/L8", "finish"}; !slices.Equal(fifth.Ran, want) {
+		t.Errorf("after changing [scan] bootstrap the run redid %v, want %v", fifth.Ran, want)
+	}
+}
+
+// TestGatherMatchesWholeGrid checks that drawing the grid point by point
+// and gathering the points gives, bit for bit, the dataset of one
+// simulation of the whole grid with the same seed.
+func TestGatherMatchesWholeGrid(t *testing.T) {
+	dir := t.TempDir()
+	req := ising.Request{Lx: 4, Ly: 3, Grid: "T=1.8:3:4", Samples: 30, Fixed: ising.Couplings{Jx: 1, Jy: 0.5}, Seed: 11, Threads: 2}
+	var points []string
+	for k := 0; k < 4; k++ {
+		path := filepath.Join(dir, fmt.Sprintf("p%d.npz", k))
+		if err := simulatePoint(context.Background(), req, k, path); err != nil {
+			t.Fatal(err)
+		}
+		points = append(points, path)
+	}
+	if err := gather(req, points, filepath.Join(dir, "all.npz")); err != nil {
+		t.Fatal(err)
+	}
+	got, err := data.Read(filepath.Join(dir, "all.npz"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg, err := req.Config()
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := ising.Simulate(context.Background(), cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := res.Dataset(cfg, req.Grid)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(got.States, want.States) || !slices.Equal(got.Params, want.Params) {
+		t.Error("the gathered snapshots differ from the whole grid's")
+	}
+	gm, _ := ising.ParseSourceMeta(got.Meta)
+	wm, _ := ising.ParseSourceMeta(want.Meta)
+	if fmt.Sprint(gm) != fmt.Sprint(wm) {
+		t.Errorf("source records differ:\n%v\n%v", gm, wm)
+	}
+}
+
+// TestSlurmScripts checks the scripts and the order of submission with a
+// stand-in for sbatch.
+func TestSlurmScripts(t *testing.T) {
+	text := smallStudy + "\n[slurm]\npartition = \"short\"\naccount = \"phys\"\n[slurm.train]\nunits_per_task = 4\ntime = \"01:30:00\"\n"
+	p, out := loadSmall(t, text)
+	var calls []string
+	var log bytes.Buffer
+	id := 100
+	err := p.Slurm(context.Background(), SlurmOptions{Command: []string{"/opt/tidemark", "run", "/s/study.toml", "-o", "/s/out"}, Submit: true, Log: &log,
+		run: func(name string, args ...string) ([]byte, error) {
+			calls = append(calls, name+" "+strings.Join(args, " "))
+			id++
+			return []byte(fmt.Sprintf("%d;cluster\n", id)), nil
+		}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []string{
+		"sbatch --parsable " + filepath.Join(out, "slurm", "simulate.sh"),
+		"sbatch --parsable --dependency=afterok:101 " + filepath.Join(out, "slurm", "gather.sh"),
+		"sbatch --parsable --dependency=afterok:102 " + filepath.Join(out, "slurm", "train.sh"),
+		"sbatch --parsable --dependency=afterok:103 " + filepath.Join(out, "slurm", "scan.sh"),
+		"sbatch --parsable --dependency=afterok:104 " + filepath.Join(out, "slurm", "finish.sh"),
+	}
+	if !slices.Equal(calls, want) {
+		t.Errorf("sbatch calls:\n%s\nwant\n%s", strings.Join(calls, "\n"), strings.Join(want, "\n"))
+	}
+	if !strings.Contains(log.String(), "squeue -j 101,102,103,104,105") {
+		t.Errorf("the log does not say how to follow the jobs:\n%s", log.String())
+	}
+	b, err := os.ReadFile(filepath.Join(out, "slurm", "train.sh"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	script := string(b)
+	for _, w := range []string{"#SBATCH --array=0-1\n", "#SBATCH --time=01:30:00\n", "#SBATCH --partition=short\n", "#SBATCH --account=phys\n",
+		"#SBATCH --cpus-per-task=1\n", "lo=$((SLURM_ARRAY_TASK_ID * 4))", "if [ \"$hi\" -gt 5 ]; then hi=5; fi",
+		`exec /opt/tidemark run /s/study.toml -o /s/out --unit train:"$lo-$hi"`} {
+		if !strings.Contains(script, w) {
+			t.Errorf("train.sh lacks %q:\n%s", w, script)
+		}
+	}
+	// Every unit is covered exactly once by the tasks' ranges.
+	units, err := p.ParseUnits("train:4-5")
+	if err != nil || len(units) != 2 || units[0].Name != "train/L8/m1" {
+		t.Errorf("train:4-5 gave %v, %v", units, err)
+	}
+	if _, err := p.ParseUnits("train:4-6"); err == nil {
+		t.Error("train:4-6 accepted beyond the 6 units")
+	}
+}
