@@ -156,7 +156,7 @@ func TestRunInterrupted(t *testing.T) {
 	finished := regexp.MustCompile(`(?m)^\[\d+/34\] (\S+) .*: done`).FindAllStringSubmatch(stdout.String(), -1)
 	r := mustRunBin(t, dir, "run", "study.toml", "-o", "out")
 	for _, f := range finished {
-		if !regexp.MustCompile(regexp.QuoteMeta(f[1])+` \(\S+\): up to date, skipped`).MatchString(r.stdout) {
+		if !regexp.MustCompile(regexp.QuoteMeta(f[1]) + ` \(\S+\): up to date, skipped`).MatchString(r.stdout) {
 			t.Errorf("the rerun did not skip %s, which the first run finished", f[1])
 		}
 	}
