@@ -85,10 +85,8 @@ func (p *Plan) finish(ctx context.Context) error {
 		sum.Extrapolation = res
 	}
 	for _, l := range st.System.Sizes {
-		ss := SizeSummary{Size: l, Dataset: dataPath(l), Scan: scanDir(l)}
-		if st.System.Kind == KindImport {
-			ss.Dataset = p.datasetOf(l)
-		} else if err := snapshotsHash(sum.Files, p.Out, ss.Dataset); err != nil {
+		ss := SizeSummary{Size: l, Dataset: p.datasetName(l), Scan: scanDir(l)}
+		if err := snapshotsHash(sum.Files, ss.Dataset, p.datasetOf(l)); err != nil {
 			return err
 		}
 		for m := 1; m <= st.Model.Ensemble; m++ {
@@ -129,10 +127,11 @@ func (p *Plan) finish(ctx context.Context) error {
 	return safefile.WriteBytes(filepath.Join(p.Out, summaryFile), true, append(js, '\n'))
 }
 
-// snapshotsHash records the SHA-256 of the snapshots and parameters of the
-// dataset at rel (not of the file, which records when it was written).
-func snapshotsHash(m map[string]string, out, rel string) error {
-	ds, err := data.Read(filepath.Join(out, rel))
+// snapshotsHash records under name the SHA-256 of the snapshots and
+// parameters of the dataset at path (not of the file, which records when
+// it was written).
+func snapshotsHash(m map[string]string, name, path string) error {
+	ds, err := data.Read(path)
 	if err != nil {
 		return err
 	}
@@ -141,7 +140,7 @@ func snapshotsHash(m map[string]string, out, rel string) error {
 	for _, v := range ds.Params {
 		binary.Write(h, binary.LittleEndian, math.Float64bits(v))
 	}
-	m[rel] = hex.EncodeToString(h.Sum(nil))
+	m[name] = hex.EncodeToString(h.Sum(nil))
 	return nil
 }
 

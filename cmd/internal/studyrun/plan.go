@@ -167,6 +167,18 @@ func (p *Plan) datasetOf(l int) string {
 	return filepath.Join(p.Out, dataPath(l))
 }
 
+// datasetName returns how records name size l's dataset: its path in the
+// output folder, or the imported file as the study file names it.
+func (p *Plan) datasetName(l int) string {
+	s := p.Study.System
+	for i, size := range s.Sizes {
+		if size == l && s.Kind == KindImport {
+			return s.Datasets[i]
+		}
+	}
+	return dataPath(l)
+}
+
 // importPath resolves an imported dataset's path relative to the study file.
 func (p *Plan) importPath(path string) string {
 	if filepath.IsAbs(path) {

@@ -87,10 +87,7 @@ func (p *Plan) work(u Unit) (*work, error) {
 			ins = append(ins, abs(modelPath(u.Size, m)))
 			rels = append(rels, modelPath(u.Size, m))
 		}
-		dataRel := dataPath(u.Size)
-		if st.System.Kind == KindImport {
-			dataRel = in
-		}
+		dataRel := p.datasetName(u.Size)
 		out := scanDir(u.Size)
 		return &work{settings: []any{st.Scan, seed}, inputs: ins, outputs: []string{out}, run: func(ctx context.Context) error {
 			ds, err := data.Read(in)
