@@ -53,6 +53,16 @@ var catalogue = map[string][]badInput{
 		{"output is a folder", []string{"import", "@csv", "--params", "T", "-o", "@out", "--force"}, "found a folder", map[string]string{"out/": ""}},
 		{"output folder missing", []string{"import", "@csv", "--params", "T", "-o", "@out/sub/x.npz"}, "no such file", nil},
 	},
+	"run": {
+		{"missing study file", []string{"run", "@none", "-o", "@out"}, "bad study file", nil},
+		{"text, not a study file", []string{"run", "@txt", "-o", "@out"}, "bad study file", nil},
+		{"empty study file", []string{"run", "@empty", "-o", "@out"}, "missing section [system]", nil},
+		{"dataset given as the study", []string{"run", "@ds4", "-o", "@out"}, "bad study file", nil},
+		{"no output", []string{"run", "@empty"}, "--output: expected an output folder", nil},
+		{"no processes", []string{"run", "@empty", "-o", "@out", "--parallel", "0"}, "--parallel: expected at least 1 process, found 0", nil},
+		{"unit with slurm", []string{"run", "@empty", "-o", "@out", "--unit", "train:0", "--slurm"}, "--unit runs units here", nil},
+		{"unknown flag", []string{"run", "@empty", "-o", "@out", "--bogus"}, "unknown flag: --bogus", nil},
+	},
 	"extrapolate": {
 		{"missing scan folder", []string{"extrapolate", "@none", "@none", "@none", "--nu", "1", "-o", "@out"}, "expected a scan folder holding summary.json", nil},
 		{"folder without a scan", []string{"extrapolate", "@dir", "@dir", "@dir", "--nu", "1", "-o", "@out"}, "expected a scan folder holding summary.json", nil},

@@ -79,6 +79,13 @@ func shrink(args []string) []string {
 		out = append(out, "--model-samples", "30", "--quiet")
 	case "simulate", "score", "check":
 		out = append(out, "--quiet")
+	case "run":
+		// In this process, --parallel would start this test binary for
+		// each unit: the units run here (TestRunLocalParallelSlurm runs
+		// the built binary in parallel).
+		if i := slices.Index(out, "--parallel"); i >= 0 {
+			out = slices.Delete(out, i, i+2)
+		}
 	case "extrapolate":
 		// The fixtures' peaks, from a few hundred snapshots of small
 		// lattices, cannot determine ν: the fit is run with ν given.
@@ -150,9 +157,10 @@ func exampleFixtures(t *testing.T, dir string) {
 		return b.String()
 	}
 	text := map[string]string{
-		"snaps.csv": rows(",", []string{"1", "1", "2", "2"}, 256, []string{"0", "1"}),
-		"chain.txt": rows(" ", []string{"0.5 1", "0.5 1", "1 1", "1 1"}, 6, []string{"0", "1", "2"}),
-		"spins.txt": rows(" ", []string{"1", "1", "2", "2"}, 64, []string{"-1", "1"}),
+		"study.toml": "[system]\nkind = \"ising\"\nsizes = [4]\ngrid = \"T=1.5:3.5:5\"\nsamples = 20\n[model]\nepochs = 1\nhidden = [16]\n[scan]\nbootstrap = 5\n",
+		"snaps.csv":  rows(",", []string{"1", "1", "2", "2"}, 256, []string{"0", "1"}),
+		"chain.txt":  rows(" ", []string{"0.5 1", "0.5 1", "1 1", "1 1"}, 6, []string{"0", "1", "2"}),
+		"spins.txt":  rows(" ", []string{"1", "1", "2", "2"}, 64, []string{"-1", "1"}),
 	}
 	for name, body := range text {
 		if err := os.WriteFile(name, []byte(body), 0o644); err != nil {

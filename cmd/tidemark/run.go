@@ -14,7 +14,7 @@ func newRunCmd() *cobra.Command {
 		Use:     "run STUDY.toml -o OUT/",
 		Short:   "Run a whole study from one file (simulate, train, scan, extrapolate) here, in parallel or on Slurm",
 		Long:    studyrun.Help,
-		Example: "  tidemark run study.toml -o study/ --parallel 2\n  tidemark run study.toml -o study/ --slurm",
+		Example: "  tidemark run study.toml -o study/ --parallel 2\n  tidemark run study.toml -o study/ --slurm-dry-run   # --slurm submits",
 		Args:    cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return o.Execute(args[0], cmd.OutOrStdout(), version, errInterrupted)

@@ -8,6 +8,7 @@ import (
 	"os"
 	"os/signal"
 	"path/filepath"
+	"strings"
 	"syscall"
 )
 
@@ -112,6 +113,9 @@ func (c *Command) command() ([]string, error) {
 	exe, err := os.Executable()
 	if err != nil {
 		return nil, fmt.Errorf("run: cannot find the tidemark binary to start units with: %w", err)
+	}
+	if strings.HasSuffix(exe, ".test") && (c.Parallel > 1 || c.Slurm && !c.DryRun) {
+		return nil, fmt.Errorf("run: %s is a Go test binary, which cannot run units in other processes", exe)
 	}
 	study, err := filepath.Abs(c.Study)
 	if err != nil {
