@@ -123,46 +123,51 @@ func slurmAbsent() string {
 	return ""
 }
 
-// TestRunInterrupted stops a run with SIGINT once some units are stamped
-// and checks that it exits 130 and that the rerun skips every unit the
-// first run finished.
+// TestRunInterrupted stops a run once some units are stamped, with SIGINT
+// (exit status 130) and with SIGKILL, and checks that the rerun skips
+// exactly the units whose stamps the first run wrote and runs the others.
 func TestRunInterrupted(t *testing.T) {
 	if testing.Short() {
-		t.Skip("runs a small study")
+		t.Skip("runs a small study twice")
 	}
-	dir := t.TempDir()
-	if err := os.WriteFile(filepath.Join(dir, "study.toml"), []byte(runStudy), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	cmd := exec.Command(tidemarkBin(t), "run", "study.toml", "-o", "out")
-	cmd.Dir = dir
-	var stdout bytes.Buffer
-	cmd.Stdout = &stdout
-	if err := cmd.Start(); err != nil {
-		t.Fatal(err)
-	}
-	for {
-		stamps, _ := filepath.Glob(filepath.Join(dir, "out", "stamps", "*.json"))
-		if len(stamps) >= 5 {
-			break
-		}
-		time.Sleep(5 * time.Millisecond)
-	}
-	cmd.Process.Signal(syscall.SIGINT)
-	cmd.Wait()
-	if code := cmd.ProcessState.ExitCode(); code != 130 {
-		t.Fatalf("interrupted run: exit status %d, want 130", code)
-	}
-	finished := regexp.MustCompile(`(?m)^\[\d+/34\] (\S+) .*: done`).FindAllStringSubmatch(stdout.String(), -1)
-	r := mustRunBin(t, dir, "run", "study.toml", "-o", "out")
-	for _, f := range finished {
-		if !regexp.MustCompile(regexp.QuoteMeta(f[1]) + ` \(\S+\): up to date, skipped`).MatchString(r.stdout) {
-			t.Errorf("the rerun did not skip %s, which the first run finished", f[1])
-		}
-	}
-	ran := strings.Count(r.stdout, ": done in")
-	if ran+len(finished) != 34 {
-		t.Errorf("first run finished %d units, the rerun ran %d: want 34 together\n%s", len(finished), ran, r.stdout)
+	for _, sig := range []syscall.Signal{syscall.SIGINT, syscall.SIGKILL} {
+		t.Run(sig.String(), func(t *testing.T) {
+			dir := t.TempDir()
+			if err := os.WriteFile(filepath.Join(dir, "study.toml"), []byte(runStudy), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			cmd := exec.Command(tidemarkBin(t), "run", "study.toml", "-o", "out")
+			cmd.Dir = dir
+			if err := cmd.Start(); err != nil {
+				t.Fatal(err)
+			}
+			stampDir := filepath.Join(dir, "out", "stamps")
+			for {
+				if stamps, _ := filepath.Glob(filepath.Join(stampDir, "*.json")); len(stamps) >= 5 {
+					break
+				}
+				time.Sleep(2 * time.Millisecond)
+			}
+			cmd.Process.Signal(sig)
+			cmd.Wait()
+			if code := cmd.ProcessState.ExitCode(); sig == syscall.SIGINT && code != 130 {
+				t.Fatalf("run stopped by SIGINT: exit status %d, want 130", code)
+			}
+			stamps, _ := filepath.Glob(filepath.Join(stampDir, "*.json"))
+			if len(stamps) >= 34 {
+				t.Fatalf("the run finished before the signal (%d stamps)", len(stamps))
+			}
+			r := mustRunBin(t, dir, "run", "study.toml", "-o", "out")
+			for _, s := range stamps {
+				name := strings.ReplaceAll(strings.TrimSuffix(filepath.Base(s), ".json"), "_", "/")
+				if !regexp.MustCompile(`(?m)^\[\d+/34\] ` + regexp.QuoteMeta(name) + ` \(\S+\): up to date, skipped$`).MatchString(r.stdout) {
+					t.Errorf("the rerun did not skip %s, which the first run finished", name)
+				}
+			}
+			if ran := strings.Count(r.stdout, ": done in"); ran+len(stamps) != 34 {
+				t.Errorf("the first run finished %d units, the rerun ran %d: want 34 together\n%s", len(stamps), ran, r.stdout)
+			}
+		})
 	}
 }
 
