@@ -2,7 +2,6 @@ package main
 
 import (
 	"bytes"
-	"context"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -41,63 +40,39 @@ units_per_task = 8
 units_per_task = 2
 `
 
-// TestRunLocalParallelSlurm runs one study here, in two processes and, when
-// a Slurm cluster answers, as job arrays, and checks that the three
-// summary.json files are the same bit for bit.
-func TestRunLocalParallelSlurm(t *testing.T) {
+// TestRunLocalParallel runs one study here and in two processes and checks
+// that the two summary.json files are the same bit for bit, and that a
+// rerun of a finished study runs nothing. (run_validation_test.go compares
+// with Slurm job arrays.)
+func TestRunLocalParallel(t *testing.T) {
 	if testing.Short() {
-		t.Skip("runs a small study three times")
+		t.Skip("runs a small study twice")
 	}
+	dir := runLocal(t)
+	local := readSummary(t, filepath.Join(dir, "local"))
+	mustRunBin(t, dir, "run", "study.toml", "-o", "par", "--parallel", "2", "--quiet")
+	if par := readSummary(t, filepath.Join(dir, "par")); !bytes.Equal(local, par) {
+		t.Error("summary.json of --parallel 2 differs from the local run's")
+	}
+	r := mustRunBin(t, dir, "run", "study.toml", "-o", "par", "--parallel", "2")
+	if !strings.Contains(r.stdout, "0 units ran, 34 were up to date") {
+		t.Errorf("rerunning a finished study ran units:\n%s", r.stdout)
+	}
+}
+
+// runLocal writes runStudy into a new folder, runs it there into local/
+// and returns the folder.
+func runLocal(t *testing.T) string {
+	t.Helper()
 	dir := t.TempDir()
-	study := filepath.Join(dir, "study.toml")
-	if err := os.WriteFile(study, []byte(runStudy), 0o644); err != nil {
+	if err := os.WriteFile(filepath.Join(dir, "study.toml"), []byte(runStudy), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	r := mustRunBin(t, dir, "run", "study.toml", "-o", "local")
 	if !strings.Contains(r.stdout, "[34/34] finish (finish:0): done") || !strings.Contains(r.stdout, "34 units ran, 0 were up to date") {
 		t.Errorf("local run's progress lines:\n%s", r.stdout)
 	}
-	local := readSummary(t, filepath.Join(dir, "local"))
-	mustRunBin(t, dir, "run", "study.toml", "-o", "par", "--parallel", "2", "--quiet")
-	if par := readSummary(t, filepath.Join(dir, "par")); !bytes.Equal(local, par) {
-		t.Error("summary.json of --parallel 2 differs from the local run's")
-	}
-	r = mustRunBin(t, dir, "run", "study.toml", "-o", "par", "--parallel", "2")
-	if !strings.Contains(r.stdout, "0 units ran, 34 were up to date") {
-		t.Errorf("rerunning a finished study ran units:\n%s", r.stdout)
-	}
-
-	if reason := slurmAbsent(); reason != "" {
-		t.Skipf("the Slurm part skips: %s (.ci/slurm-up.sh starts a one-node cluster)", reason)
-	}
-	r = mustRunBin(t, dir, "run", "study.toml", "-o", "slurm", "--slurm")
-	m := regexp.MustCompile(`squeue -j ([0-9,]+)`).FindStringSubmatch(r.stdout)
-	if m == nil {
-		t.Fatalf("--slurm printed no job ids:\n%s", r.stdout)
-	}
-	deadline := time.Now().Add(3 * time.Minute)
-	for {
-		out, err := exec.Command("squeue", "-h", "-j", m[1]).Output()
-		if err == nil && strings.TrimSpace(string(out)) == "" {
-			break
-		}
-		if time.Now().After(deadline) {
-			exec.Command("scancel", strings.Split(m[1], ",")...).Run()
-			t.Fatalf("the Slurm jobs %s did not finish within 3 minutes", m[1])
-		}
-		time.Sleep(500 * time.Millisecond)
-	}
-	if _, err := os.Stat(filepath.Join(dir, "slurm", "summary.json")); err != nil {
-		logs, _ := filepath.Glob(filepath.Join(dir, "slurm", "slurm", "logs", "*"))
-		for _, l := range logs {
-			b, _ := os.ReadFile(l)
-			t.Logf("%s:\n%s", l, b)
-		}
-		t.Fatalf("the Slurm jobs ended without the summary: %v", err)
-	}
-	if sl := readSummary(t, filepath.Join(dir, "slurm")); !bytes.Equal(local, sl) {
-		t.Error("summary.json of --slurm differs from the local run's")
-	}
+	return dir
 }
 
 func readSummary(t *testing.T, out string) []byte {
@@ -107,20 +82,6 @@ func readSummary(t *testing.T, out string) []byte {
 		t.Fatal(err)
 	}
 	return b
-}
-
-// slurmAbsent says why no Slurm cluster can run the test ("" when one answers).
-func slurmAbsent() string {
-	if _, err := exec.LookPath("sbatch"); err != nil {
-		return "sbatch is not installed"
-	}
-	ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
-	defer cancel()
-	out, err := exec.CommandContext(ctx, "sinfo", "-h", "-o", "%T").Output()
-	if err != nil || !regexp.MustCompile(`(?m)^(idle|mixed|allocated)`).Match(out) {
-		return "no Slurm cluster answers (sinfo)"
-	}
-	return ""
 }
 
 // TestRunInterrupted stops a run once some units are stamped, with SIGINT
