@@ -137,7 +137,7 @@ func TestRunInterrupted(t *testing.T) {
 func TestRunBadStudyFile(t *testing.T) {
 	for _, tc := range []struct{ name, from, to, want string }{
 		{"unknown key", "epochs = 2", "epochs = 2\nepoch_count = 3", `study.toml:11: unknown key model.epoch_count`},
-		{"wrong type", "samples = 40", "samples = 4.5", `study.toml:5: key system.samples: expected an integer, found float`},
+		{"wrong type", "samples = 40", "samples = 4.5", `study.toml:5: key system.samples: expected an integer, found a number with a fraction`},
 		{"missing section", "[scan]\nbootstrap = 10\nindicators = [\"fisher\", \"local\"]\n", "", `missing section [scan]`},
 	} {
 		t.Run(tc.name, func(t *testing.T) {

@@ -142,7 +142,7 @@ func Load(path string) (*Study, error) {
 			return nil, fmt.Errorf("%w: %s:%d:%s %s", ErrStudyFile, path, pe.Position.Line, key, oneLine(pe.Message))
 		}
 		if m := typeErr.FindStringSubmatch(err.Error()); m != nil {
-			return nil, fmt.Errorf("%w: %s:%s: key %s: expected %s, found %s", ErrStudyFile, path, m[1], m[2], goTypeWord(m[4]), m[3])
+			return nil, fmt.Errorf("%w: %s:%s: key %s: expected %s, found %s", ErrStudyFile, path, m[1], m[2], goTypeWord(m[4]), tomlTypeWord(m[3]))
 		}
 		return nil, fmt.Errorf("%w: %s: %s", ErrStudyFile, path, oneLine(err.Error()))
 	}
@@ -206,6 +206,27 @@ func keyLine(text string, key toml.Key) int {
 }
 
 func oneLine(s string) string { return strings.Join(strings.Fields(s), " ") }
+
+// tomlTypeWord names the type of a TOML value as the parser reports it.
+func tomlTypeWord(t string) string {
+	switch t {
+	case "int64":
+		return "an integer"
+	case "float64":
+		return "a number with a fraction"
+	case "string":
+		return "a string"
+	case "bool":
+		return "true or false"
+	}
+	if strings.HasPrefix(t, "[]") {
+		return "an array"
+	}
+	if strings.HasPrefix(t, "map") {
+		return "a table"
+	}
+	return t
+}
 
 // goTypeWord names a Go destination type in the words of a study file.
 func goTypeWord(t string) string {

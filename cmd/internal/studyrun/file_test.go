@@ -49,7 +49,7 @@ func TestLoadErrors(t *testing.T) {
 			[]string{":11:", "unknown key model.learning_rate"}},
 		{"unknown section", smallStudy + "\n[plots]\nwidth = 3\n", []string{":21:", "unknown key plots"}},
 		{"wrong type", strings.Replace(smallStudy, "samples = 40", `samples = "forty"`, 1),
-			[]string{":5:", "key system.samples", "expected an integer", "found string"}},
+			[]string{":5:", "key system.samples", "expected an integer", "found a string"}},
 		{"wrong array element", strings.Replace(smallStudy, "sizes = [4, 6, 8]", `sizes = [4, "six"]`, 1),
 			[]string{":3:", "system.sizes"}},
 		{"missing section", strings.Replace(smallStudy, "[model]\nensemble = 2\nepochs = 2\nhidden = [16]\n", "", 1), []string{"missing section [model]"}},
@@ -60,6 +60,8 @@ func TestLoadErrors(t *testing.T) {
 			[]string{":4:", "system.grid", "unknown axis"}},
 		{"too few sizes to extrapolate", strings.Replace(strings.Replace(smallStudy, "sizes = [4, 6, 8]", "sizes = [4, 6]", 1), "nu = 1.0", "nu = 1.0\nenabled = true", 1),
 			[]string{":19:", "extrapolate.enabled", "at least 3 sizes"}},
+		{"bad hidden width", strings.Replace(smallStudy, "hidden = [16]", "hidden = [16, 0]", 1),
+			[]string{":11:", "model.hidden", "at least 1 unit"}},
 		{"bad ensemble", strings.Replace(smallStudy, "ensemble = 2", "ensemble = -1", 1),
 			[]string{":9:", "model.ensemble"}},
 	} {

@@ -59,7 +59,11 @@ func (st *Study) check() *keyErr {
 			if err != nil {
 				key, _, _ := strings.Cut(err.Error(), ":")
 				k := studyKey(key)
-				return &keyErr{key: toml.Key{"system", k}, err: fmt.Errorf("key system.%s: at size %d: %w", k, l, err)}
+				msg := strings.TrimPrefix(err.Error(), key+": ")
+				if k == "sizes" || k == "samples" {
+					msg = fmt.Sprintf("at size %d: %s", l, msg)
+				}
+				return &keyErr{key: toml.Key{"system", k}, err: fmt.Errorf("key system.%s: %s", k, msg)}
 			}
 		}
 	}
@@ -75,6 +79,11 @@ func (st *Study) check() *keyErr {
 	}
 	if m.Threads < 1 {
 		return bad("model", "threads", "expected at least 1 thread, found %d", m.Threads)
+	}
+	for _, h := range m.Hidden {
+		if h < 1 {
+			return bad("model", "hidden", "expected widths of at least 1 unit, found %v", m.Hidden)
+		}
 	}
 	if _, err := st.trainSettings(0); err != nil {
 		return keyErrOf("model", err)
