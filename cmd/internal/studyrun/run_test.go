@@ -49,7 +49,7 @@ func TestResume(t *testing.T) {
 	}
 	p, out := loadSmall(t, smallStudy)
 	ctx, cancel := context.WithCancel(context.Background())
-	const stopAfter = 25 // inside the simulate and gather stages: 21 points, 3 gathers
+	const stopAfter = 25 // 21 points and 3 gathers, then the first training unit
 	n := 0
 	first, err := Run(ctx, p, Options{OnUnit: func(Unit, bool) {
 		if n++; n == stopAfter {
