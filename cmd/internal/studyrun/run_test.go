@@ -214,3 +214,18 @@ func TestSlurmScripts(t *testing.T) {
 		t.Error("train:4-6 accepted beyond the 6 units")
 	}
 }
+
+// TestMinutes checks the time limits written into the scripts: Slurm's
+// [D-]HH:MM:SS, rounded up to whole minutes, at least ten minutes.
+func TestMinutes(t *testing.T) {
+	for _, tc := range []struct {
+		sec  float64
+		want string
+	}{
+		{1, "00:10:00"}, {600, "00:10:00"}, {601, "00:11:00"}, {3600, "01:00:00"}, {90000, "1-01:00:00"},
+	} {
+		if got := minutes(tc.sec); got != tc.want {
+			t.Errorf("minutes(%v) = %s, want %s", tc.sec, got, tc.want)
+		}
+	}
+}
