@@ -154,6 +154,16 @@ func (p *Plan) hashInto(m map[string]string, rel string) error {
 }
 
 var pageTmpl = template.Must(template.New("study").Funcs(template.FuncMap{
+	// top is the highest peak, the one the extrapolation fits.
+	"top": func(pks []report.PeakSummary) report.PeakSummary {
+		best := pks[0]
+		for _, p := range pks[1:] {
+			if p.Height > best.Height {
+				best = p
+			}
+		}
+		return best
+	},
 	"names": func(m map[string]report.IndicatorSummary) []string {
 		var s []string
 		for k := range m {
@@ -168,10 +178,10 @@ var pageTmpl = template.Must(template.New("study").Funcs(template.FuncMap{
 </head><body>
 <h1>Study: {{.Kind}} over {{.Grid}}</h1>
 <h2>Sizes</h2>
-<table><tr><th>size</th><th>dataset</th><th>models (best validation, bits/site)</th><th>main peaks</th><th>scan</th></tr>
+<table><tr><th>size</th><th>dataset</th><th>models (best validation, bits/site)</th><th>highest peaks</th><th>scan</th></tr>
 {{range .Sizes}}{{$s := .}}<tr><td>{{.Size}}</td><td>{{.Dataset}}</td>
 <td>{{range .Models}}{{.Path}}: {{printf "%.5f" .BestValBitsPerSite}}<br>{{end}}</td>
-<td>{{range names .Indicators}}{{$ind := index $s.Indicators .}}{{if $ind.Peaks}}{{$pk := index $ind.Peaks 0}}{{.}}: {{range $pk.At}}{{printf "%.4g" .}} {{end}}± {{range $pk.Err}}{{printf "%.2g" .}} {{end}}<br>{{end}}{{end}}</td>
+<td>{{range names .Indicators}}{{$ind := index $s.Indicators .}}{{if $ind.Peaks}}{{$pk := top $ind.Peaks}}{{.}}: {{range $pk.At}}{{printf "%.4g" .}} {{end}}± {{range $pk.Err}}{{printf "%.2g" .}} {{end}}<br>{{end}}{{end}}</td>
 <td><a href="{{.Scan}}/report.html">{{.Scan}}</a></td></tr>
 {{end}}</table>
 {{with .Extrapolation}}<h2>Extrapolation to the infinite system</h2>

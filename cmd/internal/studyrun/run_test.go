@@ -84,6 +84,16 @@ func TestResume(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	page, err := os.ReadFile(filepath.Join(out, reportFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, w := range []string{`href="scans/L4/report.html"`, `href="scans/L6/report.html"`, `href="scans/L8/report.html"`,
+		`href="extrapolation/report.html"`, "models/L8-m2.ckpt"} {
+		if !strings.Contains(string(page), w) {
+			t.Errorf("report.html lacks %s", w)
+		}
+	}
 
 	// A finished unit whose output was damaged is redone, alone with what
 	// depends on it.
