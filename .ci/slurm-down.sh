@@ -1,8 +1,10 @@
 #!/usr/bin/env bash
-# Stops the cluster .ci/slurm-up.sh started, by the daemons' pid files.
+# Stops the daemons .ci/slurm-up.sh started (listed in $dir/pidfiles), by
+# their pid files, slurmd first.
 set -uo pipefail
 dir="${TIDEMARK_SLURM_DIR:-/tmp/tidemark-slurm}"
-for pidfile in "$dir/slurmd.pid" "$dir/slurmctld.pid" /run/munge/munged.pid; do
+[ -s "$dir/pidfiles" ] || exit 0
+for pidfile in $(tac "$dir/pidfiles"); do
 	if [ -s "$pidfile" ]; then
 		pid="$(cat "$pidfile")"
 		kill "$pid" 2>/dev/null || true
@@ -12,4 +14,5 @@ for pidfile in "$dir/slurmd.pid" "$dir/slurmctld.pid" /run/munge/munged.pid; do
 		done
 	fi
 done
+rm -f "$dir/pidfiles"
 exit 0

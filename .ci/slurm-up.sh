@@ -65,13 +65,19 @@ CONF
 mkdir -p /run/munge
 chown munge:munge /run/munge
 chmod 0755 /run/munge
+# $dir/pidfiles lists the daemons this script started, the ones
+# slurm-down.sh stops (a munged that was already running is left alone).
+: >"$dir/pidfiles"
 if [ ! -e /run/munge/munged.pid ] || ! kill -0 "$(cat /run/munge/munged.pid)" 2>/dev/null; then
 	runuser -u munge -- /usr/sbin/munged
+	echo /run/munge/munged.pid >>"$dir/pidfiles"
 fi
 # -c: start with a clean state; -N: the node name of slurm.conf, whatever
 # the host is called.
 slurmctld -c
+echo "$dir/slurmctld.pid" >>"$dir/pidfiles"
 slurmd -N localhost
+echo "$dir/slurmd.pid" >>"$dir/pidfiles"
 for _ in $(seq 1 50); do
 	if sinfo -h -o %T 2>/dev/null | grep -qE '^(idle|mixed|allocated)'; then
 		echo "slurm-up: one-node cluster up ($cpus CPUs, ${mem} MB); state in $dir"
