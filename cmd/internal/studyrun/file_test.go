@@ -62,6 +62,8 @@ func TestLoadErrors(t *testing.T) {
 			[]string{":19:", "extrapolate.enabled", "at least 3 sizes"}},
 		{"bad hidden width", strings.Replace(smallStudy, "hidden = [16]", "hidden = [16, 0]", 1),
 			[]string{":11:", "model.hidden", "at least 1 unit"}},
+		{"missing import", "[system]\nkind = \"import\"\nsizes = [4, 6, 8]\ndatasets = [\"a.npz\", \"b.npz\", \"c.npz\"]\n[model]\n[scan]\n",
+			[]string{":4:", "system.datasets", "a.npz: no such file"}},
 		{"bad ensemble", strings.Replace(smallStudy, "ensemble = 2", "ensemble = -1", 1),
 			[]string{":9:", "model.ensemble"}},
 	} {

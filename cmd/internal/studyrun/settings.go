@@ -4,6 +4,8 @@ import (
 	"crypto/sha256"
 	"encoding/binary"
 	"fmt"
+	"os"
+	"path/filepath"
 	"strings"
 
 	"github.com/BurntSushi/toml"
@@ -44,6 +46,15 @@ func (st *Study) check() *keyErr {
 	if s.Kind == KindImport {
 		if len(s.Datasets) != len(s.Sizes) {
 			return bad("system", "datasets", "expected one dataset per size (%d), found %d", len(s.Sizes), len(s.Datasets))
+		}
+		for _, d := range s.Datasets {
+			path := d
+			if !filepath.IsAbs(path) {
+				path = filepath.Join(filepath.Dir(st.path), d)
+			}
+			if _, err := os.Stat(path); err != nil {
+				return bad("system", "datasets", "expected dataset files (paths relative to the study file), found %w", err)
+			}
 		}
 	} else {
 		if len(s.Datasets) > 0 {
