@@ -239,3 +239,58 @@ func TestMinutes(t *testing.T) {
 		}
 	}
 }
+
+// TestImportStudy runs a study of imported datasets: no simulation units,
+// and the records name the datasets as the study file does.
+func TestImportStudy(t *testing.T) {
+	if testing.Short() {
+		t.Skip("trains three small models")
+	}
+	dir := t.TempDir()
+	for _, l := range []int{4, 6, 8} {
+		cfg, err := ising.Request{Lx: l, Grid: "T=1.5:3.5:5", Samples: 30, Fixed: ising.Couplings{Jx: 1, Jy: 1}, Seed: 5, Threads: 1}.Config()
+		if err != nil {
+			t.Fatal(err)
+		}
+		res, err := ising.Simulate(context.Background(), cfg)
+		if err != nil {
+			t.Fatal(err)
+		}
+		ds, err := res.Dataset(cfg, "T=1.5:3.5:5")
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := ds.Write(filepath.Join(dir, fmt.Sprintf("snap%d.npz", l)), false); err != nil {
+			t.Fatal(err)
+		}
+	}
+	text := "[system]\nkind = \"import\"\nsizes = [4, 6, 8]\ndatasets = [\"snap4.npz\", \"snap6.npz\", \"snap8.npz\"]\n" +
+		"[model]\nepochs = 1\nhidden = [8]\n[scan]\nbootstrap = 5\nindicators = [\"fisher\"]\n[extrapolate]\nnu = 1.0\nbootstrap = 10\n"
+	study := filepath.Join(dir, "study.toml")
+	if err := os.WriteFile(study, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	st, err := Load(study)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := NewPlan(st, filepath.Join(dir, "out"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := Run(context.Background(), p, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []string{"train/L4/m1", "train/L6/m1", "train/L8/m1", "scan/L4", "scan/L6", "scan/L8", "finish"}
+	if !slices.Equal(res.Ran, want) {
+		t.Errorf("ran %v, want %v", res.Ran, want)
+	}
+	b, err := os.ReadFile(filepath.Join(dir, "out", summaryFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(b), `"dataset": "snap6.npz"`) {
+		t.Errorf("summary.json does not name the imported dataset as the study file does:\n%s", b)
+	}
+}
