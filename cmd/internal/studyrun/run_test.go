@@ -294,3 +294,22 @@ func TestImportStudy(t *testing.T) {
 		t.Errorf("summary.json does not name the imported dataset as the study file does:\n%s", b)
 	}
 }
+
+// TestChainStudy runs a chain study: one simulation unit per size (the
+// solver runs over a size's whole grid), no gather units.
+func TestChainStudy(t *testing.T) {
+	if testing.Short() {
+		t.Skip("trains three small models")
+	}
+	text := "[system]\nkind = \"chain\"\nsizes = [4, 6, 8]\nhamiltonian = \"-ZZ - h*X\"\ngrid = \"h=0.5:1.5:5\"\nbasis = \"z\"\nsamples = 30\nseed = 1\n" +
+		"[model]\nepochs = 1\nhidden = [8]\n[scan]\nbootstrap = 5\nindicators = [\"fisher\"]\n[extrapolate]\nnu = 1.0\nbootstrap = 10\n"
+	p, _ := loadSmall(t, text)
+	res, err := Run(context.Background(), p, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []string{"simulate/L4", "simulate/L6", "simulate/L8", "train/L4/m1", "train/L6/m1", "train/L8/m1", "scan/L4", "scan/L6", "scan/L8", "finish"}
+	if !slices.Equal(res.Ran, want) {
+		t.Errorf("ran %v, want %v", res.Ran, want)
+	}
+}
