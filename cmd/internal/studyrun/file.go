@@ -157,7 +157,11 @@ func Load(path string) (*Study, error) {
 	}
 	st.path = path
 	if err := st.check(); err != nil {
-		return nil, fmt.Errorf("%w: %s:%d: %w", ErrStudyFile, path, keyLine(string(text), err.key), err.err)
+		where := path
+		if n := keyLine(string(text), err.key); n > 0 {
+			where = fmt.Sprintf("%s:%d", path, n)
+		}
+		return nil, fmt.Errorf("%w: %s: %w", ErrStudyFile, where, err.err)
 	}
 	return &st, nil
 }

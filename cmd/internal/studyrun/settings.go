@@ -119,13 +119,15 @@ func (st *Study) check() *keyErr {
 		return keyErrOf("scan", err)
 	}
 	e := &st.Extrapolate
-	if e.Enabled == nil {
-		on := len(s.Sizes) >= 3
-		e.Enabled = &on
-	}
 	if e.Bootstrap == nil {
 		b := defaultExtrapolateBootstrap
 		e.Bootstrap = &b
+	}
+	if e.Enabled == nil {
+		// By default the study extrapolates when it has the sizes the fit
+		// needs: 3 with ν given, 4 when ν is fitted (5 with ω).
+		on := len(s.Sizes) >= max(3, scaling.MinSizes(st.fitOptions(0)))
+		e.Enabled = &on
 	}
 	if *e.Enabled {
 		opt := st.fitOptions(0)
