@@ -17,15 +17,15 @@ type Command struct {
 	// Study is the study file and Out the output folder.
 	Study, Out string
 	// Parallel, Unit, Slurm, DryRun and Quiet are the command's options.
-	Parallel     int
-	Unit         string
-	Slurm        bool
-	DryRun       bool
-	Quiet        bool
-	Stdout       io.Writer
-	Version      string
-	onUnit       func(Unit, bool)
-	slurmCommand func(name string, args ...string) ([]byte, error)
+	Parallel int
+	Unit     string
+	Slurm    bool
+	DryRun   bool
+	Quiet    bool
+	// Stdout receives the progress lines; Version is recorded in the
+	// checkpoints.
+	Stdout  io.Writer
+	Version string
 }
 
 // Execute runs the study file study with the command's options until it
@@ -94,9 +94,9 @@ func (c *Command) Run(ctx context.Context) error {
 		return err
 	}
 	if c.Slurm || c.DryRun {
-		return plan.Slurm(ctx, SlurmOptions{Command: self, Submit: !c.DryRun, Log: c.Stdout, run: c.slurmCommand})
+		return plan.Slurm(ctx, SlurmOptions{Command: self, Submit: !c.DryRun, Log: c.Stdout})
 	}
-	res, err := Run(ctx, plan, Options{Parallel: c.Parallel, Command: self, Log: log, OnUnit: c.onUnit})
+	res, err := Run(ctx, plan, Options{Parallel: c.Parallel, Command: self, Log: log})
 	if err != nil {
 		return fmt.Errorf("run: %w", err)
 	}

@@ -45,10 +45,13 @@ type Unit struct {
 
 // Plan is a study's units, stage by stage.
 type Plan struct {
-	Study  *Study
-	Out    string
-	Points int // grid points per size (0 for import)
-	Units  map[Stage][]Unit
+	// Study is the study file's content and Out the output folder.
+	Study *Study
+	Out   string
+	// Points is the number of grid points per size (0 for import).
+	Points int
+	// Units lists each stage's units in the order of their indices.
+	Units map[Stage][]Unit
 }
 
 // NewPlan lists the units of st with outputs under out.
