@@ -103,3 +103,35 @@ func SigmoidMul(dst, d, a []float64) {
 		dst[i] = sigmoid1(a[i]) * d[i]
 	}
 }
+
+// Adam applies one step of Adam (D. P. Kingma and J. Ba, "Adam: a method
+// for stochastic optimization", ICLR 2015) to the weights w with gradient g
+// and moments m, v (all of len(g)): m = b1·m + (1−b1)·g, v = b2·v +
+// (1−b2)·g², w −= lr·(m/bc1)/(√(v/bc2) + eps), plus wd·w when decay is set
+// (decoupled weight decay, AdamW). bc1 and bc2 are the bias corrections
+// 1 − b1^t and 1 − b2^t. Every operation rounds as the scalar Go loop
+// written in that order, without fused multiply-adds, in the assembly too.
+func Adam(w, g, m, v []float64, b1, b2, eps, lr, bc1, bc2, wd float64, decay bool) {
+	w, m, v = w[:len(g)], m[:len(g)], v[:len(g)]
+	n := 0
+	if useAsm && len(g) >= 4 {
+		n = len(g) &^ 3
+		c := [9]float64{b1, 1 - b1, b2, 1 - b2, bc1, lr, bc2, eps, wd}
+		d := 0
+		if decay {
+			d = 1
+		}
+		adamAsm(&w[0], &g[0], &m[0], &v[0], n, &c, d)
+	}
+	for j := n; j < len(g); j++ {
+		gj := g[j]
+		mj := b1*m[j] + (1-b1)*gj
+		vj := b2*v[j] + (1-b2)*gj*gj
+		m[j], v[j] = mj, vj
+		step := lr * (mj / bc1) / (math.Sqrt(vj/bc2) + eps)
+		if decay {
+			step += wd * w[j]
+		}
+		w[j] -= step
+	}
+}

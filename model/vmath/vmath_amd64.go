@@ -18,3 +18,8 @@ func softplusAsm(dst, src *float64, n int)
 //
 //go:noescape
 func sigmoidMulAsm(dst, d, a *float64, n int)
+
+// adamAsm is Adam's step of n entries (n a multiple of 4), in adam_amd64.s.
+//
+//go:noescape
+func adamAsm(w, grad, m, v *float64, n int, c *[9]float64, decay int)

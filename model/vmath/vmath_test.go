@@ -3,6 +3,7 @@ package vmath
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 )
 
@@ -148,4 +149,40 @@ func BenchmarkSoftplus(b *testing.B) {
 		}
 		rate(b)
 	})
+}
+
+// TestAdam checks the vectorised Adam step against the same step taken one
+// entry at a time (the Go loop), bit for bit, with and without decay, and
+// the moments against their definition (Kingma & Ba, ICLR 2015, Algorithm 1).
+func TestAdam(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 8))
+	const n = 1003
+	for _, decay := range []bool{false, true} {
+		w, g, m, v := make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
+		for i := range w {
+			w[i], g[i] = rng.NormFloat64(), rng.NormFloat64()*1e-3
+			if i%3 == 0 {
+				g[i] = 0
+			}
+			m[i], v[i] = rng.NormFloat64()*1e-3, rng.Float64()*1e-6
+		}
+		w1, m1, v1 := slices.Clone(w), slices.Clone(m), slices.Clone(v)
+		m0, v0 := slices.Clone(m), slices.Clone(v)
+		args := []float64{0.9, 0.999, 1e-8, 2e-3, 1 - math.Pow(0.9, 7), 1 - math.Pow(0.999, 7), 2e-3 * 0.01}
+		Adam(w, g, m, v, args[0], args[1], args[2], args[3], args[4], args[5], args[6], decay)
+		for i := range w1 {
+			Adam(w1[i:i+1], g[i:i+1], m1[i:i+1], v1[i:i+1], args[0], args[1], args[2], args[3], args[4], args[5], args[6], decay)
+		}
+		for i := range w {
+			if math.Float64bits(w[i]) != math.Float64bits(w1[i]) || m[i] != m1[i] || v[i] != v1[i] {
+				t.Fatalf("decay %v, entry %d: vectorised w, m, v = %v, %v, %v; one at a time %v, %v, %v", decay, i, w[i], m[i], v[i], w1[i], m1[i], v1[i])
+			}
+			if wantM := 0.9*m0[i] + 0.1*g[i]; math.Abs(m[i]-wantM) > 1e-15*(math.Abs(m0[i])+math.Abs(g[i]))+1e-300 {
+				t.Fatalf("entry %d: m = %v, expected β1·m + (1−β1)·g = %v", i, m[i], wantM)
+			}
+			if wantV := 0.999*v0[i] + 0.001*g[i]*g[i]; math.Abs(v[i]-wantV) > 1e-14*wantV+1e-300 {
+				t.Fatalf("entry %d: v = %v, expected β2·v + (1−β2)·g² = %v", i, v[i], wantV)
+			}
+		}
+	}
 }
