@@ -87,9 +87,15 @@ while [ $round -le "$rounds" ]; do
 			conv) /usr/bin/time -o "$t" -f "%e %U %S %M" "$tmp/tidemark" train "$tmp/d$L.npz" -o "$tmp/m.ckpt" --force --quiet \
 				--epochs "$epochs" --batch "$batch" --threads 2 --patience 1000 --arch conv ;;
 			peer) OMP_WAIT_POLICY=PASSIVE /usr/bin/time -o "$t" -f "%e %U %S %M" /usr/bin/python3 bench/peer/train_peer.py "$tmp/d$L.npz" \
-				--hidden "$h,$h" --epochs "$epochs" --batch "$batch" --threads 2 --out "$tmp/peer.pt" >/dev/null ;;
+				--hidden "$h,$h" --epochs "$epochs" --batch "$batch" --threads 2 --out "$tmp/peer.pt" >"$tmp/peer.json" ;;
 			esac
-			echo "$round $N $side $(cat "$t")" >>"$raw"
+			# The last epoch's samples per second inside the training loop.
+			if [ "$side" = peer ]; then
+				rate=$(/usr/bin/python3 -c 'import json,sys; print(json.load(open(sys.argv[1]))["samples_per_s"][-1])' "$tmp/peer.json")
+			else
+				rate=$("$tmp/tidemark" inspect "$tmp/m.ckpt" --json | /usr/bin/python3 -c 'import json,sys; print(json.load(sys.stdin)["metrics"][-1]["samples_per_s"])')
+			fi
+			echo "$round $N $side $(cat "$t") $rate" >>"$raw"
 		done
 	done
 	round=$((round + 1))

@@ -34,14 +34,15 @@ func main() {
 	precision := flag.String("precision", "", "float64 or float32")
 	augment := flag.String("augment", "none", "symmetries to augment with")
 	cpuprofile := flag.String("cpuprofile", "", "write a CPU profile here")
+	saveShare := flag.Float64("saveshare", 0.05, "train.Options.SaveShare (the command's 0.05; 0: a checkpoint every epoch)")
 	flag.Parse()
-	if err := run(*path, *hidden, *arch, *batch, *epochs, *threads, *precision, *augment, *cpuprofile); err != nil {
+	if err := run(*path, *hidden, *arch, *batch, *epochs, *threads, *precision, *augment, *cpuprofile, *saveShare); err != nil {
 		fmt.Fprintln(os.Stderr, "trainstages:", err)
 		os.Exit(2)
 	}
 }
 
-func run(path, hidden, arch string, batch, epochs, threads int, precision, augment, cpuprofile string) error {
+func run(path, hidden, arch string, batch, epochs, threads int, precision, augment, cpuprofile string, saveShare float64) error {
 	t0 := time.Now()
 	ds, err := data.Read(path)
 	if err != nil {
@@ -68,10 +69,13 @@ func run(path, hidden, arch string, batch, epochs, threads int, precision, augme
 	out := filepath.Join(dir, "m.ckpt")
 	var stages train.Stages
 	saves := 0
-	opt := train.Options{Settings: st, DataPath: path, Software: "trainstages", Stages: &stages,
+	opt := train.Options{Settings: st, DataPath: path, Software: "trainstages", Stages: &stages, SaveShare: saveShare,
 		Progress: func(int) {},
 		OnEpoch: func(m checkpoints.EpochMetrics, ck *checkpoints.Checkpoint) error {
 			fmt.Printf("epoch %d  train %.5f  val %.5f bits/site  %.0f samples/s\n", m.Epoch, m.TrainBitsPerSite, m.ValBitsPerSite, m.SamplesPerS)
+			if ck.Best == nil {
+				return nil // no save due
+			}
 			saves++
 			return ck.Save(out, true)
 		}}
