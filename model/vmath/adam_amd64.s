@@ -26,6 +26,17 @@ aloop:
 	CMPQ CX, $4
 	JLT adone
 	VMOVUPD (SI), Y0
+	// Without decay, four entries whose gradient and moments are all +0
+	// (outside a mask) keep their weight and moments exactly: skip them,
+	// as the Go loop does.
+	CMPQ R9, $0
+	JNE compute
+	VMOVUPD (DX), Y1
+	VORPD (BX), Y1, Y1
+	VORPD Y0, Y1, Y1
+	VPTEST Y1, Y1
+	JZ next
+compute:
 	// m = b1·m + (1−b1)·g
 	VMULPD (DX), Y8, Y1
 	VMULPD Y0, Y9, Y4
@@ -53,6 +64,7 @@ aloop:
 nodecay:
 	VSUBPD Y1, Y3, Y3
 	VMOVUPD Y3, (DI)
+next:
 	ADDQ $32, DI
 	ADDQ $32, SI
 	ADDQ $32, DX

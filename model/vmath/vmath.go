@@ -111,6 +111,8 @@ func SigmoidMul(dst, d, a []float64) {
 // (decoupled weight decay, AdamW). bc1 and bc2 are the bias corrections
 // 1 − b1^t and 1 − b2^t. Every operation rounds as the scalar Go loop
 // written in that order, without fused multiply-adds, in the assembly too.
+// Without decay, entries whose gradient and moments are 0 (those outside a
+// weight's mask) are skipped: their step would be exactly 0.
 func Adam(w, g, m, v []float64, b1, b2, eps, lr, bc1, bc2, wd float64, decay bool) {
 	w, m, v = w[:len(g)], m[:len(g)], v[:len(g)]
 	n := 0
@@ -125,6 +127,9 @@ func Adam(w, g, m, v []float64, b1, b2, eps, lr, bc1, bc2, wd float64, decay boo
 	}
 	for j := n; j < len(g); j++ {
 		gj := g[j]
+		if gj == 0 && !decay && m[j] == 0 && v[j] == 0 {
+			continue // the step is 0 and the moments stay 0 (outside a mask)
+		}
 		mj := b1*m[j] + (1-b1)*gj
 		vj := b2*v[j] + (1-b2)*gj*gj
 		m[j], v[j] = mj, vj
