@@ -2,7 +2,7 @@
 # bench/run.sh — side-by-side throughput of tidemark's model package and a
 # PyTorch CPU peer of the same conditional MADE, in one run on one machine.
 #
-#   bench/run.sh [-s SHAPES] [-f SHAPES] [-a ACTIVATION] [-g POINTS] [-b SECONDS] [-r REPS] [-n ROUNDS] [-o FILE]
+#   bench/run.sh [-s SHAPES] [-f SHAPES] [-a ACTIVATION] [-g POINTS] [-b SECONDS] [-r REPS] [-n ROUNDS] [-e SIZES] [-o FILE]
 #
 #   -s  comma-separated NxH shapes of the additive model (conditioning that
 #       shifts every layer, the peer's default; default 64x256,256x512,1024x1024)
@@ -17,6 +17,10 @@
 #   -r  repetitions per figure; the median is reported (default 5)
 #   -n  rounds: every side runs every shape once per round, interleaved,
 #       so a change of machine load hits all sides alike (default 2)
+#   -e  also the end-to-end case (bench/e2e.sh): `tidemark train` against
+#       the peer's training script, whole processes on the same .npz, at
+#       these lattice widths (e.g. 16,32,64 for N = 256, 1024, 4096), with
+#       the same number of rounds; its section is appended to the results
 #   -o  results file (default bench/RESULTS.md)
 #
 # Sides: ours built pure Go (the default build), ours built with -tags
@@ -34,7 +38,8 @@ budget=20
 reps=5
 rounds=2
 out=bench/RESULTS.md
-while getopts s:f:a:g:b:r:n:o: opt; do
+e2e=""
+while getopts s:f:a:g:b:r:n:e:o: opt; do
 	case $opt in
 	s) shapes=$OPTARG ;;
 	f) filmshapes=$OPTARG ;;
@@ -43,8 +48,9 @@ while getopts s:f:a:g:b:r:n:o: opt; do
 	b) budget=$OPTARG ;;
 	r) reps=$OPTARG ;;
 	n) rounds=$OPTARG ;;
+	e) e2e=$OPTARG ;;
 	o) out=$OPTARG ;;
-	*) echo "usage: bench/run.sh [-s SHAPES] [-f SHAPES] [-a ACTIVATION] [-g POINTS] [-b SECONDS] [-r REPS] [-n ROUNDS] [-o FILE]" >&2; exit 2 ;;
+	*) echo "usage: bench/run.sh [-s SHAPES] [-f SHAPES] [-a ACTIVATION] [-g POINTS] [-b SECONDS] [-r REPS] [-n ROUNDS] [-e SIZES] [-o FILE]" >&2; exit 2 ;;
 	esac
 done
 threads=2
@@ -127,5 +133,8 @@ cp "$raw" bench/last-run.jsonl
 /usr/bin/python3 bench/summarize.py "$raw" --start "$start" --load-before "$load_before" --load-after "$load_after" \
 	--threads $threads --budget "$budget" --reps "$reps" --rounds "$rounds" --grid "$grid" --stream "$tmp/stream.txt" \
 	--blascore "$blascore" --peercore "$peercore" >"$tmp/results.md"
+if [ -n "$e2e" ]; then
+	sh bench/e2e.sh -z "$e2e" -n "$rounds" >>"$tmp/results.md"
+fi
 mv "$tmp/results.md" "$out"
 cat "$out"

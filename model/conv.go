@@ -6,6 +6,8 @@ import (
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
+
+	"tidemark/model/vmath"
 )
 
 // ConvConfig makes a model a masked convolutional network over a periodic
@@ -336,6 +338,7 @@ func (m *Model) convForward(w *convWork, conds []*convCond, r int) {
 	N := n.N
 	L := len(c.Hidden)
 	act := actFunc(c.Activation)
+	softp := c.Activation == Softplus
 	src := w.x0
 	for k := 0; k <= L; k++ {
 		wt := m.Weights[l.madeW[k]]
@@ -369,6 +372,16 @@ func (m *Model) convForward(w *convWork, conds []*convCond, r int) {
 			}
 			g := conds[i].gamma[k]
 			h := w.h[k][i*N*out : (i+1)*N*out]
+			if softp {
+				// Vectorised over the whole block (model/vmath).
+				for j := 0; j < len(blk); j += out {
+					for o := range out {
+						h[j+o] = g[o] * blk[j+o]
+					}
+				}
+				vmath.Softplus(h, h)
+				continue
+			}
 			for j := 0; j < len(blk); j += out {
 				for o := range out {
 					h[j+o] = act(g[o] * blk[j+o])
@@ -391,6 +404,36 @@ func (m *Model) convLogProbs(dst []float64, xs []uint8, w *convWork, conds []*co
 	pre := w.pre[L]
 	for i := 0; i < r; i++ {
 		g := conds[i].gamma[L]
+		if q == 2 {
+			// x·z − softplus(z) = x·z − max(z, 0) − log(1+e), e = e^−|z|,
+			// with the logarithms of up to prodTerms sites taken as one
+			// logarithm of their product (as rowLP2Go), and σ(z) from
+			// the same e for the gradient (as bernBwdGo).
+			s, prod := 0.0, 1.0
+			for k := 0; k < N; k++ {
+				v := float64(xs[i*N+k])
+				if flip {
+					v = 1 - v
+				}
+				zz := g[0] * pre[(i*N+k)*per]
+				e := math.Exp(-math.Abs(zz))
+				s += v*zz - math.Max(zz, 0)
+				prod *= 1 + e
+				if k%prodTerms == prodTerms-1 {
+					s -= math.Log(prod)
+					prod = 1
+				}
+				if dz != nil {
+					sg := 1 / (1 + e)
+					if zz < 0 {
+						sg *= e
+					}
+					dz[i*N+k] = rowW[i] * (v - sg)
+				}
+			}
+			dst[i] = s - math.Log(prod)
+			continue
+		}
 		lp := 0.0
 		for s := 0; s < N; s++ {
 			v := int(xs[i*N+s])
@@ -398,14 +441,6 @@ func (m *Model) convLogProbs(dst []float64, xs []uint8, w *convWork, conds []*co
 				v = 1 - v
 			}
 			z := pre[(i*N+s)*per : (i*N+s+1)*per]
-			if q == 2 {
-				zz := g[0] * z[0]
-				lp += float64(v)*zz - softplus(zz)
-				if dz != nil {
-					dz[i*N+s] = rowW[i] * (float64(v) - 1/(1+math.Exp(-zz)))
-				}
-				continue
-			}
 			mx := math.Inf(-1)
 			for o := range per {
 				mx = math.Max(mx, g[o]*z[o])

@@ -9,6 +9,8 @@ import (
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
+
+	"tidemark/model/vmath"
 )
 
 // gemmTN adds aᵀ·b to c: a is [n, ac], b is [n, bc], c is [ac, bc].
@@ -52,6 +54,17 @@ func (m *Model) convBackward(w *convWork, conds []*convCond, r int, dz []float64
 			g := conds[i].gamma[k]
 			ds, dg := make([]float64, out), make([]float64, out)
 			off := i * N * out
+			if k < L && softp {
+				// dA = dh·σ(γ·pre), vectorised (model/vmath), into dp,
+				// which the loop below reads before it overwrites.
+				blk := dp[off : off+N*out]
+				for j := 0; j < N*out; j += out {
+					for o := range out {
+						blk[j+o] = g[o] * pre[off+j+o]
+					}
+				}
+				vmath.SigmoidMul(blk, dh[off:off+N*out], blk)
+			}
 			for j := 0; j < N*out; j += out {
 				for o := range out {
 					var dA float64
@@ -59,7 +72,7 @@ func (m *Model) convBackward(w *convWork, conds []*convCond, r int, dz []float64
 					case k == L:
 						dA = dz[off+j+o]
 					case softp:
-						dA = dh[off+j+o] / (1 + math.Exp(-g[o]*pre[off+j+o]))
+						dA = dp[off+j+o]
 					default:
 						dA = dh[off+j+o] * actDeriv(c.Activation, w.h[k][off+j+o], g[o]*pre[off+j+o])
 					}

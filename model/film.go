@@ -21,12 +21,12 @@ import (
 // The arithmetic is gorgonia's, operation for operation (a + a·s, then
 // gorgonia's ReLU, softplus or tanh and their derivatives), so a FiLM
 // model trains to the same weights, bit for bit, as with the composed
-// operations (TestFiLMFusedMatchesComposed). The one exception is softplus
-// in the openblas build, which runs the build's vectorised softplus and
-// its derivative (vec_openblas.c) instead of gorgonia's scalar ones; that
-// softplus is accurate to 8 units of 2^-53 absolute, so one step's
-// gradients agree with the composed operations' to 1e-8 of their largest
-// entry.
+// operations (TestFiLMFusedMatchesComposed). The one exception is softplus,
+// which both builds run vectorised with its derivative (model/vmath in the
+// default build, vec_openblas.c in the openblas build) instead of
+// gorgonia's scalar functions; those are accurate to a few ulp (vmath) or
+// 8 units of 2^-53 absolute (C), so one step's gradients agree with the
+// composed operations' to 1e-8 of their largest entry.
 type filmLayer struct {
 	name string
 	act  int

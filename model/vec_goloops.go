@@ -2,7 +2,7 @@
 
 package model
 
-import "math"
+import "tidemark/model/vmath"
 
 // The default build runs the Go loops of loops.go (the openblas build runs
 // C loops with the same signatures, vec_openblas.go).
@@ -37,7 +37,26 @@ func vMasked32(dst []float32, w, mask []float64, c tile, out int) {
 func vCombine32(dst []float64, g0, g1 []float32, f0, f1 float64, mask []float64, c tile, out, j0, j1 int) {
 	combine32Go(dst, g0, g1, f0, f1, mask, c, out, j0, j1)
 }
-func vAct64(x, b []float64, rows, w, act int) { act64Go(x, b, rows, w, act) }
+
+// vAct64 runs softplus through the vectorised kernel of model/vmath
+// (after adding the bias) and ReLU through act64Go.
+func vAct64(x, b []float64, rows, w, act int) {
+	if act != actSoftplus {
+		act64Go(x, b, rows, w, act)
+		return
+	}
+	x = x[:rows*w]
+	if b != nil {
+		b = b[:w]
+		for i := 0; i < rows; i++ {
+			r := x[i*w : (i+1)*w]
+			for k := range r {
+				r[k] += b[k]
+			}
+		}
+	}
+	vmath.Softplus(x, x)
+}
 func vFilmFwd(o []float64, o32 []float32, p, s []float64, relu bool) {
 	filmFwdGo(o, o32, p, s, relu)
 }
@@ -45,44 +64,12 @@ func vFilmBwd(dp, ds []float64, d32 []float32, d, s, o, p []float64, relu bool) 
 	filmBwdGo(dp, ds, d32, d, s, o, p, relu)
 }
 
-// The FiLM layer's softplus and its derivative dA = dO·σ(A) are gorgonia's
-// (film.go), so that the default build trains bit for bit as with
-// gorgonia's own operations.
-const filmSoftplusExact = true
+// The FiLM layer's softplus and its derivative dA = dO·σ(A) run the
+// vectorised kernels of model/vmath (assembly on amd64 with AVX2 and FMA),
+// not gorgonia's scalar functions, so training rounds differently from the
+// composed gorgonia operations (within a few ulp per value; film_test.go).
+const filmSoftplusExact = false
 
-func vFilmSoftplus(o, a []float64) {
-	o = o[:len(a)]
-	for i, v := range a {
-		o[i] = gorgoniaSoftplus(v)
-	}
-}
+func vFilmSoftplus(o, a []float64) { vmath.Softplus(o[:len(a)], a) }
 
-func vFilmSoftplusGrad(da, d, a, o []float64) {
-	d, a = d[:len(da)], a[:len(da)]
-	for i := range da {
-		da[i] = gorgoniaSigmoid(a[i]) * d[i]
-	}
-}
-
-// Gorgonia's softplus and sigmoid, written out so that the FiLM operation
-// (film.go) rounds exactly as the composed gorgonia operations did
-// (gorgonia v0.9.18, math.go and math_nooptim.go).
-func gorgoniaSoftplus(x float64) float64 {
-	if x < -708 {
-		return 0
-	}
-	if x > 16 {
-		return x
-	}
-	return math.Log1p(math.Exp(x))
-}
-
-func gorgoniaSigmoid(x float64) float64 {
-	if x < -709 {
-		return 0
-	}
-	if x > 19 {
-		return 1
-	}
-	return 1.0 / (1.0 + math.Exp(-x))
-}
+func vFilmSoftplusGrad(da, d, a, o []float64) { vmath.SigmoidMul(da, d, a) }

@@ -205,10 +205,56 @@ type Options struct {
 	Progress func(n int)
 	// OnEpoch, if set, is called after every completed epoch with its
 	// metrics and the checkpoint of that moment; an error stops training.
+	// With SaveShare > 0 the checkpoint is complete only on the epochs
+	// where a save is due (ck.Best != nil); on the others it holds only
+	// the header (ck.Best and ck.Last nil), which is all a progress line
+	// needs.
 	OnEpoch func(m checkpoints.EpochMetrics, ck *checkpoints.Checkpoint) error
+	// SaveShare, when > 0, bounds the share of wall time spent building
+	// and saving checkpoints: a complete checkpoint goes to OnEpoch only
+	// once the time since the last one is at least 1/SaveShare times what
+	// the last one cost (building it and OnEpoch), or MaxSaveInterval has
+	// passed. The run's last state is returned by Run in any case; a
+	// process killed without warning loses at most that interval. 0 gives
+	// a complete checkpoint after every epoch.
+	SaveShare float64
 	// Warn, if set, receives messages about recoveries (a non-finite loss).
 	Warn func(msg string)
+	// Stages, if set, accumulates the wall time of each stage of the
+	// epochs (for profiling the command; see bench/trainstages).
+	Stages *Stages
 }
+
+// Stages is the wall time a run spent in each stage of its epochs.
+type Stages struct {
+	// Assemble is copying (and augmenting) the minibatches' snapshots.
+	Assemble time.Duration
+	// Step is the loss and gradient (BatchGraph.LossGrad).
+	Step time.Duration
+	// Update is gradient clipping, the Adam update and the weights'
+	// moving average.
+	Update time.Duration
+	// Progress is the Progress callback (the progress bar).
+	Progress time.Duration
+	// Validate is the validation pass after every epoch.
+	Validate time.Duration
+	// Checkpoint is building the checkpoint handed to OnEpoch.
+	Checkpoint time.Duration
+	// OnEpoch is the OnEpoch callback (the command prints a line and
+	// writes the checkpoint file there).
+	OnEpoch time.Duration
+}
+
+// lap adds the time since *t to *d and resets *t.
+func (s *Stages) lap(d *time.Duration, t *time.Time) {
+	now := time.Now()
+	*d += now.Sub(*t)
+	*t = now
+}
+
+// MaxSaveInterval is the longest time between two complete checkpoints
+// with Options.SaveShare > 0.
+const MaxSaveInterval = 60 * time.Second
 
 // ErrInterrupted is returned (wrapped) when the context is cancelled; the
 // checkpoint returned with it holds the state after the last completed
@@ -259,6 +305,9 @@ type run struct {
 func Run(ctx context.Context, ds *data.Dataset, opt Options) (*checkpoints.Checkpoint, error) {
 	if err := ds.Validate(opt.DataPath); err != nil {
 		return nil, err
+	}
+	if opt.Stages == nil {
+		opt.Stages = new(Stages) // timed in any case; nobody reads it
 	}
 	r := &run{ds: ds, grid: data.NewGrid(ds), opt: opt}
 	fp := checkpoints.Fingerprint(ds)
@@ -657,6 +706,7 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 		r.opt.Start(len(r.trainIdx), left)
 	}
 	sched := newSchedule(r.st)
+	lastSave, saveCost := time.Now(), time.Duration(0)
 	for {
 		epoch := r.hdr.Optimizer.Epoch + 1
 		if stop := r.stopReason(epoch, done); stop != NotStopped {
@@ -680,7 +730,10 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 			return nil, err
 		}
 		trainSec := time.Since(t0).Seconds()
+		ts := r.opt.Stages
+		tv := time.Now()
 		val, valSE, current, err := r.validate(trainNLL)
+		ts.lap(&ts.Validate, &tv)
 		if err != nil {
 			return nil, err
 		}
@@ -712,12 +765,25 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 		}
 		done++
 		if r.opt.OnEpoch != nil {
-			ck, err := r.checkpoint()
-			if err != nil {
-				return nil, err
+			tv = time.Now()
+			saveStart := tv
+			since := tv.Sub(lastSave)
+			due := r.opt.SaveShare <= 0 || since >= MaxSaveInterval ||
+				since.Seconds()*r.opt.SaveShare >= saveCost.Seconds()
+			ck := &checkpoints.Checkpoint{Header: r.hdr}
+			if due {
+				if ck, err = r.checkpoint(); err != nil {
+					return nil, err
+				}
 			}
+			ts.lap(&ts.Checkpoint, &tv)
 			if err := r.opt.OnEpoch(met, ck); err != nil {
 				return nil, err
+			}
+			ts.lap(&ts.OnEpoch, &tv)
+			if due {
+				lastSave = time.Now()
+				saveCost = lastSave.Sub(saveStart)
 			}
 		}
 	}
@@ -799,6 +865,8 @@ func (r *run) epoch(ctx context.Context, epoch int) (float64, error) {
 	xs := make([]uint8, B*N)
 	ps := make([]float64, B*D)
 	sum := 0.0
+	ts := r.opt.Stages
+	t := time.Now()
 	for b := 0; b < len(order); b += B {
 		if ctx.Err() != nil {
 			return 0, fmt.Errorf("%w at epoch %d", ErrInterrupted, epoch)
@@ -813,12 +881,14 @@ func (r *run) epoch(ctx context.Context, epoch int) (float64, error) {
 			}
 			copy(ps[i*D:(i+1)*D], ds.Params[m*D:(m+1)*D])
 		}
+		ts.lap(&ts.Assemble, &t)
 		// The minibatch is split over the threads' graphs; gsum is the
 		// gradient of the mean NLL per site (the mean per snapshot over N).
 		loss, err := r.bg.LossGrad(xs[:n*N], ps[:n*D], n, 1/float64(N), r.gsum)
 		if err != nil {
 			return 0, err
 		}
+		ts.lap(&ts.Step, &t)
 		if b == 0 && faultHook != nil && faultHook(epoch) {
 			loss = math.NaN()
 		}
@@ -829,9 +899,11 @@ func (r *run) epoch(ctx context.Context, epoch int) (float64, error) {
 		r.adam.UpdateThreads(r.w, r.gsum, r.lr, r.st.Threads)
 		r.accumulate()
 		sum += loss * float64(n)
+		ts.lap(&ts.Update, &t)
 		if r.opt.Progress != nil {
 			r.opt.Progress(n)
 		}
+		ts.lap(&ts.Progress, &t)
 	}
 	return sum / float64(len(order)), nil
 }

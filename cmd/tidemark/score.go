@@ -3,8 +3,6 @@ package main
 import (
 	"errors"
 	"fmt"
-	"path/filepath"
-	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -89,22 +87,12 @@ does a posterior grid that reaches beyond it.`,
 }
 
 func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) error {
-	if o.out == "" {
-		return errors.New("score: expected an output file (-o SCORES.npz or SCORES.csv), found none")
-	}
-	ext := strings.ToLower(filepath.Ext(o.out))
-	if ext != ".npz" && ext != ".csv" {
-		return fmt.Errorf("score: expected an output file ending in .npz or .csv, found %q", o.out)
-	}
-	if err := checkOutput(o.out, o.force); err != nil {
+	ext, files, err := scorestat.Outputs(o.out, o.posterior)
+	if err != nil {
 		return err
 	}
-	if ext == ".csv" {
-		side := scorestat.Sidecar(o.out, "points")
-		if o.posterior {
-			side = scorestat.Sidecar(o.out, "groups")
-		}
-		if err := checkOutput(side, o.force); err != nil {
+	for _, f := range files {
+		if err := checkOutput(f, o.force); err != nil {
 			return err
 		}
 	}

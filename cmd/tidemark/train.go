@@ -67,8 +67,9 @@ weights at the end of the epoch, or with --average τ their moving average over
 the last ≈ τ epochs of steps (Polyak averaging), which is then what is kept:
 it smooths out the noise of the last minibatches.
 
-MODEL.ckpt is rewritten after every epoch. It holds the best weights (lowest
-validation NLL; used by score, check and scan), the last weights and the
+MODEL.ckpt is written after the first epoch, then as often as keeps writing under
+5% of the time (at least every minute), and at the end. It holds the best weights
+(lowest validation NLL; used by score, check and scan), the last weights and the
 optimiser state, so --resume MODEL.ckpt continues exactly where it stopped
 (on the same data only; without DATA it reads the dataset recorded in the
 checkpoint). Settings repeated with --resume must keep their saved values. SIGINT or SIGTERM saves the state after the last

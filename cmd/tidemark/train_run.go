@@ -133,6 +133,7 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 	opt.Progress = func(n int) { bar.Add(n) }
 	opt.Warn = func(msg string) { fmt.Fprintf(stderr, "tidemark: train: %s\n", msg) }
 	written := false
+	opt.SaveShare = 0.05 // checkpoints take at most 5% of the wall time
 	opt.OnEpoch = func(m checkpoints.EpochMetrics, ck *checkpoints.Checkpoint) error {
 		if !o.quiet {
 			mark := ""
@@ -143,7 +144,9 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 				m.Epoch, m.TrainBitsPerSite, checkpoints.WithError(m.ValBitsPerSite, m.ValStdErrBitsPerSite, 5), m.SamplesPerS, m.LR, mark)
 			io.WriteString(stdout, line)
 		}
-		if err := ck.Save(o.out, written || sameFile || o.force); err != nil {
+		if ck.Best == nil { // no save due
+			return nil
+		} else if err := ck.Save(o.out, written || sameFile || o.force); err != nil {
 			return err
 		}
 		written = true
@@ -162,7 +165,7 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 	}
 	if err != nil {
 		if written {
-			return fmt.Errorf("train: %w (the last completed epoch is saved in %s)", err, o.out)
+			return fmt.Errorf("train: %w (the last saved epoch is in %s)", err, o.out)
 		}
 		return fmt.Errorf("train: %w", err)
 	}

@@ -8,8 +8,10 @@ import (
 	"tidemark/data/density"
 )
 
-// scoreChunk is the number of snapshots scored in one job when every
-// snapshot is scored at the same λ.
+// scoreChunk is the largest number of snapshots scored in one job, so that
+// the copies of the jobs in flight stay small beside the dataset itself
+// (10^6 snapshots of 1024 sites at one point would otherwise be copied
+// whole).
 const scoreChunk = 1024
 
 // job is one batch of snapshots scored at one λ.
@@ -21,7 +23,7 @@ type job struct {
 // Score returns log p(x_m|λ_m) in nats of every snapshot of ds and the λ
 // used (row-major M × d): each snapshot at its own λ, or all at at when at
 // is not nil. The jobs (one per grid point, or per block of snapshots) run
-// on up to threads goroutines (data.ForEachPoint); the result does not
+// on up to threads goroutines, in blocks of at most scoreChunk snapshots (data.ForEachPoint); the result does not
 // depend on threads. progress, if set, receives the number of snapshots
 // scored.
 func Score(src density.Source, ds *data.Dataset, at []float64, threads int, progress func(int)) (logp, params []float64, err error) {
@@ -29,18 +31,22 @@ func Score(src density.Source, ds *data.Dataset, at []float64, threads int, prog
 	logp = make([]float64, ds.M)
 	params = make([]float64, ds.M*d)
 	var jobs []job
-	if at != nil {
-		for lo := 0; lo < ds.M; lo += scoreChunk {
-			rows := make([]int, 0, scoreChunk)
-			for i := lo; i < min(lo+scoreChunk, ds.M); i++ {
-				rows = append(rows, i)
-			}
-			jobs = append(jobs, job{rows, at})
+	// chunks adds the jobs of the rows idx at lambda, scoreChunk at a time.
+	chunks := func(idx []int, lambda []float64) {
+		for lo := 0; lo < len(idx); lo += scoreChunk {
+			jobs = append(jobs, job{idx[lo:min(lo+scoreChunk, len(idx))], lambda})
 		}
+	}
+	if at != nil {
+		all := make([]int, ds.M)
+		for i := range all {
+			all[i] = i
+		}
+		chunks(all, at)
 	} else {
 		g := data.NewGrid(ds)
 		for k, idx := range g.Index {
-			jobs = append(jobs, job{idx, g.Points[k]})
+			chunks(idx, g.Points[k])
 		}
 	}
 	err = data.ForEachPoint(context.Background(), len(jobs), threads, func(j int) error {

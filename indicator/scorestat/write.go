@@ -2,6 +2,7 @@ package scorestat
 
 import (
 	"bufio"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -257,4 +258,24 @@ func WriteFiles(out string, force bool, meta map[string]any, names []string, log
 		return err
 	}
 	return safefile.Write(Sidecar(out, "points"), force, func(w io.Writer) error { return WritePointsCSV(w, names, pts, n) })
+}
+
+// Outputs checks the output file name out of score and returns its
+// lower-case extension (".npz" or ".csv") and every file score will write:
+// out, and for .csv the sidecar of the per-point table (or, with
+// posterior, of the groups).
+func Outputs(out string, posterior bool) (ext string, files []string, err error) {
+	if out == "" {
+		return "", nil, errors.New("score: expected an output file (-o SCORES.npz or SCORES.csv), found none")
+	}
+	ext = strings.ToLower(filepath.Ext(out))
+	switch {
+	case ext == ".npz":
+		return ext, []string{out}, nil
+	case ext != ".csv":
+		return "", nil, fmt.Errorf("score: expected an output file ending in .npz or .csv, found %q", out)
+	case posterior:
+		return ext, []string{out, Sidecar(out, "groups")}, nil
+	}
+	return ext, []string{out, Sidecar(out, "points")}, nil
 }

@@ -1,0 +1,191 @@
+//go:build amd64 && !purego
+
+#include "textflag.h"
+
+// Constants, each a float64 (or uint64) broadcast to the four lanes.
+DATA vmabs<>+0(SB)/8, $0x7fffffffffffffff
+GLOBL vmabs<>(SB), RODATA|NOPTR, $8
+DATA vmmax<>+0(SB)/8, $708.0
+GLOBL vmmax<>(SB), RODATA|NOPTR, $8
+DATA vmlog2e<>+0(SB)/8, $1.44269504088896338700e+00
+GLOBL vmlog2e<>(SB), RODATA|NOPTR, $8
+DATA vmln2hi<>+0(SB)/8, $6.93147180369123816490e-01
+GLOBL vmln2hi<>(SB), RODATA|NOPTR, $8
+DATA vmln2lo<>+0(SB)/8, $1.90821492927058770002e-10
+GLOBL vmln2lo<>(SB), RODATA|NOPTR, $8
+DATA vmbias<>+0(SB)/8, $0x3ff0000000000000
+GLOBL vmbias<>(SB), RODATA|NOPTR, $8
+DATA vmone<>+0(SB)/8, $1.0
+GLOBL vmone<>(SB), RODATA|NOPTR, $8
+DATA vmtwo<>+0(SB)/8, $2.0
+GLOBL vmtwo<>(SB), RODATA|NOPTR, $8
+DATA vmhalf<>+0(SB)/8, $0.5
+GLOBL vmhalf<>(SB), RODATA|NOPTR, $8
+DATA vmsqrt2<>+0(SB)/8, $1.41421356237309504880168872420969808
+GLOBL vmsqrt2<>(SB), RODATA|NOPTR, $8
+DATA vml1<>+0(SB)/8, $6.666666666666735130e-01
+GLOBL vml1<>(SB), RODATA|NOPTR, $8
+DATA vml2<>+0(SB)/8, $3.999999999940941908e-01
+GLOBL vml2<>(SB), RODATA|NOPTR, $8
+DATA vml3<>+0(SB)/8, $2.857142874366239149e-01
+GLOBL vml3<>(SB), RODATA|NOPTR, $8
+DATA vml4<>+0(SB)/8, $2.222219843214978396e-01
+GLOBL vml4<>(SB), RODATA|NOPTR, $8
+DATA vml5<>+0(SB)/8, $1.818357216161805012e-01
+GLOBL vml5<>(SB), RODATA|NOPTR, $8
+DATA vml6<>+0(SB)/8, $1.531383769920937332e-01
+GLOBL vml6<>(SB), RODATA|NOPTR, $8
+DATA vml7<>+0(SB)/8, $1.479819860511658591e-01
+GLOBL vml7<>(SB), RODATA|NOPTR, $8
+
+// EXPNEG: Y0 holds x; leaves e = e^−min(|x|, 708) in Y5 (Y1..Y6 used).
+// The Taylor coefficients 1/13! … 1/0! are ·expTaylor, 8 bytes apart.
+#define EXPNEG \
+	VBROADCASTSD vmabs<>(SB), Y1 \
+	VANDPD Y1, Y0, Y1 \
+	VBROADCASTSD vmmax<>(SB), Y2 \
+	VMINPD Y1, Y2, Y1 \
+	VBROADCASTSD vmlog2e<>(SB), Y2 \
+	VMULPD Y2, Y1, Y3 \
+	VROUNDPD $0, Y3, Y3 \
+	VBROADCASTSD vmln2hi<>(SB), Y4 \
+	VFMSUB213PD Y1, Y3, Y4 \
+	VBROADCASTSD vmln2lo<>(SB), Y2 \
+	VFMADD231PD Y2, Y3, Y4 \
+	VBROADCASTSD ·expTaylor+0(SB), Y5 \
+	VBROADCASTSD ·expTaylor+8(SB), Y2 \
+	VFMADD213PD Y2, Y4, Y5 \
+	VBROADCASTSD ·expTaylor+16(SB), Y2 \
+	VFMADD213PD Y2, Y4, Y5 \
+	VBROADCASTSD ·expTaylor+24(SB), Y2 \
+	VFMADD213PD Y2, Y4, Y5 \
+	VBROADCASTSD ·expTaylor+32(SB), Y2 \
+	VFMADD213PD Y2, Y4, Y5 \
+	VBROADCASTSD ·expTaylor+40(SB), Y2 \
+	VFMADD213PD Y2, Y4, Y5 \
+	VBROADCASTSD ·expTaylor+48(SB), Y2 \
+	VFMADD213PD Y2, Y4, Y5 \
+	VBROADCASTSD ·expTaylor+56(SB), Y2 \
+	VFMADD213PD Y2, Y4, Y5 \
+	VBROADCASTSD ·expTaylor+64(SB), Y2 \
+	VFMADD213PD Y2, Y4, Y5 \
+	VBROADCASTSD ·expTaylor+72(SB), Y2 \
+	VFMADD213PD Y2, Y4, Y5 \
+	VBROADCASTSD ·expTaylor+80(SB), Y2 \
+	VFMADD213PD Y2, Y4, Y5 \
+	VBROADCASTSD ·expTaylor+88(SB), Y2 \
+	VFMADD213PD Y2, Y4, Y5 \
+	VBROADCASTSD ·expTaylor+96(SB), Y2 \
+	VFMADD213PD Y2, Y4, Y5 \
+	VBROADCASTSD ·expTaylor+104(SB), Y2 \
+	VFMADD213PD Y2, Y4, Y5 \
+	VCVTPD2DQY Y3, X6 \
+	VPMOVSXDQ X6, Y6 \
+	VPSLLQ $52, Y6, Y6 \
+	VPBROADCASTQ vmbias<>(SB), Y2 \
+	VPSUBQ Y6, Y2, Y6 \
+	VMULPD Y6, Y5, Y5
+
+// func softplusAsm(dst, src *float64, n int)
+TEXT ·softplusAsm(SB), NOSPLIT, $0-24
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ n+16(FP), CX
+	VXORPD Y15, Y15, Y15
+	VBROADCASTSD vmone<>(SB), Y14
+loop:
+	CMPQ CX, $4
+	JLT done
+	VMOVUPD (SI), Y0
+	EXPNEG
+	// log(1+e): u = 1+e (Y7), corr = (e − (u−1))/u (Y8).
+	VADDPD Y14, Y5, Y7
+	VSUBPD Y14, Y7, Y8
+	VSUBPD Y8, Y5, Y8
+	VDIVPD Y7, Y8, Y8
+	// big = u > √2 (Y9); m = big ? u/2 : u (Y7); k = big ? 1 : 0 (Y10).
+	VBROADCASTSD vmsqrt2<>(SB), Y2
+	VCMPPD $0x1e, Y2, Y7, Y9
+	VBROADCASTSD vmhalf<>(SB), Y2
+	VMULPD Y2, Y7, Y3
+	VBLENDVPD Y9, Y3, Y7, Y7
+	VANDPD Y14, Y9, Y10
+	// f = m − 1 (Y7), s = f/(2+f) (Y11), s2 (Y12), s4 (Y13).
+	VSUBPD Y14, Y7, Y7
+	VBROADCASTSD vmtwo<>(SB), Y2
+	VADDPD Y2, Y7, Y11
+	VDIVPD Y11, Y7, Y11
+	VMULPD Y11, Y11, Y12
+	VMULPD Y12, Y12, Y13
+	// t1 = s2·(l1 + s4(l3 + s4(l5 + s4·l7))) (Y3).
+	VBROADCASTSD vml7<>(SB), Y3
+	VBROADCASTSD vml5<>(SB), Y2
+	VFMADD213PD Y2, Y13, Y3
+	VBROADCASTSD vml3<>(SB), Y2
+	VFMADD213PD Y2, Y13, Y3
+	VBROADCASTSD vml1<>(SB), Y2
+	VFMADD213PD Y2, Y13, Y3
+	VMULPD Y12, Y3, Y3
+	// t2 = s4·(l2 + s4(l4 + s4·l6)) (Y4).
+	VBROADCASTSD vml6<>(SB), Y4
+	VBROADCASTSD vml4<>(SB), Y2
+	VFMADD213PD Y2, Y13, Y4
+	VBROADCASTSD vml2<>(SB), Y2
+	VFMADD213PD Y2, Y13, Y4
+	VMULPD Y13, Y4, Y4
+	// hfsq = (f/2)·f (Y6); A = s·((hfsq + t1) + t2) + k·ln2lo (Y3).
+	VBROADCASTSD vmhalf<>(SB), Y2
+	VMULPD Y2, Y7, Y6
+	VMULPD Y7, Y6, Y6
+	VADDPD Y3, Y6, Y3
+	VADDPD Y4, Y3, Y3
+	VMULPD Y3, Y11, Y3
+	VBROADCASTSD vmln2lo<>(SB), Y2
+	VFMADD231PD Y2, Y10, Y3
+	// B = (hfsq − A) − f (Y6); log u = k·ln2hi − B (Y10); + corr.
+	VSUBPD Y3, Y6, Y6
+	VSUBPD Y7, Y6, Y6
+	VBROADCASTSD vmln2hi<>(SB), Y2
+	VFMSUB213PD Y6, Y2, Y10
+	VADDPD Y8, Y10, Y10
+	// max(x, 0) + log(1+e); max returns x when x is NaN.
+	VMAXPD Y0, Y15, Y1
+	VADDPD Y10, Y1, Y1
+	VMOVUPD Y1, (DI)
+	ADDQ $32, SI
+	ADDQ $32, DI
+	SUBQ $4, CX
+	JMP loop
+done:
+	VZEROUPPER
+	RET
+
+// func sigmoidMulAsm(dst, d, a *float64, n int)
+TEXT ·sigmoidMulAsm(SB), NOSPLIT, $0-32
+	MOVQ dst+0(FP), DI
+	MOVQ d+8(FP), DX
+	MOVQ a+16(FP), SI
+	MOVQ n+24(FP), CX
+	VXORPD Y15, Y15, Y15
+	VBROADCASTSD vmone<>(SB), Y14
+sloop:
+	CMPQ CX, $4
+	JLT sdone
+	VMOVUPD (SI), Y0
+	EXPNEG
+	// σ = (x < 0 ? e : 1)/(1+e), times d.
+	VCMPPD $0x11, Y15, Y0, Y9
+	VBLENDVPD Y9, Y5, Y14, Y7
+	VADDPD Y14, Y5, Y8
+	VDIVPD Y8, Y7, Y7
+	VMOVUPD (DX), Y1
+	VMULPD Y1, Y7, Y7
+	VMOVUPD Y7, (DI)
+	ADDQ $32, SI
+	ADDQ $32, DX
+	ADDQ $32, DI
+	SUBQ $4, CX
+	JMP sloop
+sdone:
+	VZEROUPPER
+	RET
