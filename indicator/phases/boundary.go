@@ -64,6 +64,7 @@ func Boundaries(g Grid, strength []float64, reps, members [][]float64, seg *Segm
 	}
 	n0, n1 := g.N0(), g.N1()
 	var cs []crossing
+	var grid []func(w []float64) float64 // each crossing's first-pass locator
 	for axis := 0; axis < 2; axis++ {
 		nl, nAlong := n1, n0
 		xs := g.X0
@@ -83,37 +84,48 @@ func Boundaries(g Grid, strength []float64, reps, members [][]float64, seg *Segm
 					continue
 				}
 				c := crossing{a: min(la, lb), b: max(la, lb), axis: axis}
-				at := func(w []float64) float64 { return ridgeAt(xs, w, pt, i) }
-				x := at(v)
-				var e2 float64
-				if len(vr) > 1 {
-					var xb []float64
-					for _, w := range vr {
-						xb = append(xb, at(w))
-					}
-					e := stdDev(xb)
-					e2 += e * e
-				}
-				if len(vm) > 1 {
-					var xm []float64
-					for _, w := range vm {
-						xm = append(xm, at(w))
-					}
-					e := stdDev(xm)
-					e2 += e * e
-				}
+				x := ridgeAt(xs, v, pt, i)
 				if axis == 0 {
 					c.p = [2]float64{x, g.X1[l]}
-					c.e = [2]float64{math.Sqrt(e2), 0}
 				} else {
 					c.p = [2]float64{g.X0[l], x}
-					c.e = [2]float64{0, math.Sqrt(e2)}
 				}
 				cs = append(cs, c)
+				grid = append(grid, func(w []float64) float64 { return ridgeAt(xs, w, pt, i) })
 			}
 		}
 	}
-	return chain(g, cs), nil
+	// Second pass: each crossing from the profile across the boundary,
+	// whose direction the first pass's crossings give.
+	f := newFrame(g)
+	out := make([]crossing, len(cs))
+	for n, c := range cs {
+		at := grid[n]
+		if tau, ok := f.tangent(c, cs); ok {
+			at = func(w []float64) float64 {
+				if x, ok := f.normalRidge(c, tau, w); ok {
+					return x
+				}
+				return grid[n](w)
+			}
+		}
+		x := at(v)
+		var e2 float64
+		for _, set := range [][][]float64{vr, vm} {
+			if len(set) > 1 {
+				var xb []float64
+				for _, w := range set {
+					xb = append(xb, at(w))
+				}
+				e := stdDev(xb)
+				e2 += e * e
+			}
+		}
+		c.p[c.axis] = x
+		c.e[c.axis] = math.Sqrt(e2)
+		out[n] = c
+	}
+	return chain(g, out), nil
 }
 
 // ridgeAt locates the ridge between positions i and i+1 of a line (pt maps
