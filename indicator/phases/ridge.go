@@ -86,7 +86,10 @@ func (f frame) tangent(c crossing, cs []crossing) ([2]float64, bool) {
 // changes along the boundary. ok is false when the fit has too few points,
 // no maximum, or the boundary runs within 20° of the grid line (then the
 // crossing of the two is ill-defined).
-func (f frame) normalRidge(c crossing, tau [2]float64, w []float64) (float64, bool) {
+//
+// w holds the log landscape at the K grid points followed by the values at
+// the extra sample points (Samples.Points), which join the fit alike.
+func (f frame) normalRidge(c crossing, tau [2]float64, w []float64, extra [][2]float64, step float64) (float64, bool) {
 	n := [2]float64{-tau[1], tau[0]}
 	ax := c.axis
 	if math.Abs(n[ax]) < math.Sin(20*math.Pi/180) {
@@ -94,21 +97,29 @@ func (f frame) normalRidge(c crossing, tau [2]float64, w []float64) (float64, bo
 	}
 	h := f.spacing()
 	p := f.unit(c.p)
-	for iter := 0; iter < 2; iter++ {
+	// fit returns the crest's offset u* from p with a window of half-width
+	// wu across the boundary.
+	fit := func(wu float64) (float64, bool) {
 		var rows [][]float64
 		var rhs []float64
-		for k := 0; k < f.g.K(); k++ {
+		K := f.g.K()
+		for k := 0; k < K+len(extra); k++ {
 			if math.IsNaN(w[k]) || math.IsInf(w[k], 0) {
 				continue
 			}
-			q := f.unit(f.g.Point(k))
+			var q [2]float64
+			if k < K {
+				q = f.unit(f.g.Point(k))
+			} else {
+				q = f.unit(extra[k-K])
+			}
 			dx, dy := q[0]-p[0], q[1]-p[1]
 			u := n[0]*dx + n[1]*dy
 			s := tau[0]*dx + tau[1]*dy
-			if math.Abs(u) > 1.5*h || math.Abs(s) > 2*h {
+			if math.Abs(u) > wu || math.Abs(s) > 2*h {
 				continue
 			}
-			rows = append(rows, []float64{1, u / h, (u / h) * (u / h), s / h})
+			rows = append(rows, []float64{1, u / wu, (u / wu) * (u / wu), s / h})
 			rhs = append(rhs, w[k])
 		}
 		if len(rows) < 7 {
@@ -128,7 +139,23 @@ func (f frame) normalRidge(c crossing, tau [2]float64, w []float64) (float64, bo
 		if !(cc < 0) {
 			return 0, false
 		}
-		us := math.Max(-1.5, math.Min(1.5, -b/(2*cc))) * h
+		return math.Max(-1, math.Min(1, -b/(2*cc))) * wu, true
+	}
+	widths := []float64{1.5 * h, 1.5 * h}
+	if step > 0 && step < 1 {
+		// Inserted points sample the profile more finely: narrow the window
+		// to 1.5 of their spacings, where the profile's log is closer to a
+		// parabola than over the grid's.
+		widths = append(widths, 1.5*h*step, 1.5*h*step)
+	}
+	for i, wu := range widths {
+		us, ok := fit(wu)
+		if !ok {
+			if i == 0 {
+				return 0, false
+			}
+			break
+		}
 		// Move along the grid line (axis ax) to the line u = us.
 		p[ax] += us / n[ax]
 	}
