@@ -15,6 +15,7 @@ import (
 	"tidemark/data/density"
 	"tidemark/data/ising"
 	"tidemark/indicator"
+	"tidemark/train"
 )
 
 // xyDataset simulates the open XY chain in a transverse field,
@@ -53,13 +54,32 @@ func xyDataset(t *testing.T, n int, gs, hs []float64, shots int) (*chain.MPSSour
 // Phys. Rev. A 3, 786 (1971)): three phases — ordered along X (γ > 0,
 // |h| < 1), ordered along Y (γ < 0, |h| < 1) and the paramagnet (|h| > 1) —
 // separated by the Ising line h = 1 and the anisotropy line γ = 0 (|h| < 1).
-// The scan uses the exact density (the MPS) on sampled snapshots; the mean
-// distance of the boundary points from the nearest exact line must be at
-// most 5% of the axis range.
+// The same snapshots are scanned twice: with the exact density (the MPS)
+// and with a model trained on them at train's default settings. Each time
+// the fisher map must find three phases, and the mean distance of its
+// boundary points from the nearest exact line must be at most 5% of the
+// axis range.
 func TestXYChainThreePhases(t *testing.T) {
 	gs := linspace(-1, 1, 9)
 	hs := linspace(0.2, 1.8, 9)
 	src, ds := xyDataset(t, 32, gs, hs, 500)
+	t.Run("exact", func(t *testing.T) { xyCheck(t, src, ds) })
+	t0 := time.Now()
+	ck, err := train.Run(context.Background(), ds, train.Options{Settings: train.DefaultSettings()})
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, err := ck.Model()
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("trained at the default settings in %v", time.Since(t0))
+	t.Run("model", func(t *testing.T) { xyCheck(t, m, ds) })
+}
+
+// xyCheck scans ds with src and checks the fisher map's phases and
+// boundaries against the XY chain's exact lines.
+func xyCheck(t *testing.T, src density.Source, ds *data.Dataset) {
 	t0 := time.Now()
 	res, err := indicator.Run(context.Background(), []density.Source{src}, ds, indicator.Config{Indicators: []string{indicator.Local, indicator.Fisher}, Bootstrap: 20, Threads: 2, Seed: 1})
 	if err != nil {
