@@ -169,7 +169,7 @@ func BoundariesWith(g Grid, strength []float64, reps, members [][]float64, seg *
 		at := func(w []float64) float64 { return grid[n](w[:K]) }
 		if tau, ok := f.tangent(c, cs); ok {
 			at = func(w []float64) float64 {
-				if x, ok := f.normalRidge(c, tau, w, extra.Points, extra.Step); ok {
+				if x, ok := f.normalRidge(c, tau, w, extra.Points, extra.Step, seg.Labels); ok {
 					return x
 				}
 				return grid[n](w[:K])

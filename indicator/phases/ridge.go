@@ -74,7 +74,9 @@ func (f frame) tangent(c crossing, cs []crossing) ([2]float64, bool) {
 // normalRidge relocates crossing c on its grid line from the profile of
 // the log landscape w across the boundary. With τ the boundary's direction
 // (tangent) and n its normal, every grid point within 1.5 spacings of the
-// crossing across the boundary and 2 spacings along it has coordinates
+// crossing across the boundary and along it, in one of the two phases the
+// boundary separates (not beyond another boundary at a junction), has
+// coordinates
 // u = n·(x − x_c) and s = τ·(x − x_c), and w ≈ a + b·u + c·u² + d·s is
 // fitted by least squares: the crest, where the profile across the
 // boundary peaks, is at u* = −b/(2c), and the point moves to where the
@@ -89,7 +91,7 @@ func (f frame) tangent(c crossing, cs []crossing) ([2]float64, bool) {
 //
 // w holds the log landscape at the K grid points followed by the values at
 // the extra sample points (Samples.Points), which join the fit alike.
-func (f frame) normalRidge(c crossing, tau [2]float64, w []float64, extra [][2]float64, step float64) (float64, bool) {
+func (f frame) normalRidge(c crossing, tau [2]float64, w []float64, extra [][2]float64, step float64, labels []int) (float64, bool) {
 	n := [2]float64{-tau[1], tau[0]}
 	ax := c.axis
 	if math.Abs(n[ax]) < math.Sin(20*math.Pi/180) {
@@ -116,8 +118,11 @@ func (f frame) normalRidge(c crossing, tau [2]float64, w []float64, extra [][2]f
 			dx, dy := q[0]-p[0], q[1]-p[1]
 			u := n[0]*dx + n[1]*dy
 			s := tau[0]*dx + tau[1]*dy
-			if math.Abs(u) > wu || math.Abs(s) > 2*h {
+			if math.Abs(u) > wu || math.Abs(s) > 1.5*h {
 				continue
+			}
+			if k < K && labels[k] != c.a && labels[k] != c.b {
+				continue // beyond another boundary (a junction)
 			}
 			rows = append(rows, []float64{1, u / wu, (u / wu) * (u / wu), s / h})
 			rhs = append(rhs, w[k])
