@@ -157,8 +157,8 @@ func ising16Metric(L int, T, jy float64) (ftt, ftj, fjj float64) {
 // the grid line on which the point was located — the quantity the scan
 // estimates, computed exactly. Every boundary point must lie within 3% of
 // its axis's range of it, and the mean within 3% (measured on this 11×9
-// grid, Monte Carlo seeds 1–5: worst points 1.5–2.2%, means 0.8–1.0%);
-// the distance from the unshifted line is logged (means 2.8–3.1%). SEED
+// grid, Monte Carlo seeds 1–5: worst points 1.7–2.2%, means 1.0–1.2%);
+// the distance from the unshifted line is logged (means 2.9–3.4%). SEED
 // sets the Monte Carlo seed.
 func TestIsing16AnisotropicLine(t *testing.T) {
 	const L = 16
