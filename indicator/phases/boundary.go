@@ -26,6 +26,9 @@ type crossing struct {
 	a, b int // phases, a < b
 	p, e [2]float64
 	axis int
+	// x0 < x1 are the grid values along the line between which the phase
+	// changes.
+	x0, x1 float64
 }
 
 // Boundaries locates the boundaries between the phases of seg. Along every
@@ -130,7 +133,7 @@ func BoundariesWith(g Grid, strength []float64, reps, members [][]float64, seg *
 				if la == lb {
 					continue
 				}
-				c := crossing{a: min(la, lb), b: max(la, lb), axis: axis}
+				c := crossing{a: min(la, lb), b: max(la, lb), axis: axis, x0: xs[i], x1: xs[i+1]}
 				x := ridgeAt(xs, v, pt, i)
 				if axis == 0 {
 					c.p = [2]float64{x, g.X1[l]}

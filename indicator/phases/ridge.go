@@ -87,7 +87,8 @@ func (f frame) tangent(c crossing, cs []crossing) ([2]float64, bool) {
 // the points of both axes' lines; the term d·s absorbs a height that
 // changes along the boundary. ok is false when the fit has too few points,
 // no maximum, or the boundary runs within 20° of the grid line (then the
-// crossing of the two is ill-defined).
+// crossing of the two is ill-defined), or when the point would leave the
+// grid interval in which the phase changes by more than half its length.
 //
 // w holds the log landscape at the K grid points followed by the values at
 // the extra sample points (Samples.Points), which join the fit alike.
@@ -165,5 +166,11 @@ func (f frame) normalRidge(c crossing, tau [2]float64, w []float64, extra [][2]f
 		p[ax] += us / n[ax]
 	}
 	x := f.lo[ax] + p[ax]*f.rg[ax]
+	if d := (c.x1 - c.x0) / 2; x < c.x0-d || x > c.x1+d {
+		// The crest lies beyond the interval in which the segmentation
+		// puts the boundary (typically at a junction, where the profile
+		// is not one ridge's): keep the first estimate.
+		return 0, false
+	}
 	return x, true
 }
