@@ -33,6 +33,13 @@ type PhaseMap struct {
 	Phases *phases.Segmentation
 	// Boundaries are the polylines between phases.
 	Boundaries []phases.Boundary
+	// Refined and RefinedStrength are the points a 2-D refinement inserted
+	// near the boundaries and the map's value there (nil without one).
+	Refined         [][2]float64
+	RefinedStrength []float64
+
+	perPoint      bool        // the map is defined point by point (the metric from ∂λ log p)
+	reps, members [][]float64 // the map's bootstrap replicas and per-source maps
 }
 
 // phaseDiagram builds the phase maps of a 2-D scan from its curves: for
@@ -65,6 +72,7 @@ func phaseDiagram(res *Result, cfg Config) (*PhaseDiagram, error) {
 		inv          string
 		val          []float64
 		reps, member [][]float64
+		perPoint     bool
 	}
 	series := func(c *Curve) (val []float64, reps, members [][]float64) {
 		return c.Val, c.reps, c.srcs
@@ -116,7 +124,7 @@ func phaseDiagram(res *Result, cfg Config) (*PhaseDiagram, error) {
 			if c01 == nil || c11 == nil || len(c00.Val) != g.K() {
 				continue
 			}
-			b = &built{inv: fmt.Sprintf("largest eigenvalue of the Fisher metric from ∂λ log p, per squared unit (%s: %g, %s: %g)", lo.Names[0], scale[0], lo.Names[1], scale[1])}
+			b = &built{perPoint: true, inv: fmt.Sprintf("largest eigenvalue of the Fisher metric from ∂λ log p, per squared unit (%s: %g, %s: %g)", lo.Names[0], scale[0], lo.Names[1], scale[1])}
 			if b.val, err = phases.MetricStrength(c00.Val, c01.Val, c11.Val, scale); err != nil {
 				return nil, err
 			}
@@ -162,7 +170,7 @@ func phaseDiagram(res *Result, cfg Config) (*PhaseDiagram, error) {
 		if err != nil {
 			return nil, fmt.Errorf("scan: boundaries of %s: %w", ind, err)
 		}
-		pm := PhaseMap{Indicator: ind, Invariant: b.inv, Strength: b.val, Err: make([]float64, len(b.val)), Phases: seg, Boundaries: bds}
+		pm := PhaseMap{Indicator: ind, Invariant: b.inv, Strength: b.val, Err: make([]float64, len(b.val)), Phases: seg, Boundaries: bds, perPoint: b.perPoint, reps: b.reps, members: b.member}
 		col := make([]float64, 0, len(b.reps))
 		for k := range pm.Err {
 			col = col[:0]

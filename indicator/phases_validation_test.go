@@ -5,6 +5,8 @@ package indicator_test
 import (
 	"context"
 	"math"
+	"os"
+	"strconv"
 	"testing"
 	"time"
 
@@ -13,6 +15,7 @@ import (
 	"tidemark/data/density"
 	"tidemark/data/ising"
 	"tidemark/indicator"
+	"tidemark/train"
 )
 
 // xyDataset simulates the open XY chain in a transverse field,
@@ -51,13 +54,45 @@ func xyDataset(t *testing.T, n int, gs, hs []float64, shots int) (*chain.MPSSour
 // Phys. Rev. A 3, 786 (1971)): three phases — ordered along X (γ > 0,
 // |h| < 1), ordered along Y (γ < 0, |h| < 1) and the paramagnet (|h| > 1) —
 // separated by the Ising line h = 1 and the anisotropy line γ = 0 (|h| < 1).
-// The scan uses the exact density (the MPS) on sampled snapshots; the mean
-// distance of the boundary points from the nearest exact line must be at
-// most 5% of the axis range.
+// The same snapshots are scanned twice: with the exact density (the MPS)
+// and with a model trained on them at train's default settings. Each time
+// the fisher map must find three phases, and the mean distance of its
+// boundary points from the nearest exact line must be at most 5% of the
+// axis range (measured with the exact density: 1.7%, the h = 1 line found
+// at h ≈ 0.95–0.97 on this 32-site chain; scan 2 min on 2 shared cores).
+//
+// The model case does not pass yet and runs only with XY_MODEL=1: trained
+// here at the default settings it found 4 phases at a mean distance of
+// 13.4%; `tidemark train` at its defaults on the same grid found 3 phases at
+// 8.4% (500 snapshots per point) and 5.7% (1500), its h = 1 boundary at
+// h ≈ 0.85–0.95.
 func TestXYChainThreePhases(t *testing.T) {
 	gs := linspace(-1, 1, 9)
 	hs := linspace(0.2, 1.8, 9)
 	src, ds := xyDataset(t, 32, gs, hs, 500)
+	t.Run("exact", func(t *testing.T) { xyCheck(t, src, ds) })
+	t.Run("model", func(t *testing.T) {
+		if os.Getenv("XY_MODEL") == "" {
+			t.Skip("the model case does not meet the issue's criterion yet (see the doc comment); XY_MODEL=1 runs it")
+		}
+		t0 := time.Now()
+		ck, err := train.Run(context.Background(), ds, train.Options{Settings: train.DefaultSettings()})
+		if err != nil {
+			t.Fatal(err)
+		}
+		m, err := ck.Model()
+		if err != nil {
+			t.Fatal(err)
+		}
+		t.Logf("trained at the default settings in %v", time.Since(t0))
+		xyCheck(t, m, ds)
+	})
+}
+
+// xyCheck scans ds with src and checks the fisher map's phases and
+// boundaries against the XY chain's exact lines: three phases, and a mean
+// distance of the boundary points at most 5% of the axis range.
+func xyCheck(t *testing.T, src density.Source, ds *data.Dataset) {
 	t0 := time.Now()
 	res, err := indicator.Run(context.Background(), []density.Source{src}, ds, indicator.Config{Indicators: []string{indicator.Local, indicator.Fisher}, Bootstrap: 20, Threads: 2, Seed: 1})
 	if err != nil {
@@ -83,6 +118,13 @@ func TestXYChainThreePhases(t *testing.T) {
 			}
 		}
 		t.Logf("%s: %d phases, %d boundary points, mean distance %.3g of the range; labels %v", m.Indicator, m.Phases.Count, n, s/float64(max(n, 1)), m.Phases.Labels)
+		if testing.Verbose() {
+			for _, b := range m.Boundaries {
+				for i, p := range b.Points {
+					t.Logf("  %s %v: (γ, h) = %.3f ± %.2g, distance %.3g", m.Indicator, b.Between, p, b.Err[i], dist(p))
+				}
+			}
+		}
 		if m.Indicator != indicator.Fisher {
 			continue
 		}
@@ -121,15 +163,18 @@ func ising16Metric(L int, T, jy float64) (ftt, ftj, fjj float64) {
 // Ising model over (T, Jy) at Jx = 1, from the exact density (Kaufman's
 // finite-lattice partition function) on Monte Carlo snapshots. The
 // reference is the infinite lattice's exact line sinh(2Jx/T)·sinh(2Jy/T) = 1
-// (L. Onsager, Phys. Rev. 65, 117 (1944)) with a finite-size shift: on the
-// grid line on which a boundary point was located, the line's crossing is
-// moved to the maximum of the largest eigenvalue of the 16×16 lattice's
-// exact Fisher metric along that grid line (ising16Metric), the quantity
-// the scan estimates. The boundary points must lie within 3% of their
-// axis's range of the shifted crossing on average, and every one within 5%
-// (measured on this 11×9 grid: mean 1.5%, and the two worst points, both
-// located along Jy lines whose spacing 0.125 is coarse for the ridge, at
-// 3.4% and 4.4%); the distance from the unshifted line is logged.
+// (L. Onsager, Phys. Rev. 65, 117 (1944)) with the finite-size shift of the
+// 16×16 lattice: a finite lattice's specific heat, and with it the Fisher
+// metric, peaks away from the infinite lattice's T_c (A. E. Ferdinand and
+// M. E. Fisher, Phys. Rev. 185, 832 (1969)), so each boundary point is
+// compared with where the crest of the largest eigenvalue of the 16×16
+// lattice's exact Fisher metric (ising16Metric; crest as in crest) crosses
+// the grid line on which the point was located — the quantity the scan
+// estimates, computed exactly. Every boundary point must lie within 3% of
+// its axis's range of it, and the mean within 3% (measured on this 11×9
+// grid, Monte Carlo seeds 1–5: worst points 1.7–2.2%, means 1.0–1.2%);
+// the distance from the unshifted line is logged (means 2.9–3.4%). SEED
+// sets the Monte Carlo seed.
 func TestIsing16AnisotropicLine(t *testing.T) {
 	const L = 16
 	ts := linspace(1.5, 3.5, 11)
@@ -142,7 +187,7 @@ func TestIsing16AnisotropicLine(t *testing.T) {
 	}
 	lat := ising.Lattice{Ly: L, Lx: L}
 	t0 := time.Now()
-	sim, err := ising.Simulate(context.Background(), ising.Config{Lattice: lat, Fixed: ising.Couplings{Jx: 1}, Axes: []string{"T", "Jy"}, Points: pts, Samples: 500, Seed: 3, Threads: 2})
+	sim, err := ising.Simulate(context.Background(), ising.Config{Lattice: lat, Fixed: ising.Couplings{Jx: 1}, Axes: []string{"T", "Jy"}, Points: pts, Samples: 500, Seed: envSeed(3), Threads: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -185,40 +230,16 @@ func TestIsing16AnisotropicLine(t *testing.T) {
 		return (lo + hi) / 2
 	}
 	onsagerJy := func(T float64) float64 { return T / 2 * math.Asinh(1/math.Sinh(2/T)) }
-	// ridge returns the maximum of f on [a, b] nearest to x0 (a scan of
-	// 400 points, refined by golden section).
-	ridge := func(f func(float64) float64, a, b, x0 float64) float64 {
-		const n = 400
-		best, bd := x0, math.Inf(1)
-		for i := 1; i < n; i++ {
-			x := a + (b-a)*float64(i)/n
-			dx := (b - a) / n
-			if f(x) >= f(x-dx) && f(x) >= f(x+dx) && math.Abs(x-x0) < bd {
-				best, bd = x, math.Abs(x-x0)
-			}
-		}
-		lo, hi := best-(b-a)/n, best+(b-a)/n
-		g := (math.Sqrt(5) - 1) / 2
-		for i := 0; i < 60; i++ {
-			c, d := hi-g*(hi-lo), lo+g*(hi-lo)
-			if f(c) > f(d) {
-				hi = d
-			} else {
-				lo = c
-			}
-		}
-		return (lo + hi) / 2
-	}
 	n, worst, sum, sumExact := 0, 0.0, 0.0, 0.0
 	for _, b := range m.Boundaries {
 		for i, p := range b.Points {
 			var d, dExact, shift float64
-			if b.Along[i] == 0 { // located along T at fixed Jy
-				x := ridge(func(T float64) float64 { return lmax(T, p[1]) }, 1.5, 3.5, p[0])
+			ax := b.Along[i]
+			x := crest(lmax, [2]float64{1.5, 0.5}, [2]float64{2, 1}, ax, p)
+			if ax == 0 { // located along T at fixed Jy
 				shift = x - onsagerT(p[1])
 				d, dExact = math.Abs(p[0]-x)/2, math.Abs(p[0]-onsagerT(p[1]))/2
 			} else { // located along Jy at fixed T
-				x := ridge(func(jy float64) float64 { return lmax(p[0], jy) }, 0.5, 1.5, p[1])
 				shift = x - onsagerJy(p[0])
 				d, dExact = math.Abs(p[1]-x)/1, math.Abs(p[1]-onsagerJy(p[0]))/1
 			}
@@ -227,8 +248,8 @@ func TestIsing16AnisotropicLine(t *testing.T) {
 			sumExact += dExact
 			worst = math.Max(worst, d)
 			t.Logf("boundary point %.4v ± %.2v: %.3g of the range from the shifted line (finite-size shift %.3f), %.3g from the infinite-lattice line", p, b.Err[i], d, shift, dExact)
-			if d > 0.05 {
-				t.Errorf("boundary point %v is %.3g of the axis range from the shifted exact line, want ≤ 0.05", p, d)
+			if d > 0.03 {
+				t.Errorf("boundary point %v is %.3g of the axis range from the 16×16 lattice's exact crest, want ≤ 0.03", p, d)
 			}
 		}
 	}
@@ -253,4 +274,67 @@ func segDist(p, a, b [2]float64, r0, r1 float64) float64 {
 		u = math.Max(0, math.Min(1, ((px-ax)*dx+(py-ay)*dy)/l2))
 	}
 	return math.Hypot(px-ax-u*dx, py-ay-u*dy)
+}
+
+// envSeed returns the environment's SEED, or d: the Monte Carlo seed of
+// TestIsing16AnisotropicLine, to check it on other snapshots.
+func envSeed(d uint64) uint64 {
+	if v, err := strconv.ParseUint(os.Getenv("SEED"), 10, 64); err == nil {
+		return v
+	}
+	return d
+}
+
+// crest returns where the crest of the surface f (a ridge: J. M. Eberly,
+// R. Gardner, B. Morse, S. Pizer and C. Scharlach, "Ridges for image
+// analysis", J. Math. Imaging Vision 4, 353 (1994), height ridge) crosses
+// the grid line through p along axis ax: the point nearest to p at which
+// the derivative of log f along the direction of most negative curvature
+// vanishes. Coordinates are measured in units of the axis ranges rg from
+// lo, as the boundary points are located.
+func crest(f func(x, y float64) float64, lo, rg [2]float64, ax int, p [2]float64) float64 {
+	F := func(u, v float64) float64 { return math.Log(f(lo[0]+u*rg[0], lo[1]+v*rg[1])) }
+	q := [2]float64{(p[0] - lo[0]) / rg[0], (p[1] - lo[1]) / rg[1]}
+	g := func(t float64) float64 {
+		x := q
+		x[ax] = t
+		const h = 2e-3
+		f0 := F(x[0], x[1])
+		fu, fd := F(x[0]+h, x[1]), F(x[0]-h, x[1])
+		fr, fl := F(x[0], x[1]+h), F(x[0], x[1]-h)
+		gx, gy := (fu-fd)/(2*h), (fr-fl)/(2*h)
+		hxx, hyy := (fu-2*f0+fd)/(h*h), (fr-2*f0+fl)/(h*h)
+		hxy := (F(x[0]+h, x[1]+h) - F(x[0]+h, x[1]-h) - F(x[0]-h, x[1]+h) + F(x[0]-h, x[1]-h)) / (4 * h * h)
+		// Eigenvector of the smaller eigenvalue of [[hxx, hxy], [hxy, hyy]],
+		// oriented along +ax.
+		lam := (hxx+hyy)/2 - math.Hypot((hxx-hyy)/2, hxy)
+		e := [2]float64{hxy, lam - hxx}
+		if math.Abs(hxx-lam) < math.Abs(hyy-lam) {
+			e = [2]float64{lam - hyy, hxy}
+		}
+		if e[ax] < 0 {
+			e[0], e[1] = -e[0], -e[1]
+		}
+		return gx*e[0] + gy*e[1]
+	}
+	// The sign change from + to − (a maximum) nearest to p, by bisection.
+	const span, step = 0.15, 0.002
+	best, bd := q[ax], math.Inf(1)
+	for t := q[ax] - span; t < q[ax]+span; t += step {
+		if g(t) > 0 && g(t+step) <= 0 {
+			lo, hi := t, t+step
+			for i := 0; i < 40; i++ {
+				m := (lo + hi) / 2
+				if g(m) > 0 {
+					lo = m
+				} else {
+					hi = m
+				}
+			}
+			if d := math.Abs((lo+hi)/2 - q[ax]); d < bd {
+				best, bd = (lo+hi)/2, d
+			}
+		}
+	}
+	return lo[ax] + best*rg[ax]
 }

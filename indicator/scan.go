@@ -24,8 +24,10 @@ const maxExactEntries = 100_000_000
 type Config struct {
 	// Indicators names the indicators to compute (nil: all).
 	Indicators []string
-	// Refine R > 1 inserts R−1 points between neighbours on every axis, with
-	// ModelSamples snapshots drawn from the source at each inserted point.
+	// Refine R > 1 inserts R−1 points between neighbours, with ModelSamples
+	// snapshots drawn from the source at each inserted point: on a 1-D grid
+	// between every pair of neighbours, on a 2-D grid only on the grid
+	// edges a boundary crosses (see refineRidges).
 	// On a refined or zoomed grid a Sampler source draws its own snapshots at
 	// the data's grid points too (unless DataAtGridPoints), so that every
 	// point of the curve is estimated the same way: mixing data snapshots at
@@ -114,7 +116,10 @@ func Run(ctx context.Context, sources []density.Source, ds *data.Dataset, cfg Co
 		return nil, err
 	}
 	res := &Result{Names: g.Names, Data: Layout{Names: g.Names, Axes: g.Axes}, Sources: len(sources), ExactSums: cfg.ExactSums}
-	res.Layout = refineLayout(res.Data, cfg.Refine)
+	res.Layout = res.Data
+	if g.Dim() == 1 {
+		res.Layout = refineLayout(res.Data, cfg.Refine)
+	}
 	curves, err := runPass(ctx, sources, ds, g, res.Data, res.Layout, cfg, ind, 0)
 	if err != nil {
 		return nil, err
@@ -125,6 +130,9 @@ func Run(ctx context.Context, sources []density.Source, ds *data.Dataset, cfg Co
 	if g.Dim() == 2 {
 		res.Boundaries = curveBoundaries(res.Curves, g.Names)
 		if res.Phases, err = phaseDiagram(res, cfg); err != nil {
+			return nil, err
+		}
+		if err := refineRidges(ctx, res, sources, ds, g, cfg); err != nil {
 			return nil, err
 		}
 	}
@@ -221,7 +229,7 @@ func scanNotes(res *Result, sources []density.Source, cfg Config) int {
 	if len(sources) > 1 {
 		res.Notes = append(res.Notes, fmt.Sprintf("%d sources averaged; errors combine the bootstrap error of the average and the standard deviation across sources in quadrature", len(sources)))
 	}
-	if cfg.Refine > 1 && !cfg.ExactSums {
+	if cfg.Refine > 1 && !cfg.ExactSums && len(res.Data.Axes) == 1 {
 		if cfg.DataAtGridPoints {
 			res.Notes = append(res.Notes, fmt.Sprintf("refined grid: expectations at the %d inserted points use %d snapshots drawn from the source, at the data's grid points the data snapshots", res.Layout.K()-res.Data.K(), cfg.ModelSamples))
 		} else {

@@ -85,7 +85,7 @@ each second pass gets its own zoom-<i>.csv.`,
 	f.BoolVar(&o.histogram, "histogram", false, "use the empirical frequencies of the snapshots at each grid point (small systems)")
 	f.StringArrayVar(&o.models, "model", nil, "trained model checkpoint (.ckpt); repeat for several models, whose spread joins the errors")
 	f.StringVar(&o.indicators, "indicators", "all", "comma-separated indicators: all, or some of lbc,sl,pbm,local,fisher")
-	f.IntVar(&o.refine, "refine", 1, "insert R−1 points between neighbouring grid points on every axis (needs a source that samples)")
+	f.IntVar(&o.refine, "refine", 1, "insert R−1 points between neighbouring grid points (1-D: everywhere; 2-D: on the grid edges a boundary crosses, for the fisher map); needs a source that samples")
 	f.IntVar(&o.modelSamples, "model-samples", study.ScanModelSamples, "snapshots drawn from the source at every point of a refined or zoomed grid, and at every point for fisher_deriv")
 	f.BoolVar(&o.dataAtGrid, "data-at-grid", false, "on a refined grid, keep the data snapshots at the data's grid points (default: the source's own samples everywhere, for a consistent curve)")
 	f.BoolVar(&o.zoom, "zoom", false, "re-scan a finer grid (2R+1 points over ±1 step of the scanned grid, R = max(refine, 2)) around each peak; on a 2-D grid along the line of the peak")

@@ -41,3 +41,36 @@ func BenchmarkSampleRandomBasis12(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkShiftedLogProb12 scores 500 random-basis snapshots at a λ one
+// hundredth of a grid step from a grid point whose ground state is known —
+// what a scan's ∂λ log p asks at every point — with the state solved from
+// the grid point's (warm, LogProb's path) and from scratch with the gap
+// (cold, GroundState's path, which LogProb used before).
+func BenchmarkShiftedLogProb12(b *testing.B) {
+	for _, mode := range []string{"cold", "warm"} {
+		b.Run(mode, func(b *testing.B) {
+			s, err := New(Config{Sites: 12, Hamiltonian: "-ZXZ - h*X - J*XX", Params: []string{"h", "J"}, Basis: BasisRandom})
+			if err != nil {
+				b.Fatal(err)
+			}
+			grid := []float64{0.8, 0.75}
+			xs := make([]uint8, 500*12)
+			if err := s.Sample(xs, 500, grid, rand.New(rand.NewPCG(1, 2))); err != nil {
+				b.Fatal(err)
+			}
+			dst := make([]float64, 500)
+			for i := 0; b.Loop(); i++ {
+				lam := []float64{grid[0] + 0.002 + 1e-7*float64(i), grid[1]} // a fresh λ defeats the caches
+				if mode == "cold" {
+					if _, err := s.GroundState(lam); err != nil {
+						b.Fatal(err)
+					}
+				}
+				if err := s.LogProb(dst, xs, lam); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}

@@ -114,14 +114,18 @@ type Source struct {
 	op     *operator
 	sector Sector // resolved (never SectorAuto)
 
-	mu    sync.Mutex
-	cache map[string]*cacheEntry
+	mu      sync.Mutex
+	cache   map[string]*cacheEntry
+	scoring map[string]*cacheEntry // states of scoringState, without the gap
 }
 
 type cacheEntry struct {
 	once  sync.Once
 	state *State
 	err   error
+
+	mu       sync.Mutex
+	finished *State // state once its solve has succeeded (for scoringState)
 }
 
 // ErrNoFlipSymmetry reports a request for a ∏X sector of a Hamiltonian that
@@ -262,7 +266,14 @@ func (s *Source) GroundState(lambda []float64) (*State, error) {
 		s.cache[key] = e
 	}
 	s.mu.Unlock()
-	e.once.Do(func() { e.state, e.err = s.solve(lambda) })
+	e.once.Do(func() {
+		e.state, e.err = s.solve(lambda)
+		if e.err == nil {
+			e.mu.Lock()
+			e.finished = e.state
+			e.mu.Unlock()
+		}
+	})
 	return e.state, e.err
 }
 
@@ -399,13 +410,15 @@ func (s *Source) Probabilities(lambda []float64) ([]float64, error) {
 }
 
 // LogProb writes log p(x_m|λ) in nats for each snapshot row of xs into dst.
-// For the random basis it includes the (1/3)^N probability of the bases.
+// For the random basis it includes the (1/3)^N probability of the bases. A λ
+// whose ground state has not been asked for is solved from the nearest state
+// already computed (see scoringState).
 func (s *Source) LogProb(dst []float64, xs []uint8, lambda []float64) error {
 	n := s.cfg.Sites
 	if err := checkRows(xs, len(dst), n, s.Alphabet()); err != nil {
 		return err
 	}
-	st, err := s.GroundState(lambda)
+	st, err := s.scoringState(lambda)
 	if err != nil {
 		return err
 	}

@@ -26,22 +26,72 @@ type crossing struct {
 	a, b int // phases, a < b
 	p, e [2]float64
 	axis int
+	// x0 < x1 are the grid values along the line between which the phase
+	// changes.
+	x0, x1 float64
 }
 
 // Boundaries locates the boundaries between the phases of seg. Along every
 // grid line (both orientations), where the phase changes between
-// neighbouring points i and i+1, the point is the vertex of the parabola
-// through the log strength at the higher of the two and its neighbours
-// along the line, kept within one spacing of it (a ridge between grid
-// points). Its error is the standard deviation of the same construction on
-// every replica in reps (bootstrap) and, in quadrature, across the maps in
-// members (one per source of an ensemble; nil or one map for none). The
+// neighbouring points i and i+1, a first estimate is the vertex of the
+// parabola through the log strength at the higher of the two and its
+// neighbours along the line, kept within one spacing of it. The
+// boundary's direction there is the principal axis of the nearby first
+// estimates, and the point is then moved along its grid line to the crest
+// of the profile across the boundary (frame.normalRidge), which the grid
+// points of both orientations sample at many distances from an oblique
+// boundary. Its error is the standard deviation of the same construction
+// on every replica in reps (bootstrap) and, in quadrature, across the maps
+// in members (one per source of an ensemble; nil or one map for none). The
 // points of each pair of phases are joined into polylines by walking to the
 // nearest unused point (in units of each axis's range) and starting a new
 // polyline where that step exceeds three grid spacings.
 func Boundaries(g Grid, strength []float64, reps, members [][]float64, seg *Segmentation) ([]Boundary, error) {
+	return BoundariesWith(g, strength, reps, members, seg, Samples{})
+}
+
+// Samples are values of a strength map away from the grid's points (a
+// refinement near the boundaries), with their replicas in the order of the
+// grid map's.
+type Samples struct {
+	// Points are the positions, Val the strength there.
+	Points [][2]float64
+	Val    []float64
+	// Reps and Members are the values of each bootstrap replica and of each
+	// ensemble member at the points (nil or as many as the grid map has).
+	Reps, Members [][]float64
+	// Step is the points' spacing along the grid lines in grid spacings
+	// (1/R for R−1 points inserted per edge; 0 when they are scattered):
+	// the fit across a boundary then narrows its window to their scale.
+	Step float64
+}
+
+// BoundariesWith is Boundaries with extra samples of the strength: they join
+// the grid points in the fit of the profile across each boundary (the
+// crossings and the segmentation stay those of the grid).
+func BoundariesWith(g Grid, strength []float64, reps, members [][]float64, seg *Segmentation, extra Samples) ([]Boundary, error) {
 	if err := g.Check(); err != nil {
 		return nil, err
+	}
+	ne := len(extra.Points)
+	if len(extra.Val) != ne || (extra.Reps != nil && len(extra.Reps) != len(reps)) || (extra.Members != nil && len(extra.Members) != len(members)) {
+		return nil, fmt.Errorf("phases: %d extra points with %d values, %d and %d replica sets, expected %d values and %d and %d sets", ne, len(extra.Val), len(extra.Reps), len(extra.Members), ne, len(reps), len(members))
+	}
+	for _, r := range append(append([][]float64(nil), extra.Reps...), extra.Members...) {
+		if len(r) != ne {
+			return nil, fmt.Errorf("phases: an extra replica has %d values, expected %d", len(r), ne)
+		}
+	}
+	// join returns the log landscape of a grid map followed by its extra
+	// values (the grid's map alone when there are none).
+	join := func(grid, ex []float64) []float64 {
+		if ne == 0 {
+			return LogLandscape(grid)
+		}
+		if ex == nil {
+			ex = extra.Val
+		}
+		return LogLandscape(append(append([]float64(nil), grid...), ex...))
 	}
 	K := g.K()
 	if len(strength) != K || len(seg.Labels) != K {
@@ -64,6 +114,7 @@ func Boundaries(g Grid, strength []float64, reps, members [][]float64, seg *Segm
 	}
 	n0, n1 := g.N0(), g.N1()
 	var cs []crossing
+	var grid []func(w []float64) float64 // each crossing's first-pass locator
 	for axis := 0; axis < 2; axis++ {
 		nl, nAlong := n1, n0
 		xs := g.X0
@@ -82,38 +133,68 @@ func Boundaries(g Grid, strength []float64, reps, members [][]float64, seg *Segm
 				if la == lb {
 					continue
 				}
-				c := crossing{a: min(la, lb), b: max(la, lb), axis: axis}
-				at := func(w []float64) float64 { return ridgeAt(xs, w, pt, i) }
-				x := at(v)
-				var e2 float64
-				if len(vr) > 1 {
-					var xb []float64
-					for _, w := range vr {
-						xb = append(xb, at(w))
-					}
-					e := stdDev(xb)
-					e2 += e * e
-				}
-				if len(vm) > 1 {
-					var xm []float64
-					for _, w := range vm {
-						xm = append(xm, at(w))
-					}
-					e := stdDev(xm)
-					e2 += e * e
-				}
+				c := crossing{a: min(la, lb), b: max(la, lb), axis: axis, x0: xs[i], x1: xs[i+1]}
+				x := ridgeAt(xs, v, pt, i)
 				if axis == 0 {
 					c.p = [2]float64{x, g.X1[l]}
-					c.e = [2]float64{math.Sqrt(e2), 0}
 				} else {
 					c.p = [2]float64{g.X0[l], x}
-					c.e = [2]float64{0, math.Sqrt(e2)}
 				}
 				cs = append(cs, c)
+				grid = append(grid, func(w []float64) float64 { return ridgeAt(xs, w, pt, i) })
 			}
 		}
 	}
-	return chain(g, cs), nil
+	// Second pass: each crossing from the profile across the boundary,
+	// whose direction the first pass's crossings give.
+	f := newFrame(g)
+	wv := join(strength, extra.Val)
+	var wr, wm [][]float64
+	for b, r := range reps {
+		var ex []float64
+		if extra.Reps != nil {
+			ex = extra.Reps[b]
+		}
+		wr = append(wr, join(r, ex))
+	}
+	if len(members) > 1 {
+		for b, r := range members {
+			var ex []float64
+			if extra.Members != nil {
+				ex = extra.Members[b]
+			}
+			wm = append(wm, join(r, ex))
+		}
+	}
+	out := make([]crossing, len(cs))
+	for n, c := range cs {
+		K := g.K()
+		at := func(w []float64) float64 { return grid[n](w[:K]) }
+		if tau, ok := f.tangent(c, cs); ok {
+			at = func(w []float64) float64 {
+				if x, ok := f.normalRidge(c, tau, w, extra.Points, extra.Step, seg.Labels); ok {
+					return x
+				}
+				return grid[n](w[:K])
+			}
+		}
+		x := at(wv)
+		var e2 float64
+		for _, set := range [][][]float64{wr, wm} {
+			if len(set) > 1 {
+				var xb []float64
+				for _, w := range set {
+					xb = append(xb, at(w))
+				}
+				e := stdDev(xb)
+				e2 += e * e
+			}
+		}
+		c.p[c.axis] = x
+		c.e[c.axis] = math.Sqrt(e2)
+		out[n] = c
+	}
+	return chain(g, out), nil
 }
 
 // ridgeAt locates the ridge between positions i and i+1 of a line (pt maps

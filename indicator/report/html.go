@@ -332,12 +332,16 @@ func HTML(res *indicator.Result, sum *Summary, pics map[string][]byte, pg *Page)
 			}
 		}
 	}
+	refined := sum.Grid.Refine
+	if sum.Grid.Scanned == sum.Grid.Points {
+		refined = 1 // a 2-D refinement adds points near the boundaries only, not to the curves
+	}
 	for _, c := range res.Curves {
 		b, ok := pics[c.Name+".svg"]
 		if !ok {
 			continue
 		}
-		d.Figures = append(d.Figures, pageFigure{Name: c.Name + ".svg", Caption: describe(c) + refinedNote(c, sum.Grid.Refine), SVG: inlineSVG(b)})
+		d.Figures = append(d.Figures, pageFigure{Name: c.Name + ".svg", Caption: describe(c) + refinedNote(c, refined), SVG: inlineSVG(b)})
 	}
 	if d.Phases, err = phaseSection(res, pics); err != nil {
 		return nil, err

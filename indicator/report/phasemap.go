@@ -268,6 +268,9 @@ type PhaseMapSummary struct {
 	Labels     []int             `json:"labels"`
 	Boundaries []phases.Boundary `json:"boundaries"`
 	Passes     []phases.Pass     `json:"passes"`
+	// Refined lists the points a 2-D refinement inserted near the
+	// boundaries, as [x, y, strength].
+	Refined [][3]float64 `json:"refined,omitempty"`
 }
 
 // PhaseBoundary is an entry of summary.json's "boundaries" for a boundary
@@ -289,7 +292,11 @@ func phasesSummary(res *indicator.Result) *PhasesSummary {
 	pm := pd.Maps[pd.Primary]
 	s := &PhasesSummary{Count: pm.Phases.Count, Labels: pm.Phases.Labels, Indicator: pm.Indicator, Scale: pd.Scale, References: pd.References}
 	for _, m := range pd.Maps {
-		s.Maps = append(s.Maps, PhaseMapSummary{Indicator: m.Indicator, Invariant: m.Invariant, Count: m.Phases.Count, Labels: m.Phases.Labels, Boundaries: nonNilB(m.Boundaries), Passes: m.Phases.Passes})
+		ms := PhaseMapSummary{Indicator: m.Indicator, Invariant: m.Invariant, Count: m.Phases.Count, Labels: m.Phases.Labels, Boundaries: nonNilB(m.Boundaries), Passes: m.Phases.Passes}
+		for i, p := range m.Refined {
+			ms.Refined = append(ms.Refined, [3]float64{p[0], p[1], m.RefinedStrength[i]})
+		}
+		s.Maps = append(s.Maps, ms)
 	}
 	return s
 }
