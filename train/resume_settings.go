@@ -27,6 +27,7 @@ func SavedSettings(ck *checkpoints.Checkpoint) Settings {
 		Patience: t.Patience, Schedule: Schedule(t.Schedule), PlateauPatience: t.PlateauPatience, PlateauFactor: t.PlateauFactor,
 		WeightDecay: t.WeightDecay, Clip: t.Clip, Beta1: t.Beta1, Beta2: t.Beta2, Eps: t.Eps, Threads: t.Threads,
 		Augment: symmetriesOf(t.Augment), Average: t.AverageEpochs,
+		Member: memberOf(ck.Header.Ensemble),
 	}
 }
 
