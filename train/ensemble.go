@@ -122,6 +122,23 @@ type Ensemble struct {
 	Each func(k int, o *Options)
 }
 
+// DefaultEnsemble is the number of members train makes by default.
+const DefaultEnsemble = 1
+
+// CheckEnsemble reports bad values of train's --ensemble size and
+// --member (0: all members); resuming says whether --resume was given.
+func CheckEnsemble(size, member int, resuming bool) error {
+	switch {
+	case size < 1:
+		return fmt.Errorf("--ensemble: expected a number of members ≥ 1, found %d", size)
+	case member != 0 && (size < 2 || member < 1 || member > size):
+		return fmt.Errorf("--member: expected a member 1 to --ensemble (%d, at least 2), found %d", size, member)
+	case resuming && (size > 1 || member > 0):
+		return errors.New("--ensemble: cannot be given with --resume; resume each member's own file (FILE.e2.ckpt for member 2)")
+	}
+	return nil
+}
+
 // SplitThreads shares threads among the members of an ensemble of size
 // members: it returns how many members train at once and the threads of
 // each (Settings.Threads).
