@@ -29,6 +29,9 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 	if o.stopAfter < 0 {
 		return fmt.Errorf("--stop-after: expected a number of epochs ≥ 0, found %d", o.stopAfter)
 	}
+	if o.resume != "" && !cmd.Flags().Changed("ensemble") {
+		o.ensemble = 1 // a resumed run is one model, whatever the default
+	}
 	if err := train.CheckEnsemble(o.ensemble, o.member, o.resume != ""); err != nil {
 		return err
 	}
