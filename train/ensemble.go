@@ -1,6 +1,7 @@
 package train
 
 import (
+	"cmp"
 	"context"
 	"errors"
 	"fmt"
@@ -122,7 +123,9 @@ type Ensemble struct {
 	Each func(k int, o *Options)
 }
 
-// DefaultEnsemble is the number of members train makes by default.
+// DefaultEnsemble is the number of members train makes by default (see
+// bench/RESULTS.md, "Error bars that include the model", for why it is
+// still one).
 const DefaultEnsemble = 1
 
 // CheckEnsemble reports bad values of train's --ensemble size and
@@ -151,8 +154,8 @@ func SplitThreads(threads, members int) (parallel, each int) {
 // settings are opt.Settings (see MemberSettings), e.Parallel at a time,
 // and returns their checkpoints in the order of e.Members. When one fails
 // or ctx ends the others stop too; the checkpoints of the members that got
-// that far are returned with the error (wrapping ErrInterrupted after a
-// cancellation, like Run).
+// that far are returned with the error: the first member's own failure,
+// or else an error wrapping ErrInterrupted after a cancellation, like Run.
 func RunEnsemble(ctx context.Context, ds *data.Dataset, opt Options, e Ensemble) ([]*checkpoints.Checkpoint, error) {
 	if opt.Resume != nil {
 		return nil, errors.New("ensemble: resume a member's own checkpoint instead")
@@ -186,10 +189,12 @@ func RunEnsemble(ctx context.Context, ds *data.Dataset, opt Options, e Ensemble)
 		if e.Each != nil {
 			e.Each(k, &o)
 		}
+		// Members start in their order: the slot is taken before the
+		// goroutine starts.
+		sem <- struct{}{}
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			sem <- struct{}{}
 			defer func() { <-sem }()
 			if ctx.Err() != nil {
 				errs[i] = fmt.Errorf("member %d: %w", k, ErrInterrupted)
@@ -203,17 +208,18 @@ func RunEnsemble(ctx context.Context, ds *data.Dataset, opt Options, e Ensemble)
 		}()
 	}
 	wg.Wait()
-	// A member's own failure comes first, before the interruptions it
-	// caused in the others.
-	var own, stopped []error
+	// A member's own failure (the first, in member order) is the error;
+	// the interruptions it caused in the others are not. Without one, the
+	// first interruption is.
+	var stopped error
 	for _, err := range errs {
 		switch {
 		case err == nil:
 		case errors.Is(err, ErrInterrupted):
-			stopped = append(stopped, err)
+			stopped = cmp.Or(stopped, err)
 		default:
-			own = append(own, err)
+			return cks, err
 		}
 	}
-	return cks, errors.Join(append(own, stopped...)...)
+	return cks, stopped
 }

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"slices"
+	"strings"
 	"testing"
 
 	"tidemark/checkpoints"
@@ -135,9 +136,15 @@ func TestEnsembleRefusesBadMembers(t *testing.T) {
 			t.Errorf("%+v: error %v, expected %q", tc.e, err, tc.want)
 		}
 	}
+	// A bad setting fails every member; the error is a member's
+	// own (the first to fail), not the interruption it causes in the others.
+	_, err := RunEnsemble(context.Background(), ds, Options{Settings: tinyEnsembleSettings(), Holdout: "T=9"}, Ensemble{Size: 3, Parallel: 2})
+	if err == nil || errors.Is(err, ErrInterrupted) || !strings.Contains(err.Error(), ": holdout \"T=9\"") || strings.Contains(err.Error(), "\n") {
+		t.Errorf("bad holdout: error %v, expected a member's holdout error on one line", err)
+	}
 	ctx, cancel := context.WithCancel(context.Background())
 	cancel()
-	_, err := RunEnsemble(ctx, ds, Options{Settings: tinyEnsembleSettings()}, Ensemble{Size: 2, Parallel: 1})
+	_, err = RunEnsemble(ctx, ds, Options{Settings: tinyEnsembleSettings()}, Ensemble{Size: 2, Parallel: 1})
 	if !errors.Is(err, ErrInterrupted) {
 		t.Errorf("cancelled: error %v, expected one wrapping ErrInterrupted", err)
 	}

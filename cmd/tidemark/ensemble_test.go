@@ -122,7 +122,7 @@ func TestEnsembleFlagErrors(t *testing.T) {
 	}{
 		{[]string{"--ensemble", "0"}, "--ensemble: expected a number of members ≥ 1, found 0"},
 		{[]string{"--ensemble", "3", "--member", "4"}, "--member: expected a member 1 to --ensemble (3, at least 2), found 4"},
-		{[]string{"--member", "1"}, "--member: expected a member 1 to --ensemble (1, at least 2), found 1"},
+		{[]string{"--ensemble", "1", "--member", "1"}, "--member: expected a member 1 to --ensemble (1, at least 2), found 1"},
 	} {
 		_, err := execTidemark(t, append([]string{"train", "x.npz", "-o", "x.ckpt"}, tc.args...)...)
 		if err == nil || err.Error() != tc.want {
