@@ -21,7 +21,7 @@ func TestEnsembleTrainScanInspect(t *testing.T) {
 	dir := t.TempDir()
 	ds := ckptTestData(t, dir, "d.npz", 1)
 	m := filepath.Join(dir, "m.ckpt")
-	if _, err := execTidemark(t, append([]string{"train", ds, "-o", m, "--ensemble", "3", "--threads", "2"}, tinyTrain...)...); err != nil {
+	if _, err := execTidemark(t, append(append([]string{"train", ds, "-o", m}, tinyTrain...), "--ensemble", "3", "--threads", "2")...); err != nil {
 		t.Fatal(err)
 	}
 	for k := 1; k <= 3; k++ {
@@ -64,7 +64,7 @@ func TestEnsembleTrainScanInspect(t *testing.T) {
 	}
 
 	alone := filepath.Join(dir, "alone.ckpt")
-	if _, err := execTidemark(t, append([]string{"train", ds, "-o", alone, "--ensemble", "3", "--member", "2", "--threads", "2"}, tinyTrain...)...); err != nil {
+	if _, err := execTidemark(t, append(append([]string{"train", ds, "-o", alone}, tinyTrain...), "--ensemble", "3", "--member", "2", "--threads", "2")...); err != nil {
 		t.Fatal(err)
 	}
 	if _, err := os.Stat(alone); err == nil {
