@@ -21,6 +21,9 @@ type EnsembleMember struct {
 	// BagSeed seeds the bootstrap resample of this member's training
 	// snapshots (drawn per grid point, with replacement).
 	BagSeed uint64 `json:"bag_seed"`
+	// NoResample means the member trained on all the training snapshots
+	// (an ensemble that differs by seed only); BagSeed is then unused.
+	NoResample bool `json:"no_resample,omitempty"`
 }
 
 // Check reports an ensemble record that cannot be right.

@@ -29,6 +29,9 @@ type Member struct {
 	// BagSeed draws the member's bootstrap resample of the training
 	// snapshots, per grid point and with replacement.
 	BagSeed uint64
+	// NoResample trains the member on all the training snapshots: the
+	// members then differ by their seeds only.
+	NoResample bool
 }
 
 // Salts that separate a member's two derived seeds.
@@ -84,7 +87,7 @@ func (s Settings) splitSeed() uint64 {
 // for an ensemble member. train holds only snapshots left after the
 // validation split, so no validation snapshot is trained on.
 func (m *Member) bag(k int, train []int) []int {
-	if m == nil || len(train) == 0 {
+	if m == nil || m.NoResample || len(train) == 0 {
 		return train
 	}
 	rng := rand.New(rand.NewPCG(m.BagSeed, uint64(k)))
@@ -99,14 +102,14 @@ func (m *Member) record() *checkpoints.EnsembleMember {
 	if m == nil {
 		return nil
 	}
-	return &checkpoints.EnsembleMember{Size: m.Size, Member: m.Index, BaseSeed: m.BaseSeed, BagSeed: m.BagSeed}
+	return &checkpoints.EnsembleMember{Size: m.Size, Member: m.Index, BaseSeed: m.BaseSeed, BagSeed: m.BagSeed, NoResample: m.NoResample}
 }
 
 func memberOf(e *checkpoints.EnsembleMember) *Member {
 	if e == nil {
 		return nil
 	}
-	return &Member{Size: e.Size, Index: e.Member, BaseSeed: e.BaseSeed, BagSeed: e.BagSeed}
+	return &Member{Size: e.Size, Index: e.Member, BaseSeed: e.BaseSeed, BagSeed: e.BagSeed, NoResample: e.NoResample}
 }
 
 // Ensemble configures RunEnsemble.
@@ -115,6 +118,9 @@ type Ensemble struct {
 	Size int
 	// Members lists the members to train (1 to Size); nil means all.
 	Members []int
+	// NoResample trains every member on all the training snapshots, so
+	// that they differ by seed only (no bagging).
+	NoResample bool
 	// Parallel is the number of members trained at once (at least 1).
 	// It changes no member's result.
 	Parallel int
@@ -186,6 +192,7 @@ func RunEnsemble(ctx context.Context, ds *data.Dataset, opt Options, e Ensemble)
 	for i, k := range members {
 		o := opt
 		o.Settings = MemberSettings(opt.Settings, e.Size, k)
+		o.Settings.Member.NoResample = e.NoResample
 		if e.Each != nil {
 			e.Each(k, &o)
 		}

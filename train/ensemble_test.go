@@ -163,3 +163,27 @@ func TestMemberPathNamesSiblings(t *testing.T) {
 		}
 	}
 }
+
+// TestNoResampleTrainsOnAllSnapshots checks that a member of an ensemble
+// without resampling trains on the single model's training snapshots,
+// and that its checkpoint record says so and survives a reload.
+func TestNoResampleTrainsOnAllSnapshots(t *testing.T) {
+	ds, _ := isingDataset(t, 3, 3, []float64{1.5, 2.5, 3.5}, 50, 5)
+	base := tinyEnsembleSettings()
+	single := &run{ds: ds, grid: data.NewGrid(ds), st: base}
+	single.split()
+	st := MemberSettings(base, 3, 2)
+	st.Member.NoResample = true
+	r := &run{ds: ds, grid: data.NewGrid(ds), st: st}
+	r.split()
+	if !slices.Equal(r.trainIdx, single.trainIdx) {
+		t.Fatal("a member without resampling trains on other snapshots than the single model")
+	}
+	cks, err := RunEnsemble(context.Background(), ds, Options{Settings: base}, Ensemble{Size: 2, NoResample: true, Parallel: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if e := cks[1].Header.Ensemble; e == nil || !e.NoResample || !SavedSettings(cks[1]).Member.NoResample {
+		t.Errorf("ensemble record %+v does not say the member was not resampled", e)
+	}
+}

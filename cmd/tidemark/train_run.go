@@ -92,7 +92,7 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 	ctx, stop := signalContext()
 	defer stop()
 	if o.ensemble > 1 {
-		err := ensemble.Train(ctx, stdout, ds, opt, ensemble.Flags{Size: o.ensemble, Member: o.member, Out: o.out, Force: o.force, Quiet: o.quiet})
+		err := ensemble.Train(ctx, stdout, ds, opt, ensemble.Flags{Size: o.ensemble, Member: o.member, NoResample: !o.bag, Out: o.out, Force: o.force, Quiet: o.quiet})
 		if errors.Is(err, train.ErrInterrupted) {
 			return fmt.Errorf("%w: %w", err, errInterrupted)
 		}

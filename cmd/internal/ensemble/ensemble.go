@@ -22,6 +22,8 @@ import (
 type Flags struct {
 	// Size is --ensemble, Member --member (0: all members).
 	Size, Member int
+	// NoResample is --bag=false: members differ by seed only.
+	NoResample bool
 	// Out is -o: member 1's file, which names the others.
 	Out          string
 	Force, Quiet bool
@@ -31,7 +33,7 @@ type Flags struct {
 // options opt and saves them. An interruption returns an error wrapping
 // train.ErrInterrupted, after each member's last completed epoch is saved.
 func Train(ctx context.Context, stdout io.Writer, ds *data.Dataset, opt train.Options, o Flags) error {
-	e, n := train.Ensemble{Size: o.Size}, o.Size
+	e, n := train.Ensemble{Size: o.Size, NoResample: o.NoResample}, o.Size
 	if o.Member > 0 {
 		e.Members, n = []int{o.Member}, 1
 	}
@@ -54,7 +56,11 @@ func Train(ctx context.Context, stdout io.Writer, ds *data.Dataset, opt train.Op
 		if bar == nil {
 			bar = progress.New(perEpoch*epochs*n, "train", o.Quiet)
 			if !o.Quiet {
-				fmt.Fprintf(stdout, "training an ensemble of %d members on bootstrap resamples (%d at a time, %d threads each), %d snapshots per member and epoch, up to %d epochs\n", o.Size, par, each, perEpoch, epochs)
+				how := "on bootstrap resamples"
+				if o.NoResample {
+					how = "differing by seed only"
+				}
+				fmt.Fprintf(stdout, "training an ensemble of %d members %s (%d at a time, %d threads each), %d snapshots per member and epoch, up to %d epochs\n", o.Size, how, par, each, perEpoch, epochs)
 			}
 		}
 	}
