@@ -139,3 +139,27 @@ func read(t *testing.T, path string) string {
 	}
 	return string(b)
 }
+
+// TestEnsembleWithoutBagging checks that --bag=false trains members on all
+// the training snapshots and records it.
+func TestEnsembleWithoutBagging(t *testing.T) {
+	ensureIsingExact()
+	dir := t.TempDir()
+	ds := ckptTestData(t, dir, "d.npz", 1)
+	m := filepath.Join(dir, "m.ckpt")
+	if _, err := execTidemark(t, append(append([]string{"train", ds, "-o", m}, tinyTrain...), "--ensemble", "2", "--bag=false")...); err != nil {
+		t.Fatal(err)
+	}
+	single := filepath.Join(dir, "s.ckpt")
+	if _, err := execTidemark(t, append([]string{"train", ds, "-o", single}, tinyTrain...)...); err != nil {
+		t.Fatal(err)
+	}
+	a, err1 := checkpoints.Load(checkpoints.MemberPath(m, 2))
+	s, err2 := checkpoints.Load(single)
+	if err1 != nil || err2 != nil {
+		t.Fatal(err1, err2)
+	}
+	if e := a.Header.Ensemble; e == nil || !e.NoResample || a.Header.Training.TrainSnapshots != s.Header.Training.TrainSnapshots {
+		t.Errorf("member 2: ensemble record %+v, %d training snapshots against the single model's %d", e, a.Header.Training.TrainSnapshots, s.Header.Training.TrainSnapshots)
+	}
+}
