@@ -53,7 +53,8 @@ type calCount struct {
 // test holds the largest ensemble to it. Measured 2026-12-04 (12 epochs,
 // 47 minutes at load ≈ 30): it fails — the single model covered 14–80% at
 // 2σ, the ensemble of 4 bagged members 0–80% (lbc 0%, local 10%, fisher
-// 57%); the table is in bench/RESULTS.md.
+// 57%), 4 members differing by seed only (CAL_BAG=0) 0–90% (sl 90%, pbm
+// 80%, lbc 0%, local 10%); the tables are in bench/RESULTS.md.
 func TestErrorBarCalibration(t *testing.T) {
 	nData, samples := calEnv("CAL_DATASETS", 10), calEnv("CAL_SAMPLES", 400)
 	epochs, K := calEnv("CAL_EPOCHS", 15), calEnv("CAL_K", 4)
