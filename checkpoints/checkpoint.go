@@ -288,6 +288,9 @@ func Decode(b []byte, name string) (*Checkpoint, error) {
 	if err := c.Header.Model.Validate(); err != nil {
 		return nil, fail(ErrHeader, "%v", err)
 	}
+	if err := c.Header.Ensemble.Check(); err != nil {
+		return nil, fail(ErrHeader, "%v", err)
+	}
 	pay := b[preambleLen+hlen : len(body)]
 	off := 0
 	if len(c.Header.Sections) < 2 {

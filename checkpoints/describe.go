@@ -36,6 +36,18 @@ type Description struct {
 	Stopped            string          `json:"stopped"`
 	Training           Training        `json:"training"`
 	Metrics            []EpochMetrics  `json:"metrics"`
+	// Ensemble is the file's place in an ensemble; absent for a single
+	// model.
+	Ensemble *EnsembleMember `json:"ensemble,omitempty"`
+	// EnsembleFiles lists, for member 1, the files of every member (its
+	// own first) and whether each is present.
+	EnsembleFiles []EnsembleFile `json:"ensemble_files,omitempty"`
+}
+
+// EnsembleFile is one member's file as inspect lists it.
+type EnsembleFile struct {
+	File    string `json:"file"`
+	Present bool   `json:"present"`
 }
 
 // ArchDescription describes the model's architecture.
@@ -84,6 +96,13 @@ func Describe(path string) (*Description, error) {
 		r.Metrics = []EpochMetrics{}
 	}
 	r.Dataset.Source = nil
+	if e := h.Ensemble; e != nil {
+		r.Ensemble = e
+		for k := 1; e.Member == 1 && k <= e.Size; k++ {
+			_, err := os.Stat(MemberPath(path, k))
+			r.EnsembleFiles = append(r.EnsembleFiles, EnsembleFile{File: MemberPath(path, k), Present: err == nil})
+		}
+	}
 	return &r, nil
 }
 
@@ -140,6 +159,20 @@ func (r *Description) WriteText(w io.Writer) error {
 	}
 	if t.AverageEpochs > 0 {
 		fmt.Fprintf(tw, "weights\tmoving average over %g epochs (validated and kept)\n", t.AverageEpochs)
+	}
+	if e := r.Ensemble; e != nil {
+		var files []string
+		for _, f := range r.EnsembleFiles {
+			if !f.Present {
+				f.File += " (missing)"
+			}
+			files = append(files, f.File)
+		}
+		also := ""
+		if len(files) > 0 {
+			also = "; members " + strings.Join(files, ", ") + " (scan --model " + r.File + " uses them all)"
+		}
+		fmt.Fprintf(tw, "ensemble\tmember %d of %d, bootstrap resample seed %d, ensemble seed %d%s\n", e.Member, e.Size, e.BagSeed, e.BaseSeed, also)
 	}
 	stopped := r.Stopped
 	if stopped == "" {

@@ -30,6 +30,9 @@ type Header struct {
 	HoldoutSpec string `json:"holdout_spec"`
 	// Training records the settings and seed of the run.
 	Training Training `json:"training"`
+	// Ensemble, for a member of an ensemble (train --ensemble), records
+	// its place in it; nil for a single model and in older files.
+	Ensemble *EnsembleMember `json:"ensemble,omitempty"`
 	// Metrics holds one entry per completed epoch.
 	Metrics []EpochMetrics `json:"metrics"`
 	// BestEpoch is the epoch (1-based) whose weights are stored as "best";

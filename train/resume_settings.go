@@ -27,6 +27,7 @@ func SavedSettings(ck *checkpoints.Checkpoint) Settings {
 		Patience: t.Patience, Schedule: Schedule(t.Schedule), PlateauPatience: t.PlateauPatience, PlateauFactor: t.PlateauFactor,
 		WeightDecay: t.WeightDecay, Clip: t.Clip, Beta1: t.Beta1, Beta2: t.Beta2, Eps: t.Eps, Threads: t.Threads,
 		Augment: symmetriesOf(t.Augment), Average: t.AverageEpochs,
+		Member: memberOf(ck.Header.Ensemble),
 	}
 }
 
@@ -111,4 +112,54 @@ func CheckResume(ck *checkpoints.Checkpoint, given Settings, holdout string, cha
 		return fmt.Errorf("--%s: cannot be changed when resuming; the run keeps the settings saved", diff[0])
 	}
 	return nil
+}
+
+// ResumeRequest is what train's command line says about a resumed run.
+type ResumeRequest struct {
+	// Path is the checkpoint of --resume.
+	Path string
+	// Given returns the settings as the flags state them.
+	Given func() (Settings, error)
+	// Holdout is the --holdout text.
+	Holdout string
+	// Changed reports whether a flag (named without dashes) was given.
+	Changed func(flag string) bool
+	// Epochs, Patience and Threads are the values of their flags, used
+	// when given.
+	Epochs, Patience, Threads int
+}
+
+// LoadResume loads the checkpoint of a resumed run and returns what the
+// run may change. Settings given again with their saved values are
+// accepted, so a command line can be repeated with --resume added; any
+// other fixed setting given is refused with a one-line error.
+func LoadResume(q ResumeRequest) (*checkpoints.Checkpoint, *Resume, error) {
+	ck, err := checkpoints.Load(q.Path)
+	if err != nil {
+		return nil, nil, fmt.Errorf("--resume: %w", err)
+	}
+	res := &Resume{From: ck}
+	if q.Changed("epochs") {
+		res.Epochs = q.Epochs
+	}
+	if q.Changed("patience") {
+		res.Patience = q.Patience
+	}
+	if q.Changed("threads") {
+		res.Threads = q.Threads
+	}
+	given, err := q.Given()
+	if err != nil {
+		return nil, nil, err
+	}
+	var changed []string
+	for _, name := range append(FixedOnResume, "holdout") {
+		if q.Changed(name) {
+			changed = append(changed, name)
+		}
+	}
+	if err := CheckResume(ck, given, q.Holdout, changed); err != nil {
+		return nil, nil, fmt.Errorf("%w in %s (only --epochs, --patience and --threads may change; the others may only be repeated with their saved values)", err, q.Path)
+	}
+	return ck, res, nil
 }

@@ -103,6 +103,10 @@ type Settings struct {
 	// generate. Only symmetries the system has at every grid point may be
 	// named; a wrong one biases the model.
 	Augment []density.Symmetry
+	// Member, when non-nil, makes the run one member of an ensemble: it
+	// trains on a bootstrap resample of the training snapshots (see
+	// MemberSettings and ensemble.go).
+	Member *Member
 }
 
 // DefaultSettings returns settings that train the demo-sized systems
@@ -166,6 +170,9 @@ func (s Settings) Validate() error {
 		return fmt.Errorf("order: the conv network needs rowmajor, found snake")
 	case !slices.Contains(Orders, s.Arch.Order):
 		return fmt.Errorf("order: expected rowmajor or snake, found %q", s.Arch.Order)
+	}
+	if err := s.Member.check(); err != nil {
+		return err
 	}
 	for _, a := range s.Augment {
 		if !slices.Contains(density.Symmetries, a) {
@@ -338,14 +345,14 @@ func (r *run) split() {
 			continue
 		}
 		idx = slices.Clone(idx)
-		rng := rand.New(rand.NewPCG(r.st.Seed, uint64(k)))
+		rng := rand.New(rand.NewPCG(r.st.splitSeed(), uint64(k)))
 		rng.Shuffle(len(idx), func(i, j int) { idx[i], idx[j] = idx[j], idx[i] })
 		nv := int(math.Round(r.st.ValFrac * float64(len(idx))))
 		nv = min(max(nv, 1), len(idx)-1)
 		val := slices.Clone(idx[:nv])
 		slices.Sort(val)
 		r.valIdx[k] = val
-		r.trainIdx = append(r.trainIdx, idx[nv:]...)
+		r.trainIdx = append(r.trainIdx, r.st.Member.bag(k, idx[nv:])...)
 	}
 	slices.Sort(r.trainIdx)
 }
@@ -434,6 +441,7 @@ func (r *run) start(fp string) error {
 	for _, k := range held {
 		r.hdr.HeldOut = append(r.hdr.HeldOut, slices.Clone(r.grid.Points[k]))
 	}
+	r.hdr.Ensemble = st.Member.record()
 	return r.finishSetup(nil)
 }
 

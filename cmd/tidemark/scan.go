@@ -52,8 +52,9 @@ histogram of the data) and computes from that one matrix the Bayes-optimal indic
   local   total-variation distance of neighbouring windows of --window points
   fisher  Fisher information, from neighbour Jensen–Shannon divergence (fisher) and, for a
           source defined between grid points, from ∂λ log p (fisher_deriv)
-Errors come from --bootstrap resamples of the snapshots at each point; several --model
-files (trained with different seeds) add their spread in quadrature. Peaks are local maxima
+Errors come from --bootstrap resamples of the snapshots at each point; the members of an
+ensemble (train --ensemble; --model names its first file) or several --model files add their
+spread in quadrature, and the line "errors:" says which errors are included. Peaks are local maxima
 whose height above the neighbouring minimum exceeds two standard errors of that
 difference, refined by a parabola.
 On a 2-D product grid the curves become maps and the ridges of local and fisher become
@@ -83,7 +84,7 @@ each second pass gets its own zoom-<i>.csv.`,
 	f.StringVarP(&o.out, "output", "o", "", "output folder (created; an existing non-empty folder needs --force)")
 	f.BoolVar(&o.exact, "exact", false, "use the exact density of the generator recorded in the dataset (small systems); beside --model, draw its curves in the model's 1-D pictures")
 	f.BoolVar(&o.histogram, "histogram", false, "use the empirical frequencies of the snapshots at each grid point (small systems)")
-	f.StringArrayVar(&o.models, "model", nil, "trained model checkpoint (.ckpt); repeat for several models, whose spread joins the errors")
+	f.StringArrayVar(&o.models, "model", nil, "trained model checkpoint (.ckpt; an ensemble's first file brings all its members); repeat for several models, whose spread joins the errors")
 	f.StringVar(&o.indicators, "indicators", "all", "comma-separated indicators: all, or some of lbc,sl,pbm,local,fisher")
 	f.IntVar(&o.refine, "refine", 1, "insert R−1 points between neighbouring grid points (1-D: everywhere; 2-D: on the grid edges a boundary crosses, for the fisher map); needs a source that samples")
 	f.IntVar(&o.modelSamples, "model-samples", study.ScanModelSamples, "snapshots drawn from the source at every point of a refined or zoomed grid, and at every point for fisher_deriv")

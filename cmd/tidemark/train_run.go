@@ -9,6 +9,7 @@ import (
 	"github.com/spf13/pflag"
 
 	"tidemark/checkpoints"
+	"tidemark/cmd/internal/ensemble"
 	"tidemark/cmd/internal/progress"
 	"tidemark/data"
 	"tidemark/data/density"
@@ -17,43 +18,22 @@ import (
 	"tidemark/train"
 )
 
-// resumeFrom loads the checkpoint of --resume and returns what the resumed
-// run may change. Settings given again with their saved values are
-// accepted, so a command line can be repeated with --resume added.
+// resumeFrom loads the checkpoint of --resume and returns what the
+// resumed run may change (train.LoadResume).
 func (o *trainOptions) resumeFrom(fl *pflag.FlagSet) (*checkpoints.Checkpoint, *train.Resume, error) {
-	ck, err := checkpoints.Load(o.resume)
-	if err != nil {
-		return nil, nil, fmt.Errorf("--resume: %w", err)
-	}
-	res := &train.Resume{From: ck}
-	if fl.Changed("epochs") {
-		res.Epochs = o.epochs
-	}
-	if fl.Changed("patience") {
-		res.Patience = o.patience
-	}
-	if fl.Changed("threads") {
-		res.Threads = threadsOrDefault(o.threads)
-	}
-	given, err := o.settings()
-	if err != nil {
-		return nil, nil, err
-	}
-	var changed []string
-	for _, name := range append(train.FixedOnResume, "holdout") {
-		if fl.Changed(name) {
-			changed = append(changed, name)
-		}
-	}
-	if err := train.CheckResume(ck, given, o.holdout, changed); err != nil {
-		return nil, nil, fmt.Errorf("%w in %s (only --epochs, --patience and --threads may change; the others may only be repeated with their saved values)", err, o.resume)
-	}
-	return ck, res, nil
+	return train.LoadResume(train.ResumeRequest{Path: o.resume, Given: o.settings, Holdout: o.holdout, Changed: fl.Changed,
+		Epochs: o.epochs, Patience: o.patience, Threads: threadsOrDefault(o.threads)})
 }
 
 func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 	if o.stopAfter < 0 {
 		return fmt.Errorf("--stop-after: expected a number of epochs ≥ 0, found %d", o.stopAfter)
+	}
+	if o.resume != "" && !cmd.Flags().Changed("ensemble") {
+		o.ensemble = 1 // a resumed run is one model, whatever the default
+	}
+	if err := train.CheckEnsemble(o.ensemble, o.member, o.resume != ""); err != nil {
+		return err
 	}
 	opt := train.Options{Software: version, StopAfter: o.stopAfter}
 	var resumed *checkpoints.Checkpoint
@@ -85,7 +65,7 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 		return errors.New("train: expected an output checkpoint file (-o MODEL.ckpt), found none")
 	}
 	sameFile := o.resume != "" && safefile.SamePath(o.out, o.resume)
-	if !sameFile {
+	if !sameFile && o.ensemble == 1 {
 		if err := checkOutput(o.out, o.force); err != nil {
 			return err
 		}
@@ -109,6 +89,15 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 		}
 	}
 	stdout, stderr := cmd.OutOrStdout(), cmd.ErrOrStderr()
+	ctx, stop := signalContext()
+	defer stop()
+	if o.ensemble > 1 {
+		err := ensemble.Train(ctx, stdout, ds, opt, ensemble.Flags{Size: o.ensemble, Member: o.member, NoResample: !o.bag, Out: o.out, Force: o.force, Quiet: o.quiet})
+		if errors.Is(err, train.ErrInterrupted) {
+			return fmt.Errorf("%w: %w", err, errInterrupted)
+		}
+		return err
+	}
 	var bar *progress.Bar
 	opt.Start = func(perEpoch, epochs int) {
 		// Notes only once the settings and data have passed every check, so
@@ -152,8 +141,6 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 		written = true
 		return nil
 	}
-	ctx, stop := signalContext()
-	defer stop()
 	ck, err := train.Run(ctx, ds, opt)
 	bar.Done()
 	if errors.Is(err, train.ErrInterrupted) && ck != nil {
@@ -172,17 +159,8 @@ func runTrain(cmd *cobra.Command, dataPath string, o *trainOptions) error {
 	if err := ck.Save(o.out, written || sameFile || o.force); err != nil {
 		return err
 	}
-	h := ck.Header
 	if !o.quiet {
-		fmt.Fprintf(stdout, "stopped: %s after epoch %d; best epoch %d, validation %s bits/site", h.Stopped, h.Optimizer.Epoch, h.BestEpoch,
-			checkpoints.WithError(h.BestValBitsPerSite, h.BestValStdErrBitsPerSite, 5))
-		if h.HeldOutBitsPerSite != nil {
-			fmt.Fprintf(stdout, ", held-out points %.5f bits/site", *h.HeldOutBitsPerSite)
-		}
-		fmt.Fprintf(stdout, "\nsaved %s (%d parameters)\n", o.out, ck.NumParams())
-		if h.Stopped == "max epochs" && h.BestEpoch == h.Optimizer.Epoch {
-			fmt.Fprintf(stdout, "note: the validation NLL was still improving at the last epoch; more --epochs (with --resume %s) may fit better\n", o.out)
-		}
+		ck.WriteOutcome(stdout, o.out)
 	}
 	return nil
 }

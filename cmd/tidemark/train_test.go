@@ -49,7 +49,7 @@ func ckptTestData(t *testing.T, dir, name string, seed int) string {
 	return p
 }
 
-var tinyTrain = []string{"--hidden", "16", "--cond-hidden", "8", "--epochs", "3", "--batch", "64", "--quiet"}
+var tinyTrain = []string{"--hidden", "16", "--cond-hidden", "8", "--epochs", "3", "--batch", "64", "--ensemble", "1", "--quiet"}
 
 func TestTrainInspectExportScoreCheck(t *testing.T) {
 	ensureIsingExact()

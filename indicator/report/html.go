@@ -250,6 +250,7 @@ type pageData struct {
 	Notes              []string
 	Zoom               []string
 	Caution            string
+	ErrorsWarning      string
 	Files              []string
 	TrainCurves        []template.HTML
 	Phases             template.HTML
@@ -294,6 +295,9 @@ func HTML(res *indicator.Result, sum *Summary, pics map[string][]byte, pg *Page)
 		d.SourceNote = "The density is the empirical histogram of the snapshots at each grid point; it is only meaningful for systems small enough that snapshots repeat."
 	case "model":
 		d.SourceNote = "The density is the trained model. Its indicators are only as good as its fit: compare the validation and held-out likelihoods, and run check where an exact reference exists."
+		if !sum.Errors.ModelError {
+			d.ErrorsWarning = "With one model, " + SingleModelWarning + "."
+		}
 	}
 	for _, c := range res.Curves {
 		what := strings.TrimPrefix(describe(c), c.Name+": ")
@@ -448,7 +452,7 @@ const pageHTML = `<!DOCTYPE html>
 <h2>Peaks</h2>
 <p>Source: <strong>{{.Source}}</strong>. {{.SourceNote}}
 Parameters: {{.Params}}; {{.GridPoints}} grid points{{if ne .Scanned .GridPoints}} ({{.Scanned}} scanned){{end}};
-{{if .Bootstrap}}errors are standard deviations over {{.Bootstrap}} bootstrap resamples{{else}}no bootstrap errors{{end}}{{if gt .Sources 1}}, with the spread of {{.Sources}} models added{{end}}.</p>
+{{if .Bootstrap}}errors are standard deviations over {{.Bootstrap}} bootstrap resamples{{else}}no bootstrap errors{{end}}{{if gt .Sources 1}}, with the spread of {{.Sources}} models added{{end}}.{{with .ErrorsWarning}} <strong>{{.}}</strong>{{end}}</p>
 <table>
 <tr><th>curve</th><th>what it measures</th><th>peak at</th><th>height</th><th>above noise</th></tr>
 {{range .Peaks}}<tr><td><code>{{.Curve}}</code></td><td>{{.What}}</td><td class="num">{{.At}}</td><td class="num">{{.Height}}</td><td>{{if eq .Noise "yes"}}<span class="good">yes</span>{{else}}{{.Noise}}{{end}}</td></tr>

@@ -15,11 +15,13 @@ type Summary struct {
 	Params []string `json:"params"`
 	// Lattice is the scanned dataset's lattice shape (row-major, from its
 	// meta); absent when the dataset could not be read.
-	Lattice    []int                       `json:"lattice,omitempty"`
-	Grid       GridInfo                    `json:"grid"`
-	Bootstrap  int                         `json:"bootstrap"`
-	ExactSums  bool                        `json:"exact_sums"`
-	Sources    int                         `json:"sources"`
+	Lattice   []int    `json:"lattice,omitempty"`
+	Grid      GridInfo `json:"grid"`
+	Bootstrap int      `json:"bootstrap"`
+	ExactSums bool     `json:"exact_sums"`
+	Sources   int      `json:"sources"`
+	// Errors states which errors the error bars include.
+	Errors     Errors                      `json:"errors"`
 	Seed       uint64                      `json:"seed"`
 	Indicators map[string]IndicatorSummary `json:"indicators"`
 	Boundaries []any                       `json:"boundaries,omitempty"`
@@ -99,6 +101,7 @@ func NewSummary(res *indicator.Result, info Info) *Summary {
 		Source: info.Source, Data: info.Data, Models: info.Models, Params: res.Names,
 		Grid:      GridInfo{Points: res.Data.K(), Refine: max(1, info.Refine), Scanned: res.Layout.K()},
 		Bootstrap: res.Bootstrap, ExactSums: res.ExactSums, Sources: res.Sources, Seed: info.Seed,
+		Errors:     ErrorStatement(info.Source, res.Bootstrap, res.Sources, res.ExactSums),
 		Indicators: summarize(res.Curves, res.Names),
 		Boundaries: boundaryList(res),
 		Phases:     phasesSummary(res),

@@ -17,6 +17,7 @@ import (
 func WriteScan(w io.Writer, out string, res *indicator.Result, sum *report.Summary) {
 	p := func(format string, a ...any) { fmt.Fprintf(w, format, a...) }
 	p("scan: %s source, %d grid points (%d scanned), results in %s\n", sum.Source, sum.Grid.Points, sum.Grid.Scanned, out)
+	p("errors: %s\n", sum.Errors.Statement)
 	for _, c := range res.Curves {
 		if len(c.Lines) == 0 {
 			continue

@@ -41,7 +41,9 @@ const (
 // Sources opens the density sources of a scan of the dataset ds read from
 // dataPath: its exact reference, the histogram of its snapshots, or the
 // best weights of each checkpoint in models, each checked against ds
-// (sites, alphabet, lattice, parameter names).
+// (sites, alphabet, lattice, parameter names). A model file that is member
+// 1 of an ensemble (train --ensemble) stands for the whole ensemble: its
+// other members are read from their checkpoints.MemberPath files.
 func Sources(kind string, ds *data.Dataset, dataPath string, models []string) ([]density.Source, error) {
 	switch kind {
 	case SourceExact:
@@ -58,19 +60,22 @@ func Sources(kind string, ds *data.Dataset, dataPath string, models []string) ([
 		return []density.Source{h}, nil
 	case SourceModel:
 		var sources []density.Source
-		for _, p := range models {
-			ck, err := checkpoints.Load(p)
+		for _, name := range models {
+			cks, paths, err := checkpoints.LoadEnsemble(name)
 			if err != nil {
 				return nil, err
 			}
-			if err := ck.CheckDataset(ds); err != nil {
-				return nil, fmt.Errorf("%s does not fit the dataset: %w", p, err)
+			for i, ck := range cks {
+				p := paths[i]
+				if err := ck.CheckDataset(ds); err != nil {
+					return nil, fmt.Errorf("%s does not fit the dataset: %w", p, err)
+				}
+				m, err := ck.Model()
+				if err != nil {
+					return nil, fmt.Errorf("%s: %w", p, err)
+				}
+				sources = append(sources, m)
 			}
-			m, err := ck.Model()
-			if err != nil {
-				return nil, fmt.Errorf("%s: %w", p, err)
-			}
-			sources = append(sources, m)
 		}
 		return sources, nil
 	}

@@ -1,0 +1,51 @@
+package report
+
+import "fmt"
+
+// Errors states which errors a scan's error bars include (summary.json
+// "errors"; printed by scan).
+type Errors struct {
+	// Bootstrap is the number of bootstrap resamples of the snapshots
+	// behind the errors (0: none).
+	Bootstrap int `json:"bootstrap"`
+	// EnsembleMembers is the number of trained models (members of an
+	// ensemble or several --model files) whose spread joins the errors in
+	// quadrature; 0 for a source that is not a trained model.
+	EnsembleMembers int `json:"ensemble_members"`
+	// ModelError reports whether the error bars include an estimate of
+	// the model's own error (the spread of two or more models).
+	ModelError bool `json:"includes_model_error"`
+	// Statement says the same in a sentence.
+	Statement string `json:"statement"`
+}
+
+// SingleModelWarning is the part of a one-model scan's statement that the
+// report shows beside its peak table.
+const SingleModelWarning = "these error bars exclude the model's own error: a misfit of the one model shifts peaks by more than they show (train --ensemble K trains members whose spread adds it)"
+
+// ErrorStatement describes the errors of a scan with a source of the
+// given kind ("model", "exact" or "histogram"), bootstrap resamples and
+// sources combined; exactSums means the expectations are exact sums.
+func ErrorStatement(kind string, bootstrap, sources int, exactSums bool) Errors {
+	e := Errors{Bootstrap: bootstrap}
+	boot := fmt.Sprintf("the bootstrap over the snapshots (%d resamples)", bootstrap)
+	switch {
+	case exactSums:
+		boot = "no sampling error (exact sums over all states)"
+	case bootstrap == 0:
+		boot = "no bootstrap (--bootstrap 0)"
+	}
+	switch {
+	case kind == "model" && sources > 1:
+		e.EnsembleMembers, e.ModelError = sources, true
+		e.Statement = fmt.Sprintf("%s and the spread of %d models (ensemble members or --model files), in quadrature; the spread estimates the model's own error as far as it varies between members, not a bias they share", boot, sources)
+	case kind == "model":
+		e.EnsembleMembers = 1
+		e.Statement = boot + " only; " + SingleModelWarning
+	case kind == "exact":
+		e.Statement = boot + "; the exact density has no model error"
+	default:
+		e.Statement = boot + "; the histogram is re-estimated in every resample"
+	}
+	return e
+}

@@ -1,0 +1,215 @@
+//go:build validation
+
+package train
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+	"testing"
+	"time"
+
+	"tidemark/data"
+	"tidemark/data/density"
+	"tidemark/data/ising"
+	"tidemark/indicator"
+)
+
+// calEnv reads an integer knob of TestErrorBarCalibration.
+func calEnv(name string, def int) int {
+	if v, err := strconv.Atoi(os.Getenv(name)); err == nil && v > 0 {
+		return v
+	}
+	return def
+}
+
+// calIndicators are the curves whose highest peaks are compared.
+var calIndicators = []string{"lbc", "sl", "pbm", "local", "fisher", "fisher_deriv"}
+
+// calCount tallies one (configuration, indicator) cell of the table.
+type calCount struct {
+	n, noPeak, in1, in2 int
+	absDiff, sigma      []float64
+}
+
+// TestErrorBarCalibration measures how often the error bars a scan reports
+// for a model's highest peak cover the peak of the exact density on the
+// same snapshots: over CAL_DATASETS (default 10) independent Monte Carlo
+// datasets of the 16×16 periodic Ising model (17 temperatures in [1.9,
+// 2.7], CAL_SAMPLES = 400 snapshots each, seeds 101, 102, …), it trains a
+// single model and an ensemble of CAL_K = 4 bagged members (CAL_EPOCHS = 15
+// epochs, otherwise default settings, CAL_ARCH=conv for the convolutional
+// network), scans with the single model, the first 2 members and all of
+// them, and with the exact density of the dataset (Kaufman's partition
+// function per snapshot: B. Kaufman, Phys. Rev. 76, 1232 (1949); the
+// check's reference), and counts, per indicator, the datasets whose exact
+// highest peak lies within 1σ and 2σ of the model's highest peak, σ the
+// model's reported peak error. A model without a peak counts as a miss.
+// CAL_BAG=0 trains members that differ by seed only (no resampling).
+// The bar is 2σ coverage of at least 90% for every indicator; the
+// test holds the largest ensemble to it. Measured 2026-12-04 (12 epochs,
+// 47 minutes at load ≈ 30): it fails — the single model covered 14–80% at
+// 2σ, the ensemble of 4 bagged members 0–80% (lbc 0%, local 10%, fisher
+// 57%), 4 members differing by seed only (CAL_BAG=0) 0–90% (sl 90%, pbm
+// 80%, lbc 0%, local 10%); the tables are in bench/RESULTS.md.
+func TestErrorBarCalibration(t *testing.T) {
+	nData, samples := calEnv("CAL_DATASETS", 10), calEnv("CAL_SAMPLES", 400)
+	epochs, K := calEnv("CAL_EPOCHS", 15), calEnv("CAL_K", 4)
+	arch := ArchKind(os.Getenv("CAL_ARCH"))
+	configs := []struct {
+		name    string
+		members int // 0: the single model
+	}{{"single", 0}, {"ensemble 2", 2}, {fmt.Sprintf("ensemble %d", K), K}}
+	table := map[string]map[string]*calCount{}
+	for _, c := range configs {
+		table[c.name] = map[string]*calCount{}
+		for _, ind := range calIndicators {
+			table[c.name][ind] = &calCount{}
+		}
+	}
+	ctx := context.Background()
+	start := time.Now()
+	for d := 0; d < nData; d++ {
+		ds := calDataset(t, samples, uint64(101+d))
+		ref, err := density.ReferenceFor(ds.Meta)
+		if err != nil {
+			t.Fatal(err)
+		}
+		exact := calPeaks(t, []density.Source{ref}, ds)
+		st := DefaultSettings()
+		st.Epochs, st.Arch.Kind = epochs, arch
+		single, err := Run(ctx, ds, Options{Settings: st})
+		if err != nil {
+			t.Fatal(err)
+		}
+		cks, err := RunEnsemble(ctx, ds, Options{Settings: st}, Ensemble{Size: K, Parallel: 2, NoResample: os.Getenv("CAL_BAG") == "0"})
+		if err != nil {
+			t.Fatal(err)
+		}
+		var members []density.Source
+		for _, ck := range append(cks, single) {
+			m, err := ck.Model()
+			if err != nil {
+				t.Fatal(err)
+			}
+			members = append(members, m)
+		}
+		for _, c := range configs {
+			srcs := members[:max(c.members, 1)]
+			if c.members == 0 {
+				srcs = members[K:]
+			}
+			got := calPeaks(t, srcs, ds)
+			for _, ind := range calIndicators {
+				e, ok := exact[ind]
+				if !ok {
+					continue
+				}
+				cc := table[c.name][ind]
+				cc.n++
+				m, ok := got[ind]
+				if !ok {
+					cc.noPeak++
+					continue
+				}
+				diff := math.Abs(m.At[0] - e.At[0])
+				cc.absDiff, cc.sigma = append(cc.absDiff, diff), append(cc.sigma, m.Err[0])
+				if diff <= m.Err[0] {
+					cc.in1++
+				}
+				if diff <= 2*m.Err[0] {
+					cc.in2++
+				}
+			}
+		}
+		fmt.Fprintf(os.Stderr, "calibration: dataset %d of %d done after %v\n", d+1, nData, time.Since(start).Round(time.Second))
+	}
+	var b strings.Builder
+	fmt.Fprintf(&b, "16×16 Ising, %d datasets × 17 temperatures × %d snapshots, %d epochs, arch %q, resampling %v, %v\n", nData, samples, epochs, arch, os.Getenv("CAL_BAG") != "0", time.Since(start).Round(time.Second))
+	fmt.Fprintf(&b, "%-13s %-12s %3s %7s %7s %7s %10s %10s\n", "indicator", "errors of", "n", "no peak", "in 1σ", "in 2σ", "mean |Δ|", "median σ")
+	for _, ind := range calIndicators {
+		for _, c := range configs {
+			cc := table[c.name][ind]
+			fmt.Fprintf(&b, "%-13s %-12s %3d %7d %6.0f%% %6.0f%% %10.4f %10.4f\n", ind, c.name, cc.n, cc.noPeak,
+				pct(cc.in1, cc.n), pct(cc.in2, cc.n), mean(cc.absDiff), median(cc.sigma))
+		}
+	}
+	fmt.Fprint(os.Stdout, b.String())
+	last := configs[len(configs)-1].name
+	for _, ind := range calIndicators {
+		if cc := table[last][ind]; cc.n > 0 && pct(cc.in2, cc.n) < 90 {
+			t.Errorf("%s, %s: the exact peak lies within 2σ in %d of %d datasets, below the bar of 90%%", last, ind, cc.in2, cc.n)
+		}
+	}
+}
+
+func pct(a, n int) float64 {
+	if n == 0 {
+		return math.NaN()
+	}
+	return 100 * float64(a) / float64(n)
+}
+
+func mean(v []float64) float64 {
+	s := 0.0
+	for _, x := range v {
+		s += x
+	}
+	return s / float64(len(v))
+}
+
+func median(v []float64) float64 {
+	if len(v) == 0 {
+		return math.NaN()
+	}
+	w := append([]float64(nil), v...)
+	for i := range w {
+		for j := i + 1; j < len(w); j++ {
+			if w[j] < w[i] {
+				w[i], w[j] = w[j], w[i]
+			}
+		}
+	}
+	return w[len(w)/2]
+}
+
+// calDataset simulates one 16×16 Ising dataset by Monte Carlo.
+func calDataset(t *testing.T, samples int, seed uint64) *data.Dataset {
+	t.Helper()
+	const grid = "T=1.9:2.7:17"
+	cfg, err := ising.Request{Lx: 16, Grid: grid, Samples: samples, Fixed: ising.Couplings{Jx: 1, Jy: 1}, Seed: seed, Threads: 2}.Config()
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := ising.Simulate(context.Background(), cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ds, err := res.Dataset(cfg, grid)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return ds
+}
+
+// calPeaks scans ds with srcs (100 bootstrap replicates, the scan's
+// default) and returns each indicator's highest peak.
+func calPeaks(t *testing.T, srcs []density.Source, ds *data.Dataset) map[string]indicator.Peak {
+	t.Helper()
+	res, err := indicator.Run(context.Background(), srcs, ds, indicator.Config{Bootstrap: 100, ModelSamples: 1000, Threads: 2, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := map[string]indicator.Peak{}
+	for _, c := range res.Curves {
+		for _, p := range c.Peaks {
+			if q, ok := out[c.Name]; !ok || p.Height > q.Height {
+				out[c.Name] = p
+			}
+		}
+	}
+	return out
+}
