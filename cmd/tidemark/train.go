@@ -117,7 +117,7 @@ thread counts change results only by floating-point summation order.`,
 	f.StringVar(&o.holdout, "holdout", "", `grid points kept out of training and validation: "T=2.2;2.3" (values) or "T=2.1:2.4" (a range); axes joined by ","`)
 	f.StringVar(&o.resume, "resume", "", "continue the run saved in this checkpoint (same dataset; its settings are kept, --epochs, --patience and --threads may change)")
 	f.IntVar(&o.ensemble, "ensemble", train.DefaultEnsemble, "train this many models on bootstrap resamples of the training snapshots, with seeds derived from --seed; OUT holds member 1, OUT.e<k>.ckpt member k, and scan --model OUT uses them all, their spread joining the errors")
-	f.BoolVar(&o.bag, "bag", true, "with --ensemble: train each member on a bootstrap resample of the training snapshots (false: on all of them, the members differing by seed only)")
+	f.BoolVar(&o.bag, "bag", false, "with --ensemble: train each member on a bootstrap resample of the training snapshots (bagging; default: on all of them, the members differing by seed only, which measured closer to exact)")
 	f.IntVar(&o.member, "member", 0, "with --ensemble K: train only member k (1 to K), the same model the whole ensemble's run gives with the same --threads")
 	f.IntVar(&o.stopAfter, "stop-after", 0, "stop after this many epochs of this invocation, keeping the run resumable (0: no limit)")
 	f.BoolVar(&o.force, "force", false, "overwrite the output file if it exists")

@@ -5,6 +5,7 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+	"tidemark/checkpoints"
 
 	"tidemark/data"
 )
@@ -143,9 +144,15 @@ func stageList() string {
 func pointPath(l, k int) string {
 	return filepath.Join("points", fmt.Sprintf("L%d", l), fmt.Sprintf("p%d.npz", k))
 }
-func dataPath(l int) string     { return filepath.Join("data", fmt.Sprintf("L%d.npz", l)) }
-func modelPath(l, m int) string { return filepath.Join("models", fmt.Sprintf("L%d-m%d.ckpt", l, m)) }
-func scanDir(l int) string      { return filepath.Join("scans", fmt.Sprintf("L%d", l)) }
+func dataPath(l int) string { return filepath.Join("data", fmt.Sprintf("L%d.npz", l)) }
+
+// modelPath names member m of size l's ensemble as train --ensemble does
+// (models/L8.ckpt is member 1, models/L8.e2.ckpt member 2), so that scan,
+// given member 1, reads them all.
+func modelPath(l, m int) string {
+	return checkpoints.MemberPath(filepath.Join("models", fmt.Sprintf("L%d.ckpt", l)), m)
+}
+func scanDir(l int) string { return filepath.Join("scans", fmt.Sprintf("L%d", l)) }
 func stampPath(name string) string {
 	return filepath.Join("stamps", strings.ReplaceAll(name, "/", "_")+".json")
 }

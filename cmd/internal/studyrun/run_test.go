@@ -89,7 +89,7 @@ func TestResume(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, w := range []string{`href="scans/L4/report.html"`, `href="scans/L6/report.html"`, `href="scans/L8/report.html"`,
-		`href="extrapolation/report.html"`, "models/L8-m2.ckpt"} {
+		`href="extrapolation/report.html"`, "models/L8.e2.ckpt"} {
 		if !strings.Contains(string(page), w) {
 			t.Errorf("report.html lacks %s", w)
 		}

@@ -6,7 +6,6 @@ import (
 	"os"
 	"path/filepath"
 
-	"tidemark/checkpoints"
 	"tidemark/data"
 	"tidemark/data/ising"
 	"tidemark/indicator/report"
@@ -65,14 +64,17 @@ func (p *Plan) work(u Unit) (*work, error) {
 			return gather(req, ins, abs(out))
 		}}, nil
 	case StageTrain:
-		seed := deriveSeed(st.System.Seed, u.Name)
+		// The ensemble's seed comes from the size alone; each member's
+		// own seeds from it and the member index (train.MemberSettings).
+		seed := deriveSeed(st.System.Seed, fmt.Sprintf("train/L%d", u.Size))
 		ts, err := st.trainSettings(seed)
 		if err != nil {
 			return nil, err
 		}
+		ts = memberSettings(ts, st.Model.Ensemble, u.Member)
 		in, out := p.datasetOf(u.Size), modelPath(u.Size, u.Member)
 		return &work{settings: []any{ts, u.Member}, inputs: []string{in}, outputs: []string{out}, run: func(ctx context.Context) error {
-			return trainUnit(ctx, in, abs(out), ts, u.Member)
+			return trainUnit(ctx, in, abs(out), ts)
 		}}, nil
 	case StageScan:
 		seed := deriveSeed(st.System.Seed, u.Name)
@@ -94,7 +96,8 @@ func (p *Plan) work(u Unit) (*work, error) {
 			if err != nil {
 				return err
 			}
-			sources, err := study.Sources(study.SourceModel, ds, in, ins[1:])
+			// Member 1's file stands for the whole ensemble.
+			sources, err := study.Sources(study.SourceModel, ds, in, ins[1:2])
 			if err != nil {
 				return err
 			}
@@ -190,14 +193,14 @@ func writeDataset(ds *data.Dataset, path string) error {
 	return ds.Write(path, true)
 }
 
-// trainUnit trains ensemble member m on the dataset at dataPath and saves
-// its checkpoint at out.
-func trainUnit(ctx context.Context, dataPath, out string, ts train.Settings, m int) error {
+// trainUnit trains the model ts describes (one ensemble member) on the
+// dataset at dataPath and saves its checkpoint at out.
+func trainUnit(ctx context.Context, dataPath, out string, ts train.Settings) error {
 	ds, err := data.Read(dataPath)
 	if err != nil {
 		return err
 	}
-	ck, err := trainMember(ctx, ds, dataPath, ts, m)
+	ck, err := train.Run(ctx, ds, train.Options{Settings: ts, DataPath: dataPath, Software: Software})
 	if err != nil {
 		return err
 	}
@@ -207,10 +210,17 @@ func trainUnit(ctx context.Context, dataPath, out string, ts train.Settings, m i
 	return ck.Save(out, true)
 }
 
-// trainMember trains ensemble member m (from 1) of a size. It is the one
-// place that says what a member is: for now the plain trainer with the
-// member's own seed (ts.Seed, derived from the study seed, the size and m).
-func trainMember(ctx context.Context, ds *data.Dataset, dataPath string, ts train.Settings, m int) (*checkpoints.Checkpoint, error) {
-	_ = m // the member index matters once members are bootstrap resamples
-	return train.Run(ctx, ds, train.Options{Settings: ts, DataPath: dataPath, Software: Software})
+// memberSettings returns the settings of member m (from 1) of an ensemble
+// of size models trained with base: the one place that says what a study's
+// member is. It is what train --ensemble size --member m trains (its own
+// seeds from base.Seed and m alone, on all the training snapshots: the
+// default kind of ensemble, which measured closer to exact than bagging);
+// a single model is base itself.
+func memberSettings(base train.Settings, size, m int) train.Settings {
+	if size < 2 {
+		return base
+	}
+	s := train.MemberSettings(base, size, m)
+	s.Member.NoResample = true
+	return s
 }
