@@ -126,6 +126,9 @@ func TestExtrapolateBadInput(t *testing.T) {
 		{"inconsistent parameters", []string{s8, s12, h16, "--nu", "1"}, "expected the parameter T as in " + s8 + ", found h"},
 		{"scan without peaks", []string{s8, s12, e16, "--nu", "1"}, "expected at least one indicator peak, found none"},
 		{"no lattice recorded", []string{s8, s12, o16, "--nu", "1"}, "expected --sizes"},
+		{"corrections not a count", []string{s8, s12, s16, "--nu", "1", "--corrections", "some"}, `--corrections: expected auto, 0, 1 or 2, found "some"`},
+		{"too many corrections", []string{s8, s12, s16, "--nu", "1", "--corrections", "3"}, "--corrections: expected 0 to 2 terms, found 3"},
+		{"corrections beyond the sizes", []string{s8, s12, s16, "--nu", "1", "--corrections", "1"}, "at least 4 different sizes"},
 		{"sizes for too few scans", []string{s8, s12, s16, "--nu", "1", "--sizes", "8,12"}, "expected one size per scan (3), found 2"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {

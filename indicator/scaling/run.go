@@ -42,26 +42,36 @@ type Scan struct {
 
 // Estimate is one indicator's extrapolation, as written in summary.json.
 type Estimate struct {
-	Indicator string    `json:"indicator"`
-	Param     string    `json:"param"`
-	Value     float64   `json:"value"`
-	Err       float64   `json:"err"`
-	Nu        float64   `json:"nu"`
-	NuErr     float64   `json:"nu_err,omitempty"`
-	NuFitted  bool      `json:"nu_fitted"`
-	Omega     float64   `json:"omega,omitempty"`
-	A         float64   `json:"a"`
-	B         float64   `json:"b,omitempty"`
-	Sizes     []float64 `json:"sizes"`
-	Peaks     []float64 `json:"peaks"`
-	PeakErrs  []float64 `json:"peak_errs"`
-	Chi2      float64   `json:"chi2"`
-	Dof       int       `json:"dof"`
-	Chi2Dof   float64   `json:"chi2_per_dof"`
-	CovErr    float64   `json:"err_covariance"`
-	BootErr   float64   `json:"err_bootstrap"`
-	Drift     float64   `json:"err_drift"`
-	Weighted  bool      `json:"weighted"`
+	Indicator string  `json:"indicator"`
+	Param     string  `json:"param"`
+	Value     float64 `json:"value"`
+	Err       float64 `json:"err"`
+	Nu        float64 `json:"nu"`
+	NuErr     float64 `json:"nu_err,omitempty"`
+	NuFitted  bool    `json:"nu_fitted"`
+	Omega     float64 `json:"omega,omitempty"`
+	// Corrections is the number of correction terms and Bs their amplitudes.
+	Corrections int       `json:"corrections"`
+	A           float64   `json:"a"`
+	B           float64   `json:"b,omitempty"`
+	Bs          []float64 `json:"bs,omitempty"`
+	Sizes       []float64 `json:"sizes"`
+	Peaks       []float64 `json:"peaks"`
+	PeakErrs    []float64 `json:"peak_errs"`
+	Chi2        float64   `json:"chi2"`
+	Dof         int       `json:"dof"`
+	Chi2Dof     float64   `json:"chi2_per_dof"`
+	CovErr      float64   `json:"err_covariance"`
+	BootErr     float64   `json:"err_bootstrap"`
+	Drift       float64   `json:"err_drift"`
+	// Stat and Syst are the statistical and systematic parts of Err;
+	// FormShift is the change made by the last correction term.
+	Stat      float64 `json:"err_statistical"`
+	Syst      float64 `json:"err_systematic"`
+	FormShift float64 `json:"err_form_shift"`
+	Weighted  bool    `json:"weighted"`
+	// Forms are the candidate forms of an automatic choice.
+	Forms []Form `json:"forms,omitempty"`
 
 	fit *Fit
 }
@@ -245,8 +255,9 @@ func Run(dirs []string, opt Options) (*Result, error) {
 		}
 		e := Estimate{
 			Indicator: name, Param: res.Param, Value: f.Value, Err: f.Err, Nu: f.Nu, NuErr: f.NuErr, NuFitted: f.NuFitted,
-			Omega: f.Omega, A: f.A, B: f.B, Chi2: f.Chi2, Dof: f.Dof, Chi2Dof: f.Chi2 / float64(f.Dof),
-			CovErr: f.CovErr, BootErr: f.BootErr, Drift: f.Drift, Weighted: f.Weighted, fit: f,
+			Omega: f.Omega, Corrections: f.Corrections, A: f.A, B: f.B, Bs: f.Bs, Chi2: f.Chi2, Dof: f.Dof, Chi2Dof: f.Chi2 / float64(f.Dof),
+			CovErr: f.CovErr, BootErr: f.BootErr, Drift: f.Drift, Stat: f.Stat, Syst: f.Syst, FormShift: f.FormShift,
+			Weighted: f.Weighted, Forms: f.Forms, fit: f,
 		}
 		for _, p := range pts {
 			e.Sizes = append(e.Sizes, p.Size)
@@ -307,7 +318,8 @@ func (r *Result) WriteText(w io.Writer) {
 		if e.NuFitted {
 			nu = fmt.Sprintf("ν = %.3g ± %.2g (fitted)", e.Nu, e.NuErr)
 		}
-		fmt.Fprintf(w, "  %-14s %s_c = %.6g ± %.2g   %s, χ²/dof = %.2f, %d sizes\n", e.Indicator, e.Param, e.Value, e.Err, nu, e.Chi2Dof, len(e.Sizes))
+		fmt.Fprintf(w, "  %-14s %s_c = %.6g ± %.2g (stat %.2g, syst %.2g)   %s, %d corr., χ²/dof = %.2f, %d sizes\n",
+			e.Indicator, e.Param, e.Value, e.Err, e.Stat, e.Syst, nu, e.Corrections, e.Chi2Dof, len(e.Sizes))
 	}
 	c := r.Combined
 	agree := "the indicators agree within their errors"

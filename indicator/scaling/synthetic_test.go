@@ -32,6 +32,8 @@ func TestFitCoverage(t *testing.T) {
 		{"nu given", FitOptions{Nu: 1, Bootstrap: 100}, 0, 200},
 		{"nu fitted", FitOptions{Bootstrap: 50}, 0, 80},
 		{"correction", FitOptions{Nu: 1, Omega: 1, Bootstrap: 100}, -2, 200},
+		{"auto, no correction present", FitOptions{Nu: 1, Auto: true, Bootstrap: 100}, 0, 200},
+		{"auto, correction present", FitOptions{Nu: 1, Auto: true, Bootstrap: 100}, -2, 200},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			rng := rand.New(rand.NewPCG(7, 1))
@@ -125,5 +127,32 @@ func TestCombine(t *testing.T) {
 	d := Combine([]float64{1, 2}, []float64{0.1, 0.1})
 	if d.Agree || !d.Inflated || math.Abs(d.Err-0.5) > 1e-12 {
 		t.Errorf("values 10 errors apart: got %+v, expected disagreement and error 0.1/√2·√50 = 0.5", d)
+	}
+}
+
+// TestFitAutoChoice checks the automatic form on noise-free points with
+// errors 0.001: on the leading form Akaike's criterion (χ² + 2p) is lowest
+// without corrections (χ² = 0, p = 2); with a correction present, with one
+// (χ² = 0, p = 3, against a large χ² without and p = 4 with two).
+func TestFitAutoChoice(t *testing.T) {
+	sizes := []float64{8, 12, 16, 24, 32, 48}
+	for _, tc := range []struct {
+		name string
+		b    float64
+		want int
+	}{{"leading form", 0, 0}, {"one correction", -2, 1}} {
+		t.Run(tc.name, func(t *testing.T) {
+			pts := synthetic(rand.New(rand.NewPCG(1, 1)), sizes, 2, 0.8, tc.b, 1, 1, 0)
+			for i := range pts {
+				pts[i].Err = 0.001
+			}
+			f, err := FitPeaks(pts, FitOptions{Nu: 1, Auto: true})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if f.Corrections != tc.want || len(f.Forms) != 3 || !f.Forms[tc.want].Chosen || math.Abs(f.Value-2) > 1e-9 {
+				t.Errorf("got %d corrections, λ_c %v, forms %+v; expected %d and 2", f.Corrections, f.Value, f.Forms, tc.want)
+			}
+		})
 	}
 }
