@@ -55,6 +55,10 @@ func TestExtrapolateWritesFolder(t *testing.T) {
 		at := 2.27 + 0.5/float64(L)
 		args = append(args, fakeScan(t, filepath.Join(dir, fmt.Sprint("s", L)), "T", []int{L, L}, at, 0.002))
 	}
+	// A scan's own report is linked from the extrapolation's.
+	if err := os.WriteFile(filepath.Join(args[0], "report.html"), []byte("<html></html>"), 0o644); err != nil {
+		t.Fatal(err)
+	}
 	out := filepath.Join(dir, "fss")
 	stdout, err := execTidemark(t, append([]string{"extrapolate", "--nu", "1", "--bootstrap", "200", "-o", out}, args...)...)
 	if err != nil {
@@ -98,6 +102,9 @@ func TestExtrapolateWritesFolder(t *testing.T) {
 		if _, err := os.Stat(filepath.Join(out, f)); err != nil {
 			t.Errorf("missing %s: %v", f, err)
 		}
+	}
+	if b, err := os.ReadFile(filepath.Join(out, "report.html")); err != nil || !strings.Contains(string(b), `href="../s8/report.html"`) || strings.Contains(string(b), "s12/report.html") {
+		t.Errorf("report.html should link the report of s8 (the only scan with one): %v", err)
 	}
 	// A second run without --force leaves the folder alone.
 	if _, err := execTidemark(t, append([]string{"extrapolate", "--nu", "1", "-o", out}, args...)...); err == nil || !strings.Contains(err.Error(), "--force") {

@@ -66,8 +66,10 @@ type Fit struct {
 	// points scatter more than their errors allow.
 	Stat float64
 	// Syst is the systematic error of the form: the larger of Drift and
-	// FormShift.
-	Syst float64
+	// FormShift. SystKnown says whether either could be measured (there
+	// were sizes to spare); without, Err is the statistical error alone.
+	Syst      float64
+	SystKnown bool
 	// CovErr is the error of λ_c from the weighted fit's covariance alone.
 	CovErr float64
 	// BootErr is the standard deviation of λ_c over the bootstrap (0 without).
@@ -256,6 +258,7 @@ func FitPeaks(pts []Point, opt FitOptions) (*Fit, error) {
 	f.Auto, f.Forms = true, forms
 	if best > 0 && forms[best-1].Corrections == forms[best].Corrections-1 {
 		f.FormShift = math.Abs(forms[best].Value - forms[best-1].Value)
+		f.SystKnown = true
 		f.Syst = math.Max(f.Drift, f.FormShift)
 		f.Err = math.Hypot(f.Stat, f.Syst)
 	}
@@ -329,6 +332,7 @@ func fitForm(pts []Point, at, sig []float64, opt FitOptions, k int, omega float6
 		}
 		if g, err := fitOnce(rp, ry, rs, opt.Nu, k, omega); err == nil {
 			f.Drift = math.Abs(g.Value - f.Value)
+			f.SystKnown = true
 		}
 	}
 	f.Syst = f.Drift

@@ -69,7 +69,9 @@ type Estimate struct {
 	Stat      float64 `json:"err_statistical"`
 	Syst      float64 `json:"err_systematic"`
 	FormShift float64 `json:"err_form_shift"`
-	Weighted  bool    `json:"weighted"`
+	// SystKnown says whether the systematic error could be measured.
+	SystKnown bool `json:"syst_estimated"`
+	Weighted  bool `json:"weighted"`
 	// Forms are the candidate forms of an automatic choice.
 	Forms []Form `json:"forms,omitempty"`
 
@@ -256,7 +258,7 @@ func Run(dirs []string, opt Options) (*Result, error) {
 		e := Estimate{
 			Indicator: name, Param: res.Param, Value: f.Value, Err: f.Err, Nu: f.Nu, NuErr: f.NuErr, NuFitted: f.NuFitted,
 			Omega: f.Omega, Corrections: f.Corrections, A: f.A, B: f.B, Bs: f.Bs, Chi2: f.Chi2, Dof: f.Dof, Chi2Dof: f.Chi2 / float64(f.Dof),
-			CovErr: f.CovErr, BootErr: f.BootErr, Drift: f.Drift, Stat: f.Stat, Syst: f.Syst, FormShift: f.FormShift,
+			CovErr: f.CovErr, BootErr: f.BootErr, Drift: f.Drift, Stat: f.Stat, Syst: f.Syst, FormShift: f.FormShift, SystKnown: f.SystKnown,
 			Weighted: f.Weighted, Forms: f.Forms, fit: f,
 		}
 		for _, p := range pts {
@@ -265,9 +267,22 @@ func Run(dirs []string, opt Options) (*Result, error) {
 			e.PeakErrs = append(e.PeakErrs, p.Err)
 		}
 		res.Estimates = append(res.Estimates, e)
-		if f.Err > 0 {
-			vals, errs = append(vals, f.Value), append(errs, f.Err)
-			used = append(used, name)
+	}
+	// An estimate whose systematic error could not be measured (a peak at
+	// too few sizes to spare one) has an error that is too small, and would
+	// outweigh the others in the mean: it joins only when none has one.
+	anyKnown := false
+	for _, e := range res.Estimates {
+		anyKnown = anyKnown || (e.SystKnown && e.Err > 0)
+	}
+	for _, e := range res.Estimates {
+		switch {
+		case !(e.Err > 0):
+		case anyKnown && !e.SystKnown:
+			res.Notes = append(res.Notes, fmt.Sprintf("%s is not combined: its peaks at %d sizes leave none to spare for a systematic error", e.Indicator, len(e.Sizes)))
+		default:
+			vals, errs = append(vals, e.Value), append(errs, e.Err)
+			used = append(used, e.Indicator)
 		}
 	}
 	if len(res.Estimates) == 0 {

@@ -5,7 +5,6 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"fmt"
-	"html/template"
 	"image/color"
 	"math"
 	"os"
@@ -78,7 +77,7 @@ func Write(dir string, force bool, res *Result) error {
 		return fmt.Errorf("summary.json: %w", err)
 	}
 	files["summary.json"] = append(js, '\n')
-	if files["report.html"], err = page(res, pics, collapses); err != nil {
+	if files["report.html"], err = page(res, dir, pics, collapses); err != nil {
 		return err
 	}
 	clean := filepath.Clean(dir)
@@ -292,66 +291,3 @@ func collapsePlot(res *Result, e Estimate) (*plot.Plot, error) {
 	}
 	return p, nil
 }
-
-func page(res *Result, pics map[string][]byte, collapses []string) ([]byte, error) {
-	type fig struct {
-		SVG     template.HTML
-		Caption string
-	}
-	d := struct {
-		Style    template.CSS
-		R        *Result
-		Peaks    fig
-		Collapse []fig
-	}{Style: template.CSS(report.Style), R: res}
-	d.Peaks = fig{report.InlineSVG(pics["peaks.svg"]), "Peak positions against L^(−1/ν) (each indicator with its own ν) with error bars, the weighted fits (dashed) and the extrapolated values at L = ∞ (squares)."}
-	for _, c := range collapses {
-		d.Collapse = append(d.Collapse, fig{report.InlineSVG(pics[c+".svg"]), "Curves of all sizes against the scaling variable, each divided by its maximum: they fall on one curve near 0 when the sizes obey the fitted scaling."})
-	}
-	var buf bytes.Buffer
-	if err := pageTmpl.Execute(&buf, d); err != nil {
-		return nil, fmt.Errorf("report.html: %w", err)
-	}
-	return buf.Bytes(), nil
-}
-
-var pageTmpl = template.Must(template.New("page").Funcs(template.FuncMap{
-	"g":  func(v float64) string { return strconv.FormatFloat(v, 'g', 6, 64) },
-	"e":  func(v float64) string { return strconv.FormatFloat(v, 'g', 2, 64) },
-	"f2": func(v float64) string { return strconv.FormatFloat(v, 'f', 2, 64) },
-}).Parse(`<!DOCTYPE html>
-<html lang="en">
-<head>
-<meta charset="utf-8">
-<meta name="viewport" content="width=device-width, initial-scale=1">
-<title>tidemark extrapolation</title>
-<style>{{.Style}}</style>
-</head>
-<body>
-<main>
-<h1>tidemark extrapolation to the infinite system</h1>
-<p class="lead">Combined estimate: <strong>{{.R.Combined.Param}}_c = {{g .R.Combined.Value}} ± {{e .R.Combined.Err}}</strong>
-from {{len .R.Estimates}} indicator(s);
-{{if .R.Combined.Agree}}<span class="good">they agree within their errors</span>{{else}}<span class="warn">they do not agree within their errors</span>{{end}}
-(χ² = {{f2 .R.Combined.Chi2}} for {{.R.Combined.Dof}} degrees of freedom, p = {{e .R.Combined.PValue}}).</p>
-<p>Form: {{.R.Form}}. Combination: {{.R.Combined.Method}}.</p>
-<h2>Scans</h2>
-<table>
-<tr><th>folder</th><th>source</th><th>linear size</th></tr>
-{{range .R.Scans}}<tr><td><code>{{.Dir}}</code></td><td>{{.Source}}</td><td class="num">{{g .Size}}</td></tr>
-{{end}}</table>
-<h2>Estimates per indicator</h2>
-<table>
-<tr><th>indicator</th><th>{{.R.Param}}_c</th><th>ν</th><th>χ²/dof</th><th>sizes</th></tr>
-{{range .R.Estimates}}<tr><td><code>{{.Indicator}}</code></td><td class="num">{{g .Value}} ± {{e .Err}}</td><td class="num">{{g .Nu}}{{if .NuFitted}} ± {{e .NuErr}} (fitted){{end}}</td><td class="num">{{f2 .Chi2Dof}}</td><td class="num">{{range $i, $s := .Sizes}}{{if $i}}, {{end}}{{g $s}}{{end}}</td></tr>
-{{end}}</table>
-<figure>{{.Peaks.SVG}}<figcaption>{{.Peaks.Caption}}</figcaption></figure>
-{{if .Collapse}}<h2>Data collapse</h2>
-{{range .Collapse}}<figure>{{.SVG}}<figcaption>{{.Caption}}</figcaption></figure>
-{{end}}{{end}}
-{{with .R.Notes}}<h2>Notes</h2><ul class="notes">{{range .}}<li>{{.}}</li>{{end}}</ul>{{end}}
-<footer>Written by tidemark extrapolate. Errors are one standard deviation.</footer>
-</main>
-</body>
-</html>
-`))
