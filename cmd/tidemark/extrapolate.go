@@ -16,7 +16,7 @@ func init() { commands = append(commands, newExtrapolateCmd) }
 type extrapolateOptions struct {
 	nu, omega float64
 	sizes     string
-	corr      string
+	corr, pks string
 	bootstrap int
 	seed      uint64
 	force     bool
@@ -28,22 +28,17 @@ func newExtrapolateCmd() *cobra.Command {
 	c := &cobra.Command{
 		Use:   "extrapolate SCAN... -o OUT/",
 		Short: "Extrapolate the indicator peaks of scans at several system sizes to the infinite system",
-		Long: `extrapolate reads the summary.json of scan folders (exact, model or histogram
-scans, in any mix) of one parameter at 3 or more system sizes and fits, per
-indicator, the peak positions to
+		Long: `extrapolate reads scan folders (exact, model or histogram scans, in any mix)
+of one parameter at 3 or more sizes L (each scan's chain length or square side,
+or --sizes), locates each indicator's peak (--peaks) and fits the positions to
   λ*(L) = λ_c + a·L^(−1/ν) + Σ_k b_k·L^(−1/ν−k·ω)   (k = 1 … --corrections)
-weighted with the peaks' errors. L is each scan's chain length or square side
-(or --sizes). ν is fitted unless --nu is given. --corrections auto takes, for
-peaks with errors, the form with the lowest Akaike criterion χ² + 2p among 0–2
-corrections that leave a degree of freedom, and for exact peaks (no errors,
-fitted unweighted) the richest such form.
-
-The error of λ_c is statistical (a parametric bootstrap over the peaks' errors,
-times √(χ²/dof) when they scatter more) plus, in quadrature, systematic: the
-larger of the shift when the smallest size is left out and the shift the last
-correction term made. The indicators are combined by inverse-variance weighting
-(never below the best single error: they share snapshots). OUT/ receives
-summary.json, peaks.svg/.png, collapse-<indicator>.svg/.png and report.html.`,
+weighted with their errors (ν fitted unless --nu). --corrections auto takes the
+form with 0–2 terms that has the lowest Akaike criterion χ² + 2p (for exact
+peaks, without errors, the richest); each must leave a degree of freedom.
+The error is statistical (a bootstrap, times √(χ²/dof) if that exceeds 1) plus
+the systematic shift on leaving out the smallest size or the last correction.
+Indicators are combined by inverse-variance weighting (never below the best
+single error). OUT/ gets summary.json, peak and collapse pictures, report.html.`,
 		Example: `  tidemark extrapolate scan8/ scan12/ scan16/ scan24/ --nu 1 -o fss/
   tidemark extrapolate scan8/ scan12/ scan16/ scan24/ scan32/ --corrections 0 -o fss/
   tidemark extrapolate a/ b/ c/ --sizes 8,12,16 --nu 1 -o fss/`,
@@ -55,6 +50,7 @@ summary.json, peaks.svg/.png, collapse-<indicator>.svg/.png and report.html.`,
 	f := c.Flags()
 	f.Float64Var(&o.nu, "nu", 0, "correlation-length exponent ν (default: fitted, needs at least 4 sizes)")
 	f.StringVar(&o.corr, "corrections", "auto", "correction terms b_k·L^(−1/ν−k·ω): auto (chosen from the data), or 0, 1, 2")
+	f.StringVar(&o.pks, "peaks", "curve", "peak positions: curve (a parabola through the top of each scan's curve, with a bootstrap error) or scan (the scans' own peaks)")
 	f.Float64Var(&o.omega, "omega", 1, "spacing ω of the correction exponents (1: 1/L² and 1/L³ with ν = 1)")
 	f.StringVar(&o.sizes, "sizes", "", "linear sizes of the scans in the order given, e.g. 8,12,16 (default: from each scan's lattice)")
 	f.IntVar(&o.bootstrap, "bootstrap", 1000, "parametric bootstrap replicates for the error of λ_c (0: the fit's covariance)")
@@ -68,7 +64,10 @@ func runExtrapolate(w io.Writer, dirs []string, o *extrapolateOptions) error {
 	if o.out == "" {
 		return errors.New("extrapolate: --output: expected an output folder (-o OUT/), found none")
 	}
-	opt := scaling.Options{Fit: scaling.FitOptions{Nu: o.nu, Omega: o.omega, Auto: o.corr == "auto", Bootstrap: o.bootstrap, Seed: o.seed}}
+	opt := scaling.Options{Fit: scaling.FitOptions{Nu: o.nu, Omega: o.omega, Auto: o.corr == "auto", Bootstrap: o.bootstrap, Seed: o.seed}, CurvePeaks: o.pks == "curve"}
+	if o.pks != "curve" && o.pks != "scan" {
+		return fmt.Errorf("extrapolate: --peaks: expected curve or scan, found %q", o.pks)
+	}
 	if _, err := fmt.Sscan(o.corr, &opt.Fit.Corrections); !opt.Fit.Auto && (err != nil || fmt.Sprint(opt.Fit.Corrections) != o.corr) {
 		return fmt.Errorf("extrapolate: --corrections: expected auto, 0, 1 or 2, found %q", o.corr)
 	} else if o.corr == "0" {

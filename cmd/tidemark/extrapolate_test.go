@@ -60,7 +60,7 @@ func TestExtrapolateWritesFolder(t *testing.T) {
 		t.Fatal(err)
 	}
 	out := filepath.Join(dir, "fss")
-	stdout, err := execTidemark(t, append([]string{"extrapolate", "--nu", "1", "--bootstrap", "200", "-o", out}, args...)...)
+	stdout, err := execTidemark(t, append([]string{"extrapolate", "--nu", "1", "--peaks", "scan", "--bootstrap", "200", "-o", out}, args...)...)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -136,6 +136,7 @@ func TestExtrapolateBadInput(t *testing.T) {
 		{"corrections not a count", []string{s8, s12, s16, "--nu", "1", "--corrections", "some"}, `--corrections: expected auto, 0, 1 or 2, found "some"`},
 		{"too many corrections", []string{s8, s12, s16, "--nu", "1", "--corrections", "3"}, "--corrections: expected 0 to 2 terms, found 3"},
 		{"corrections beyond the sizes", []string{s8, s12, s16, "--nu", "1", "--corrections", "1"}, "at least 4 different sizes"},
+		{"unknown peak method", []string{s8, s12, s16, "--nu", "1", "--peaks", "top"}, `--peaks: expected curve or scan, found "top"`},
 		{"sizes for too few scans", []string{s8, s12, s16, "--nu", "1", "--sizes", "8,12"}, "expected one size per scan (3), found 2"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {

@@ -183,15 +183,19 @@ const nuLo, nuHi = 0.2, 5.0
 // λ_c by a parametric bootstrap that redraws every position from a normal
 // distribution with its error (common practice).
 //
-// With opt.Auto the number of correction terms is chosen among the forms
-// with 0 … MaxCorrections terms that leave at least one degree of freedom:
-// for peaks with errors, the one with the smallest Akaike criterion
-// χ² + 2·(free parameters) (H. Akaike, IEEE Trans. Autom. Control 19, 716
-// (1974)); for exact peaks, which have no noise and whose residuals are all
-// truncation error, the richest one. The change of λ_c made by the last
-// term (FormShift) and by leaving out the smallest size (Drift) measure the
-// form's systematic error; the larger is added to the statistical error in
-// quadrature.
+// With opt.Auto the form has as many correction terms as the sizes allow
+// (at most MaxCorrections) while leaving at least as many degrees of
+// freedom as it has correction terms, so that every correction is checked
+// by a size to spare: with ν given, one term from 4 sizes, two from 6.
+// Corrections to the leading shift are the rule rather than the exception
+// (for the Ising torus, A. E. Ferdinand and M. E. Fisher, Phys. Rev. 185,
+// 832 (1969)), and noisy peaks of small systems hide them from a
+// goodness-of-fit test: Akaike's criterion χ² + 2·(free parameters)
+// (H. Akaike, IEEE Trans. Autom. Control 19, 716 (1974)) is reported for
+// every form considered, but does not choose. The change of λ_c made by
+// the last term (FormShift) and by leaving out the smallest size (Drift)
+// measure the form's systematic error; the larger is added to the
+// statistical error in quadrature.
 func FitPeaks(pts []Point, opt FitOptions) (*Fit, error) {
 	if opt.Nu < 0 || math.IsNaN(opt.Nu) || math.IsInf(opt.Nu, 0) {
 		return nil, fmt.Errorf("%w: expected ν > 0 (or 0 to fit it), found %v", ErrBadInput, opt.Nu)
@@ -229,8 +233,8 @@ func FitPeaks(pts []Point, opt FitOptions) (*Fit, error) {
 		return fitForm(pts, at, sig, opt, k, omega, weighted, len(sizes))
 	}
 	var forms []Form
-	best, bestAIC := -1, math.Inf(1)
-	for k := 0; k <= MaxCorrections && opt.params(k)+1 <= len(sizes); k++ {
+	best := -1
+	for k := 0; k <= MaxCorrections && len(sizes)-opt.params(k) >= max(1, k); k++ {
 		g, err := fitOnce(pts, at, sig, opt.Nu, k, omega)
 		if err != nil || (g.NuFitted && nuAtEdge(g.Nu)) {
 			continue
@@ -238,12 +242,8 @@ func FitPeaks(pts []Point, opt FitOptions) (*Fit, error) {
 		fm := Form{Corrections: k, Value: g.Value, Chi2: g.Chi2, Dof: g.Dof}
 		if weighted {
 			fm.AIC = g.Chi2 + 2*float64(opt.params(k))
-			if fm.AIC < bestAIC {
-				best, bestAIC = len(forms), fm.AIC
-			}
-		} else {
-			best = len(forms)
 		}
+		best = len(forms)
 		forms = append(forms, fm)
 	}
 	if best < 0 {
@@ -347,7 +347,7 @@ func describeForm(opt FitOptions) string {
 	k, omega := opt.form()
 	switch {
 	case opt.Auto:
-		s += fmt.Sprintf(", and 0 to %d correction terms b_k·L^(−1/ν−k·ω), ω = %g, as the data ask", MaxCorrections, omega)
+		s += fmt.Sprintf(", and 0 to %d correction terms b_k·L^(−1/ν−k·ω), ω = %g, as many as the sizes allow", MaxCorrections, omega)
 	case k == 1:
 		s += fmt.Sprintf(" and a correction term b·L^(−1/ν−ω), ω = %g", omega)
 	case k > 1:

@@ -25,6 +25,10 @@ type Options struct {
 	// Sizes overrides the linear sizes taken from the scans' lattices
 	// (one per scan, in order); nil uses the lattices.
 	Sizes []float64
+	// CurvePeaks re-locates every peak from its scan's curve in
+	// indicators.csv with CurvePeak, where the curve has errors (the
+	// scans' own peaks otherwise).
+	CurvePeaks bool
 }
 
 // Scan is one scan folder's contribution.
@@ -38,6 +42,8 @@ type Scan struct {
 	Lattice []int
 	// Peaks maps an indicator to its main peak in this scan.
 	Peaks map[string]Point
+	// Curve lists the indicators whose peak CurvePeak re-located.
+	Curve []string
 }
 
 // Estimate is one indicator's extrapolation, as written in summary.json.
@@ -93,16 +99,19 @@ type CombinedEstimate struct {
 
 // ScanEntry records one input scan in summary.json.
 type ScanEntry struct {
-	Dir     string  `json:"dir"`
-	Source  string  `json:"source"`
-	Size    float64 `json:"size"`
-	Lattice []int   `json:"lattice,omitempty"`
+	Dir    string `json:"dir"`
+	Source string `json:"source"`
+	// Curve lists the indicators whose peak was re-located from the curve.
+	Curve   []string `json:"curve_peaks,omitempty"`
+	Size    float64  `json:"size"`
+	Lattice []int    `json:"lattice,omitempty"`
 }
 
 // Result is the extrapolation of a set of scans; it is what summary.json holds.
 type Result struct {
 	Param     string           `json:"param"`
 	Form      string           `json:"form"`
+	Peaks     string           `json:"peaks"`
 	Bootstrap int              `json:"bootstrap"`
 	Seed      uint64           `json:"seed"`
 	Scans     []ScanEntry      `json:"scans"`
@@ -130,7 +139,10 @@ func LinearSize(lattice []int) int {
 
 // ReadScan reads dir/summary.json of a 1-D scan and keeps, per indicator,
 // its highest peak, refined by the zoom pass when the scan made one.
-func ReadScan(dir string) (*Scan, error) {
+func ReadScan(dir string) (*Scan, error) { return readScan(dir, false, 0) }
+
+// readScan is ReadScan, re-locating the peaks from the curves with curve.
+func readScan(dir string, curve bool, seed uint64) (*Scan, error) {
 	path := filepath.Join(dir, "summary.json")
 	b, err := os.ReadFile(path)
 	if err != nil {
@@ -170,8 +182,15 @@ func ReadScan(dir string) (*Scan, error) {
 				}
 			}
 		}
+		if x, y, e, err := readCurve(dir, sc.Param, name); curve && err == nil && e != nil {
+			if at, er, _, ok := CurvePeak(x, y, e, 400, seed); ok {
+				pk.At, pk.Err = at, er
+				sc.Curve = append(sc.Curve, name)
+			}
+		}
 		sc.Peaks[name] = pk
 	}
+	sort.Strings(sc.Curve)
 	if len(sc.Peaks) == 0 {
 		return nil, fmt.Errorf("%w: %s: expected at least one indicator peak, found none (rescan over a wider range or with more points)", ErrInput, path)
 	}
@@ -184,9 +203,12 @@ func Run(dirs []string, opt Options) (*Result, error) {
 	if opt.Sizes != nil && len(opt.Sizes) != len(dirs) {
 		return nil, fmt.Errorf("%w: --sizes: expected one size per scan (%d), found %d", ErrInput, len(dirs), len(opt.Sizes))
 	}
-	res := &Result{Form: describeForm(opt.Fit), Bootstrap: opt.Fit.Bootstrap, Seed: opt.Fit.Seed}
+	res := &Result{Form: describeForm(opt.Fit), Bootstrap: opt.Fit.Bootstrap, Seed: opt.Fit.Seed, Peaks: "the scans' highest peaks"}
+	if opt.CurvePeaks {
+		res.Peaks = "a weighted parabola through the top of each curve that has errors (the points above 70% of its height over the minimum, at least 5), its error from a bootstrap of the curve; the scan's highest peak otherwise"
+	}
 	for i, d := range dirs {
-		sc, err := ReadScan(d)
+		sc, err := readScan(d, opt.CurvePeaks, opt.Fit.Seed+uint64(i))
 		if err != nil {
 			return nil, err
 		}
@@ -208,7 +230,7 @@ func Run(dirs []string, opt Options) (*Result, error) {
 		}
 		res.Param = sc.Param
 		res.scans = append(res.scans, sc)
-		res.Scans = append(res.Scans, ScanEntry{Dir: d, Source: sc.Source, Size: sc.Size, Lattice: sc.Lattice})
+		res.Scans = append(res.Scans, ScanEntry{Dir: d, Source: sc.Source, Size: sc.Size, Lattice: sc.Lattice, Curve: sc.Curve})
 	}
 	distinct := map[float64]bool{}
 	for _, sc := range res.scans {

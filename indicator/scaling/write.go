@@ -208,31 +208,34 @@ func peaksPlot(res *Result) (*plot.Plot, error) {
 }
 
 // readCurve returns the positions and values of column name of a scan's
-// indicators.csv (rows with an empty cell skipped).
-func readCurve(dir, param, name string) (x, y []float64, err error) {
+// indicators.csv (rows with an empty cell skipped), and the errors of
+// column name_err (nil when it is missing or has an empty cell).
+func readCurve(dir, param, name string) (x, y, yerr []float64, err error) {
 	path := filepath.Join(dir, "indicators.csv")
 	b, err := os.ReadFile(path)
 	if err != nil {
-		return nil, nil, err
+		return nil, nil, nil, err
 	}
 	recs, err := csv.NewReader(bytes.NewReader(b)).ReadAll()
 	if err != nil {
-		return nil, nil, fmt.Errorf("%s: %w", path, err)
+		return nil, nil, nil, fmt.Errorf("%s: %w", path, err)
 	}
 	if len(recs) < 2 {
-		return nil, nil, fmt.Errorf("%s: expected a header and rows, found %d lines", path, len(recs))
+		return nil, nil, nil, fmt.Errorf("%s: expected a header and rows, found %d lines", path, len(recs))
 	}
-	pc, vc := -1, -1
+	pc, vc, ec := -1, -1, -1
 	for i, h := range recs[0] {
 		switch h {
 		case param:
 			pc = i
 		case name:
 			vc = i
+		case name + "_err":
+			ec = i
 		}
 	}
 	if pc < 0 || vc < 0 {
-		return nil, nil, fmt.Errorf("%s: expected columns %s and %s", path, param, name)
+		return nil, nil, nil, fmt.Errorf("%s: expected columns %s and %s", path, param, name)
 	}
 	for _, r := range recs[1:] {
 		if r[vc] == "" {
@@ -241,11 +244,22 @@ func readCurve(dir, param, name string) (x, y []float64, err error) {
 		a, err1 := strconv.ParseFloat(r[pc], 64)
 		v, err2 := strconv.ParseFloat(r[vc], 64)
 		if err1 != nil || err2 != nil {
-			return nil, nil, fmt.Errorf("%s: expected numbers, found %q, %q", path, r[pc], r[vc])
+			return nil, nil, nil, fmt.Errorf("%s: expected numbers, found %q, %q", path, r[pc], r[vc])
 		}
 		x, y = append(x, a), append(y, v)
+		if ec >= 0 {
+			e, err := strconv.ParseFloat(r[ec], 64)
+			if err != nil {
+				ec = -1
+				continue
+			}
+			yerr = append(yerr, e)
+		}
 	}
-	return x, y, nil
+	if ec < 0 {
+		yerr = nil
+	}
+	return x, y, yerr, nil
 }
 
 // collapsePlot draws one indicator's curves of all scans against
@@ -261,7 +275,7 @@ func collapsePlot(res *Result, e Estimate) (*plot.Plot, error) {
 		if _, ok := sc.Peaks[e.Indicator]; !ok {
 			continue
 		}
-		x, y, err := readCurve(sc.Dir, res.Param, e.Indicator)
+		x, y, _, err := readCurve(sc.Dir, res.Param, e.Indicator)
 		if err != nil {
 			return nil, err
 		}
