@@ -97,7 +97,7 @@ var sectionTmpl = template.Must(template.New("section").Funcs(funcs).Parse(`<sec
 from {{len .R.Combined.Indicators}} indicator(s);
 {{if .R.Combined.Agree}}<span class="good">they agree within their errors</span>{{else}}<span class="warn">they do not agree within their errors</span>{{end}}
 (χ² = {{f2 .R.Combined.Chi2}} for {{.R.Combined.Dof}} degrees of freedom, p = {{e .R.Combined.PValue}}).</p>
-<p>Form: {{.R.Form}}. Combination: {{.R.Combined.Method}}.</p>
+<p>Peaks: {{.R.Peaks}}. Form: {{.R.Form}}. Combination: {{.R.Combined.Method}}.</p>
 <h3>Scans</h3>
 <table>
 <tr><th>folder</th><th>source</th><th>linear size</th></tr>
@@ -106,7 +106,7 @@ from {{len .R.Combined.Indicators}} indicator(s);
 <h3>Estimates per indicator</h3>
 <table>
 <tr><th>indicator</th><th>{{.R.Param}}_c</th><th>statistical</th><th>systematic</th><th>ν</th><th>corrections</th><th>χ²/dof</th><th>sizes</th></tr>
-{{range .R.Estimates}}<tr><td><code>{{.Indicator}}</code></td><td class="num">{{g .Value}} ± {{e .Err}}</td><td class="num">{{e .Stat}}</td><td class="num">{{if .SystKnown}}{{e .Syst}}{{else}}not measured{{end}}</td><td class="num">{{g .Nu}}{{if .NuFitted}} ± {{e .NuErr}} (fitted){{end}}</td><td class="num">{{.Corrections}}{{with .Forms}} (of{{range .}} {{.Corrections}}: {{g .Value}}{{if .AIC}}, AIC {{f2 .AIC}}{{end}};{{end}}){{end}}</td><td class="num">{{f2 .Chi2Dof}}</td><td class="num">{{range $i, $s := .Sizes}}{{if $i}}, {{end}}{{g $s}}{{end}}</td></tr>
+{{range .R.Estimates}}<tr><td><code>{{.Indicator}}</code></td><td class="num">{{g .Value}} ± {{e .Err}}</td><td class="num">{{e .Stat}}</td><td class="num">{{if .SystKnown}}{{e .Syst}}{{else}}not measured{{end}}</td><td class="num">{{g .Nu}}{{if .NuFitted}} ± {{e .NuErr}} (fitted){{end}}</td><td class="num">{{.Corrections}}{{with .Forms}} (forms:{{range .}} {{.Corrections}} → {{g .Value}}{{if .AIC}}, AIC {{f2 .AIC}}{{end}};{{end}}){{end}}</td><td class="num">{{f2 .Chi2Dof}}</td><td class="num">{{range $i, $s := .Sizes}}{{if $i}}, {{end}}{{g $s}}{{end}}</td></tr>
 {{end}}</table>
 <p>The systematic error is the larger of the change of {{.R.Param}}_c when the smallest size is left out and the change the last correction term made; it is added to the statistical error in quadrature.</p>
 <figure>{{.Peaks}}<figcaption>Peak positions against L^(−1/ν) (each indicator with its own ν) with error bars, the weighted fits (dashed) and the extrapolated values at L = ∞ (squares).</figcaption></figure>
