@@ -32,9 +32,9 @@ func newExtrapolateCmd() *cobra.Command {
 of one parameter at 3 or more sizes L (each scan's chain length or square side,
 or --sizes), locates each indicator's peak (--peaks) and fits the positions to
   λ*(L) = λ_c + a·L^(−1/ν) + Σ_k b_k·L^(−1/ν−k·ω)   (k = 1 … --corrections)
-weighted with their errors (ν fitted unless --nu). --corrections auto takes the
-form with 0–2 terms that has the lowest Akaike criterion χ² + 2p (for exact
-peaks, without errors, the richest); each must leave a degree of freedom.
+weighted with their errors (ν fitted unless --nu). --corrections auto fits as
+many terms (0–2) as leave at least as many degrees of freedom as terms: with ν
+given one from 4 sizes, two from 6 (Akaike's χ² + 2p is reported, not used).
 The error is statistical (a bootstrap, times √(χ²/dof) if that exceeds 1) plus
 the systematic shift on leaving out the smallest size or the last correction.
 Indicators are combined by inverse-variance weighting (never below the best
@@ -49,7 +49,7 @@ single error). OUT/ gets summary.json, peak and collapse pictures, report.html.`
 	}
 	f := c.Flags()
 	f.Float64Var(&o.nu, "nu", 0, "correlation-length exponent ν (default: fitted, needs at least 4 sizes)")
-	f.StringVar(&o.corr, "corrections", "auto", "correction terms b_k·L^(−1/ν−k·ω): auto (chosen from the data), or 0, 1, 2")
+	f.StringVar(&o.corr, "corrections", "auto", "correction terms b_k·L^(−1/ν−k·ω): auto (as many as the sizes allow), or 0, 1, 2")
 	f.StringVar(&o.pks, "peaks", "curve", "peak positions: curve (a parabola through the top of each scan's curve, with a bootstrap error) or scan (the scans' own peaks)")
 	f.Float64Var(&o.omega, "omega", 1, "spacing ω of the correction exponents (1: 1/L² and 1/L³ with ν = 1)")
 	f.StringVar(&o.sizes, "sizes", "", "linear sizes of the scans in the order given, e.g. 8,12,16 (default: from each scan's lattice)")

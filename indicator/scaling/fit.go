@@ -27,7 +27,7 @@ type FitOptions struct {
 	// Corrections > 0 fixes the number of correction terms
 	// b_k·L^(−1/ν−k·ω), k = 1 … Corrections (at most MaxCorrections).
 	Corrections int
-	// Auto chooses the number of correction terms from the data (see
+	// Auto fits as many correction terms as the sizes allow (see
 	// FitPeaks); it overrides Corrections.
 	Auto bool
 	// Bootstrap is the number of parametric bootstrap replicates (0: the
@@ -102,8 +102,8 @@ type Fit struct {
 	// the same error, estimated from the residuals (χ²/dof = 1 by
 	// construction).
 	Weighted bool
-	// Auto says the number of corrections was chosen from the data; Forms
-	// are the candidates considered then.
+	// Auto says the number of corrections followed from the sizes; Forms
+	// are the forms considered then.
 	Auto  bool
 	Forms []Form
 	// Points are the fitted points, sorted as given.
