@@ -182,8 +182,9 @@ func readScan(dir string, curve bool, seed uint64) (*Scan, error) {
 				}
 			}
 		}
-		if x, y, e, err := readCurve(dir, sc.Param, name); curve && err == nil && e != nil {
-			if at, er, _, ok := CurvePeak(x, y, e, 400, seed); ok {
+		if curve {
+			x, y, e, err := readCurve(dir, sc.Param, name)
+			if at, er, _, ok := CurvePeak(x, y, e, 400, seed); err == nil && ok {
 				pk.At, pk.Err = at, er
 				sc.Curve = append(sc.Curve, name)
 			}
