@@ -41,7 +41,7 @@ func combinedOf(t *testing.T, out string, args ...string) (v, e float64) {
 // T_c = 2/ln(1+√2) (L. Onsager, Phys. Rev. 65, 117 (1944)), for two seeds.
 //
 // Measured (about 5 minutes per seed on two shared cores): seed 2
-// T_c = 2.2753 ± 0.011, 0.27% above Onsager's, 0.55 errors; seed 3
+// T_c = 2.2753 ± 0.011, 0.27% above Onsager's, 0.53 errors; seed 3
 // 2.2705 ± 0.013, 0.06%, 0.1 errors. The check: within 0.3% and within
 // one error.
 func TestExtrapolateIsingMonteCarlo(t *testing.T) {
