@@ -40,7 +40,7 @@ func combinedOf(t *testing.T, out string, args ...string) (v, e float64) {
 // curves, one correction term from five sizes), against Onsager's
 // T_c = 2/ln(1+√2) (L. Onsager, Phys. Rev. 65, 117 (1944)), for two seeds.
 //
-// Measured (about 5 minutes per seed on two shared cores): seed 2
+// Measured (13 minutes for both seeds on two heavily shared cores): seed 2
 // T_c = 2.2753 ± 0.011, 0.27% above Onsager's, 0.53 errors; seed 3
 // 2.2705 ± 0.013, 0.06%, 0.1 errors. The check: within 0.3% and within
 // one error.
@@ -78,8 +78,8 @@ func TestExtrapolateIsingMonteCarlo(t *testing.T) {
 // open chain's peaks shift with 1/N corrections; one correction term from
 // five sizes), against h_c = 1 (P. Pfeuty, Ann. Phys. 57, 79 (1970)).
 //
-// Measured (seed 1, 21 minutes on two cores shared with a load of about
-// 20, most of it the exact-density scans at N = 48 and 64): h_c =
+// Measured (seed 1; 104 s on two shared cores, 21 minutes under a load of
+// about 20, most of it the exact-density scans at N = 48 and 64): h_c =
 // 1.0040 ± 0.010, 0.40% above 1, 0.4 errors (N = 16 … 48 alone:
 // 0.9999 ± 0.0073). The check: within 1% of 1 and within one error.
 func TestExtrapolateTransverseFieldChain(t *testing.T) {
