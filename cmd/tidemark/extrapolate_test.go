@@ -55,8 +55,12 @@ func TestExtrapolateWritesFolder(t *testing.T) {
 		at := 2.27 + 0.5/float64(L)
 		args = append(args, fakeScan(t, filepath.Join(dir, fmt.Sprint("s", L)), "T", []int{L, L}, at, 0.002))
 	}
+	// A scan's own report is linked from the extrapolation's.
+	if err := os.WriteFile(filepath.Join(args[0], "report.html"), []byte("<html></html>"), 0o644); err != nil {
+		t.Fatal(err)
+	}
 	out := filepath.Join(dir, "fss")
-	stdout, err := execTidemark(t, append([]string{"extrapolate", "--nu", "1", "--bootstrap", "200", "-o", out}, args...)...)
+	stdout, err := execTidemark(t, append([]string{"extrapolate", "--nu", "1", "--peaks", "scan", "--bootstrap", "200", "-o", out}, args...)...)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -99,6 +103,9 @@ func TestExtrapolateWritesFolder(t *testing.T) {
 			t.Errorf("missing %s: %v", f, err)
 		}
 	}
+	if b, err := os.ReadFile(filepath.Join(out, "report.html")); err != nil || !strings.Contains(string(b), `href="../s8/report.html"`) || strings.Contains(string(b), "s12/report.html") {
+		t.Errorf("report.html should link the report of s8 (the only scan with one): %v", err)
+	}
 	// A second run without --force leaves the folder alone.
 	if _, err := execTidemark(t, append([]string{"extrapolate", "--nu", "1", "-o", out}, args...)...); err == nil || !strings.Contains(err.Error(), "--force") {
 		t.Errorf("second run: %v, expected a refusal naming --force", err)
@@ -126,6 +133,10 @@ func TestExtrapolateBadInput(t *testing.T) {
 		{"inconsistent parameters", []string{s8, s12, h16, "--nu", "1"}, "expected the parameter T as in " + s8 + ", found h"},
 		{"scan without peaks", []string{s8, s12, e16, "--nu", "1"}, "expected at least one indicator peak, found none"},
 		{"no lattice recorded", []string{s8, s12, o16, "--nu", "1"}, "expected --sizes"},
+		{"corrections not a count", []string{s8, s12, s16, "--nu", "1", "--corrections", "some"}, `--corrections: expected auto, 0, 1 or 2, found "some"`},
+		{"too many corrections", []string{s8, s12, s16, "--nu", "1", "--corrections", "3"}, "--corrections: expected 0 to 2 terms, found 3"},
+		{"corrections beyond the sizes", []string{s8, s12, s16, "--nu", "1", "--corrections", "1"}, "at least 4 different sizes"},
+		{"unknown peak method", []string{s8, s12, s16, "--nu", "1", "--peaks", "top"}, `--peaks: expected curve or scan, found "top"`},
 		{"sizes for too few scans", []string{s8, s12, s16, "--nu", "1", "--sizes", "8,12"}, "expected one size per scan (3), found 2"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {

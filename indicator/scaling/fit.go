@@ -6,7 +6,6 @@ import (
 	"math"
 	"math/rand/v2"
 
-	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat"
 )
 
@@ -22,8 +21,15 @@ type Point struct {
 type FitOptions struct {
 	// Nu is the correlation-length exponent ν; 0 fits it (at least 4 sizes).
 	Nu float64
-	// Omega > 0 adds the correction term b·L^(−1/ν−ω).
+	// Omega > 0 adds the correction term b·L^(−1/ν−ω); with Auto or
+	// Corrections it is the spacing of the correction exponents (0: 1).
 	Omega float64
+	// Corrections > 0 fixes the number of correction terms
+	// b_k·L^(−1/ν−k·ω), k = 1 … Corrections (at most MaxCorrections).
+	Corrections int
+	// Auto fits as many correction terms as the sizes allow (see
+	// FitPeaks); it overrides Corrections.
+	Auto bool
 	// Bootstrap is the number of parametric bootstrap replicates (0: the
 	// error comes from the fit's covariance alone).
 	Bootstrap int
@@ -40,6 +46,9 @@ func (o FitOptions) Check() error {
 	if o.Omega < 0 || math.IsNaN(o.Omega) || math.IsInf(o.Omega, 0) {
 		return fmt.Errorf("omega: expected an exponent above 0, found %v", o.Omega)
 	}
+	if o.Corrections < 0 || o.Corrections > MaxCorrections {
+		return fmt.Errorf("corrections: expected 0 to %d terms, found %d", MaxCorrections, o.Corrections)
+	}
 	if o.Bootstrap < 0 {
 		return fmt.Errorf("bootstrap: expected 0 or more replicates, found %d", o.Bootstrap)
 	}
@@ -48,28 +57,44 @@ func (o FitOptions) Check() error {
 
 // Fit is the extrapolation of one indicator's peaks.
 type Fit struct {
-	// Value is λ_c and Err its standard error: the bootstrap spread (or the
-	// covariance error without bootstrap), multiplied by √(χ²/dof) when the
-	// points scatter more than their errors allow, and Drift added in
+	// Value is λ_c and Err its standard error: Stat and Syst added in
 	// quadrature.
 	Value, Err float64
+	// Stat is the statistical error of λ_c: the bootstrap spread (or the
+	// covariance error without bootstrap), multiplied by √(χ²/dof) when the
+	// points scatter more than their errors allow.
+	Stat float64
+	// Syst is the systematic error of the form: the larger of Drift and
+	// FormShift. SystKnown says whether either could be measured (there
+	// were sizes to spare); without, Err is the statistical error alone.
+	Syst      float64
+	SystKnown bool
 	// CovErr is the error of λ_c from the weighted fit's covariance alone.
 	CovErr float64
 	// BootErr is the standard deviation of λ_c over the bootstrap (0 without).
 	BootErr float64
 	// Drift is the change of λ_c when the smallest size is left out (0 when
 	// there are too few sizes to leave one out), a measure of the
-	// corrections the form misses; it is added to Err in quadrature
-	// (common practice in finite-size scaling: vary the smallest size).
+	// corrections the form misses (common practice in finite-size scaling:
+	// vary the smallest size).
 	Drift float64
+	// FormShift is the change of λ_c that the last correction term made
+	// (0 without corrections, or with a fixed form): how far the
+	// extrapolation still moves with the form, taken as the size of the
+	// terms left out (common practice for truncated series).
+	FormShift float64
 	// Nu is the exponent used; NuFitted says whether it was fitted, NuErr
 	// its bootstrap error when it was.
 	Nu, NuErr float64
 	NuFitted  bool
-	// Omega is the correction exponent (0: no correction term).
-	Omega float64
-	// A and B are the amplitudes of L^(−1/ν) and L^(−1/ν−ω).
+	// Omega is the spacing of the correction exponents (0: no correction
+	// term) and Corrections the number of terms b_k·L^(−1/ν−k·ω).
+	Omega       float64
+	Corrections int
+	// A is the amplitude of L^(−1/ν); Bs are those of the correction terms
+	// and B the first of them (0 without).
 	A, B float64
+	Bs   []float64
 	// Chi2 is the weighted χ² of the fit and Dof its degrees of freedom.
 	Chi2 float64
 	Dof  int
@@ -77,8 +102,27 @@ type Fit struct {
 	// the same error, estimated from the residuals (χ²/dof = 1 by
 	// construction).
 	Weighted bool
+	// Auto says the number of corrections followed from the sizes; Forms
+	// are the forms considered then.
+	Auto  bool
+	Forms []Form
 	// Points are the fitted points, sorted as given.
 	Points []Point
+}
+
+// Form is one candidate form of an automatic fit.
+type Form struct {
+	// Corrections is the number of correction terms.
+	Corrections int `json:"corrections"`
+	// Value is its λ_c; Chi2 and Dof its fit's χ² and degrees of freedom.
+	Value float64 `json:"value"`
+	Chi2  float64 `json:"chi2"`
+	Dof   int     `json:"dof"`
+	// AIC is Akaike's criterion χ² + 2·(free parameters) (weighted fits
+	// only; 0 otherwise).
+	AIC float64 `json:"aic,omitempty"`
+	// Chosen marks the form used.
+	Chosen bool `json:"chosen"`
 }
 
 // Errors of the fit's input; commands report them as bad input.
@@ -90,34 +134,77 @@ var (
 	ErrBadInput = errors.New("bad fit input")
 )
 
+// MaxCorrections is the largest number of correction terms a fit uses.
+const MaxCorrections = 2
+
+// form returns the number of correction terms and their spacing ω of a
+// fixed form (Auto aside).
+func (o FitOptions) form() (k int, omega float64) {
+	omega = o.Omega
+	if omega == 0 {
+		omega = 1
+	}
+	switch {
+	case o.Corrections > 0:
+		return o.Corrections, omega
+	case o.Omega > 0:
+		return 1, omega
+	}
+	return 0, omega
+}
+
+// params returns the number of free parameters of a form with k corrections.
+func (o FitOptions) params(k int) int {
+	n := 2 + k
+	if o.Nu == 0 {
+		n++
+	}
+	return n
+}
+
 // MinSizes returns the number of distinct sizes the form of opt needs: one
-// more than its free parameters, and never fewer than 3.
+// more than its free parameters, and never fewer than 3 (with Auto, those
+// of the form without corrections).
 func MinSizes(opt FitOptions) int {
-	n := 2
-	if opt.Nu == 0 {
-		n++
+	k, _ := opt.form()
+	if opt.Auto {
+		k = 0
 	}
-	if opt.Omega > 0 {
-		n++
-	}
-	return max(3, n+1)
+	return max(3, opt.params(k)+1)
 }
 
 // nuRange bounds a fitted ν.
 const nuLo, nuHi = 0.2, 5.0
 
-// FitPeaks fits λ*(L) = λ_c + a·L^(−1/ν) (+ b·L^(−1/ν−ω)) to the points by
-// weighted least squares with weights 1/Err², fitting ν by a one-dimensional
-// search of χ² when opt.Nu is 0 (variable projection: λ_c, a, b are linear
-// for fixed ν), and estimates the error of λ_c by a parametric bootstrap
-// that redraws every position from a normal distribution with its error
-// (common practice).
+// FitPeaks fits λ*(L) = λ_c + a·L^(−1/ν) + Σ_k b_k·L^(−1/ν−k·ω) to the
+// points by weighted least squares with weights 1/Err², fitting ν by a
+// one-dimensional search of χ² when opt.Nu is 0 (variable projection: λ_c,
+// a, b_k are linear for fixed ν), and estimates the statistical error of
+// λ_c by a parametric bootstrap that redraws every position from a normal
+// distribution with its error (common practice).
+//
+// With opt.Auto the form has as many correction terms as the sizes allow
+// (at most MaxCorrections) while leaving at least as many degrees of
+// freedom as it has correction terms, so that every correction is checked
+// by a size to spare: with ν given, one term from 4 sizes, two from 6.
+// Corrections to the leading shift are the rule rather than the exception
+// (for the Ising torus, A. E. Ferdinand and M. E. Fisher, Phys. Rev. 185,
+// 832 (1969)), and noisy peaks of small systems hide them from a
+// goodness-of-fit test: Akaike's criterion χ² + 2·(free parameters)
+// (H. Akaike, IEEE Trans. Autom. Control 19, 716 (1974)) is reported for
+// every form considered, but does not choose. The change of λ_c made by
+// the last term (FormShift) and by leaving out the smallest size (Drift)
+// measure the form's systematic error; the larger is added to the
+// statistical error in quadrature.
 func FitPeaks(pts []Point, opt FitOptions) (*Fit, error) {
 	if opt.Nu < 0 || math.IsNaN(opt.Nu) || math.IsInf(opt.Nu, 0) {
 		return nil, fmt.Errorf("%w: expected ν > 0 (or 0 to fit it), found %v", ErrBadInput, opt.Nu)
 	}
 	if opt.Omega < 0 || math.IsNaN(opt.Omega) || math.IsInf(opt.Omega, 0) {
 		return nil, fmt.Errorf("%w: expected ω > 0 (or 0 for no correction), found %v", ErrBadInput, opt.Omega)
+	}
+	if opt.Corrections < 0 || opt.Corrections > MaxCorrections {
+		return nil, fmt.Errorf("%w: expected 0 to %d correction terms, found %d", ErrBadInput, MaxCorrections, opt.Corrections)
 	}
 	sizes := map[float64]bool{}
 	weighted := true
@@ -134,25 +221,63 @@ func FitPeaks(pts []Point, opt FitOptions) (*Fit, error) {
 		return nil, fmt.Errorf("%w: expected at least %d different sizes for %s, found %d", ErrTooFewSizes, need, describeForm(opt), len(sizes))
 	}
 	sig := make([]float64, len(pts))
+	at := make([]float64, len(pts))
 	for i, p := range pts {
-		sig[i] = p.Err
+		sig[i], at[i] = p.Err, p.At
 		if !weighted {
 			sig[i] = 1
 		}
 	}
-	at := make([]float64, len(pts))
-	for i, p := range pts {
-		at[i] = p.At
+	k, omega := opt.form()
+	if !opt.Auto {
+		return fitForm(pts, at, sig, opt, k, omega, weighted, len(sizes))
 	}
-	f, err := fitOnce(pts, at, sig, opt)
+	var forms []Form
+	best := -1
+	for k := 0; k <= MaxCorrections && len(sizes)-opt.params(k) >= max(1, k); k++ {
+		g, err := fitOnce(pts, at, sig, opt.Nu, k, omega)
+		if err != nil || (g.NuFitted && nuAtEdge(g.Nu)) {
+			continue
+		}
+		fm := Form{Corrections: k, Value: g.Value, Chi2: g.Chi2, Dof: g.Dof}
+		if weighted {
+			fm.AIC = g.Chi2 + 2*float64(opt.params(k))
+		}
+		best = len(forms)
+		forms = append(forms, fm)
+	}
+	if best < 0 {
+		return fitForm(pts, at, sig, opt, 0, omega, weighted, len(sizes))
+	}
+	forms[best].Chosen = true
+	f, err := fitForm(pts, at, sig, opt, forms[best].Corrections, omega, weighted, len(sizes))
 	if err != nil {
 		return nil, err
 	}
-	if f.NuFitted && (f.Nu < nuLo*1.001 || f.Nu > nuHi*0.999) {
+	f.Auto, f.Forms = true, forms
+	if best > 0 && forms[best-1].Corrections == forms[best].Corrections-1 {
+		f.FormShift = math.Abs(forms[best].Value - forms[best-1].Value)
+		f.SystKnown = true
+		f.Syst = math.Max(f.Drift, f.FormShift)
+		f.Err = math.Hypot(f.Stat, f.Syst)
+	}
+	return f, nil
+}
+
+func nuAtEdge(nu float64) bool { return nu < nuLo*1.001 || nu > nuHi*0.999 }
+
+// fitForm fits the form with k corrections and estimates its errors.
+func fitForm(pts []Point, at, sig []float64, opt FitOptions, k int, omega float64, weighted bool, nsizes int) (*Fit, error) {
+	f, err := fitOnce(pts, at, sig, opt.Nu, k, omega)
+	if err != nil {
+		return nil, err
+	}
+	if f.NuFitted && nuAtEdge(f.Nu) {
 		return nil, fmt.Errorf("%w: the fitted ν ran to the edge of the range searched (%g … %g): the peaks do not determine it; give ν with --nu", ErrBadInput, nuLo, nuHi)
 	}
 	f.Weighted = weighted
 	f.Points = append([]Point(nil), pts...)
+	sig = append([]float64(nil), sig...)
 	if !weighted {
 		// One common error estimated from the residuals.
 		s := math.Sqrt(f.Chi2 / float64(f.Dof))
@@ -162,7 +287,7 @@ func FitPeaks(pts []Point, opt FitOptions) (*Fit, error) {
 		f.CovErr *= s
 		f.Chi2 = float64(f.Dof)
 	}
-	f.Err = f.CovErr
+	f.Stat = f.CovErr
 	if opt.Bootstrap > 0 {
 		rng := rand.New(rand.NewPCG(opt.Seed, 0x5ca1e))
 		vals := make([]float64, 0, opt.Bootstrap)
@@ -172,7 +297,7 @@ func FitPeaks(pts []Point, opt FitOptions) (*Fit, error) {
 			for i := range y {
 				y[i] = at[i] + sig[i]*rng.NormFloat64()
 			}
-			g, err := fitOnce(pts, y, sig, opt)
+			g, err := fitOnce(pts, y, sig, opt.Nu, k, omega)
 			if err != nil {
 				continue
 			}
@@ -183,16 +308,16 @@ func FitPeaks(pts []Point, opt FitOptions) (*Fit, error) {
 			return nil, fmt.Errorf("%w: the bootstrap refits failed", ErrBadInput)
 		}
 		f.BootErr = stat.StdDev(vals, nil)
-		f.Err = f.BootErr
+		f.Stat = f.BootErr
 		if f.NuFitted {
 			f.NuErr = stat.StdDev(nus, nil)
 		}
 	}
 	if r := f.Chi2 / float64(f.Dof); weighted && r > 1 {
-		f.Err *= math.Sqrt(r)
+		f.Stat *= math.Sqrt(r)
 		f.NuErr *= math.Sqrt(r)
 	}
-	if len(sizes) > MinSizes(opt) {
+	if nsizes > max(3, opt.params(k)+1) {
 		smallest := math.Inf(1)
 		for _, p := range pts {
 			smallest = math.Min(smallest, p.Size)
@@ -204,11 +329,13 @@ func FitPeaks(pts []Point, opt FitOptions) (*Fit, error) {
 				rp, ry, rs = append(rp, p), append(ry, at[i]), append(rs, sig[i])
 			}
 		}
-		if g, err := fitOnce(rp, ry, rs, opt); err == nil {
+		if g, err := fitOnce(rp, ry, rs, opt.Nu, k, omega); err == nil {
 			f.Drift = math.Abs(g.Value - f.Value)
-			f.Err = math.Hypot(f.Err, f.Drift)
+			f.SystKnown = true
 		}
 	}
+	f.Syst = f.Drift
+	f.Err = math.Hypot(f.Stat, f.Syst)
 	return f, nil
 }
 
@@ -217,106 +344,14 @@ func describeForm(opt FitOptions) string {
 	if opt.Nu == 0 {
 		s = "λ_c + a·L^(−1/ν) with ν fitted"
 	}
-	if opt.Omega > 0 {
-		s += " and a correction term"
+	k, omega := opt.form()
+	switch {
+	case opt.Auto:
+		s += fmt.Sprintf(", and 0 to %d correction terms b_k·L^(−1/ν−k·ω), ω = %g, as many as the sizes allow", MaxCorrections, omega)
+	case k == 1:
+		s += fmt.Sprintf(" and a correction term b·L^(−1/ν−ω), ω = %g", omega)
+	case k > 1:
+		s += fmt.Sprintf(" and %d correction terms b_k·L^(−1/ν−k·ω), ω = %g", k, omega)
 	}
 	return s
-}
-
-// fitOnce fits the positions y with errors sig, searching ν when it is not given.
-func fitOnce(pts []Point, y, sig []float64, opt FitOptions) (*Fit, error) {
-	if opt.Nu > 0 {
-		return linearFit(pts, y, sig, opt.Nu, opt.Omega)
-	}
-	chi := func(nu float64) float64 {
-		f, err := linearFit(pts, y, sig, nu, opt.Omega)
-		if err != nil {
-			return math.Inf(1)
-		}
-		return f.Chi2
-	}
-	// A scan in ln ν, then golden-section refinement around the best.
-	const n = 60
-	lo, hi := math.Log(nuLo), math.Log(nuHi)
-	best, bestC := 0, math.Inf(1)
-	for i := 0; i <= n; i++ {
-		c := chi(math.Exp(lo + (hi-lo)*float64(i)/n))
-		if c < bestC {
-			best, bestC = i, c
-		}
-	}
-	a := lo + (hi-lo)*float64(max(0, best-1))/n
-	b := lo + (hi-lo)*float64(min(n, best+1))/n
-	g := (math.Sqrt(5) - 1) / 2
-	x1, x2 := b-g*(b-a), a+g*(b-a)
-	c1, c2 := chi(math.Exp(x1)), chi(math.Exp(x2))
-	for b-a > 1e-10 {
-		if c1 < c2 {
-			b, x2, c2 = x2, x1, c1
-			x1 = b - g*(b-a)
-			c1 = chi(math.Exp(x1))
-		} else {
-			a, x1, c1 = x1, x2, c2
-			x2 = a + g*(b-a)
-			c2 = chi(math.Exp(x2))
-		}
-	}
-	f, err := linearFit(pts, y, sig, math.Exp((a+b)/2), opt.Omega)
-	if err != nil {
-		return nil, err
-	}
-	f.NuFitted = true
-	f.Dof--
-	return f, nil
-}
-
-// linearFit is the weighted least-squares fit for fixed ν and ω.
-func linearFit(pts []Point, y, sig []float64, nu, omega float64) (*Fit, error) {
-	p := 2
-	if omega > 0 {
-		p = 3
-	}
-	n := len(pts)
-	x := mat.NewDense(n, p, nil)
-	r := mat.NewVecDense(n, nil)
-	for i, pt := range pts {
-		w := 1 / sig[i]
-		x.Set(i, 0, w)
-		x.Set(i, 1, w*math.Pow(pt.Size, -1/nu))
-		if p == 3 {
-			x.Set(i, 2, w*math.Pow(pt.Size, -1/nu-omega))
-		}
-		r.SetVec(i, w*y[i])
-	}
-	var xtx mat.Dense
-	xtx.Mul(x.T(), x)
-	var cov mat.Dense
-	if err := cov.Inverse(&xtx); err != nil {
-		return nil, fmt.Errorf("%w: the fit's normal equations are singular (sizes too close?): %w", ErrBadInput, err)
-	}
-	var xtr, beta mat.VecDense
-	xtr.MulVec(x.T(), r)
-	beta.MulVec(&cov, &xtr)
-	var res mat.VecDense
-	res.MulVec(x, &beta)
-	res.SubVec(r, &res)
-	f := &Fit{
-		Value: beta.AtVec(0), A: beta.AtVec(1), Nu: nu, Omega: omega,
-		CovErr: math.Sqrt(cov.At(0, 0)),
-		Chi2:   mat.Dot(&res, &res),
-		Dof:    n - p,
-	}
-	if p == 3 {
-		f.B = beta.AtVec(2)
-	}
-	return f, nil
-}
-
-// Curve returns the fitted λ*(L).
-func (f *Fit) Curve(L float64) float64 {
-	v := f.Value + f.A*math.Pow(L, -1/f.Nu)
-	if f.Omega > 0 {
-		v += f.B * math.Pow(L, -1/f.Nu-f.Omega)
-	}
-	return v
 }

@@ -25,6 +25,10 @@ type Options struct {
 	// Sizes overrides the linear sizes taken from the scans' lattices
 	// (one per scan, in order); nil uses the lattices.
 	Sizes []float64
+	// CurvePeaks re-locates every peak from its scan's curve in
+	// indicators.csv with CurvePeak, where the curve has errors (the
+	// scans' own peaks otherwise).
+	CurvePeaks bool
 }
 
 // Scan is one scan folder's contribution.
@@ -38,30 +42,44 @@ type Scan struct {
 	Lattice []int
 	// Peaks maps an indicator to its main peak in this scan.
 	Peaks map[string]Point
+	// Curve lists the indicators whose peak CurvePeak re-located.
+	Curve []string
 }
 
 // Estimate is one indicator's extrapolation, as written in summary.json.
 type Estimate struct {
-	Indicator string    `json:"indicator"`
-	Param     string    `json:"param"`
-	Value     float64   `json:"value"`
-	Err       float64   `json:"err"`
-	Nu        float64   `json:"nu"`
-	NuErr     float64   `json:"nu_err,omitempty"`
-	NuFitted  bool      `json:"nu_fitted"`
-	Omega     float64   `json:"omega,omitempty"`
-	A         float64   `json:"a"`
-	B         float64   `json:"b,omitempty"`
-	Sizes     []float64 `json:"sizes"`
-	Peaks     []float64 `json:"peaks"`
-	PeakErrs  []float64 `json:"peak_errs"`
-	Chi2      float64   `json:"chi2"`
-	Dof       int       `json:"dof"`
-	Chi2Dof   float64   `json:"chi2_per_dof"`
-	CovErr    float64   `json:"err_covariance"`
-	BootErr   float64   `json:"err_bootstrap"`
-	Drift     float64   `json:"err_drift"`
-	Weighted  bool      `json:"weighted"`
+	Indicator string  `json:"indicator"`
+	Param     string  `json:"param"`
+	Value     float64 `json:"value"`
+	Err       float64 `json:"err"`
+	Nu        float64 `json:"nu"`
+	NuErr     float64 `json:"nu_err,omitempty"`
+	NuFitted  bool    `json:"nu_fitted"`
+	Omega     float64 `json:"omega,omitempty"`
+	// Corrections is the number of correction terms and Bs their amplitudes.
+	Corrections int       `json:"corrections"`
+	A           float64   `json:"a"`
+	B           float64   `json:"b,omitempty"`
+	Bs          []float64 `json:"bs,omitempty"`
+	Sizes       []float64 `json:"sizes"`
+	Peaks       []float64 `json:"peaks"`
+	PeakErrs    []float64 `json:"peak_errs"`
+	Chi2        float64   `json:"chi2"`
+	Dof         int       `json:"dof"`
+	Chi2Dof     float64   `json:"chi2_per_dof"`
+	CovErr      float64   `json:"err_covariance"`
+	BootErr     float64   `json:"err_bootstrap"`
+	Drift       float64   `json:"err_drift"`
+	// Stat and Syst are the statistical and systematic parts of Err;
+	// FormShift is the change made by the last correction term.
+	Stat      float64 `json:"err_statistical"`
+	Syst      float64 `json:"err_systematic"`
+	FormShift float64 `json:"err_form_shift"`
+	// SystKnown says whether the systematic error could be measured.
+	SystKnown bool `json:"syst_estimated"`
+	Weighted  bool `json:"weighted"`
+	// Forms are the candidate forms of an automatic choice.
+	Forms []Form `json:"forms,omitempty"`
 
 	fit *Fit
 }
@@ -81,16 +99,19 @@ type CombinedEstimate struct {
 
 // ScanEntry records one input scan in summary.json.
 type ScanEntry struct {
-	Dir     string  `json:"dir"`
-	Source  string  `json:"source"`
-	Size    float64 `json:"size"`
-	Lattice []int   `json:"lattice,omitempty"`
+	Dir    string `json:"dir"`
+	Source string `json:"source"`
+	// Curve lists the indicators whose peak was re-located from the curve.
+	Curve   []string `json:"curve_peaks,omitempty"`
+	Size    float64  `json:"size"`
+	Lattice []int    `json:"lattice,omitempty"`
 }
 
 // Result is the extrapolation of a set of scans; it is what summary.json holds.
 type Result struct {
 	Param     string           `json:"param"`
 	Form      string           `json:"form"`
+	Peaks     string           `json:"peaks"`
 	Bootstrap int              `json:"bootstrap"`
 	Seed      uint64           `json:"seed"`
 	Scans     []ScanEntry      `json:"scans"`
@@ -118,7 +139,10 @@ func LinearSize(lattice []int) int {
 
 // ReadScan reads dir/summary.json of a 1-D scan and keeps, per indicator,
 // its highest peak, refined by the zoom pass when the scan made one.
-func ReadScan(dir string) (*Scan, error) {
+func ReadScan(dir string) (*Scan, error) { return readScan(dir, false, 0) }
+
+// readScan is ReadScan, re-locating the peaks from the curves with curve.
+func readScan(dir string, curve bool, seed uint64) (*Scan, error) {
 	path := filepath.Join(dir, "summary.json")
 	b, err := os.ReadFile(path)
 	if err != nil {
@@ -158,8 +182,16 @@ func ReadScan(dir string) (*Scan, error) {
 				}
 			}
 		}
+		if curve {
+			x, y, e, err := readCurve(dir, sc.Param, name)
+			if at, er, _, ok := CurvePeak(x, y, e, 400, seed); err == nil && ok {
+				pk.At, pk.Err = at, er
+				sc.Curve = append(sc.Curve, name)
+			}
+		}
 		sc.Peaks[name] = pk
 	}
+	sort.Strings(sc.Curve)
 	if len(sc.Peaks) == 0 {
 		return nil, fmt.Errorf("%w: %s: expected at least one indicator peak, found none (rescan over a wider range or with more points)", ErrInput, path)
 	}
@@ -172,9 +204,12 @@ func Run(dirs []string, opt Options) (*Result, error) {
 	if opt.Sizes != nil && len(opt.Sizes) != len(dirs) {
 		return nil, fmt.Errorf("%w: --sizes: expected one size per scan (%d), found %d", ErrInput, len(dirs), len(opt.Sizes))
 	}
-	res := &Result{Form: describeForm(opt.Fit), Bootstrap: opt.Fit.Bootstrap, Seed: opt.Fit.Seed}
+	res := &Result{Form: describeForm(opt.Fit), Bootstrap: opt.Fit.Bootstrap, Seed: opt.Fit.Seed, Peaks: "the scans' highest peaks"}
+	if opt.CurvePeaks {
+		res.Peaks = "a weighted parabola through the top of each curve that has errors (the points above 70% of its height over the minimum, at least 5), its error from a bootstrap of the curve; the scan's highest peak otherwise"
+	}
 	for i, d := range dirs {
-		sc, err := ReadScan(d)
+		sc, err := readScan(d, opt.CurvePeaks, opt.Fit.Seed+uint64(i))
 		if err != nil {
 			return nil, err
 		}
@@ -196,7 +231,7 @@ func Run(dirs []string, opt Options) (*Result, error) {
 		}
 		res.Param = sc.Param
 		res.scans = append(res.scans, sc)
-		res.Scans = append(res.Scans, ScanEntry{Dir: d, Source: sc.Source, Size: sc.Size, Lattice: sc.Lattice})
+		res.Scans = append(res.Scans, ScanEntry{Dir: d, Source: sc.Source, Size: sc.Size, Lattice: sc.Lattice, Curve: sc.Curve})
 	}
 	distinct := map[float64]bool{}
 	for _, sc := range res.scans {
@@ -245,8 +280,9 @@ func Run(dirs []string, opt Options) (*Result, error) {
 		}
 		e := Estimate{
 			Indicator: name, Param: res.Param, Value: f.Value, Err: f.Err, Nu: f.Nu, NuErr: f.NuErr, NuFitted: f.NuFitted,
-			Omega: f.Omega, A: f.A, B: f.B, Chi2: f.Chi2, Dof: f.Dof, Chi2Dof: f.Chi2 / float64(f.Dof),
-			CovErr: f.CovErr, BootErr: f.BootErr, Drift: f.Drift, Weighted: f.Weighted, fit: f,
+			Omega: f.Omega, Corrections: f.Corrections, A: f.A, B: f.B, Bs: f.Bs, Chi2: f.Chi2, Dof: f.Dof, Chi2Dof: f.Chi2 / float64(f.Dof),
+			CovErr: f.CovErr, BootErr: f.BootErr, Drift: f.Drift, Stat: f.Stat, Syst: f.Syst, FormShift: f.FormShift, SystKnown: f.SystKnown,
+			Weighted: f.Weighted, Forms: f.Forms, fit: f,
 		}
 		for _, p := range pts {
 			e.Sizes = append(e.Sizes, p.Size)
@@ -254,9 +290,22 @@ func Run(dirs []string, opt Options) (*Result, error) {
 			e.PeakErrs = append(e.PeakErrs, p.Err)
 		}
 		res.Estimates = append(res.Estimates, e)
-		if f.Err > 0 {
-			vals, errs = append(vals, f.Value), append(errs, f.Err)
-			used = append(used, name)
+	}
+	// An estimate whose systematic error could not be measured (a peak at
+	// too few sizes to spare one) has an error that is too small, and would
+	// outweigh the others in the mean: it joins only when none has one.
+	anyKnown := false
+	for _, e := range res.Estimates {
+		anyKnown = anyKnown || (e.SystKnown && e.Err > 0)
+	}
+	for _, e := range res.Estimates {
+		switch {
+		case !(e.Err > 0):
+		case anyKnown && !e.SystKnown:
+			res.Notes = append(res.Notes, fmt.Sprintf("%s is not combined: its peaks at %d sizes leave none to spare for a systematic error", e.Indicator, len(e.Sizes)))
+		default:
+			vals, errs = append(vals, e.Value), append(errs, e.Err)
+			used = append(used, e.Indicator)
 		}
 	}
 	if len(res.Estimates) == 0 {
@@ -307,7 +356,8 @@ func (r *Result) WriteText(w io.Writer) {
 		if e.NuFitted {
 			nu = fmt.Sprintf("ν = %.3g ± %.2g (fitted)", e.Nu, e.NuErr)
 		}
-		fmt.Fprintf(w, "  %-14s %s_c = %.6g ± %.2g   %s, χ²/dof = %.2f, %d sizes\n", e.Indicator, e.Param, e.Value, e.Err, nu, e.Chi2Dof, len(e.Sizes))
+		fmt.Fprintf(w, "  %-14s %s_c = %.6g ± %.2g (stat %.2g, syst %.2g)   %s, %d corr., χ²/dof = %.2f, %d sizes\n",
+			e.Indicator, e.Param, e.Value, e.Err, e.Stat, e.Syst, nu, e.Corrections, e.Chi2Dof, len(e.Sizes))
 	}
 	c := r.Combined
 	agree := "the indicators agree within their errors"

@@ -2,6 +2,8 @@ package scaling
 
 import (
 	"errors"
+	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"testing"
@@ -56,5 +58,36 @@ func TestReadScanPeaks(t *testing.T) {
 				}
 			}
 		})
+	}
+}
+
+// TestRunCombinesMeasuredErrors: an indicator with peaks at only 3 sizes
+// has no systematic error (no size to spare) and stays out of the
+// combination when another indicator has one (invented peaks on
+// 2 + 0.5/L, with a 1% offset for the short one).
+func TestRunCombinesMeasuredErrors(t *testing.T) {
+	base := t.TempDir()
+	var dirs []string
+	for _, L := range []float64{8, 12, 16, 24, 32} {
+		short := ""
+		if L >= 16 {
+			short = fmt.Sprintf(`, "short": {"peaks": [{"at": [%g], "err": [0.0001], "height": 1}]}`, 2.02+0.5/L)
+		}
+		js := fmt.Sprintf(`{"source": "exact", "params": ["T"], "lattice": [%g, %g], "indicators": {"long": {"peaks": [{"at": [%g], "err": [0.002], "height": 1}]}%s}}`, L, L, 2+0.5/L, short)
+		d := filepath.Join(base, fmt.Sprint(L))
+		if err := os.MkdirAll(d, 0o755); err != nil {
+			t.Fatal(err)
+		}
+		if err := os.WriteFile(filepath.Join(d, "summary.json"), []byte(js), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		dirs = append(dirs, d)
+	}
+	res, err := Run(dirs, Options{Fit: FitOptions{Nu: 1, Auto: true}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Estimates) != 2 || len(res.Combined.Indicators) != 1 || res.Combined.Indicators[0] != "long" || math.Abs(res.Combined.Value-2) > 1e-9 {
+		t.Errorf("combined %+v from %d estimates; expected long alone, at 2", res.Combined, len(res.Estimates))
 	}
 }

@@ -2,6 +2,7 @@ package scaling
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -32,6 +33,8 @@ func TestFitCoverage(t *testing.T) {
 		{"nu given", FitOptions{Nu: 1, Bootstrap: 100}, 0, 200},
 		{"nu fitted", FitOptions{Bootstrap: 50}, 0, 80},
 		{"correction", FitOptions{Nu: 1, Omega: 1, Bootstrap: 100}, -2, 200},
+		{"auto, no correction present", FitOptions{Nu: 1, Auto: true, Bootstrap: 100}, 0, 200},
+		{"auto, correction present", FitOptions{Nu: 1, Auto: true, Bootstrap: 100}, -2, 200},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			rng := rand.New(rand.NewPCG(7, 1))
@@ -125,5 +128,35 @@ func TestCombine(t *testing.T) {
 	d := Combine([]float64{1, 2}, []float64{0.1, 0.1})
 	if d.Agree || !d.Inflated || math.Abs(d.Err-0.5) > 1e-12 {
 		t.Errorf("values 10 errors apart: got %+v, expected disagreement and error 0.1/√2·√50 = 0.5", d)
+	}
+}
+
+// TestFitAutoChoice checks the number of corrections of the automatic
+// form: as many as leave as many degrees of freedom as corrections (ν
+// given: 1 from 4 sizes, 2 from 6; ν fitted: 1 from 5), whatever the data
+// (here noise-free points on the leading form, which every form fits).
+func TestFitAutoChoice(t *testing.T) {
+	for _, tc := range []struct {
+		n    int
+		nu   float64
+		want int
+	}{{3, 1, 0}, {4, 1, 1}, {5, 1, 1}, {6, 1, 2}, {8, 1, 2}, {4, 0, 0}, {5, 0, 1}, {7, 0, 2}} {
+		t.Run(fmt.Sprintf("%d sizes, nu %g", tc.n, tc.nu), func(t *testing.T) {
+			var sizes []float64
+			for i := range tc.n {
+				sizes = append(sizes, 8*math.Pow(1.4, float64(i)))
+			}
+			pts := synthetic(rand.New(rand.NewPCG(1, 1)), sizes, 2, 0.8, 0, 1, 1, 0)
+			for i := range pts {
+				pts[i].Err = 0.001
+			}
+			f, err := FitPeaks(pts, FitOptions{Nu: tc.nu, Auto: true})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if f.Corrections != tc.want || len(f.Forms) != tc.want+1 || !f.Forms[tc.want].Chosen || math.Abs(f.Value-2) > 1e-6 {
+				t.Errorf("got %d corrections, λ_c %v, forms %+v; expected %d and 2", f.Corrections, f.Value, f.Forms, tc.want)
+			}
+		})
 	}
 }

@@ -5,7 +5,6 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"fmt"
-	"html/template"
 	"image/color"
 	"math"
 	"os"
@@ -78,7 +77,7 @@ func Write(dir string, force bool, res *Result) error {
 		return fmt.Errorf("summary.json: %w", err)
 	}
 	files["summary.json"] = append(js, '\n')
-	if files["report.html"], err = page(res, pics, collapses); err != nil {
+	if files["report.html"], err = page(res, dir, pics, collapses); err != nil {
 		return err
 	}
 	clean := filepath.Clean(dir)
@@ -209,31 +208,34 @@ func peaksPlot(res *Result) (*plot.Plot, error) {
 }
 
 // readCurve returns the positions and values of column name of a scan's
-// indicators.csv (rows with an empty cell skipped).
-func readCurve(dir, param, name string) (x, y []float64, err error) {
+// indicators.csv (rows with an empty cell skipped), and the errors of
+// column name_err (nil when it is missing or has an empty cell).
+func readCurve(dir, param, name string) (x, y, yerr []float64, err error) {
 	path := filepath.Join(dir, "indicators.csv")
 	b, err := os.ReadFile(path)
 	if err != nil {
-		return nil, nil, err
+		return nil, nil, nil, err
 	}
 	recs, err := csv.NewReader(bytes.NewReader(b)).ReadAll()
 	if err != nil {
-		return nil, nil, fmt.Errorf("%s: %w", path, err)
+		return nil, nil, nil, fmt.Errorf("%s: %w", path, err)
 	}
 	if len(recs) < 2 {
-		return nil, nil, fmt.Errorf("%s: expected a header and rows, found %d lines", path, len(recs))
+		return nil, nil, nil, fmt.Errorf("%s: expected a header and rows, found %d lines", path, len(recs))
 	}
-	pc, vc := -1, -1
+	pc, vc, ec := -1, -1, -1
 	for i, h := range recs[0] {
 		switch h {
 		case param:
 			pc = i
 		case name:
 			vc = i
+		case name + "_err":
+			ec = i
 		}
 	}
 	if pc < 0 || vc < 0 {
-		return nil, nil, fmt.Errorf("%s: expected columns %s and %s", path, param, name)
+		return nil, nil, nil, fmt.Errorf("%s: expected columns %s and %s", path, param, name)
 	}
 	for _, r := range recs[1:] {
 		if r[vc] == "" {
@@ -242,11 +244,22 @@ func readCurve(dir, param, name string) (x, y []float64, err error) {
 		a, err1 := strconv.ParseFloat(r[pc], 64)
 		v, err2 := strconv.ParseFloat(r[vc], 64)
 		if err1 != nil || err2 != nil {
-			return nil, nil, fmt.Errorf("%s: expected numbers, found %q, %q", path, r[pc], r[vc])
+			return nil, nil, nil, fmt.Errorf("%s: expected numbers, found %q, %q", path, r[pc], r[vc])
 		}
 		x, y = append(x, a), append(y, v)
+		if ec >= 0 {
+			e, err := strconv.ParseFloat(r[ec], 64)
+			if err != nil {
+				ec = -1
+				continue
+			}
+			yerr = append(yerr, e)
+		}
 	}
-	return x, y, nil
+	if ec < 0 {
+		yerr = nil
+	}
+	return x, y, yerr, nil
 }
 
 // collapsePlot draws one indicator's curves of all scans against
@@ -262,7 +275,7 @@ func collapsePlot(res *Result, e Estimate) (*plot.Plot, error) {
 		if _, ok := sc.Peaks[e.Indicator]; !ok {
 			continue
 		}
-		x, y, err := readCurve(sc.Dir, res.Param, e.Indicator)
+		x, y, _, err := readCurve(sc.Dir, res.Param, e.Indicator)
 		if err != nil {
 			return nil, err
 		}
@@ -292,66 +305,3 @@ func collapsePlot(res *Result, e Estimate) (*plot.Plot, error) {
 	}
 	return p, nil
 }
-
-func page(res *Result, pics map[string][]byte, collapses []string) ([]byte, error) {
-	type fig struct {
-		SVG     template.HTML
-		Caption string
-	}
-	d := struct {
-		Style    template.CSS
-		R        *Result
-		Peaks    fig
-		Collapse []fig
-	}{Style: template.CSS(report.Style), R: res}
-	d.Peaks = fig{report.InlineSVG(pics["peaks.svg"]), "Peak positions against L^(−1/ν) (each indicator with its own ν) with error bars, the weighted fits (dashed) and the extrapolated values at L = ∞ (squares)."}
-	for _, c := range collapses {
-		d.Collapse = append(d.Collapse, fig{report.InlineSVG(pics[c+".svg"]), "Curves of all sizes against the scaling variable, each divided by its maximum: they fall on one curve near 0 when the sizes obey the fitted scaling."})
-	}
-	var buf bytes.Buffer
-	if err := pageTmpl.Execute(&buf, d); err != nil {
-		return nil, fmt.Errorf("report.html: %w", err)
-	}
-	return buf.Bytes(), nil
-}
-
-var pageTmpl = template.Must(template.New("page").Funcs(template.FuncMap{
-	"g":  func(v float64) string { return strconv.FormatFloat(v, 'g', 6, 64) },
-	"e":  func(v float64) string { return strconv.FormatFloat(v, 'g', 2, 64) },
-	"f2": func(v float64) string { return strconv.FormatFloat(v, 'f', 2, 64) },
-}).Parse(`<!DOCTYPE html>
-<html lang="en">
-<head>
-<meta charset="utf-8">
-<meta name="viewport" content="width=device-width, initial-scale=1">
-<title>tidemark extrapolation</title>
-<style>{{.Style}}</style>
-</head>
-<body>
-<main>
-<h1>tidemark extrapolation to the infinite system</h1>
-<p class="lead">Combined estimate: <strong>{{.R.Combined.Param}}_c = {{g .R.Combined.Value}} ± {{e .R.Combined.Err}}</strong>
-from {{len .R.Estimates}} indicator(s);
-{{if .R.Combined.Agree}}<span class="good">they agree within their errors</span>{{else}}<span class="warn">they do not agree within their errors</span>{{end}}
-(χ² = {{f2 .R.Combined.Chi2}} for {{.R.Combined.Dof}} degrees of freedom, p = {{e .R.Combined.PValue}}).</p>
-<p>Form: {{.R.Form}}. Combination: {{.R.Combined.Method}}.</p>
-<h2>Scans</h2>
-<table>
-<tr><th>folder</th><th>source</th><th>linear size</th></tr>
-{{range .R.Scans}}<tr><td><code>{{.Dir}}</code></td><td>{{.Source}}</td><td class="num">{{g .Size}}</td></tr>
-{{end}}</table>
-<h2>Estimates per indicator</h2>
-<table>
-<tr><th>indicator</th><th>{{.R.Param}}_c</th><th>ν</th><th>χ²/dof</th><th>sizes</th></tr>
-{{range .R.Estimates}}<tr><td><code>{{.Indicator}}</code></td><td class="num">{{g .Value}} ± {{e .Err}}</td><td class="num">{{g .Nu}}{{if .NuFitted}} ± {{e .NuErr}} (fitted){{end}}</td><td class="num">{{f2 .Chi2Dof}}</td><td class="num">{{range $i, $s := .Sizes}}{{if $i}}, {{end}}{{g $s}}{{end}}</td></tr>
-{{end}}</table>
-<figure>{{.Peaks.SVG}}<figcaption>{{.Peaks.Caption}}</figcaption></figure>
-{{if .Collapse}}<h2>Data collapse</h2>
-{{range .Collapse}}<figure>{{.SVG}}<figcaption>{{.Caption}}</figcaption></figure>
-{{end}}{{end}}
-{{with .R.Notes}}<h2>Notes</h2><ul class="notes">{{range .}}<li>{{.}}</li>{{end}}</ul>{{end}}
-<footer>Written by tidemark extrapolate. Errors are one standard deviation.</footer>
-</main>
-</body>
-</html>
-`))
