@@ -44,6 +44,7 @@ bootstrap = 50
 	// simulate 39 units, first simulate/L8/p0
 	// gather    3 units, first gather/L8
 	// train     6 units, first train/L8/m1
+	// matrix    3 units, first matrix/L8/b0
 	// scan      3 units, first scan/L8
 	// finish    1 units, first finish
 }

@@ -42,12 +42,11 @@ type System struct {
 	Temperature  float64  `toml:"temperature"`
 	ExactSamples bool     `toml:"exact_samples"`
 	// Chain: the Hamiltonian, measurement basis, sector and solver.
-	Hamiltonian string `toml:"hamiltonian"`
-	Basis       string `toml:"basis"`
-	Sector      string `toml:"sector"`
-	Solver      string `toml:"solver"`
-	// Import: one dataset per size, in the order of Sizes.
-	Datasets []string `toml:"datasets"`
+	Hamiltonian string   `toml:"hamiltonian"`
+	Basis       string   `toml:"basis"`
+	Sector      string   `toml:"sector"`
+	Solver      string   `toml:"solver"`
+	Datasets    []string `toml:"datasets"` // import: one per size, in the order of Sizes
 }
 
 // Model is the [model] table: the training settings that matter and the
@@ -71,6 +70,7 @@ type Scan struct {
 	Indicators []string `toml:"indicators"`
 	Window     int      `toml:"window"`
 	Threads    int      `toml:"threads"`
+	Block      int      `toml:"block"` // snapshots per matrix unit (0: defaultBlock)
 }
 
 // Extrapolate is the [extrapolate] table (optional).
@@ -94,15 +94,15 @@ type Resources struct {
 // Slurm is the [slurm] table (optional): where jobs go and, per stage,
 // overrides of the estimated limits ([slurm.train] time = "02:00:00").
 type Slurm struct {
-	Partition string `toml:"partition"`
-	Account   string `toml:"account"`
-	// Extra lines are added to every script's #SBATCH block ("--qos=short").
-	Extra    []string  `toml:"extra"`
-	Simulate Resources `toml:"simulate"`
-	Gather   Resources `toml:"gather"`
-	Train    Resources `toml:"train"`
-	ScanRes  Resources `toml:"scan"`
-	Finish   Resources `toml:"finish"`
+	Partition string    `toml:"partition"`
+	Account   string    `toml:"account"`
+	Extra     []string  `toml:"extra"` // lines added to every #SBATCH block ("--qos=short")
+	Simulate  Resources `toml:"simulate"`
+	Gather    Resources `toml:"gather"`
+	Train     Resources `toml:"train"`
+	Matrix    Resources `toml:"matrix"`
+	ScanRes   Resources `toml:"scan"`
+	Finish    Resources `toml:"finish"`
 }
 
 // Study is a whole study file.

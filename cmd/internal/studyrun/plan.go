@@ -23,14 +23,18 @@ const (
 	StageGather Stage = "gather"
 	// StageTrain trains one ensemble member of one size.
 	StageTrain Stage = "train"
-	// StageScan scans one size with all its members.
+	// StageMatrix scores one block of one size's snapshots at every grid
+	// point with every ensemble member: the scan's log-likelihood matrix,
+	// block by block.
+	StageMatrix Stage = "matrix"
+	// StageScan scans one size with all its members, from its matrix blocks.
 	StageScan Stage = "scan"
 	// StageFinish extrapolates and writes the study's summary and page.
 	StageFinish Stage = "finish"
 )
 
 // Stages lists every stage in order.
-var Stages = []Stage{StageSimulate, StageGather, StageTrain, StageScan, StageFinish}
+var Stages = []Stage{StageSimulate, StageGather, StageTrain, StageMatrix, StageScan, StageFinish}
 
 // Unit is one piece of work.
 type Unit struct {
@@ -40,8 +44,10 @@ type Unit struct {
 	// Name is the unit's stable name ("train/L8/m1"); its seed derives from it.
 	Name string
 	// Size is the system size (0 for finish); Point the grid point index
-	// (simulate, ising); Member the ensemble member (train).
+	// (simulate, ising); Member the ensemble member (train); Block the
+	// block of snapshots [Lo, Hi) (matrix).
 	Size, Point, Member int
+	Block, Lo, Hi       int
 }
 
 // Plan is a study's units, stage by stage.
@@ -84,6 +90,15 @@ func NewPlan(st *Study, out string) (*Plan, error) {
 	for _, l := range s.Sizes {
 		for m := 1; m <= st.Model.Ensemble; m++ {
 			add(Unit{Stage: StageTrain, Name: fmt.Sprintf("train/L%d/m%d", l, m), Size: l, Member: m})
+		}
+	}
+	for _, l := range s.Sizes {
+		blocks, err := p.blocks(l)
+		if err != nil {
+			return nil, err
+		}
+		for b, r := range blocks {
+			add(Unit{Stage: StageMatrix, Name: fmt.Sprintf("matrix/L%d/b%d", l, b), Size: l, Block: b, Lo: r[0], Hi: r[1]})
 		}
 	}
 	for _, l := range s.Sizes {
@@ -151,6 +166,9 @@ func dataPath(l int) string { return filepath.Join("data", fmt.Sprintf("L%d.npz"
 // given member 1, reads them all.
 func modelPath(l, m int) string {
 	return checkpoints.MemberPath(filepath.Join("models", fmt.Sprintf("L%d.ckpt", l)), m)
+}
+func matrixPath(l, b int) string {
+	return filepath.Join("matrices", fmt.Sprintf("L%d", l), fmt.Sprintf("b%d.npz", b))
 }
 func scanDir(l int) string { return filepath.Join("scans", fmt.Sprintf("L%d", l)) }
 func stampPath(name string) string {

@@ -104,7 +104,7 @@ func TestResume(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if want := []string{"train/L6/m2", "scan/L6", "finish"}; !slices.Equal(fourth.Ran, want) {
+	if want := []string{"train/L6/m2", "matrix/L6/b0", "scan/L6", "finish"}; !slices.Equal(fourth.Ran, want) {
 		t.Errorf("after damaging one model the run redid %v, want %v", fourth.Ran, want)
 	}
 	sum2, err := os.ReadFile(filepath.Join(out, summaryFile))
@@ -194,13 +194,14 @@ func TestSlurmScripts(t *testing.T) {
 		"sbatch --parsable " + filepath.Join(out, "slurm", "simulate.sh"),
 		"sbatch --parsable --dependency=afterok:101 " + filepath.Join(out, "slurm", "gather.sh"),
 		"sbatch --parsable --dependency=afterok:102 " + filepath.Join(out, "slurm", "train.sh"),
-		"sbatch --parsable --dependency=afterok:103 " + filepath.Join(out, "slurm", "scan.sh"),
-		"sbatch --parsable --dependency=afterok:104 " + filepath.Join(out, "slurm", "finish.sh"),
+		"sbatch --parsable --dependency=afterok:103 " + filepath.Join(out, "slurm", "matrix.sh"),
+		"sbatch --parsable --dependency=afterok:104 " + filepath.Join(out, "slurm", "scan.sh"),
+		"sbatch --parsable --dependency=afterok:105 " + filepath.Join(out, "slurm", "finish.sh"),
 	}
 	if !slices.Equal(calls, want) {
 		t.Errorf("sbatch calls:\n%s\nwant\n%s", strings.Join(calls, "\n"), strings.Join(want, "\n"))
 	}
-	if !strings.Contains(log.String(), "squeue -j 101,102,103,104,105") {
+	if !strings.Contains(log.String(), "squeue -j 101,102,103,104,105,106") {
 		t.Errorf("the log does not say how to follow the jobs:\n%s", log.String())
 	}
 	b, err := os.ReadFile(filepath.Join(out, "slurm", "train.sh"))
@@ -265,7 +266,7 @@ func TestImportStudy(t *testing.T) {
 		}
 	}
 	text := "[system]\nkind = \"import\"\nsizes = [4, 6, 8]\ndatasets = [\"snap4.npz\", \"snap6.npz\", \"snap8.npz\"]\n" +
-		"[model]\nepochs = 1\nhidden = [8]\n[scan]\nbootstrap = 5\nindicators = [\"fisher\"]\n[extrapolate]\nnu = 1.0\nbootstrap = 10\n"
+		"[model]\nepochs = 1\nhidden = [8]\n[scan]\nbootstrap = 5\nblock = 64\nindicators = [\"fisher\"]\n[extrapolate]\nnu = 1.0\nbootstrap = 10\n"
 	study := filepath.Join(dir, "study.toml")
 	if err := os.WriteFile(study, []byte(text), 0o644); err != nil {
 		t.Fatal(err)
@@ -282,7 +283,12 @@ func TestImportStudy(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := []string{"train/L4/m1", "train/L6/m1", "train/L8/m1", "scan/L4", "scan/L6", "scan/L8", "finish"}
+	// 150 snapshots per file, read from its header: blocks of 64, 64 and 22.
+	want := []string{"train/L4/m1", "train/L6/m1", "train/L8/m1"}
+	for _, l := range []int{4, 6, 8} {
+		want = append(want, fmt.Sprintf("matrix/L%d/b0", l), fmt.Sprintf("matrix/L%d/b1", l), fmt.Sprintf("matrix/L%d/b2", l))
+	}
+	want = append(want, "scan/L4", "scan/L6", "scan/L8", "finish")
 	if !slices.Equal(res.Ran, want) {
 		t.Errorf("ran %v, want %v", res.Ran, want)
 	}
@@ -308,7 +314,8 @@ func TestChainStudy(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := []string{"simulate/L4", "simulate/L6", "simulate/L8", "train/L4/m1", "train/L6/m1", "train/L8/m1", "scan/L4", "scan/L6", "scan/L8", "finish"}
+	want := []string{"simulate/L4", "simulate/L6", "simulate/L8", "train/L4/m1", "train/L6/m1", "train/L8/m1",
+		"matrix/L4/b0", "matrix/L6/b0", "matrix/L8/b0", "scan/L4", "scan/L6", "scan/L8", "finish"}
 	if !slices.Equal(res.Ran, want) {
 		t.Errorf("ran %v, want %v", res.Ran, want)
 	}

@@ -180,6 +180,15 @@ func (p *Plan) resources(s Stage) (res Resources, cpus int, est float64, mem str
 		ts, _ := st.trainSettings(0)
 		est = 10 + float64(ts.Epochs)*snapshots*sites*2e-6/float64(cpus)
 		memMB += 2 * snapshots * sites / 1e6
+	case StageMatrix:
+		res, cpus = sl.Matrix, st.Scan.Threads
+		block := st.Scan.Block
+		if block <= 0 {
+			block = defaultBlock
+		}
+		rows := math.Min(snapshots, float64(block))
+		est = 10 + float64(st.Model.Ensemble)*rows*points*sites*1e-7/float64(cpus)
+		memMB += 2*snapshots*sites/1e6 + 8*rows*points*float64(st.Model.Ensemble)/1e6
 	case StageScan:
 		res, cpus = sl.ScanRes, st.Scan.Threads
 		est = 30 + float64(st.Model.Ensemble)*snapshots*points*sites*1e-7/float64(cpus)

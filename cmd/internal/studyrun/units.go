@@ -76,6 +76,16 @@ func (p *Plan) work(u Unit) (*work, error) {
 		return &work{settings: []any{ts, u.Member}, inputs: []string{in}, outputs: []string{out}, run: func(ctx context.Context) error {
 			return trainUnit(ctx, in, abs(out), ts)
 		}}, nil
+	case StageMatrix:
+		in := p.datasetOf(u.Size)
+		ins := []string{in}
+		for m := 1; m <= st.Model.Ensemble; m++ {
+			ins = append(ins, abs(modelPath(u.Size, m)))
+		}
+		out := matrixPath(u.Size, u.Block)
+		return &work{settings: []any{u.Lo, u.Hi}, inputs: ins, outputs: []string{out}, run: func(ctx context.Context) error {
+			return computeBlock(ctx, u, in, ins[1], abs(out), st.Scan.Threads)
+		}}, nil
 	case StageScan:
 		seed := deriveSeed(st.System.Seed, u.Name)
 		cfg, err := st.scanConfig(seed)
@@ -89,6 +99,13 @@ func (p *Plan) work(u Unit) (*work, error) {
 			ins = append(ins, abs(modelPath(u.Size, m)))
 			rels = append(rels, modelPath(u.Size, m))
 		}
+		var blocks []string
+		for _, mu := range p.Units[StageMatrix] {
+			if mu.Size == u.Size {
+				blocks = append(blocks, abs(matrixPath(u.Size, mu.Block)))
+			}
+		}
+		ins = append(ins, blocks...)
 		dataRel := p.datasetName(u.Size)
 		out := scanDir(u.Size)
 		return &work{settings: []any{st.Scan, seed}, inputs: ins, outputs: []string{out}, run: func(ctx context.Context) error {
@@ -96,8 +113,9 @@ func (p *Plan) work(u Unit) (*work, error) {
 			if err != nil {
 				return err
 			}
-			// Member 1's file stands for the whole ensemble.
-			sources, err := study.Sources(study.SourceModel, ds, in, ins[1:2])
+			// Member 1's file stands for the whole ensemble; the
+			// matrix of the data comes from the blocks.
+			sources, _, err := blockSources(ds, in, ins[1], blocks)
 			if err != nil {
 				return err
 			}
@@ -112,7 +130,7 @@ func (p *Plan) work(u Unit) (*work, error) {
 				return err
 			}
 			_, err = report.Write(abs(out), true, res, report.Info{Source: study.SourceModel, Data: dataRel, Models: rels,
-				Refine: cfg.Refine, Seed: cfg.Seed, Page: inputs.Page(in, ins[1:])})
+				Refine: cfg.Refine, Seed: cfg.Seed, Page: inputs.Page(in, ins[1:1+st.Model.Ensemble])})
 			return err
 		}}, nil
 	case StageFinish:

@@ -1,0 +1,287 @@
+package studyrun
+
+import (
+	"archive/zip"
+	"bytes"
+	"context"
+	"fmt"
+	"os"
+	"path/filepath"
+	"sync/atomic"
+
+	"codeberg.org/sbinet/npyio/npy"
+
+	"tidemark/data"
+	"tidemark/data/density"
+	"tidemark/data/safefile"
+	"tidemark/indicator/study"
+	"tidemark/model"
+)
+
+// defaultBlock is the number of snapshots of one matrix unit when the
+// study file does not say ([scan] block): small studies have one block.
+const defaultBlock = 100_000
+
+// snapshots returns the number of snapshots of size l's dataset: samples
+// per grid point times points, or the imported file's row count.
+func (p *Plan) snapshots(l int) (int, error) {
+	s := p.Study.System
+	if s.Kind != KindImport {
+		return s.Samples * p.Points, nil
+	}
+	path := p.datasetOf(l)
+	zr, err := zip.OpenReader(path)
+	if err != nil {
+		return 0, fmt.Errorf("%s: expected a dataset (.npz), found %w", path, err)
+	}
+	defer zr.Close()
+	for _, f := range zr.File {
+		if f.Name != "states.npy" {
+			continue
+		}
+		rc, err := f.Open()
+		if err != nil {
+			return 0, fmt.Errorf("%s: states: %w", path, err)
+		}
+		defer rc.Close()
+		r, err := npy.NewReader(rc)
+		if err != nil || len(r.Header.Descr.Shape) != 2 {
+			return 0, fmt.Errorf("%s: states: expected a 2-D NumPy array, found %v", path, err)
+		}
+		return r.Header.Descr.Shape[0], nil
+	}
+	return 0, fmt.Errorf("%s: expected a states array, found none", path)
+}
+
+// blocks splits size l's snapshots into the row ranges [lo, hi) of its
+// matrix units, [scan] block snapshots each (the last may be shorter).
+func (p *Plan) blocks(l int) ([][2]int, error) {
+	n, err := p.snapshots(l)
+	if err != nil {
+		return nil, err
+	}
+	size := p.Study.Scan.Block
+	if size <= 0 {
+		size = defaultBlock
+	}
+	var out [][2]int
+	for lo := 0; lo < n; lo += size {
+		out = append(out, [2]int{lo, min(lo+size, n)})
+	}
+	return out, nil
+}
+
+// modelSources opens the ensemble of size l (member 1's file stands for
+// all) as models fitted to ds.
+func modelSources(ds *data.Dataset, dataPath, member1 string) ([]*model.Model, error) {
+	srcs, err := study.Sources(study.SourceModel, ds, dataPath, []string{member1})
+	if err != nil {
+		return nil, err
+	}
+	var ms []*model.Model
+	for _, s := range srcs {
+		m, ok := s.(*model.Model)
+		if !ok {
+			return nil, fmt.Errorf("%s: expected trained models, found a %T", member1, s)
+		}
+		ms = append(ms, m)
+	}
+	return ms, nil
+}
+
+// computeBlock scores rows [u.Lo, u.Hi) of the dataset at dataPath at
+// every grid point with every member and writes them to out as an .npz:
+// "loglik" (members × rows × points, log p(x_m|λ_k) in nats), "points"
+// and "rows" (lo, hi).
+func computeBlock(ctx context.Context, u Unit, dataPath, member1, out string, threads int) error {
+	ds, err := data.Read(dataPath)
+	if err != nil {
+		return err
+	}
+	if u.Hi > ds.M {
+		return fmt.Errorf("%s: expected at least %d snapshots, found %d", dataPath, u.Hi, ds.M)
+	}
+	ms, err := modelSources(ds, dataPath, member1)
+	if err != nil {
+		return err
+	}
+	pts := data.NewGrid(ds).Points
+	xs := ds.States[u.Lo*ds.N : u.Hi*ds.N]
+	var all []float64
+	for _, m := range ms {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		l, err := m.LogProbMatrix(xs, u.Hi-u.Lo, pts, threads)
+		if err != nil {
+			return err
+		}
+		all = append(all, l...)
+	}
+	var flat []float64
+	for _, p := range pts {
+		flat = append(flat, p...)
+	}
+	var buf bytes.Buffer
+	err = data.WriteNPZ(&buf, zip.Store,
+		data.Float64Array("loglik", all, len(ms), u.Hi-u.Lo, len(pts)),
+		data.Float64Array("points", flat, len(pts), ds.D),
+		data.Float64Array("rows", []float64{float64(u.Lo), float64(u.Hi)}, 2))
+	if err != nil {
+		return err
+	}
+	if err := os.MkdirAll(filepath.Dir(out), 0o755); err != nil {
+		return err
+	}
+	return safefile.WriteBytes(out, true, buf.Bytes())
+}
+
+// readBlocks joins the matrix blocks of one size into each member's
+// n × K matrix (row-major) and returns them with the grid points.
+func readBlocks(paths []string, members, n int) ([][]float64, [][]float64, error) {
+	var mats [][]float64
+	var pts [][]float64
+	next := 0
+	for _, path := range paths {
+		arr, err := readNPZ(path)
+		if err != nil {
+			return nil, nil, err
+		}
+		ll, rows := arr["loglik"], arr["rows"]
+		if rows == nil || len(rows.v) != 2 || int(rows.v[0]) != next || ll == nil || len(ll.shape) != 3 ||
+			ll.shape[0] != members || ll.shape[1] != int(rows.v[1]-rows.v[0]) || arr["points"] == nil {
+			return nil, nil, fmt.Errorf("%s: expected the matrix of %d members from row %d, found another block", path, members, next)
+		}
+		K := ll.shape[2]
+		if pts == nil {
+			d := len(arr["points"].v) / max(K, 1)
+			for k := 0; k < K; k++ {
+				pts = append(pts, arr["points"].v[k*d:(k+1)*d])
+			}
+			mats = make([][]float64, members)
+		}
+		r := ll.shape[1]
+		for e := range mats {
+			mats[e] = append(mats[e], ll.v[e*r*K:(e+1)*r*K]...)
+		}
+		next += r
+	}
+	if next != n {
+		return nil, nil, fmt.Errorf("matrix blocks cover %d snapshots, the dataset has %d", next, n)
+	}
+	return mats, pts, nil
+}
+
+type npzArray struct {
+	shape []int
+	v     []float64
+}
+
+// readNPZ reads the float64 arrays of a matrix block.
+func readNPZ(path string) (map[string]*npzArray, error) {
+	zr, err := zip.OpenReader(path)
+	if err != nil {
+		return nil, fmt.Errorf("%s: expected a matrix block (.npz), found %w", path, err)
+	}
+	defer zr.Close()
+	out := map[string]*npzArray{}
+	for _, f := range zr.File {
+		rc, err := f.Open()
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", path, err)
+		}
+		r, err := npy.NewReader(rc)
+		a := &npzArray{}
+		if err == nil {
+			a.shape = r.Header.Descr.Shape
+			err = r.Read(&a.v)
+		}
+		rc.Close()
+		if err != nil {
+			return nil, fmt.Errorf("%s: %s: %w", path, f.Name, err)
+		}
+		out[f.Name[:len(f.Name)-len(".npy")]] = a
+	}
+	return out, nil
+}
+
+// blockSource is a trained model whose log-likelihood matrix of the
+// dataset's own snapshots at the grid points is already computed (by the
+// matrix units). LogProbMatrix returns those rows when asked for a run of
+// the dataset's snapshots, byte for byte, at exactly the grid points in
+// order; every other request (derivatives, refinement, drawn samples) goes
+// to the model.
+type blockSource struct {
+	*model.Model
+	states []uint8
+	mat    []float64
+	pts    [][]float64
+	hits   atomic.Int64 // requests served from the blocks
+}
+
+var _ density.MatrixSource = (*blockSource)(nil)
+
+// LogProbMatrix returns the precomputed rows of xs when they are rows of
+// the dataset at the grid points, and asks the model otherwise.
+func (b *blockSource) LogProbMatrix(xs []uint8, n int, lambdas [][]float64, threads int) ([]float64, error) {
+	K := len(b.pts)
+	if lo, ok := b.rowsOf(xs, n); ok && samePoints(lambdas, b.pts) {
+		b.hits.Add(1)
+		return append([]float64(nil), b.mat[lo*K:(lo+n)*K]...), nil
+	}
+	return b.Model.LogProbMatrix(xs, n, lambdas, threads)
+}
+
+// rowsOf returns the first row of xs within the dataset when xs is a
+// slice of the dataset's states (the scan scores them in place) holding
+// exactly the same bytes.
+func (b *blockSource) rowsOf(xs []uint8, n int) (int, bool) {
+	N := b.Sites()
+	if n <= 0 || len(xs) != n*N || cap(xs) > len(b.states) {
+		return 0, false
+	}
+	// The scan slices the states with their length as capacity, so the
+	// capacity left tells the offset; the bytes are checked all the same.
+	off := len(b.states) - cap(xs)
+	if off%N != 0 || off+len(xs) > len(b.states) || !bytes.Equal(xs, b.states[off:off+len(xs)]) {
+		return 0, false
+	}
+	return off / N, true
+}
+
+func samePoints(a, b [][]float64) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for k := range a {
+		if len(a[k]) != len(b[k]) {
+			return false
+		}
+		for i := range a[k] {
+			if a[k][i] != b[k][i] {
+				return false
+			}
+		}
+	}
+	return true
+}
+
+// blockSources opens the ensemble and serves its matrix from the blocks.
+func blockSources(ds *data.Dataset, dataPath, member1 string, blocks []string) ([]density.Source, []*blockSource, error) {
+	ms, err := modelSources(ds, dataPath, member1)
+	if err != nil {
+		return nil, nil, err
+	}
+	mats, pts, err := readBlocks(blocks, len(ms), ds.M)
+	if err != nil {
+		return nil, nil, err
+	}
+	var srcs []density.Source
+	var bs []*blockSource
+	for e, m := range ms {
+		b := &blockSource{Model: m, states: ds.States, mat: mats[e], pts: pts}
+		srcs = append(srcs, b)
+		bs = append(bs, b)
+	}
+	return srcs, bs, nil
+}
