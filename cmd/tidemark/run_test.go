@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"fmt"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -55,7 +56,7 @@ func TestRunLocalParallel(t *testing.T) {
 		t.Error("summary.json of --parallel 2 differs from the local run's")
 	}
 	r := mustRunBin(t, dir, "run", "study.toml", "-o", "par", "--parallel", "2")
-	if !strings.Contains(r.stdout, "0 units ran, 34 were up to date") {
+	if !strings.Contains(r.stdout, "0 units ran, 37 were up to date") {
 		t.Errorf("rerunning a finished study ran units:\n%s", r.stdout)
 	}
 }
@@ -69,7 +70,7 @@ func runLocal(t *testing.T) string {
 		t.Fatal(err)
 	}
 	r := mustRunBin(t, dir, "run", "study.toml", "-o", "local")
-	if !strings.Contains(r.stdout, "[34/34] finish (finish:0): done") || !strings.Contains(r.stdout, "34 units ran, 0 were up to date") {
+	if !strings.Contains(r.stdout, "[37/37] finish (finish:0): done") || !strings.Contains(r.stdout, "37 units ran, 0 were up to date") {
 		t.Errorf("local run's progress lines:\n%s", r.stdout)
 	}
 	return dir
@@ -115,18 +116,18 @@ func TestRunInterrupted(t *testing.T) {
 				t.Fatalf("run stopped by SIGINT: exit status %d, want 130", code)
 			}
 			stamps, _ := filepath.Glob(filepath.Join(stampDir, "*.json"))
-			if len(stamps) >= 34 {
+			if len(stamps) >= 37 {
 				t.Fatalf("the run finished before the signal (%d stamps)", len(stamps))
 			}
 			r := mustRunBin(t, dir, "run", "study.toml", "-o", "out")
 			for _, s := range stamps {
 				name := strings.ReplaceAll(strings.TrimSuffix(filepath.Base(s), ".json"), "_", "/")
-				if !regexp.MustCompile(`(?m)^\[\d+/34\] ` + regexp.QuoteMeta(name) + ` \(\S+\): up to date, skipped$`).MatchString(r.stdout) {
+				if !regexp.MustCompile(`(?m)^\[\d+/37\] ` + regexp.QuoteMeta(name) + ` \(\S+\): up to date, skipped$`).MatchString(r.stdout) {
 					t.Errorf("the rerun did not skip %s, which the first run finished", name)
 				}
 			}
-			if ran := strings.Count(r.stdout, ": done in"); ran+len(stamps) != 34 {
-				t.Errorf("the first run finished %d units, the rerun ran %d: want 34 together\n%s", len(stamps), ran, r.stdout)
+			if ran := strings.Count(r.stdout, ": done in"); ran+len(stamps) != 37 {
+				t.Errorf("the first run finished %d units, the rerun ran %d: want 37 together\n%s", len(stamps), ran, r.stdout)
 			}
 		})
 	}
@@ -157,5 +158,43 @@ func TestRunBadStudyFile(t *testing.T) {
 				t.Error("a bad study file left an output folder")
 			}
 		})
+	}
+}
+
+// TestRunLocked starts a study and, while it runs, a second run into the
+// same folder: the second refuses with exit status 2 and one line naming
+// the folder and the first run's process id, and writes nothing.
+func TestRunLocked(t *testing.T) {
+	if testing.Short() {
+		t.Skip("starts a small study")
+	}
+	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "study.toml"), []byte(runStudy), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	first := exec.Command(tidemarkBin(t), "run", "study.toml", "-o", "out", "--quiet")
+	first.Dir = dir
+	if err := first.Start(); err != nil {
+		t.Fatal(err)
+	}
+	defer func() {
+		first.Process.Signal(syscall.SIGINT)
+		first.Wait()
+	}()
+	pid := fmt.Sprint(first.Process.Pid)
+	for deadline := time.Now().Add(30 * time.Second); ; time.Sleep(2 * time.Millisecond) {
+		if b, _ := os.ReadFile(filepath.Join(dir, "out", ".lock")); strings.TrimSpace(string(b)) == pid {
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Fatal("the first run did not take its lock")
+		}
+	}
+	r := runBin(t, dir, "run", "study.toml", "-o", "out")
+	if r.status != 2 {
+		t.Errorf("second run: exit status %d, want 2", r.status)
+	}
+	if want := "run: out: in use by another run (pid " + pid + ")"; strings.Count(r.stderr, "\n") != 1 || !strings.Contains(r.stderr, want) {
+		t.Errorf("second run: stderr %q, want one line with %q", r.stderr, want)
 	}
 }

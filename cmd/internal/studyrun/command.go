@@ -93,6 +93,16 @@ func (c *Command) Run(ctx context.Context) error {
 	if err != nil {
 		return err
 	}
+	if err := os.MkdirAll(c.Out, 0o755); err != nil {
+		return fmt.Errorf("run: %w", err)
+	}
+	// One run at a time writes into a folder; its units (--unit, in other
+	// processes) lock each unit instead.
+	release, err := lockFile(filepath.Join(c.Out, lockPath), false)
+	if err != nil {
+		return fmt.Errorf("run: %s: %w; wait for it to end or stop it", c.Out, err)
+	}
+	defer release()
 	if c.Slurm || c.DryRun {
 		return plan.Slurm(ctx, SlurmOptions{Command: self, Submit: !c.DryRun, Log: c.Stdout})
 	}

@@ -1,6 +1,7 @@
 package studyrun
 
 import (
+	"errors"
 	"fmt"
 	"path/filepath"
 	"strconv"
@@ -214,3 +215,12 @@ func (p *Plan) importPath(path string) string {
 	}
 	return filepath.Join(filepath.Dir(p.Study.path), path)
 }
+
+// errLocked is the error of a lock another process holds.
+var errLocked = errors.New("in use by another run")
+
+// lockPath is the lock of the output folder a top-level run holds.
+const lockPath = ".lock"
+
+// unitLockPath is the lock a unit holds while it runs.
+func unitLockPath(name string) string { return stampPath(name) + ".lock" }

@@ -98,6 +98,16 @@ func (p *Plan) RunUnit(ctx context.Context, u Unit) (ran bool, err error) {
 	if upToDate(p.Out, u.Name, fp) {
 		return false, nil
 	}
+	// Two processes never run one unit at once (two Slurm tasks, or a task
+	// beside a local run): the second waits, then finds it done.
+	release, err := lockFile(filepath.Join(p.Out, unitLockPath(u.Name)), true)
+	if err != nil {
+		return false, fmt.Errorf("%s: %w", u.Name, err)
+	}
+	defer release()
+	if upToDate(p.Out, u.Name, fp) {
+		return false, nil
+	}
 	if err := os.Remove(filepath.Join(p.Out, stampPath(u.Name))); err != nil && !errors.Is(err, os.ErrNotExist) {
 		return false, err
 	}
