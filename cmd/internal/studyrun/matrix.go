@@ -134,10 +134,11 @@ func computeBlock(ctx context.Context, u Unit, dataPath, member1, out string, th
 	return safefile.WriteBytes(out, true, buf.Bytes())
 }
 
-// readBlocks joins the matrix blocks of one size into each member's
-// n × K matrix (row-major) and returns them with the grid points.
-func readBlocks(paths []string, members, n int) ([][]float64, [][]float64, error) {
-	var mats [][]float64
+// readBlocks joins the matrix blocks of one size into member e's (from 0)
+// n × K matrix (row-major) and returns it with the grid points, checking
+// that the blocks hold members members and cover the n rows in order.
+func readBlocks(paths []string, members, e, n int) ([]float64, [][]float64, error) {
+	var mat []float64
 	var pts [][]float64
 	next := 0
 	for _, path := range paths {
@@ -156,18 +157,15 @@ func readBlocks(paths []string, members, n int) ([][]float64, [][]float64, error
 			for k := 0; k < K; k++ {
 				pts = append(pts, arr["points"].v[k*d:(k+1)*d])
 			}
-			mats = make([][]float64, members)
 		}
 		r := ll.shape[1]
-		for e := range mats {
-			mats[e] = append(mats[e], ll.v[e*r*K:(e+1)*r*K]...)
-		}
+		mat = append(mat, ll.v[e*r*K:(e+1)*r*K]...)
 		next += r
 	}
 	if next != n {
 		return nil, nil, fmt.Errorf("matrix blocks cover %d snapshots, the dataset has %d", next, n)
 	}
-	return mats, pts, nil
+	return mat, pts, nil
 }
 
 type npzArray struct {

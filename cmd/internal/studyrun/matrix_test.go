@@ -109,6 +109,8 @@ func TestMatrixBlocks(t *testing.T) {
 		return dir
 	}
 	plainDir, blockDir := scanTo(plain), scanTo(fromBlocks)
+	// Served whole, the blocks were dropped: a second scan asks the models.
+	againDir := scanTo(fromBlocks)
 	for i, b := range bs {
 		if b.hits.Load() == 0 {
 			t.Errorf("member %d: the scan never took its matrix from the blocks", i+1)
@@ -119,6 +121,7 @@ func TestMatrixBlocks(t *testing.T) {
 		{summaryFile, filepath.Join(outOne, scanDir(6)), filepath.Join(outMany, scanDir(6))},
 		{summaryFile, outOne, outMany},
 		{"indicators.csv", plainDir, blockDir},
+		{"indicators.csv", plainDir, againDir},
 		{"indicators.csv", plainDir, filepath.Join(outOne, scanDir(6))},
 	} {
 		a, err1 := os.ReadFile(filepath.Join(c.a, c.name))
