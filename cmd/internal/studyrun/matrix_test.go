@@ -35,14 +35,23 @@ enabled = false
 
 // TestMatrixBlocks checks that the scan's results do not depend on how its
 // log-likelihood matrix was split into units: one block, blocks of 37
-// snapshots (not a multiple of the model kernel's 64 rows, so kernel
+// snapshots (not a multiple of the model kernels' row blocks, so kernel
 // blocks straddle unit boundaries), and the plain scan that computes the
 // matrix itself give the same indicators.csv and summary.json, byte for
-// byte; and that the scan did take its matrix from the blocks.
+// byte; and that the scan did take its matrix from the blocks. Both
+// architectures are checked, since each has its own scoring kernel.
 func TestMatrixBlocks(t *testing.T) {
 	if testing.Short() {
-		t.Skip("trains two small models")
+		t.Skip("trains small models")
 	}
+	for _, arch := range []string{"dense", "conv"} {
+		t.Run(arch, func(t *testing.T) {
+			testMatrixBlocks(t, strings.Replace(blockStudy, "[model]\n", "[model]\narch = \""+arch+"\"\n", 1))
+		})
+	}
+}
+
+func testMatrixBlocks(t *testing.T, blockStudy string) {
 	one, outOne := loadSmall(t, blockStudy)
 	if _, err := Run(context.Background(), one, Options{}); err != nil {
 		t.Fatal(err)
