@@ -142,11 +142,11 @@ func (c *Command) command() ([]string, error) {
 const Help = `run carries out the study that STUDY.toml describes ([system], [model], [scan],
 and optionally [extrapolate] and [slurm]; see the README) as independent units:
 one per grid point and size (simulate), per size (gather, scan), per ensemble
-member and size (train), per block of [scan] block snapshots and size (matrix:
-the scan's log-likelihoods, which the scan then reads), and one that extrapolates and writes OUT/summary.json
-and OUT/report.html. Every unit writes its outputs atomically and then a stamp
-of its inputs' fingerprint; a unit whose stamp matches is skipped, so a run
-that was stopped resumes where it stopped. Results do not depend on how the
+member and size (train), per size and block of [scan] block snapshots (matrix:
+the log-likelihoods the scan reads), and one that extrapolates and writes
+OUT/summary.json and OUT/report.html. Every unit writes its outputs
+atomically and then a stamp of its inputs' fingerprint; a unit whose stamp
+matches is skipped, so a run that was stopped resumes where it stopped. Results do not depend on how the
 units run: one by one, in --parallel processes, or as Slurm job arrays
 (--slurm; each array task runs "tidemark run STUDY.toml -o OUT/ --unit STAGE:A-B").
 One run at a time writes into OUT/ (it holds OUT/.lock); units run with --unit
