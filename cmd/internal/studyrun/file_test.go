@@ -64,6 +64,8 @@ func TestLoadErrors(t *testing.T) {
 			[]string{":11:", "model.hidden", "at least 1 unit"}},
 		{"missing import", "[system]\nkind = \"import\"\nsizes = [4, 6, 8]\ndatasets = [\"a.npz\", \"b.npz\", \"c.npz\"]\n[model]\n[scan]\n",
 			[]string{":4:", "system.datasets", "a.npz: no such file"}},
+		{"bad block", strings.Replace(smallStudy, "bootstrap = 10", "bootstrap = 10\nblock = -5", 1),
+			[]string{":15:", "scan.block", "found -5"}},
 		{"bad ensemble", strings.Replace(smallStudy, "ensemble = 2", "ensemble = -1", 1),
 			[]string{":9:", "model.ensemble"}},
 	} {

@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"strings"
 
 	"codeberg.org/sbinet/npyio/npy"
 
@@ -19,6 +20,17 @@ import (
 // defaultBlock is the number of snapshots of one matrix unit when the
 // study file does not say ([scan] block): small studies have one block.
 const defaultBlock = 100_000
+
+// check refuses [scan] indicators and block values no scan can use.
+func (sc *Scan) check() *keyErr {
+	if _, err := study.ParseIndicators(strings.Join(sc.Indicators, ",")); err != nil {
+		return bad("scan", "indicators", "%v", err)
+	}
+	if sc.Block < 0 {
+		return bad("scan", "block", "expected at least 1 snapshot per block (or 0 for the default), found %d", sc.Block)
+	}
+	return nil
+}
 
 // snapshots returns the number of snapshots of size l's dataset: samples
 // per grid point times points, or the imported file's row count.

@@ -110,8 +110,8 @@ func (st *Study) check() *keyErr {
 	if sc.Window == 0 {
 		sc.Window = 1
 	}
-	if _, err := study.ParseIndicators(strings.Join(sc.Indicators, ",")); err != nil {
-		return bad("scan", "indicators", "%v", err)
+	if e := sc.check(); e != nil {
+		return e
 	}
 	if cfg, err := st.scanConfig(0); err != nil {
 		return bad("scan", "threads", "%v", err)
