@@ -59,18 +59,21 @@ type Checkpoint struct {
 	Average []model.Tensor
 }
 
-// Model returns the model with the best weights.
+// Model returns the model with the best weights, a copy of them (made by
+// model.FromWeights; a second clone here would only be garbage of the
+// size of the weights).
 func (c *Checkpoint) Model() (*model.Model, error) {
-	m, err := model.FromWeights(c.Header.Model, cloneTensors(c.Best))
+	m, err := model.FromWeights(c.Header.Model, c.Best)
 	if err != nil {
 		return nil, fmt.Errorf("checkpoint best weights: %w", err)
 	}
 	return m, nil
 }
 
-// LastModel returns the model with the weights of the last completed epoch.
+// LastModel returns the model with a copy of the weights of the last
+// completed epoch.
 func (c *Checkpoint) LastModel() (*model.Model, error) {
-	m, err := model.FromWeights(c.Header.Model, cloneTensors(c.Last))
+	m, err := model.FromWeights(c.Header.Model, c.Last)
 	if err != nil {
 		return nil, fmt.Errorf("checkpoint last weights: %w", err)
 	}
@@ -84,14 +87,6 @@ func (c *Checkpoint) NumParams() int {
 		n += len(t.Data)
 	}
 	return n
-}
-
-func cloneTensors(ts []model.Tensor) []model.Tensor {
-	out := make([]model.Tensor, len(ts))
-	for i, t := range ts {
-		out[i] = model.Tensor{Name: t.Name, Shape: slices.Clone(t.Shape), Data: slices.Clone(t.Data)}
-	}
-	return out
 }
 
 // Fingerprint returns the hex SHA-256 of a dataset's states bytes followed
