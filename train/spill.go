@@ -12,7 +12,9 @@ import (
 // temporary file instead of memory: at 4096 sites the weights, both Adam
 // moments and the moving average are 18.6 M values each, and three
 // in-memory copies of them cost 450 MB for the whole run. Below it the
-// copy is cheaper than the file.
+// copy is cheaper than the file. The file is made in os.TempDir (TMPDIR);
+// where that is a tmpfs, the copy stays in memory after all, only outside
+// the process's heap.
 var spillValues = 4 << 20 // a variable so that tests can send small models to the file
 
 // spill is the saved state of the arrays in a temporary file, read back by
