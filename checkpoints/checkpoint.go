@@ -1,6 +1,7 @@
 package checkpoints
 
 import (
+	"bufio"
 	"bytes"
 	"crypto/sha256"
 	"encoding/binary"
@@ -58,18 +59,21 @@ type Checkpoint struct {
 	Average []model.Tensor
 }
 
-// Model returns the model with the best weights.
+// Model returns the model with the best weights, a copy of them (made by
+// model.FromWeights; a second clone here would only be garbage of the
+// size of the weights).
 func (c *Checkpoint) Model() (*model.Model, error) {
-	m, err := model.FromWeights(c.Header.Model, cloneTensors(c.Best))
+	m, err := model.FromWeights(c.Header.Model, c.Best)
 	if err != nil {
 		return nil, fmt.Errorf("checkpoint best weights: %w", err)
 	}
 	return m, nil
 }
 
-// LastModel returns the model with the weights of the last completed epoch.
+// LastModel returns the model with a copy of the weights of the last
+// completed epoch.
 func (c *Checkpoint) LastModel() (*model.Model, error) {
-	m, err := model.FromWeights(c.Header.Model, cloneTensors(c.Last))
+	m, err := model.FromWeights(c.Header.Model, c.Last)
 	if err != nil {
 		return nil, fmt.Errorf("checkpoint last weights: %w", err)
 	}
@@ -83,14 +87,6 @@ func (c *Checkpoint) NumParams() int {
 		n += len(t.Data)
 	}
 	return n
-}
-
-func cloneTensors(ts []model.Tensor) []model.Tensor {
-	out := make([]model.Tensor, len(ts))
-	for i, t := range ts {
-		out[i] = model.Tensor{Name: t.Name, Shape: slices.Clone(t.Shape), Data: slices.Clone(t.Data)}
-	}
-	return out
 }
 
 // Fingerprint returns the hex SHA-256 of a dataset's states bytes followed
@@ -157,59 +153,77 @@ func (c *Checkpoint) sections() []struct {
 }
 
 // Encode writes the checkpoint in format Version to w. It fills
-// Header.Sections from the tensors.
+// Header.Sections from the tensors. The payload is streamed through a small
+// buffer, never held as a second copy of the weights in memory (at 4096
+// sites the tensors of one checkpoint take over 600 MB).
 func (c *Checkpoint) Encode(w io.Writer) error {
-	b, err := c.Bytes()
+	hdr, payload, err := c.prepareHeader()
 	if err != nil {
 		return err
 	}
-	_, err = w.Write(b)
+	h := sha256.New()
+	bw := bufio.NewWriterSize(io.MultiWriter(w, h), 1<<16)
+	pre := make([]byte, 0, preambleLen)
+	pre = append(pre, Magic...)
+	pre = binary.LittleEndian.AppendUint32(pre, Version)
+	pre = binary.LittleEndian.AppendUint64(pre, uint64(len(hdr)))
+	pre = binary.LittleEndian.AppendUint64(pre, uint64(payload))
+	bw.Write(pre)
+	bw.Write(hdr)
+	var buf [8]byte
+	for _, s := range c.sections() {
+		for _, t := range s.ts {
+			for _, v := range t.Data {
+				binary.LittleEndian.PutUint64(buf[:], math.Float64bits(v))
+				bw.Write(buf[:])
+			}
+		}
+	}
+	if err := bw.Flush(); err != nil {
+		return err
+	}
+	_, err = w.Write(h.Sum(nil))
 	return err
 }
 
 // Bytes returns the encoded checkpoint.
 func (c *Checkpoint) Bytes() ([]byte, error) {
+	var b bytes.Buffer
+	if err := c.Encode(&b); err != nil {
+		return nil, err
+	}
+	return b.Bytes(), nil
+}
+
+// prepareHeader checks the sections, fills Header.Sections and returns the
+// JSON header and the payload length in bytes.
+func (c *Checkpoint) prepareHeader() (hdr []byte, payload int, err error) {
 	if len(c.Best) == 0 {
-		return nil, errors.New("checkpoint has no weights")
+		return nil, 0, errors.New("checkpoint has no weights")
 	}
 	c.Header.Sections = c.Header.Sections[:0]
-	payload := 0
 	for _, s := range c.sections() {
 		sec := Section{Name: s.name}
 		if len(s.ts) != len(c.Best) {
-			return nil, fmt.Errorf("checkpoint section %q has %d tensors, expected %d like %q", s.name, len(s.ts), len(c.Best), SectionBest)
+			return nil, 0, fmt.Errorf("checkpoint section %q has %d tensors, expected %d like %q", s.name, len(s.ts), len(c.Best), SectionBest)
 		}
 		for i, t := range s.ts {
 			if t.Name != c.Best[i].Name || !slices.Equal(t.Shape, c.Best[i].Shape) {
-				return nil, fmt.Errorf("checkpoint section %q tensor %d is %s%v, expected %s%v", s.name, i, t.Name, t.Shape, c.Best[i].Name, c.Best[i].Shape)
+				return nil, 0, fmt.Errorf("checkpoint section %q tensor %d is %s%v, expected %s%v", s.name, i, t.Name, t.Shape, c.Best[i].Name, c.Best[i].Shape)
 			}
 			if n := shapeLen(t.Shape); n != len(t.Data) {
-				return nil, fmt.Errorf("checkpoint section %q tensor %s: shape %v needs %d values, found %d", s.name, t.Name, t.Shape, n, len(t.Data))
+				return nil, 0, fmt.Errorf("checkpoint section %q tensor %s: shape %v needs %d values, found %d", s.name, t.Name, t.Shape, n, len(t.Data))
 			}
 			sec.Tensors = append(sec.Tensors, TensorInfo{Name: t.Name, Shape: slices.Clone(t.Shape)})
 			payload += 8 * len(t.Data)
 		}
 		c.Header.Sections = append(c.Header.Sections, sec)
 	}
-	hdr, err := json.Marshal(&c.Header)
+	hdr, err = json.Marshal(&c.Header)
 	if err != nil {
-		return nil, fmt.Errorf("encoding checkpoint header: %w", err)
+		return nil, 0, fmt.Errorf("encoding checkpoint header: %w", err)
 	}
-	out := make([]byte, 0, preambleLen+len(hdr)+payload+sha256.Size)
-	out = append(out, Magic...)
-	out = binary.LittleEndian.AppendUint32(out, Version)
-	out = binary.LittleEndian.AppendUint64(out, uint64(len(hdr)))
-	out = binary.LittleEndian.AppendUint64(out, uint64(payload))
-	out = append(out, hdr...)
-	for _, s := range c.sections() {
-		for _, t := range s.ts {
-			for _, v := range t.Data {
-				out = binary.LittleEndian.AppendUint64(out, math.Float64bits(v))
-			}
-		}
-	}
-	sum := sha256.Sum256(out)
-	return append(out, sum[:]...), nil
+	return hdr, payload, nil
 }
 
 func shapeLen(shape []int) int {
@@ -226,38 +240,71 @@ func shapeLen(shape []int) int {
 // Save writes the checkpoint atomically to path; an existing file is
 // replaced only when force is true.
 func (c *Checkpoint) Save(path string, force bool) error {
-	b, err := c.Bytes()
-	if err != nil {
+	// Checked before the file is created, so a bad checkpoint leaves no
+	// temporary file behind and its error names the path once.
+	if _, _, err := c.prepareHeader(); err != nil {
 		return fmt.Errorf("%s: %w", path, err)
 	}
-	return safefile.WriteBytes(path, force, b)
+	return safefile.Write(path, force, c.Encode)
 }
 
-// Load reads and checks a checkpoint file.
+// Load reads and checks a checkpoint file. The file is read twice in
+// pieces (once for the checksum, once to decode), never held whole in
+// memory beside its tensors.
 func Load(path string) (*Checkpoint, error) {
-	b, err := os.ReadFile(path)
-	if err != nil {
-		var pe *os.PathError
-		if errors.As(err, &pe) {
-			err = pe.Err
+	f, err := os.Open(path)
+	if err == nil {
+		defer f.Close()
+		var fi os.FileInfo
+		if fi, err = f.Stat(); err == nil {
+			var c *Checkpoint
+			c, err = decode(f, fi.Size(), path)
+			var re readError
+			if !errors.As(err, &re) {
+				return c, err
+			}
+			err = re.err
 		}
-		return nil, fmt.Errorf("%s: cannot read checkpoint: %w", path, err)
 	}
-	return Decode(b, path)
+	var pe *os.PathError
+	if errors.As(err, &pe) {
+		err = pe.Err
+	}
+	return nil, fmt.Errorf("%s: cannot read checkpoint: %w", path, err)
 }
+
+// readError is a failure to read the source, not a fault of its content.
+type readError struct{ err error }
+
+func (e readError) Error() string { return e.err.Error() }
 
 // Decode parses an encoded checkpoint; name is used in messages. The error
 // wraps ErrMagic, ErrVersion, ErrLength, ErrChecksum or ErrHeader.
 func Decode(b []byte, name string) (*Checkpoint, error) {
+	c, err := decode(bytes.NewReader(b), int64(len(b)), name)
+	var re readError
+	if errors.As(err, &re) {
+		return nil, re.err
+	}
+	return c, err
+}
+
+// decode is Decode from size bytes of ra; failures to read are returned
+// as readError.
+func decode(ra io.ReaderAt, size int64, name string) (*Checkpoint, error) {
 	fail := func(kind error, format string, args ...any) error {
 		return fmt.Errorf("%s: %w: %s", name, kind, fmt.Sprintf(format, args...))
+	}
+	b := make([]byte, min(size, preambleLen))
+	if _, err := ra.ReadAt(b, 0); err != nil && len(b) > 0 {
+		return nil, readError{err}
 	}
 	if len(b) < len(Magic) || !bytes.Equal(b[:len(Magic)], []byte(Magic)) {
 		n := min(len(b), len(Magic))
 		return nil, fail(ErrMagic, "expected the file to start with %q, found %q", Magic, b[:n])
 	}
-	if len(b) < preambleLen+sha256.Size {
-		return nil, fail(ErrLength, "expected at least %d bytes, found %d", preambleLen+sha256.Size, len(b))
+	if size < preambleLen+sha256.Size {
+		return nil, fail(ErrLength, "expected at least %d bytes, found %d", preambleLen+sha256.Size, size)
 	}
 	ver := binary.LittleEndian.Uint32(b[8:12])
 	if ver > Version {
@@ -268,20 +315,42 @@ func Decode(b []byte, name string) (*Checkpoint, error) {
 	}
 	hlen := binary.LittleEndian.Uint64(b[12:20])
 	plen := binary.LittleEndian.Uint64(b[20:28])
-	if hlen > maxHeaderLen || plen > uint64(len(b)) || plen%8 != 0 {
-		return nil, fail(ErrLength, "the recorded header length %d and payload length %d do not fit a file of %d bytes", hlen, plen, len(b))
+	if hlen > maxHeaderLen || plen > uint64(size) || plen%8 != 0 {
+		return nil, fail(ErrLength, "the recorded header length %d and payload length %d do not fit a file of %d bytes", hlen, plen, size)
 	}
 	want := uint64(preambleLen) + hlen + plen + sha256.Size
-	if want != uint64(len(b)) {
-		return nil, fail(ErrLength, "expected %d bytes (header %d, payload %d), found %d", want, hlen, plen, len(b))
+	if want != uint64(size) {
+		return nil, fail(ErrLength, "expected %d bytes (header %d, payload %d), found %d", want, hlen, plen, size)
 	}
-	body := b[:len(b)-sha256.Size]
-	sum := sha256.Sum256(body)
-	if !bytes.Equal(sum[:], b[len(body):]) {
-		return nil, fail(ErrChecksum, "expected SHA-256 %x, found %x recorded", b[len(body):], sum)
+	bodyLen := size - sha256.Size
+	h := sha256.New()
+	if _, err := io.Copy(h, io.NewSectionReader(ra, 0, bodyLen)); err != nil {
+		return nil, readError{err}
 	}
+	sum := h.Sum(nil)
+	rec := make([]byte, sha256.Size)
+	if _, err := ra.ReadAt(rec, bodyLen); err != nil {
+		return nil, readError{err}
+	}
+	if !bytes.Equal(sum, rec) {
+		return nil, fail(ErrChecksum, "expected SHA-256 %x, found %x recorded", rec, sum)
+	}
+	hdr := make([]byte, hlen)
+	if _, err := ra.ReadAt(hdr, preambleLen); err != nil {
+		return nil, readError{err}
+	}
+	pay := bufio.NewReaderSize(io.NewSectionReader(ra, preambleLen+int64(hlen), int64(plen)), 1<<16)
+	c, err := decodeBody(hdr, pay, int(plen), fail)
+	if err != nil {
+		return nil, err
+	}
+	return c, nil
+}
+
+// decodeBody parses the JSON header hdr and the plen payload bytes read
+// from pay.
+func decodeBody(hdr []byte, pay *bufio.Reader, plen int, fail func(kind error, format string, args ...any) error) (*Checkpoint, error) {
 	c := &Checkpoint{}
-	hdr := b[preambleLen : preambleLen+hlen]
 	if err := json.Unmarshal(hdr, &c.Header); err != nil {
 		return nil, fail(ErrHeader, "expected a JSON object: %v", err)
 	}
@@ -291,8 +360,8 @@ func Decode(b []byte, name string) (*Checkpoint, error) {
 	if err := c.Header.Ensemble.Check(); err != nil {
 		return nil, fail(ErrHeader, "%v", err)
 	}
-	pay := b[preambleLen+hlen : len(body)]
 	off := 0
+	chunk := make([]byte, 1<<16)
 	if len(c.Header.Sections) < 2 {
 		return nil, fail(ErrHeader, "expected at least the sections %q and %q, found %d sections", SectionBest, SectionLast, len(c.Header.Sections))
 	}
@@ -300,13 +369,20 @@ func Decode(b []byte, name string) (*Checkpoint, error) {
 		var ts []model.Tensor
 		for _, ti := range s.Tensors {
 			n := shapeLen(ti.Shape)
-			if n < 0 || n > (len(pay)-off)/8 {
-				return nil, fail(ErrHeader, "section %q tensor %s with shape %v does not fit in the %d-byte payload", s.Name, ti.Name, ti.Shape, len(pay))
+			if n < 0 || n > (plen-off)/8 {
+				return nil, fail(ErrHeader, "section %q tensor %s with shape %v does not fit in the %d-byte payload", s.Name, ti.Name, ti.Shape, plen)
 			}
 			d := make([]float64, n)
-			for i := range d {
-				d[i] = math.Float64frombits(binary.LittleEndian.Uint64(pay[off:]))
-				off += 8
+			for i := 0; i < n; {
+				k := min(n-i, len(chunk)/8)
+				if _, err := io.ReadFull(pay, chunk[:8*k]); err != nil {
+					return nil, readError{err}
+				}
+				for j := range k {
+					d[i+j] = math.Float64frombits(binary.LittleEndian.Uint64(chunk[8*j:]))
+				}
+				i += k
+				off += 8 * k
 			}
 			ts = append(ts, model.Tensor{Name: ti.Name, Shape: slices.Clone(ti.Shape), Data: d})
 		}
@@ -325,8 +401,8 @@ func Decode(b []byte, name string) (*Checkpoint, error) {
 			return nil, fail(ErrHeader, "unknown payload section %q", s.Name)
 		}
 	}
-	if off != len(pay) {
-		return nil, fail(ErrHeader, "the sections describe %d payload bytes, the file holds %d", off, len(pay))
+	if off != plen {
+		return nil, fail(ErrHeader, "the sections describe %d payload bytes, the file holds %d", off, plen)
 	}
 	if len(c.Best) == 0 || len(c.Last) != len(c.Best) {
 		return nil, fail(ErrHeader, "expected sections %q and %q with the same tensors, found %d and %d tensors", SectionBest, SectionLast, len(c.Best), len(c.Last))

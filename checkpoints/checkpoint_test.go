@@ -188,3 +188,11 @@ func TestFingerprint(t *testing.T) {
 		t.Fatalf("fingerprint %s, want %s", a, want)
 	}
 }
+
+func cloneTensors(ts []model.Tensor) []model.Tensor {
+	out := make([]model.Tensor, len(ts))
+	for i, t := range ts {
+		out[i] = model.Tensor{Name: t.Name, Shape: slices.Clone(t.Shape), Data: slices.Clone(t.Data)}
+	}
+	return out
+}

@@ -15,7 +15,11 @@ type BatchGraph struct {
 	m      *Model
 	batch  int
 	graphs []*Graph
-	grads  [][][]float64 // per graph when there are several
+	// grads are the private gradient arrays of graphs 1… when there are
+	// several (grads[0] is nil): graph 0 writes into the caller's arrays,
+	// which the combination then updates in place, saving a copy of every
+	// weight (134 MB for the direct connection at 4096 sites).
+	grads  [][][]float64
 	losses []float64
 	errs   []error
 	jobs   [][]prepJob // per thread: the column blocks it prepares
@@ -82,11 +86,13 @@ func NewBatchGraph(m *Model, batch, threads int) (*BatchGraph, error) {
 			}
 		}
 	}
-	for _, g := range bg.graphs {
+	for t, g := range bg.graphs {
 		g.prepared = true
 		for _, mls := range g.byWeight {
 			for _, ml := range mls {
-				ml.privDst = true
+				// Graph 0 writes the caller's arrays, which the caller may
+				// change between calls: it writes their zeros every time.
+				ml.privDst = t > 0
 			}
 		}
 		for w, mls := range g.byWeight {
@@ -127,7 +133,8 @@ func NewBatchGraph(m *Model, batch, threads int) (*BatchGraph, error) {
 		bg.jobs[t] = js
 		done += b.work
 	}
-	for range T {
+	bg.grads = append(bg.grads, nil)
+	for range T - 1 {
 		gr := make([][]float64, len(m.Weights))
 		for i, w := range m.Weights {
 			gr[i] = make([]float64, len(w.Data))
@@ -193,7 +200,12 @@ func (bg *BatchGraph) LossGrad(xs []uint8, params []float64, n int, scale float6
 	// Each graph writes its gradient into its own slices; the weights of
 	// a chunk are n_t/n.
 	chunk := func(t int) (int, int) { return t * n / T, (t + 1) * n / T }
-	gradsOf := func(t int) [][]float64 { return bg.grads[t] }
+	gradsOf := func(t int) [][]float64 {
+		if t == 0 {
+			return grads
+		}
+		return bg.grads[t]
+	}
 	parallel := func(f func(t int)) {
 		var wg sync.WaitGroup
 		for t := 1; t < T; t++ {
@@ -266,7 +278,7 @@ func (bg *BatchGraph) LossGrad(xs []uint8, params []float64, n int, scale float6
 			}
 			lo, hi := t*len(g)/T, (t+1)*len(g)/T
 			s := g[lo:hi]
-			g0, f0 := bg.grads[0][i][lo:hi], f[0]
+			g0, f0 := s, f[0] // graph 0's gradient, combined in place
 			if T == 2 {
 				g1, f1 := bg.grads[1][i][lo:hi], f[1]
 				for j := range s {

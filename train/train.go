@@ -212,6 +212,8 @@ type Options struct {
 	Progress func(n int)
 	// OnEpoch, if set, is called after every completed epoch with its
 	// metrics and the checkpoint of that moment; an error stops training.
+	// The checkpoint's tensors share the run's buffers: they hold that
+	// moment only until OnEpoch returns (save or clone them there).
 	// With SaveShare > 0 the checkpoint is complete only on the epochs
 	// where a save is due (ck.Best != nil); on the others it holds only
 	// the header (ck.Best and ck.Last nil), which is all a progress line
@@ -627,8 +629,11 @@ func (r *run) averaged(dst [][]float64) {
 	}
 }
 
+// saved is the optimiser state before an epoch: in memory, or for a
+// large model (above spillValues weights) in a temporary file.
 type saved struct {
 	w, m, v, avg [][]float64
+	file         *spill
 	step         int
 }
 
@@ -647,15 +652,32 @@ func copy2(dst, src [][]float64) {
 }
 
 func (r *run) save() saved {
+	n := 0
+	for _, w := range r.w {
+		n += len(w)
+	}
+	if n > spillValues {
+		// A file that cannot be written leaves the copy in memory.
+		if f, err := newSpill(r.w, r.adam.M, r.adam.V, r.avg); err == nil {
+			return saved{file: f, step: r.adam.Step}
+		}
+	}
 	return saved{w: clone2(r.w), m: clone2(r.adam.M), v: clone2(r.adam.V), avg: clone2(r.avg), step: r.adam.Step}
 }
 
-func (r *run) restore(s saved) {
-	copy2(r.w, s.w)
-	copy2(r.adam.M, s.m)
-	copy2(r.adam.V, s.v)
-	copy2(r.avg, s.avg)
+func (r *run) restore(s saved) error {
+	if s.file != nil {
+		if err := s.file.load(r.w, r.adam.M, r.adam.V, r.avg); err != nil {
+			return err
+		}
+	} else {
+		copy2(r.w, s.w)
+		copy2(r.adam.M, s.m)
+		copy2(r.adam.V, s.v)
+		copy2(r.avg, s.avg)
+	}
 	r.adam.Step = s.step
+	return nil
 }
 
 func (r *run) warn(format string, args ...any) {
@@ -726,7 +748,11 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 		t0 := time.Now()
 		trainNLL, err := r.epoch(ctx, epoch)
 		if errors.Is(err, ErrInterrupted) {
-			r.restore(before)
+			rerr := r.restore(before)
+			before.file.close()
+			if rerr != nil {
+				return nil, rerr
+			}
 			r.hdr.Stopped = StopInterrupted.String()
 			ck, cerr := r.checkpoint()
 			if cerr != nil {
@@ -735,6 +761,7 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 			return ck, err
 		}
 		if err != nil {
+			before.file.close()
 			return nil, err
 		}
 		trainSec := time.Since(t0).Seconds()
@@ -743,15 +770,19 @@ func (r *run) loop(ctx context.Context) (*checkpoints.Checkpoint, error) {
 		val, valSE, current, err := r.validate(trainNLL)
 		ts.lap(&ts.Validate, &tv)
 		if err != nil {
+			before.file.close()
 			return nil, err
 		}
 		if math.IsNaN(trainNLL) || math.IsInf(trainNLL, 0) || math.IsNaN(val) || math.IsInf(val, 0) {
 			nonFinite++
-			if err := r.recoverNonFinite(before, epoch, nonFinite); err != nil {
+			err := r.recoverNonFinite(before, epoch, nonFinite)
+			before.file.close()
+			if err != nil {
 				return nil, err
 			}
 			continue
 		}
+		before.file.close()
 		nonFinite = 0
 		sec := time.Since(t0).Seconds()
 		met := checkpoints.EpochMetrics{
@@ -822,7 +853,9 @@ func (r *run) validate(trainNLL float64) (val, valSE float64, current [][]float6
 // finite (the nonFinite-th in a row) and halves the learning rate, or gives
 // up after maxNonFinite such epochs.
 func (r *run) recoverNonFinite(before saved, epoch, nonFinite int) error {
-	r.restore(before)
+	if err := r.restore(before); err != nil {
+		return err
+	}
 	if nonFinite >= maxNonFinite {
 		return fmt.Errorf("training diverged: the loss was not finite in %d epochs in a row (at epoch %d, learning rate %.3g); try a smaller --lr or --clip", nonFinite, epoch, r.lr)
 	}
@@ -916,12 +949,15 @@ func (r *run) epoch(ctx context.Context, epoch int) (float64, error) {
 	return sum / float64(len(order)), nil
 }
 
-// checkpoint builds the checkpoint of the current state.
+// checkpoint builds the checkpoint of the current state. Its tensors are
+// views of the run's own buffers, not copies (at 4096 sites a copy of all
+// four is over 600 MB): they are valid until training continues, which is
+// all OnEpoch and the end of Run need.
 func (r *run) checkpoint() (*checkpoints.Checkpoint, error) {
 	mk := func(src [][]float64) []model.Tensor {
 		out := make([]model.Tensor, len(src))
 		for i, t := range r.m.Weights {
-			out[i] = model.Tensor{Name: t.Name, Shape: slices.Clone(t.Shape), Data: slices.Clone(src[i])}
+			out[i] = model.Tensor{Name: t.Name, Shape: slices.Clone(t.Shape), Data: src[i]}
 		}
 		return out
 	}
