@@ -2,6 +2,7 @@ package studyrun
 
 import (
 	"context"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
@@ -113,8 +114,25 @@ func (c *Command) Run(ctx context.Context) error {
 	if log != nil {
 		fmt.Fprintf(log, "study finished: %d units ran, %d were up to date; summary in %s, report in %s\n",
 			len(res.Ran), len(res.Skipped), filepath.Join(c.Out, summaryFile), filepath.Join(c.Out, reportFile))
+		if why := notExtrapolated(c.Out); why != "" {
+			fmt.Fprintf(log, "warning: the study asked for an extrapolation and has none: %s\n", why)
+		}
 	}
 	return nil
+}
+
+// notExtrapolated returns why the finished study in out has no
+// extrapolation, or "" when it has one or did not ask for it.
+func notExtrapolated(out string) string {
+	b, err := os.ReadFile(filepath.Join(out, summaryFile))
+	if err != nil {
+		return ""
+	}
+	var sum Summary
+	if json.Unmarshal(b, &sum) != nil {
+		return ""
+	}
+	return sum.NotExtrapolated
 }
 
 // command returns the command line that runs this study's units: this

@@ -7,6 +7,7 @@ import (
 	"encoding/binary"
 	"encoding/hex"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"html/template"
 	"math"
@@ -31,6 +32,9 @@ type Summary struct {
 	Seed          uint64          `json:"seed"`
 	Sizes         []SizeSummary   `json:"sizes"`
 	Extrapolation *scaling.Result `json:"extrapolation,omitempty"`
+	// NotExtrapolated says why the scans' peaks could not be extrapolated
+	// (too few sizes with a peak, say) when the study asked for it.
+	NotExtrapolated string `json:"not_extrapolated,omitempty"`
 	// Files holds the SHA-256 of each scan's indicators.csv and of each
 	// simulated dataset's snapshots and parameters (the files themselves
 	// record when they were written).
@@ -65,6 +69,12 @@ func (p *Plan) finish(ctx context.Context) error {
 	}
 	if *st.Extrapolate.Enabled {
 		res, err := scaling.Run(dirs, scaling.Options{Fit: st.fitOptions(deriveSeed(st.System.Seed, "finish"))})
+		if errors.Is(err, scaling.ErrInput) {
+			// The scans are what they are (no peak at enough sizes, say): the
+			// study still ends with its summary and report, which say why
+			// there is no extrapolation, as does the folder.
+			return p.finishWithout(&sum, dirs, err)
+		}
 		if err != nil {
 			return fmt.Errorf("extrapolate: %w", err)
 		}
@@ -84,6 +94,43 @@ func (p *Plan) finish(ctx context.Context) error {
 		}
 		sum.Extrapolation = res
 	}
+	return p.writeSummary(&sum)
+}
+
+// finishWithout records why the scans could not be extrapolated (err) in
+// the extrapolation folder's summary.json, emptying the folder first so
+// that no earlier fit remains there, and in the study's summary, then
+// writes the summary and report.
+func (p *Plan) finishWithout(sum *Summary, dirs []string, err error) error {
+	why := err.Error()
+	for j, d := range dirs {
+		why = strings.ReplaceAll(why, d, scanDir(p.Study.System.Sizes[j]))
+	}
+	sum.NotExtrapolated = why
+	dir := filepath.Join(p.Out, extrapolationDir)
+	if err := os.RemoveAll(dir); err != nil {
+		return err
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	// The folder's summary.json (what the unit's stamp hashes) says why.
+	js, err := json.MarshalIndent(struct {
+		NotExtrapolated string `json:"not_extrapolated"`
+	}{why}, "", "  ")
+	if err != nil {
+		return err
+	}
+	if err := safefile.WriteBytes(filepath.Join(dir, summaryFile), true, append(js, '\n')); err != nil {
+		return err
+	}
+	return p.writeSummary(sum)
+}
+
+// writeSummary completes sum with every size's dataset, models and scan
+// peaks and writes the study's summary.json and report.html.
+func (p *Plan) writeSummary(sum *Summary) error {
+	st := p.Study
 	for _, l := range st.System.Sizes {
 		ss := SizeSummary{Size: l, Dataset: p.datasetName(l), Scan: scanDir(l)}
 		if err := snapshotsHash(sum.Files, ss.Dataset, p.datasetOf(l)); err != nil {
@@ -117,7 +164,7 @@ func (p *Plan) finish(ctx context.Context) error {
 	if err != nil {
 		return err
 	}
-	page, err := studyPage(&sum)
+	page, err := studyPage(sum)
 	if err != nil {
 		return err
 	}
@@ -184,6 +231,8 @@ var pageTmpl = template.Must(template.New("study").Funcs(template.FuncMap{
 <td>{{range names .Indicators}}{{$ind := index $s.Indicators .}}{{if $ind.Peaks}}{{$pk := top $ind.Peaks}}{{.}}: {{range $pk.At}}{{printf "%.4g" .}} {{end}}± {{range $pk.Err}}{{printf "%.2g" .}} {{end}}<br>{{end}}{{end}}</td>
 <td><a href="{{.Scan}}/report.html">{{.Scan}}</a></td></tr>
 {{end}}</table>
+{{with .NotExtrapolated}}<h2>Extrapolation to the infinite system</h2>
+<p>Not extrapolated: {{.}}</p>{{end}}
 {{with .Extrapolation}}<h2>Extrapolation to the infinite system</h2>
 <p>{{.Form}}: {{.Combined.Param}}<sub>c</sub> = {{printf "%.5g" .Combined.Value}} ± {{printf "%.2g" .Combined.Err}} ({{.Combined.Method}})</p>
 <table><tr><th>indicator</th><th>value</th><th>error</th><th>ν</th><th>χ²/dof</th></tr>

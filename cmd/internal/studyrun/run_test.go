@@ -320,3 +320,39 @@ func TestChainStudy(t *testing.T) {
 		t.Errorf("ran %v, want %v", res.Ran, want)
 	}
 }
+
+// TestStudyWithoutExtrapolation checks that a study whose scans have too
+// few peaks to extrapolate (here one indicator on a grid deep in the
+// disordered phase, where the exact density of a small lattice changes
+// slowly) still ends, with the reason in its summary.json, its report and
+// the extrapolation folder's summary.json, and that a rerun skips it.
+func TestStudyWithoutExtrapolation(t *testing.T) {
+	if testing.Short() {
+		t.Skip("trains three small models")
+	}
+	text := strings.NewReplacer(`grid = "T=1.5:3.5:7"`, `grid = "T=6:9:4"`, "ensemble = 2", "ensemble = 1",
+		`indicators = ["fisher", "local"]`, `indicators = ["lbc"]`).Replace(smallStudy)
+	p, out := loadSmall(t, text)
+	if _, err := Run(context.Background(), p, Options{}); err != nil {
+		t.Fatalf("a study without an extrapolation should still end: %v", err)
+	}
+	why := notExtrapolated(out)
+	if !strings.Contains(why, "peak") {
+		t.Fatalf("summary.json: not_extrapolated = %q, want the reason", why)
+	}
+	page, err := os.ReadFile(filepath.Join(out, reportFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(page), "Not extrapolated: ") {
+		t.Error("report.html does not say why there is no extrapolation")
+	}
+	b, err := os.ReadFile(filepath.Join(out, extrapolationDir, summaryFile))
+	if err != nil || !strings.Contains(string(b), "not_extrapolated") {
+		t.Errorf("extrapolation/summary.json: %v %s", err, b)
+	}
+	again, err := Run(context.Background(), p, Options{})
+	if err != nil || len(again.Ran) != 0 {
+		t.Errorf("rerun: ran %v, error %v; want nothing to run", again.Ran, err)
+	}
+}
