@@ -84,10 +84,7 @@ func (p *Plan) finish(ctx context.Context) error {
 			res.Scans[i].Dir = scanDir(st.System.Sizes[i])
 		}
 		for i, n := range res.Notes {
-			for j, d := range dirs {
-				n = strings.ReplaceAll(n, d, scanDir(st.System.Sizes[j]))
-			}
-			res.Notes[i] = n
+			res.Notes[i] = p.relativeScans(n, dirs)
 		}
 		if err := scaling.Write(filepath.Join(p.Out, extrapolationDir), true, res); err != nil {
 			return fmt.Errorf("extrapolate: %w", err)
@@ -97,15 +94,22 @@ func (p *Plan) finish(ctx context.Context) error {
 	return p.writeSummary(&sum)
 }
 
+// relativeScans replaces in text the scan folders dirs (one per size, as
+// finish passed them to the extrapolation) by their names relative to the
+// output folder, so that the record does not depend on where the study ran.
+func (p *Plan) relativeScans(text string, dirs []string) string {
+	for j, d := range dirs {
+		text = strings.ReplaceAll(text, d, scanDir(p.Study.System.Sizes[j]))
+	}
+	return text
+}
+
 // finishWithout records why the scans could not be extrapolated (err) in
 // the extrapolation folder's summary.json, emptying the folder first so
 // that no earlier fit remains there, and in the study's summary, then
 // writes the summary and report.
 func (p *Plan) finishWithout(sum *Summary, dirs []string, err error) error {
-	why := err.Error()
-	for j, d := range dirs {
-		why = strings.ReplaceAll(why, d, scanDir(p.Study.System.Sizes[j]))
-	}
+	why := p.relativeScans(err.Error(), dirs)
 	sum.NotExtrapolated = why
 	dir := filepath.Join(p.Out, extrapolationDir)
 	if err := os.RemoveAll(dir); err != nil {
