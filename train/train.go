@@ -334,29 +334,38 @@ func Run(ctx context.Context, ds *data.Dataset, opt Options) (*checkpoints.Check
 
 // split makes the per-point validation split, deterministic in (seed, k).
 func (r *run) split() {
-	g := r.grid
-	isHeld := map[int]bool{}
 	for _, k := range r.held {
-		isHeld[k] = true
-		r.heldIdx = append(r.heldIdx, g.Index[k])
+		r.heldIdx = append(r.heldIdx, r.grid.Index[k])
 	}
-	r.valIdx = make([][]int, g.K())
-	r.trainIdx = r.trainIdx[:0]
+	r.valIdx, r.trainIdx = splitRows(r.grid, r.held, r.st)
+}
+
+// splitRows returns the validation rows of every grid point (nil at the
+// held-out points) and the training rows, sorted: each point's rows are
+// shuffled by the stream (split seed, k) and the first ValFrac of them
+// validate.
+func splitRows(g *data.Grid, held []int, st Settings) (val [][]int, train []int) {
+	isHeld := map[int]bool{}
+	for _, k := range held {
+		isHeld[k] = true
+	}
+	val = make([][]int, g.K())
 	for k, idx := range g.Index {
 		if isHeld[k] {
 			continue
 		}
 		idx = slices.Clone(idx)
-		rng := rand.New(rand.NewPCG(r.st.splitSeed(), uint64(k)))
+		rng := rand.New(rand.NewPCG(st.splitSeed(), uint64(k)))
 		rng.Shuffle(len(idx), func(i, j int) { idx[i], idx[j] = idx[j], idx[i] })
-		nv := int(math.Round(r.st.ValFrac * float64(len(idx))))
+		nv := int(math.Round(st.ValFrac * float64(len(idx))))
 		nv = min(max(nv, 1), len(idx)-1)
-		val := slices.Clone(idx[:nv])
-		slices.Sort(val)
-		r.valIdx[k] = val
-		r.trainIdx = append(r.trainIdx, r.st.Member.bag(k, idx[nv:])...)
+		v := slices.Clone(idx[:nv])
+		slices.Sort(v)
+		val[k] = v
+		train = append(train, st.Member.bag(k, idx[nv:])...)
 	}
-	slices.Sort(r.trainIdx)
+	slices.Sort(train)
+	return val, train
 }
 
 func (r *run) start(fp string) error {
