@@ -138,6 +138,10 @@ type Curve struct {
 	reps [][]float64
 	// srcs holds each source's values when several are combined.
 	srcs [][]float64
+	// unseenChecked: the peaks were compared with the curve on the unseen
+	// snapshots; unseenFar lists that curve's peaks far from every peak.
+	unseenChecked bool
+	unseenFar     []Peak
 }
 
 // curveSpec is a curve before evaluation: its stat and geometry.

@@ -24,6 +24,11 @@ type Peak struct {
 	// Tested is false when no error estimate was available to test the
 	// peak against (no bootstrap): every local maximum is then kept.
 	Tested bool
+	// Unseen is the peak on the snapshots the model did not train on (nil
+	// when the scan had none to compare; see Config.Unseen).
+	Unseen *Unseen
+	// bootErr is the bootstrap part of Err along the line's axis.
+	bootErr float64
 }
 
 // ParabolaVertex returns the vertex of the parabola through (x0,y0),
@@ -173,6 +178,7 @@ func findPeaks(c *Curve, reps [][]float64, srcVals [][]float64, tested bool, noi
 				ys = append(ys, b)
 			}
 			ex, ey := stdDev(xs), stdDev(ys)
+			pk.bootErr = ex
 			var sx, sy []float64
 			for _, r := range srcVals {
 				rv := make([]float64, len(ln.Idx))

@@ -59,6 +59,12 @@ type Config struct {
 	Threads int
 	// Seed seeds model sampling and bootstrap resampling.
 	Seed uint64
+	// Unseen marks the dataset's snapshots the model never trained on (its
+	// validation split and held-out points; train.UnseenRows), nil when not
+	// known or not a model. With a bootstrap, the first pass evaluates every
+	// curve on them as well and adds the shift of each peak between the two,
+	// beyond sampling noise, to the peak's error (Peak.Unseen).
+	Unseen []bool
 	// MetricScale is the per-axis unit s_a of a 2-D scan's Fisher-metric
 	// map (nil: parameter units): the map shows the metric of λ_a/s_a.
 	MetricScale []float64
@@ -91,6 +97,9 @@ type Result struct {
 	Bootstrap int
 	// ExactSums reports exact expectations.
 	ExactSums bool
+	// UnseenChecked reports that the peaks were compared with the curves on
+	// the snapshots the model did not train on (Config.Unseen).
+	UnseenChecked bool
 	// Notes are warnings about how to read the results.
 	Notes []string
 }
@@ -126,6 +135,18 @@ func Run(ctx context.Context, sources []density.Source, ds *data.Dataset, cfg Co
 	}
 	res.Curves = curves
 	res.Notes = append(res.Notes, noisyNotes(curves)...)
+	far := map[string][]Peak{}
+	for _, c := range curves {
+		if c.unseenChecked {
+			res.UnseenChecked = true
+			far[c.Name] = c.unseenFar
+		}
+	}
+	if res.UnseenChecked {
+		res.Notes = append(res.Notes, unseenNotes(curves, far, g.Names)...)
+	} else if cfg.Unseen != nil && cfg.Bootstrap > 0 && !cfg.ExactSums {
+		res.Notes = append(res.Notes, fmt.Sprintf("the curves were not compared on the snapshots the model did not train on: some grid point has fewer than %d of them", minUnseen))
+	}
 	res.Bootstrap = scanNotes(res, sources, cfg)
 	if g.Dim() == 2 {
 		res.Boundaries = curveBoundaries(res.Curves, g.Names)
@@ -330,6 +351,10 @@ func runPass(ctx context.Context, sources []density.Source, ds *data.Dataset, g 
 		}
 		cv.srcs = srcVals
 		findPeaks(&cv, cv.reps, srcVals, B > 0 || cfg.ExactSums, noise)
+		if uv, ur := combineUnseen(evals, c, B); uv != nil {
+			cv.unseenFar = checkUnseen(&cv, uv, ur)
+			cv.unseenChecked = true
+		}
 		out[c] = &cv
 	}
 	return out, nil
@@ -345,6 +370,11 @@ type sourceCurves struct {
 	specs []*curveSpec
 	vals  [][]float64
 	reps  []replicates
+	// unseen and unseenReps are the curves and their replicates on the
+	// snapshots the model did not train on (nil: not evaluated; per curve
+	// nil for fisher_deriv, which reads model samples).
+	unseen     [][]float64
+	unseenReps []replicates
 }
 
 // evaluateSource is the first stage of a pass: source s of S scores the
@@ -425,7 +455,35 @@ func evaluateSource(ctx context.Context, src density.Source, ds *data.Dataset, g
 			tick(1)
 		}
 	}
+	if cfg.Unseen != nil && pass == 0 && !refit && lo.K() == g.K() && ev.Mx.M == ds.M {
+		evalUnseen(sc, ev, cps, cfg, B)
+	}
 	return sc, nil
+}
+
+// evalUnseen evaluates every curve but fisher_deriv on the snapshots the
+// model did not train on, and B bootstrap replicates of them.
+func evalUnseen(sc *sourceCurves, ev *EvalSet, cps []*compiled, cfg Config, B int) {
+	w := unseenWeights(ev, cfg.Unseen, 0, -1)
+	if w == nil {
+		return
+	}
+	sc.unseen = make([][]float64, len(sc.specs))
+	sc.unseenReps = make([]replicates, len(sc.specs))
+	for c, sp := range sc.specs {
+		if !sp.deriv && cps[c] != nil {
+			sc.unseen[c] = cps[c].eval(w)
+			sc.unseenReps[c] = make(replicates, B)
+		}
+	}
+	for b := 0; b < B; b++ {
+		wb := unseenWeights(ev, cfg.Unseen, cfg.Seed+1<<38, b)
+		for c := range sc.specs {
+			if sc.unseen[c] != nil {
+				sc.unseenReps[c][b] = cps[c].eval(wb)
+			}
+		}
+	}
 }
 
 // combineSources is the second stage: curve c's value is the mean over the
@@ -452,6 +510,32 @@ func combineSources(cv *Curve, evals []*sourceCurves, c, B int) {
 		}
 		cv.reps[b] = r
 	}
+}
+
+// combineUnseen averages curve c on the unseen snapshots over the sources,
+// and each of its B replicates, or returns nil when a source lacks it.
+func combineUnseen(evals []*sourceCurves, c, B int) ([]float64, [][]float64) {
+	S := len(evals)
+	for _, e := range evals {
+		if e.unseen == nil || e.unseen[c] == nil {
+			return nil, nil
+		}
+	}
+	T := len(evals[0].unseen[c])
+	val := make([]float64, T)
+	reps := make([][]float64, B)
+	for b := range reps {
+		reps[b] = make([]float64, T)
+	}
+	for _, e := range evals {
+		for t := 0; t < T; t++ {
+			val[t] += e.unseen[c][t] / float64(S)
+			for b := 0; b < B; b++ {
+				reps[b][t] += e.unseenReps[c][b][t] / float64(S)
+			}
+		}
+	}
+	return val, reps
 }
 
 // curveErrors is the third stage: the error of curve c at each position is

@@ -12,6 +12,7 @@ import (
 	"testing"
 	"time"
 
+	"tidemark/checkpoints"
 	"tidemark/data"
 	"tidemark/data/density"
 	"tidemark/data/ising"
@@ -61,8 +62,18 @@ func TestErrorBarCalibration(t *testing.T) {
 	epochs, K := calEnv("CAL_EPOCHS", 15), calEnv("CAL_K", 4)
 	arch := ArchKind(os.Getenv("CAL_ARCH"))
 	configs := []calConfig{{"single", 0}, {"ensemble 2", 2}, {fmt.Sprintf("ensemble %d", K), K}}
-	table := map[string]map[string]*calCount{}
+	if K < 2 {
+		configs = configs[:1]
+	}
+	// Every configuration is reported twice: its errors without and with
+	// the shift of each peak on the snapshots the models did not train on
+	// (Config.Unseen; the scan's default for a model of its own data).
+	var rows []calConfig
 	for _, c := range configs {
+		rows = append(rows, c, calConfig{c.name + " +unseen", c.members})
+	}
+	table := map[string]map[string]*calCount{}
+	for _, c := range rows {
 		table[c.name] = map[string]*calCount{}
 		for _, ind := range calIndicators {
 			table[c.name][ind] = &calCount{}
@@ -76,14 +87,21 @@ func TestErrorBarCalibration(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		exact := calPeaks(t, []density.Source{ref}, ds)
+		exact := calPeaks(t, []density.Source{ref}, ds, nil)
 		st := DefaultSettings()
 		st.Epochs, st.Arch.Kind = epochs, arch
 		single, err := Run(ctx, ds, Options{Settings: st})
 		if err != nil {
 			t.Fatal(err)
 		}
-		cks, err := RunEnsemble(ctx, ds, Options{Settings: st}, Ensemble{Size: K, Parallel: 2, NoResample: os.Getenv("CAL_BAG") != "1"})
+		var cks []*checkpoints.Checkpoint
+		if K >= 2 {
+			cks, err = RunEnsemble(ctx, ds, Options{Settings: st}, Ensemble{Size: K, Parallel: 2, NoResample: os.Getenv("CAL_BAG") != "1"})
+			if err != nil {
+				t.Fatal(err)
+			}
+		}
+		unseen, err := UnseenRows(ds, single)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -95,40 +113,51 @@ func TestErrorBarCalibration(t *testing.T) {
 			}
 			members = append(members, m)
 		}
-		for _, c := range configs {
+		for i, c := range rows {
+			if i%2 == 1 {
+				continue
+			}
 			srcs := members[:max(c.members, 1)]
 			if c.members == 0 {
-				srcs = members[K:]
+				srcs = members[len(cks):]
 			}
-			got := calPeaks(t, srcs, ds)
-			for _, ind := range calIndicators {
-				e, ok := exact[ind]
-				if !ok {
-					continue
-				}
-				cc := table[c.name][ind]
-				cc.n++
-				m, ok := got[ind]
-				if !ok {
-					cc.noPeak++
-					continue
-				}
-				diff := math.Abs(m.At[0] - e.At[0])
-				cc.absDiff, cc.sigma = append(cc.absDiff, diff), append(cc.sigma, m.Err[0])
-				if diff <= m.Err[0] {
-					cc.in1++
-				}
-				if diff <= 2*m.Err[0] {
-					cc.in2++
+			// The members share the split, and the single model's seed is
+			// the ensemble's base seed, so its unseen rows are theirs.
+			got := calPeaks(t, srcs, ds, unseen)
+			for v, name := range []string{c.name, rows[i+1].name} {
+				for _, ind := range calIndicators {
+					e, ok := exact[ind]
+					if !ok {
+						continue
+					}
+					cc := table[name][ind]
+					cc.n++
+					m, ok := got[ind]
+					if !ok {
+						cc.noPeak++
+						continue
+					}
+					sigma := m.Err[0]
+					if u := m.Unseen; v == 0 && u != nil {
+						sigma = math.Sqrt(math.Max(sigma*sigma-u.Added*u.Added, 0))
+					}
+					diff := math.Abs(m.At[0] - e.At[0])
+					cc.absDiff, cc.sigma = append(cc.absDiff, diff), append(cc.sigma, sigma)
+					if diff <= sigma {
+						cc.in1++
+					}
+					if diff <= 2*sigma {
+						cc.in2++
+					}
 				}
 			}
 		}
 		fmt.Fprintf(os.Stderr, "calibration: dataset %d of %d done after %v\n", d+1, nData, time.Since(start).Round(time.Second))
 		// The table so far, so that a run stopped early still says something.
-		fmt.Fprint(os.Stderr, calTable(table, configs, d+1, samples, epochs, arch, time.Since(start)))
+		fmt.Fprint(os.Stderr, calTable(table, rows, d+1, samples, epochs, arch, time.Since(start)))
 	}
-	fmt.Fprint(os.Stdout, calTable(table, configs, nData, samples, epochs, arch, time.Since(start)))
-	last := configs[len(configs)-1].name
+	fmt.Fprint(os.Stdout, calTable(table, rows, nData, samples, epochs, arch, time.Since(start)))
+	last := rows[len(rows)-1].name
 	for _, ind := range calIndicators {
 		if cc := table[last][ind]; cc.n > 0 && pct(cc.in2, cc.n) < 90 {
 			t.Errorf("%s, %s: the exact peak lies within 2σ in %d of %d datasets, below the bar of 90%%", last, ind, cc.in2, cc.n)
@@ -210,9 +239,9 @@ func calDataset(t *testing.T, samples int, seed uint64) *data.Dataset {
 
 // calPeaks scans ds with srcs (100 bootstrap replicates, the scan's
 // default) and returns each indicator's highest peak.
-func calPeaks(t *testing.T, srcs []density.Source, ds *data.Dataset) map[string]indicator.Peak {
+func calPeaks(t *testing.T, srcs []density.Source, ds *data.Dataset, unseen []bool) map[string]indicator.Peak {
 	t.Helper()
-	res, err := indicator.Run(context.Background(), srcs, ds, indicator.Config{Bootstrap: 100, ModelSamples: 1000, Threads: 2, Seed: 1})
+	res, err := indicator.Run(context.Background(), srcs, ds, indicator.Config{Bootstrap: 100, ModelSamples: 1000, Threads: 2, Seed: 1, Unseen: unseen})
 	if err != nil {
 		t.Fatal(err)
 	}

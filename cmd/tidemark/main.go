@@ -10,6 +10,7 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"runtime/debug"
 	"strings"
 )
 
@@ -34,6 +35,9 @@ func run(args []string) (status int) {
 	defer func() {
 		if p := recover(); p != nil {
 			fmt.Fprintf(os.Stderr, "tidemark: internal error: %v (please report this with the command you ran)\n", p)
+			if os.Getenv("TIDEMARK_TRACE") != "" {
+				debug.PrintStack()
+			}
 			status = exitUsage
 		}
 	}()

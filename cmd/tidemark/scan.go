@@ -7,6 +7,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"tidemark/data"
+	"tidemark/data/density"
 	"tidemark/indicator"
 	"tidemark/indicator/report"
 	"tidemark/indicator/report/inputs"
@@ -146,7 +147,12 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if err != nil {
 		return err
 	}
-	sources, err := study.Sources(kind, ds, o.data, o.models)
+	var sources []density.Source
+	if kind == study.SourceModel {
+		sources, cfg.Unseen, err = study.ModelSources(ds, o.models)
+	} else {
+		sources, err = study.Sources(kind, ds, o.data, o.models)
+	}
 	if err != nil {
 		return fmt.Errorf("scan --%s: %w", kind, err)
 	}

@@ -15,6 +15,11 @@ type Errors struct {
 	// ModelError reports whether the error bars include an estimate of
 	// the model's own error (the spread of two or more models).
 	ModelError bool `json:"includes_model_error"`
+	// UnseenShift reports that every peak's error includes its shift between
+	// the curves on all snapshots and on those the model did not train on,
+	// beyond sampling noise (a measure of how much the model learnt its
+	// training snapshots themselves).
+	UnseenShift bool `json:"includes_unseen_shift"`
 	// Statement says the same in a sentence.
 	Statement string `json:"statement"`
 }
@@ -23,10 +28,31 @@ type Errors struct {
 // report shows beside its peak table.
 const SingleModelWarning = "these error bars exclude the model's own error: a misfit of the one model shifts peaks by more than they show (train --ensemble K trains members whose spread adds it)"
 
+// UnseenStatement is the part of a statement for scans whose peaks were
+// compared on the snapshots the model did not train on.
+const UnseenStatement = "each peak's shift between all snapshots and those the model did not train on (its validation split), beyond sampling noise, joins its error"
+
+// UnseenBiasWarning is what a one-model scan's errors still leave out
+// when its peaks were compared on unseen snapshots.
+const UnseenBiasWarning = "a misfit the model shows on seen and unseen snapshots alike (a bias) is not included (train --ensemble K adds the spread of members)"
+
 // ErrorStatement describes the errors of a scan with a source of the
 // given kind ("model", "exact" or "histogram"), bootstrap resamples and
 // sources combined; exactSums means the expectations are exact sums.
-func ErrorStatement(kind string, bootstrap, sources int, exactSums bool) Errors {
+func ErrorStatement(kind string, bootstrap, sources int, exactSums, unseen bool) Errors {
+	e := errorStatement(kind, bootstrap, sources, exactSums)
+	if unseen && kind == "model" {
+		e.UnseenShift, e.ModelError = true, true
+		if sources > 1 {
+			e.Statement += "; " + UnseenStatement
+		} else {
+			e.Statement = fmt.Sprintf("the bootstrap over the snapshots (%d resamples), and %s; %s", bootstrap, UnseenStatement, UnseenBiasWarning)
+		}
+	}
+	return e
+}
+
+func errorStatement(kind string, bootstrap, sources int, exactSums bool) Errors {
 	e := Errors{Bootstrap: bootstrap}
 	boot := fmt.Sprintf("the bootstrap over the snapshots (%d resamples)", bootstrap)
 	switch {

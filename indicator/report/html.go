@@ -295,8 +295,11 @@ func HTML(res *indicator.Result, sum *Summary, pics map[string][]byte, pg *Page)
 		d.SourceNote = "The density is the empirical histogram of the snapshots at each grid point; it is only meaningful for systems small enough that snapshots repeat."
 	case "model":
 		d.SourceNote = "The density is the trained model. Its indicators are only as good as its fit: compare the validation and held-out likelihoods, and run check where an exact reference exists."
-		if !sum.Errors.ModelError {
+		switch {
+		case !sum.Errors.ModelError:
 			d.ErrorsWarning = "With one model, " + SingleModelWarning + "."
+		case sum.Errors.UnseenShift && sum.Errors.EnsembleMembers == 1:
+			d.ErrorsWarning = "With one model, " + UnseenStatement + ", but " + UnseenBiasWarning + "."
 		}
 	}
 	for _, c := range res.Curves {

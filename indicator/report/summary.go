@@ -60,6 +60,18 @@ type PeakSummary struct {
 	HeightErr  float64   `json:"height_err"`
 	Prominence float64   `json:"prominence"`
 	AboveNoise bool      `json:"tested_against_noise"`
+	// Unseen is the peak on the snapshots the model did not train on.
+	Unseen *UnseenSummary `json:"unseen,omitempty"`
+}
+
+// UnseenSummary is a peak's position on the curve of the snapshots the
+// model did not train on (indicator.Unseen), along the peak's axis.
+type UnseenSummary struct {
+	At    float64 `json:"at"`
+	Err   float64 `json:"err"`
+	Shift float64 `json:"shift"`
+	Noise float64 `json:"noise"`
+	Added float64 `json:"added_to_err"`
 }
 
 // ZoomSummary is the second pass around one peak.
@@ -88,7 +100,7 @@ func summarize(curves []*indicator.Curve, names []string) map[string]IndicatorSu
 			is.Axis = names[c.Axis]
 		}
 		for _, p := range c.Peaks {
-			is.Peaks = append(is.Peaks, PeakSummary{At: p.At, Err: p.Err, Height: clean(p.Height), HeightErr: clean(p.HeightErr), Prominence: clean(p.Prominence), AboveNoise: p.Tested})
+			is.Peaks = append(is.Peaks, PeakSummary{At: p.At, Err: p.Err, Height: clean(p.Height), HeightErr: clean(p.HeightErr), Prominence: clean(p.Prominence), AboveNoise: p.Tested, Unseen: unseenSummary(p.Unseen)})
 		}
 		out[c.Name] = is
 	}
@@ -101,7 +113,7 @@ func NewSummary(res *indicator.Result, info Info) *Summary {
 		Source: info.Source, Data: info.Data, Models: info.Models, Params: res.Names,
 		Grid:      GridInfo{Points: res.Data.K(), Refine: max(1, info.Refine), Scanned: res.Layout.K()},
 		Bootstrap: res.Bootstrap, ExactSums: res.ExactSums, Sources: res.Sources, Seed: info.Seed,
-		Errors:     ErrorStatement(info.Source, res.Bootstrap, res.Sources, res.ExactSums),
+		Errors:     ErrorStatement(info.Source, res.Bootstrap, res.Sources, res.ExactSums, res.UnseenChecked),
 		Indicators: summarize(res.Curves, res.Names),
 		Boundaries: boundaryList(res),
 		Phases:     phasesSummary(res),
@@ -117,4 +129,11 @@ func NewSummary(res *indicator.Result, info Info) *Summary {
 		s.Zoom = append(s.Zoom, ZoomSummary{Around: z.Around, Axis: res.Names[z.Axis], From: ax[0], To: ax[len(ax)-1], Points: len(ax), Indicators: summarize(z.Curves, res.Names)})
 	}
 	return s
+}
+
+func unseenSummary(u *indicator.Unseen) *UnseenSummary {
+	if u == nil {
+		return nil
+	}
+	return &UnseenSummary{At: clean(u.At), Err: clean(u.Err), Shift: clean(u.Shift), Noise: clean(u.Noise), Added: clean(u.Added)}
 }

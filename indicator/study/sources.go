@@ -11,6 +11,7 @@ import (
 	"tidemark/data/density"
 	"tidemark/data/ising"
 	"tidemark/indicator"
+	"tidemark/train"
 )
 
 // SourceKind returns the kind of density source a scan asked for with
@@ -59,27 +60,55 @@ func Sources(kind string, ds *data.Dataset, dataPath string, models []string) ([
 		}
 		return []density.Source{h}, nil
 	case SourceModel:
-		var sources []density.Source
-		for _, name := range models {
-			cks, paths, err := checkpoints.LoadEnsemble(name)
-			if err != nil {
-				return nil, err
-			}
-			for i, ck := range cks {
-				p := paths[i]
-				if err := ck.CheckDataset(ds); err != nil {
-					return nil, fmt.Errorf("%s does not fit the dataset: %w", p, err)
-				}
-				m, err := ck.Model()
-				if err != nil {
-					return nil, fmt.Errorf("%s: %w", p, err)
-				}
-				sources = append(sources, m)
-			}
-		}
-		return sources, nil
+		sources, _, err := ModelSources(ds, models)
+		return sources, err
 	}
 	return nil, fmt.Errorf("expected a density source %s, %s or %s, found %q", SourceExact, SourceHistogram, SourceModel, kind)
+}
+
+// ModelSources opens the best weights of each checkpoint in models (an
+// ensemble's member 1 brings all its members) as the sources of a scan of
+// ds, and returns the rows of ds that none of them trained on
+// (train.UnseenRows; nil when ds is not the data they were trained on).
+func ModelSources(ds *data.Dataset, models []string) ([]density.Source, []bool, error) {
+	var sources []density.Source
+	var unseen []bool
+	moot := false // some model never saw ds: every row is unseen by it
+	for _, name := range models {
+		cks, paths, err := checkpoints.LoadEnsemble(name)
+		if err != nil {
+			return nil, nil, err
+		}
+		for i, ck := range cks {
+			p := paths[i]
+			if err := ck.CheckDataset(ds); err != nil {
+				return nil, nil, fmt.Errorf("%s does not fit the dataset: %w", p, err)
+			}
+			m, err := ck.Model()
+			if err != nil {
+				return nil, nil, fmt.Errorf("%s: %w", p, err)
+			}
+			sources = append(sources, m)
+			u, err := train.UnseenRows(ds, ck)
+			if err != nil {
+				return nil, nil, fmt.Errorf("%s: %w", p, err)
+			}
+			switch {
+			case u == nil:
+				moot = true
+			case unseen == nil:
+				unseen = u
+			default:
+				for r := range unseen {
+					unseen[r] = unseen[r] && u[r]
+				}
+			}
+		}
+	}
+	if moot {
+		unseen = nil
+	}
+	return sources, unseen, nil
 }
 
 // ExactNote returns, for a model scan of an Ising dataset with an exact

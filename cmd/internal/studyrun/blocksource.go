@@ -106,14 +106,14 @@ func samePoints(a, b [][]float64) bool {
 // blockSources opens the ensemble and serves its matrix from the blocks;
 // member 1's rows are read (and every block checked) here, the others'
 // when the scan first asks for them.
-func blockSources(ds *data.Dataset, dataPath, member1 string, blocks []string) ([]density.Source, []*blockSource, error) {
-	ms, err := modelSources(ds, dataPath, member1)
+func blockSources(ds *data.Dataset, member1 string, blocks []string) ([]density.Source, []*blockSource, []bool, error) {
+	ms, unseen, err := modelSources(ds, member1)
 	if err != nil {
-		return nil, nil, err
+		return nil, nil, nil, err
 	}
 	first, pts, err := readBlocks(blocks, len(ms), 0, ds.M)
 	if err != nil {
-		return nil, nil, err
+		return nil, nil, nil, err
 	}
 	var srcs []density.Source
 	var bs []*blockSource
@@ -129,5 +129,5 @@ func blockSources(ds *data.Dataset, dataPath, member1 string, blocks []string) (
 		srcs = append(srcs, b)
 		bs = append(bs, b)
 	}
-	return srcs, bs, nil
+	return srcs, bs, unseen, nil
 }

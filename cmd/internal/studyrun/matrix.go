@@ -83,20 +83,20 @@ func (p *Plan) blocks(l int) ([][2]int, error) {
 
 // modelSources opens the ensemble of size l (member 1's file stands for
 // all) as models fitted to ds.
-func modelSources(ds *data.Dataset, dataPath, member1 string) ([]*model.Model, error) {
-	srcs, err := study.Sources(study.SourceModel, ds, dataPath, []string{member1})
+func modelSources(ds *data.Dataset, member1 string) ([]*model.Model, []bool, error) {
+	srcs, unseen, err := study.ModelSources(ds, []string{member1})
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	var ms []*model.Model
 	for _, s := range srcs {
 		m, ok := s.(*model.Model)
 		if !ok {
-			return nil, fmt.Errorf("%s: expected trained models, found a %T", member1, s)
+			return nil, nil, fmt.Errorf("%s: expected trained models, found a %T", member1, s)
 		}
 		ms = append(ms, m)
 	}
-	return ms, nil
+	return ms, unseen, nil
 }
 
 // computeBlock scores rows [u.Lo, u.Hi) of the dataset at dataPath at
@@ -111,7 +111,7 @@ func computeBlock(ctx context.Context, u Unit, dataPath, member1, out string, th
 	if u.Hi > ds.M {
 		return fmt.Errorf("%s: expected at least %d snapshots, found %d", dataPath, u.Hi, ds.M)
 	}
-	ms, err := modelSources(ds, dataPath, member1)
+	ms, _, err := modelSources(ds, member1)
 	if err != nil {
 		return err
 	}

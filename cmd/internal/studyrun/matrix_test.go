@@ -102,7 +102,7 @@ func testMatrixBlocks(t *testing.T, blockStudy string) {
 	for b := 0; b < 5; b++ {
 		blocks = append(blocks, filepath.Join(outMany, matrixPath(6, b)))
 	}
-	fromBlocks, bs, err := blockSources(ds, in, member1, blocks)
+	fromBlocks, bs, _, err := blockSources(ds, member1, blocks)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -115,10 +115,12 @@ func (p *Plan) work(u Unit) (*work, error) {
 			}
 			// Member 1's file stands for the whole ensemble; the
 			// matrix of the data comes from the blocks.
-			sources, _, err := blockSources(ds, in, ins[1], blocks)
+			sources, _, unseen, err := blockSources(ds, ins[1], blocks)
 			if err != nil {
 				return err
 			}
+			cfg := cfg
+			cfg.Unseen = unseen
 			res, _, err := study.Scan(ctx, sources, ds, cfg)
 			if err != nil {
 				return err

@@ -1,0 +1,84 @@
+package indicator
+
+import (
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+)
+
+// curveWithPeak is a 1-D curve −(x − at)² on 17 points in [1.9, 2.7] with
+// B replicates of Gaussian noise sd.
+func curveWithPeak(at, sd float64, B int, seed uint64) (Curve, []float64, [][]float64) {
+	rng := rand.New(rand.NewPCG(seed, 1))
+	var c Curve
+	ln := Line{Axis: 0}
+	for i := 0; i < 17; i++ {
+		x := 1.9 + 0.05*float64(i)
+		c.Pos = append(c.Pos, []float64{x})
+		c.Val = append(c.Val, -(x-at)*(x-at))
+		ln.Idx = append(ln.Idx, i)
+	}
+	c.Lines = []Line{ln}
+	reps := make([][]float64, B)
+	for b := range reps {
+		for _, v := range c.Val {
+			reps[b] = append(reps[b], v+sd*rng.NormFloat64())
+		}
+	}
+	return c, c.Val, reps
+}
+
+func TestCheckUnseen(t *testing.T) {
+	for _, tc := range []struct {
+		name           string
+		unseenAt       float64
+		wantLo, wantHi float64 // bounds on the error added to the peak
+		wantFar, noted bool
+	}{
+		{"same curve", 2.3, 0, 0.01, false, false},
+		{"moved by two steps", 2.4, 0.07, 0.13, false, true},
+		{"peak elsewhere", 2.62, 0, 1, true, true},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			c, _, reps := curveWithPeak(2.3, 0.0005, 100, 1)
+			c.Err = make([]float64, len(c.Val))
+			findPeaks(&c, reps, nil, true, nil)
+			if len(c.Peaks) != 1 {
+				t.Fatalf("found %d peaks on the seen curve, want 1", len(c.Peaks))
+			}
+			before := c.Peaks[0].Err[0]
+			_, uval, ureps := curveWithPeak(tc.unseenAt, 0.0015, 100, 2)
+			if tc.wantFar {
+				// A second, higher bump far from the peak only on the unseen curve.
+				for i := range uval {
+					x := c.Pos[i][0]
+					bump := 0.2 * math.Exp(-(x-2.62)*(x-2.62)/0.002)
+					uval[i] += bump
+					for b := range ureps {
+						ureps[b][i] += bump
+					}
+				}
+			}
+			far := checkUnseen(&c, uval, ureps)
+			pk := c.Peaks[0]
+			if pk.Unseen == nil {
+				t.Fatal("no comparison recorded")
+			}
+			if pk.Unseen.Added < tc.wantLo || pk.Unseen.Added > tc.wantHi {
+				t.Errorf("added %.4f to the error (shift %.4f, noise %.4f), want it in [%v, %v]", pk.Unseen.Added, pk.Unseen.Shift, pk.Unseen.Noise, tc.wantLo, tc.wantHi)
+			}
+			if got := math.Hypot(before, pk.Unseen.Added); math.Abs(pk.Err[0]-got) > 1e-12 {
+				t.Errorf("error %.6f, want the bootstrap's %.6f and the added %.6f in quadrature", pk.Err[0], before, pk.Unseen.Added)
+			}
+			if (len(far) > 0) != tc.wantFar {
+				t.Errorf("%d peaks only on the unseen curve, want them: %v", len(far), tc.wantFar)
+			}
+			c.Name = "lbc"
+			notes := unseenNotes([]*Curve{&c}, map[string][]Peak{"lbc": far}, []string{"T"})
+			if (len(notes) > 0) != tc.noted || (tc.noted && !strings.Contains(notes[0], "lbc moves")) {
+				t.Errorf("notes %q, want one: %v", notes, tc.noted)
+			}
+		})
+	}
+}
