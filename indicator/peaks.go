@@ -197,8 +197,57 @@ func findPeaks(c *Curve, reps [][]float64, srcVals [][]float64, tested bool, noi
 			pk.HeightErr = ey
 			c.Peaks = append(c.Peaks, pk)
 		}
+		highestSpread(c, li, x, reps, srcVals)
 	}
 	sort.SliceStable(c.Peaks, func(i, j int) bool { return c.Peaks[i].Line < c.Peaks[j].Line })
+}
+
+// highestSpread widens the error of the highest peak found on line li (if
+// any) to the spread of where each bootstrap replicate, and each source,
+// has its own highest maximum on the line. Following the one local maximum
+// into the replicates (findPeaks) measures how that maximum wobbles; on a
+// noisy curve with two maxima of similar height, which of them is highest
+// changes between replicates and sources, and the highest peak's position
+// is uncertain by their distance.
+func highestSpread(c *Curve, li int, x []float64, reps, srcVals [][]float64) {
+	top := -1
+	for i := range c.Peaks {
+		if c.Peaks[i].Line == li && (top < 0 || c.Peaks[i].Height > c.Peaks[top].Height) {
+			top = i
+		}
+	}
+	if top < 0 {
+		return
+	}
+	ln := c.Lines[li]
+	at := func(set [][]float64) []float64 {
+		var xs []float64
+		rv := make([]float64, len(ln.Idx))
+		for _, r := range set {
+			best := 0
+			for j, p := range ln.Idx {
+				rv[j] = r[p]
+				if rv[j] > rv[best] || math.IsNaN(rv[best]) {
+					best = j
+				}
+			}
+			a, _ := nearestMax(x, rv, best, 0)
+			xs = append(xs, a)
+		}
+		return xs
+	}
+	pk := &c.Peaks[top]
+	boot := math.Max(pk.bootErr, stdDev(at(reps)))
+	e := boot
+	if len(srcVals) > 1 {
+		src := stdDev(at(srcVals))
+		if src2 := pk.Err[ln.Axis]*pk.Err[ln.Axis] - pk.bootErr*pk.bootErr; src2 > src*src {
+			src = math.Sqrt(src2)
+		}
+		e = math.Hypot(boot, src)
+	}
+	pk.bootErr = boot
+	pk.Err[ln.Axis] = e
 }
 
 // stdDev returns the sample standard deviation (n−1), or 0 for fewer than
