@@ -11,7 +11,8 @@ import (
 // TestTrainAugmentAuto checks that --augment auto trains with the
 // symmetries a simulated dataset's source record states (the isotropic
 // zero-field Ising model on a periodic square lattice has all four: common
-// practice), and that without --augment nothing is augmented.
+// practice), as it does by default, and that --augment none augments
+// nothing.
 func TestTrainAugmentAuto(t *testing.T) {
 	dir := t.TempDir()
 	ds := filepath.Join(dir, "d.npz")
@@ -23,7 +24,8 @@ func TestTrainAugmentAuto(t *testing.T) {
 		want []string
 	}{
 		{[]string{"--augment", "auto"}, []string{"translate", "mirror", "rotate", "flip"}},
-		{nil, nil},
+		{nil, []string{"translate", "mirror", "rotate", "flip"}},
+		{[]string{"--augment", "none"}, nil},
 	} {
 		ck := filepath.Join(dir, "m.ckpt")
 		args := append([]string{"train", ds, "-o", ck, "--epochs", "1", "--hidden", "16", "--threads", "1", "--quiet", "--force"}, tc.args...)

@@ -199,6 +199,7 @@ func (st *Study) chainRequest(l int) chain.Request {
 func (st *Study) trainSettings(seed uint64) (train.Settings, error) {
 	m := st.Model
 	ts := train.DefaultSettings()
+	ts.Arch.Precision = "float32" // train's default, as is the augmentation (trainUnit)
 	if len(m.Hidden) > 0 {
 		ts.Arch.Hidden = m.Hidden
 	}
@@ -221,7 +222,11 @@ func (st *Study) trainSettings(seed uint64) (train.Settings, error) {
 	if m.ValFrac != 0 {
 		ts.ValFrac = m.ValFrac
 	}
-	aug, err := train.ParseAugment(m.Augment)
+	spec := m.Augment
+	if spec == "auto" {
+		spec = "" // the dataset's own symmetries, chosen by trainUnit
+	}
+	aug, err := train.ParseAugment(spec)
 	if err != nil {
 		return ts, err
 	}

@@ -73,8 +73,9 @@ func (p *Plan) work(u Unit) (*work, error) {
 		}
 		ts = memberSettings(ts, st.Model.Ensemble, u.Member)
 		in, out := p.datasetOf(u.Size), modelPath(u.Size, u.Member)
-		return &work{settings: []any{ts, u.Member}, inputs: []string{in}, outputs: []string{out}, run: func(ctx context.Context) error {
-			return trainUnit(ctx, in, abs(out), ts)
+		auto := st.Model.Augment == "" || st.Model.Augment == "auto"
+		return &work{settings: []any{ts, u.Member, auto}, inputs: []string{in}, outputs: []string{out}, run: func(ctx context.Context) error {
+			return trainUnit(ctx, in, abs(out), ts, auto)
 		}}, nil
 	case StageMatrix:
 		in := p.datasetOf(u.Size)
@@ -215,10 +216,14 @@ func writeDataset(ds *data.Dataset, path string) error {
 
 // trainUnit trains the model ts describes (one ensemble member) on the
 // dataset at dataPath and saves its checkpoint at out.
-func trainUnit(ctx context.Context, dataPath, out string, ts train.Settings) error {
+func trainUnit(ctx context.Context, dataPath, out string, ts train.Settings, autoAugment bool) error {
 	ds, err := data.Read(dataPath)
 	if err != nil {
 		return err
+	}
+	if sm, err := ising.ParseSourceMeta(ds.Meta); autoAugment && err == nil {
+		// As train --augment auto, the command's default.
+		ts.Augment = sm.Symmetries()
 	}
 	ck, err := train.Run(ctx, ds, train.Options{Settings: ts, DataPath: dataPath, Software: Software})
 	if err != nil {
