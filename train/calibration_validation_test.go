@@ -90,6 +90,18 @@ func TestErrorBarCalibration(t *testing.T) {
 		exact := calPeaks(t, []density.Source{ref}, ds, nil)
 		st := DefaultSettings()
 		st.Epochs, st.Arch.Kind = epochs, arch
+		if os.Getenv("CAL_AUG") != "none" {
+			// train's default (--augment auto): the symmetries the
+			// dataset's source record states.
+			sm, err := ising.ParseSourceMeta(ds.Meta)
+			if err != nil {
+				t.Fatal(err)
+			}
+			st.Augment = sm.Symmetries()
+		}
+		if p := os.Getenv("CAL_PRECISION"); p != "" {
+			st.Arch.Precision = p
+		}
 		single, err := Run(ctx, ds, Options{Settings: st})
 		if err != nil {
 			t.Fatal(err)
@@ -169,7 +181,7 @@ func TestErrorBarCalibration(t *testing.T) {
 // nData datasets.
 func calTable(table map[string]map[string]*calCount, configs []calConfig, nData, samples, epochs int, arch ArchKind, took time.Duration) string {
 	var b strings.Builder
-	fmt.Fprintf(&b, "16×16 Ising, %d datasets × 17 temperatures × %d snapshots, %d epochs, arch %q, resampling %v, %v\n", nData, samples, epochs, arch, os.Getenv("CAL_BAG") == "1", took.Round(time.Second))
+	fmt.Fprintf(&b, "16×16 Ising, %d datasets × 17 temperatures × %d snapshots, %d epochs, arch %q, resampling %v, augment %q, precision %q, %v\n", nData, samples, epochs, arch, os.Getenv("CAL_BAG") == "1", os.Getenv("CAL_AUG"), os.Getenv("CAL_PRECISION"), took.Round(time.Second))
 	fmt.Fprintf(&b, "%-13s %-12s %3s %7s %7s %7s %10s %10s\n", "indicator", "errors of", "n", "no peak", "in 1σ", "in 2σ", "mean |Δ|", "median σ")
 	for _, ind := range calIndicators {
 		for _, c := range configs {
