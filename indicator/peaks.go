@@ -204,7 +204,7 @@ func findPeaks(c *Curve, reps [][]float64, srcVals [][]float64, tested bool, noi
 
 // highestSpread widens the error of the highest peak found on line li (if
 // any) to the spread of where each bootstrap replicate, and each source,
-// has its own highest maximum on the line. Following the one local maximum
+// has its own highest interior local maximum on the line. Following the one local maximum
 // into the replicates (findPeaks) measures how that maximum wobbles; on a
 // noisy curve with two maxima of similar height, which of them is highest
 // changes between replicates and sources, and the highest peak's position
@@ -224,14 +224,22 @@ func highestSpread(c *Curve, li int, x []float64, reps, srcVals [][]float64) {
 		var xs []float64
 		rv := make([]float64, len(ln.Idx))
 		for _, r := range set {
-			best := 0
 			for j, p := range ln.Idx {
 				rv[j] = r[p]
-				if rv[j] > rv[best] || math.IsNaN(rv[best]) {
-					best = j
+			}
+			// The highest interior local maximum: the ends of a line are
+			// not peaks (lbc's curve rises towards them).
+			idx, _, _ := localMaxima(rv)
+			best := -1
+			for _, i := range idx {
+				if best < 0 || rv[i] > rv[best] {
+					best = i
 				}
 			}
-			a, _ := nearestMax(x, rv, best, 0)
+			if best < 0 {
+				continue
+			}
+			a, _ := refineAt(x, rv, best)
 			xs = append(xs, a)
 		}
 		return xs

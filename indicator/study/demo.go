@@ -264,6 +264,11 @@ func (d *Demo) scan(ctx context.Context, w io.Writer, ck *checkpoints.Checkpoint
 		return nil, nil, err
 	}
 	cfg := indicator.Config{ModelSamples: d.ModelSamples, Bootstrap: d.Bootstrap, Threads: d.Threads, Seed: d.Seed, Progress: d.Progress}
+	// As scan does for a model of its own data: the peaks are compared on
+	// the snapshots the model did not train on as well.
+	if cfg.Unseen, err = train.UnseenRows(ds, ck); err != nil {
+		return nil, nil, err
+	}
 	var stopped bool
 	res, stopped, err = Scan(ctx, []density.Source{mdl}, ds, cfg)
 	if stopped {
@@ -278,7 +283,7 @@ func (d *Demo) scan(ctx context.Context, w io.Writer, ck *checkpoints.Checkpoint
 	if err != nil {
 		return nil, nil, err
 	}
-	cfg.Progress = nil
+	cfg.Progress, cfg.Unseen = nil, nil
 	eres, err = indicator.Run(ctx, []density.Source{ksrc}, ds, cfg)
 	if err != nil {
 		return nil, nil, fmt.Errorf("exact scan: %w", err)
