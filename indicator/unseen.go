@@ -155,6 +155,10 @@ func unseenNotes(curves []*Curve, far map[string][]Peak, names []string) []strin
 		for _, up := range far[c.Name] {
 			moved = append(moved, fmt.Sprintf("its highest peak there at %s, far from every peak on all snapshots", formatAt(names, up.At)))
 		}
+		if n := len(moved); n > 4 {
+			// A 2-D map has a line per grid row: name a few.
+			moved = append(moved[:3], fmt.Sprintf("and %d more", n-3))
+		}
 		if len(moved) > 0 {
 			out = append(out, fmt.Sprintf("%s moves on the snapshots the model did not train on (%s): part of the curve reflects the training snapshots themselves rather than their distribution; the shifts join the peak errors, and a peak seen on only one of the two sets is not to be trusted", c.Name, joinComma(moved)))
 		}
