@@ -144,6 +144,12 @@ func Run(ctx context.Context, sources []density.Source, ds *data.Dataset, cfg Co
 	}
 	if res.UnseenChecked {
 		res.Notes = append(res.Notes, unseenNotes(curves, far, g.Names)...)
+		for _, c := range curves {
+			if c.Name == "fisher_deriv" && len(sources) == 1 {
+				res.Notes = append(res.Notes, "fisher_deriv is computed from snapshots the model draws itself, so the check on unseen snapshots does not apply to it: with one model its error bars are the bootstrap's alone and exclude the model's own error (train --ensemble K adds the spread of members' peaks)")
+				break
+			}
+		}
 	} else if cfg.Unseen != nil && cfg.Bootstrap > 0 && !cfg.ExactSums {
 		res.Notes = append(res.Notes, fmt.Sprintf("the curves were not compared on the snapshots the model did not train on: some grid point has fewer than %d of them", minUnseen))
 	}

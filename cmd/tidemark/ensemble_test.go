@@ -112,9 +112,12 @@ func TestSingleModelScanSaysErrorsExcludeModel(t *testing.T) {
 		{other, []string{"exclude the model's own error"}},
 	} {
 		scan := filepath.Join(dir, "scan-"+filepath.Base(tc.data))
-		out, err := execTidemark(t, "scan", "--model", m, "--data", tc.data, "--indicators", "lbc", "--bootstrap", "10", "-o", scan, "--quiet")
+		out, err := execTidemark(t, "scan", "--model", m, "--data", tc.data, "--indicators", "lbc,fisher", "--bootstrap", "10", "--model-samples", "100", "-o", scan, "--quiet")
 		if err != nil {
 			t.Fatal(err)
+		}
+		if tc.data == ds && !strings.Contains(out, "fisher_deriv is computed from snapshots the model draws itself") {
+			t.Errorf("the scan of the model's own data does not say that fisher_deriv escapes the unseen check:\n%s", out)
 		}
 		for name, text := range map[string]string{"output": out, "summary.json": read(t, filepath.Join(scan, "summary.json")), "report.html": read(t, filepath.Join(scan, "report.html"))} {
 			for _, w := range tc.want {
