@@ -20,7 +20,9 @@ type Unseen struct {
 	At, Err float64
 	// Shift is At minus the peak's own position; Noise the part of it that
 	// sampling alone explains (one standard deviation of the difference
-	// between a subset's estimate and the whole set's).
+	// between a subset's estimate and the whole set's, √(Err² − σ²) with σ
+	// the peak's bootstrap error on all snapshots; σ includes the
+	// highest-peak spread, so Noise errs small and Added large).
 	Shift, Noise float64
 	// Added is the model term the shift adds to the peak's error, in
 	// quadrature: √(Shift² − Noise²), or 0.
