@@ -18,6 +18,13 @@ func UnseenRows(ds *data.Dataset, ck *checkpoints.Checkpoint) ([]bool, error) {
 	if checkpoints.Fingerprint(ds) != ck.Header.Dataset.Fingerprint {
 		return nil, nil
 	}
+	return UnseenRowsOfTrainingData(ds, ck)
+}
+
+// UnseenRowsOfTrainingData is UnseenRows for a dataset the caller has
+// already found to be ck's training data (same fingerprint), so that
+// checking the members of an ensemble hashes the data once.
+func UnseenRowsOfTrainingData(ds *data.Dataset, ck *checkpoints.Checkpoint) ([]bool, error) {
 	st := SavedSettings(ck)
 	g := data.NewGrid(ds)
 	held, err := ParseHoldout(ck.Header.HoldoutSpec, g)

@@ -74,6 +74,7 @@ func ModelSources(ds *data.Dataset, models []string) ([]density.Source, []bool, 
 	var sources []density.Source
 	var unseen []bool
 	moot := false // some model never saw ds: every row is unseen by it
+	fp := checkpoints.Fingerprint(ds)
 	for _, name := range models {
 		cks, paths, err := checkpoints.LoadEnsemble(name)
 		if err != nil {
@@ -89,13 +90,15 @@ func ModelSources(ds *data.Dataset, models []string) ([]density.Source, []bool, 
 				return nil, nil, fmt.Errorf("%s: %w", p, err)
 			}
 			sources = append(sources, m)
-			u, err := train.UnseenRows(ds, ck)
+			if ck.Header.Dataset.Fingerprint != fp {
+				moot = true
+				continue
+			}
+			u, err := train.UnseenRowsOfTrainingData(ds, ck)
 			if err != nil {
 				return nil, nil, fmt.Errorf("%s: %w", p, err)
 			}
 			switch {
-			case u == nil:
-				moot = true
 			case unseen == nil:
 				unseen = u
 			default:
