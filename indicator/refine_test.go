@@ -54,7 +54,9 @@ func TestSeveralSourcesAddTheirSpread(t *testing.T) {
 	a := &densitytest.Logistic{N: 16, D: 1, A: 6, C: 1.0}
 	b := &densitytest.Logistic{N: 16, D: 1, A: 6, C: 1.3}
 	ds := bernoulliData(a, linspace(0, 2, 21), nil, 500, 4)
-	cfg := Config{Bootstrap: 30, Threads: 2, Seed: 3, ModelSamples: 4000, Indicators: []string{Fisher}}
+	// Refine 2: fisher_deriv reads each source's own samples, so the two
+	// peak where their own Fisher information does.
+	cfg := Config{Bootstrap: 30, Threads: 2, Seed: 3, ModelSamples: 4000, Refine: 2, Indicators: []string{Fisher}}
 	one, err := Run(context.Background(), []density.Source{a}, ds, cfg)
 	if err != nil {
 		t.Fatal(err)
@@ -101,5 +103,41 @@ func TestRefinedScanIndependentOfThreads(t *testing.T) {
 				}
 			}
 		}
+	}
+}
+
+// TestFisherDerivReadsTheData checks which snapshots fisher_deriv averages
+// over: on the data's own grid the data's, elsewhere (refined) the source's
+// samples. A source with its sites' probability p_b scored on data whose
+// sites are 1 with probability p_a has ∂_λ log p_b = A Σ_i (x_i − p_b), so
+// E_a[(∂_λ log p_b)²] = A² [N p_a(1−p_a) + N² (p_a−p_b)²] (variance plus
+// squared mean of a binomial sum; common practice), while its own Fisher
+// information is N A² p_b(1−p_b).
+func TestFisherDerivReadsTheData(t *testing.T) {
+	a := &densitytest.Logistic{N: 16, D: 1, A: 4, C: 1.0}
+	b := &densitytest.Logistic{N: 16, D: 1, A: 4, C: 1.2}
+	ds := bernoulliData(a, linspace(0, 2, 11), nil, 2000, 5)
+	for _, tc := range []struct {
+		name   string
+		refine int
+		want   func(n, pa, pb float64) float64
+	}{
+		{"data grid", 1, func(n, pa, pb float64) float64 { return n*pa*(1-pa) + n*n*(pa-pb)*(pa-pb) }},
+		{"refined", 2, func(n, pa, pb float64) float64 { return n * pb * (1 - pb) }},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			cfg := Config{Bootstrap: 20, Threads: 2, Seed: 7, ModelSamples: 2000, Refine: tc.refine, Indicators: []string{Fisher}}
+			res, err := Run(context.Background(), []density.Source{b}, ds, cfg)
+			if err != nil {
+				t.Fatal(err)
+			}
+			fd := curveByName(t, res.Curves, "fisher_deriv")
+			for i, p := range fd.Pos {
+				want := b.A * b.A * tc.want(float64(b.N), a.P(p), b.P(p))
+				if d := math.Abs(fd.Val[i] - want); d > 5*fd.Err[i]+1e-9 {
+					t.Errorf("fisher_deriv at %v: %.4g ± %.2g, closed form %.4g", p, fd.Val[i], fd.Err[i], want)
+				}
+			}
+		})
 	}
 }

@@ -46,8 +46,8 @@ from the exact density of the same snapshots (and whether the two agree within
 their errors), the exact answer for the same finite lattice (the maximum of the
 heat capacity from Kaufman's partition function, Phys. Rev. 76, 1232 (1949)) and
 Onsager's T_c = 2/ln(1+√2) ≈ 2.2692 of the infinite lattice (Phys. Rev. 65, 117
-(1944)). The scan draws 1000 model snapshots per point for fisher_deriv, as scan
-does by default. No network is needed; the run takes under a minute on two
+(1944)). Its fisher_deriv averages over the data's own snapshots, as scan does on
+the data's grid. No network is needed; the run takes under a minute on two
 cores.`,
 		Example: `  tidemark demo
   tidemark demo -o tour/ --force --threads 2
@@ -69,7 +69,7 @@ cores.`,
 	f.IntVar(&o.Points, "points", o.Points, "number of temperatures")
 	f.IntVar(&o.Samples, "samples", o.Samples, "snapshots per temperature")
 	f.IntVar(&o.Epochs, "epochs", o.Epochs, "maximum training epochs")
-	f.IntVar(&o.ModelSamples, "model-samples", o.ModelSamples, "snapshots drawn from the model per point for fisher_deriv")
+	f.IntVar(&o.ModelSamples, "model-samples", o.ModelSamples, "snapshots drawn from the model per point where the scan samples")
 	f.IntVar(&o.Bootstrap, "bootstrap", o.Bootstrap, "bootstrap resamples")
 	f.BoolVar(&o.Symmetric, "symmetric", o.Symmetric, "spin-flip symmetric model")
 	f.Float64Var(&o.TLo, "t-lo", o.TLo, "lowest temperature")

@@ -116,8 +116,11 @@ func TestSingleModelScanSaysErrorsExcludeModel(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if tc.data == ds && !strings.Contains(out, "fisher_deriv is computed from snapshots the model draws itself") {
-			t.Errorf("the scan of the model's own data does not say that fisher_deriv escapes the unseen check:\n%s", out)
+		if strings.Contains(out, "fisher_deriv is computed from snapshots the model draws itself") {
+			t.Errorf("on the data's own grid fisher_deriv reads the data, but the scan says it escapes the unseen check:\n%s", out)
+		}
+		if tc.data == ds {
+			checkDerivUnseen(t, filepath.Join(scan, "summary.json"))
 		}
 		for name, text := range map[string]string{"output": out, "summary.json": read(t, filepath.Join(scan, "summary.json")), "report.html": read(t, filepath.Join(scan, "report.html"))} {
 			for _, w := range tc.want {
@@ -177,5 +180,34 @@ func TestEnsembleSeedOnlyByDefault(t *testing.T) {
 	}
 	if e := a.Header.Ensemble; e == nil || !e.NoResample || a.Header.Training.TrainSnapshots != s.Header.Training.TrainSnapshots {
 		t.Errorf("member 2: ensemble record %+v, %d training snapshots against the single model's %d", e, a.Header.Training.TrainSnapshots, s.Header.Training.TrainSnapshots)
+	}
+}
+
+// checkDerivUnseen checks that a scan of a model's own data compared
+// fisher_deriv's peaks on the unseen snapshots, as every other curve's: on
+// the data's grid fisher_deriv averages over the data's snapshots.
+func checkDerivUnseen(t *testing.T, summary string) {
+	t.Helper()
+	var s struct {
+		Indicators map[string]struct {
+			Peaks []struct {
+				Unseen *struct{} `json:"unseen"`
+			} `json:"peaks"`
+		} `json:"indicators"`
+	}
+	if err := json.Unmarshal([]byte(read(t, summary)), &s); err != nil {
+		t.Fatal(err)
+	}
+	fd, ok := s.Indicators["fisher_deriv"]
+	if !ok {
+		t.Fatal("summary.json has no fisher_deriv")
+	}
+	if len(fd.Peaks) == 0 {
+		t.Fatal("fisher_deriv has no peak to compare")
+	}
+	for i, p := range fd.Peaks {
+		if p.Unseen == nil {
+			t.Errorf("fisher_deriv peak %d was not compared on the unseen snapshots", i+1)
+		}
 	}
 }

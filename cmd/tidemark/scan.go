@@ -88,7 +88,7 @@ each second pass gets its own zoom-<i>.csv.`,
 	f.StringArrayVar(&o.models, "model", nil, "trained model checkpoint (.ckpt; an ensemble's first file brings all its members); repeat for several models, whose spread joins the errors")
 	f.StringVar(&o.indicators, "indicators", "all", "comma-separated indicators: all, or some of lbc,sl,pbm,local,fisher")
 	f.IntVar(&o.refine, "refine", 1, "insert R−1 points between neighbouring grid points (1-D: everywhere; 2-D: on the grid edges a boundary crosses, for the fisher map); needs a source that samples")
-	f.IntVar(&o.modelSamples, "model-samples", study.ScanModelSamples, "snapshots drawn from the source at every point of a refined or zoomed grid, and at every point for fisher_deriv")
+	f.IntVar(&o.modelSamples, "model-samples", study.ScanModelSamples, "snapshots drawn from the source at every point of a refined or zoomed grid (fisher_deriv included; on the data's own grid it reads the data's snapshots)")
 	f.BoolVar(&o.dataAtGrid, "data-at-grid", false, "on a refined grid, keep the data snapshots at the data's grid points (default: the source's own samples everywhere, for a consistent curve)")
 	f.BoolVar(&o.zoom, "zoom", false, "re-scan a finer grid (2R+1 points over ±1 step of the scanned grid, R = max(refine, 2)) around each peak; on a 2-D grid along the line of the peak")
 	f.IntVar(&o.bootstrap, "bootstrap", 100, "bootstrap resamples for the errors (0: no errors)")

@@ -27,8 +27,8 @@ import (
 var OnsagerTc = 2 / math.Log(1+math.Sqrt2)
 
 // ScanModelSamples is the default number of snapshots a scan draws from a
-// source at every point for fisher_deriv and on refined grids; the demo
-// uses the same number.
+// source at every point of a refined or zoomed grid (fisher_deriv
+// included; on the data's own grid it reads the data's snapshots).
 const ScanModelSamples = 1000
 
 // Files of the demo folder.
@@ -46,8 +46,8 @@ var ErrStopped = errors.New("demo stopped")
 // Demo is the built-in scenario: the 2-D Ising model (J = 1, h = 0) on a
 // Size×Size periodic lattice, Samples snapshots at each of Points
 // temperatures from TLo to THi, a model trained for at most Epochs epochs,
-// and a scan with ModelSamples model snapshots per point for fisher_deriv
-// and Bootstrap resamples.
+// and a scan with Bootstrap resamples (ModelSamples model snapshots per
+// point wherever the scan draws from the model).
 type Demo struct {
 	Size, Points, Samples, Epochs, ModelSamples, Bootstrap int
 	TLo, THi                                               float64
@@ -277,8 +277,8 @@ func (d *Demo) scan(ctx context.Context, w io.Writer, ck *checkpoints.Checkpoint
 	if err != nil {
 		return nil, nil, fmt.Errorf("scan: %w", err)
 	}
-	fmt.Fprintf(w, "scanned %d indicators in %.0f s (%d bootstrap resamples; %d model snapshots per point for fisher_deriv, as scan --model-samples)\n",
-		len(res.Curves), time.Since(start).Seconds(), res.Bootstrap, d.ModelSamples)
+	fmt.Fprintf(w, "scanned %d indicators in %.0f s (%d bootstrap resamples; fisher_deriv over the data's snapshots, as scan on the data's grid)\n",
+		len(res.Curves), time.Since(start).Seconds(), res.Bootstrap)
 	ksrc, err := ising.NewKaufmanSource(ising.Lattice{Ly: d.Size, Lx: d.Size}, []string{"T"}, ising.Couplings{Jx: 1, Jy: 1})
 	if err != nil {
 		return nil, nil, err
