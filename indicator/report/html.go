@@ -297,9 +297,9 @@ func HTML(res *indicator.Result, sum *Summary, pics map[string][]byte, pg *Page)
 		d.SourceNote = "The density is the trained model. Its indicators are only as good as its fit: compare the validation and held-out likelihoods, and run check where an exact reference exists."
 		switch {
 		case !sum.Errors.ModelError:
-			d.ErrorsWarning = "With one model, " + SingleModelWarning + "."
+			d.ErrorsWarning = "With one model, " + SingleModelWarning + "; " + CalibrationNote + "."
 		case sum.Errors.UnseenShift && sum.Errors.EnsembleMembers == 1:
-			d.ErrorsWarning = "With one model, " + UnseenStatement + ", but " + UnseenBiasWarning + "."
+			d.ErrorsWarning = "With one model, " + UnseenStatement + ", but " + UnseenBiasWarning + "; " + CalibrationNote + "."
 		}
 	}
 	for _, c := range res.Curves {
