@@ -150,7 +150,7 @@ func unseenNotes(curves []*Curve, far map[string][]Peak, names []string) []strin
 	for _, c := range curves {
 		var moved []string
 		for _, pk := range c.Peaks {
-			if u := pk.Unseen; u != nil && math.Abs(u.Shift) > 2*u.Noise && u.Added > 0 {
+			if u := pk.Unseen; u != nil && math.Abs(u.Shift) > 2*u.Noise && material(pk.Err[c.Lines[pk.Line].Axis], u.Added) {
 				moved = append(moved, fmt.Sprintf("%.4g → %.4g", pk.At[c.Lines[pk.Line].Axis], u.At))
 			}
 		}
@@ -166,6 +166,15 @@ func unseenNotes(curves []*Curve, far map[string][]Peak, names []string) []strin
 		}
 	}
 	return out
+}
+
+// material reports that an added error changes a peak's error (err, the
+// added part included) by more than a few per cent: only then does its
+// shift get a note, so that a shift of 0.0004 on a peak known to ±0.19 is
+// not announced as a move.
+func material(err, added float64) bool {
+	before := math.Sqrt(math.Max(err*err-added*added, 0))
+	return added > 0 && added > 0.25*before
 }
 
 func formatAt(names []string, at []float64) string {

@@ -82,3 +82,28 @@ func TestCheckUnseen(t *testing.T) {
 		})
 	}
 }
+
+// TestUnseenNoteOnlyForMaterialShifts checks that a shift beyond the
+// unseen curve's noise is noted only when it changes the peak's error.
+func TestUnseenNoteOnlyForMaterialShifts(t *testing.T) {
+	for _, tc := range []struct {
+		name         string
+		err, shift   float64
+		noise, added float64
+		noted        bool
+	}{
+		{"tiny shift on a broad peak", 0.19, 0.0004, 0, 0.0004, false},
+		{"shift as large as the error", 0.01, 0.01, 0, 0.01, true},
+		{"shift within the noise", 0.01, 0.01, 0.02, 0, false},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			c := Curve{Name: "fisher_deriv", Pos: [][]float64{{2.2}, {2.25}, {2.3}}, Lines: []Line{{Axis: 0, Idx: []int{0, 1, 2}}}}
+			err := math.Hypot(tc.err, tc.added)
+			c.Peaks = []Peak{{At: []float64{2.25}, Err: []float64{err}, Unseen: &Unseen{At: 2.25 + tc.shift, Shift: tc.shift, Noise: tc.noise, Added: tc.added}}}
+			notes := unseenNotes([]*Curve{&c}, nil, []string{"T"})
+			if (len(notes) > 0) != tc.noted {
+				t.Errorf("notes %q, want one: %v", notes, tc.noted)
+			}
+		})
+	}
+}
