@@ -18,7 +18,9 @@
 // point), so ℓ is computed once and a replicate costs one weighted sum per
 // stored per-sample value, O(M·K). The histogram is the exception: its
 // frequencies are re-estimated from each resample. The derivative Fisher
-// information uses its own samples drawn from the source at every point.
+// information F = E_k[(∂_λ log p)²] averages over the data's snapshots at
+// the data's grid points and over snapshots drawn from the source at
+// refined or zoomed points.
 //
 // # Errors and peaks
 //
@@ -31,7 +33,12 @@
 // difference over the replicates; every local maximum without a bootstrap),
 // refined by a parabola through the top three
 // points; a peak's position error combines the spread of the refined
-// position over replicates and across sources in quadrature.
+// position over replicates and across sources in quadrature, the highest
+// peak's also the spread of where each replicate and each source has its
+// own highest maximum. With Config.Unseen (a model scanned on its own data)
+// every curve is also evaluated on the snapshots the model did not train
+// on, and each peak's shift there beyond sampling noise joins its error
+// (Peak.Unseen).
 //
 // # Placement
 //
