@@ -13,9 +13,9 @@ import (
 )
 
 // StreamBlock is the number of snapshots ScoreStream reads from the file
-// at once by default: 16 jobs of scoreChunk snapshots, 16 MB of states at
+// at once by default: 4 jobs of scoreChunk snapshots, 16 MB of states at
 // 1024 sites. At most streamBuffers blocks are held at a time.
-const StreamBlock = 16 * scoreChunk
+const StreamBlock = 4 * scoreChunk
 
 // streamBuffers is the number of blocks in memory at once: one being read
 // while the others are scored.
