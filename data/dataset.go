@@ -160,6 +160,12 @@ func (ds *Dataset) Validate(file string) error {
 }
 
 func (ds *Dataset) validate(file string, needParams bool) error {
+	return ds.check(file, needParams, true)
+}
+
+// check is validate; without states it leaves out the checks of the
+// states' values (a Stream checks them block by block).
+func (ds *Dataset) check(file string, needParams, states bool) error {
 	bad := func(where, expected, found string) error {
 		return &ValidationError{File: file, Where: where, Expected: expected, Found: found}
 	}
@@ -169,16 +175,16 @@ func (ds *Dataset) validate(file string, needParams bool) error {
 	if ds.N == 0 {
 		return bad("states", "at least one site per snapshot", "0 columns")
 	}
-	if len(ds.States) != ds.M*ds.N {
+	if states && len(ds.States) != ds.M*ds.N {
 		return bad("states", fmt.Sprintf("%d values (%d×%d)", ds.M*ds.N, ds.M, ds.N), fmt.Sprintf("%d", len(ds.States)))
 	}
 	q := ds.Meta.Alphabet
 	if q < 2 || q > 256 {
 		return bad("meta.alphabet", "an integer from 2 to 256", fmt.Sprintf("%d", q))
 	}
-	for i, v := range ds.States {
-		if int(v) >= q {
-			return bad(fmt.Sprintf("states[%d,%d]", i/ds.N, i%ds.N), fmt.Sprintf("a value below the alphabet size %d", q), fmt.Sprintf("%d", v))
+	if states {
+		if err := checkValues(file, ds.States, 0, ds.N, q); err != nil {
+			return err
 		}
 	}
 	prod := 1
@@ -223,6 +229,18 @@ func (ds *Dataset) validate(file string, needParams bool) error {
 	for k, idx := range g.Index {
 		if len(idx) < 2 {
 			return bad("params", "at least 2 samples at every grid point", fmt.Sprintf("%d at %s", len(idx), g.Label(k)))
+		}
+	}
+	return nil
+}
+
+// checkValues checks that every site value of the rows xs of n sites,
+// the first being snapshot first of its file, lies below the alphabet size q.
+func checkValues(file string, xs []uint8, first, n, q int) error {
+	for i, v := range xs {
+		if int(v) >= q {
+			return &ValidationError{File: file, Where: fmt.Sprintf("states[%d,%d]", first+i/n, i%n),
+				Expected: fmt.Sprintf("a value below the alphabet size %d", q), Found: fmt.Sprintf("%d", v)}
 		}
 	}
 	return nil

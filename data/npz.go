@@ -33,19 +33,30 @@ func Read(path string) (*Dataset, error) { return ReadWith(path, ReadOptions{}) 
 
 // ReadWith loads and validates a dataset file with options.
 func ReadWith(path string, opt ReadOptions) (ds *Dataset, err error) {
-	f, err := os.Open(path)
+	f, size, err := openDataset(path)
 	if err != nil {
-		return nil, fmt.Errorf("%s: cannot open dataset: %w", path, unwrapPath(err))
+		return nil, err
 	}
 	defer f.Close()
+	return Decode(f, size, path, opt)
+}
+
+// openDataset opens the dataset file path and returns its size.
+func openDataset(path string) (*os.File, int64, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, 0, fmt.Errorf("%s: cannot open dataset: %w", path, unwrapPath(err))
+	}
 	st, err := f.Stat()
 	if err != nil {
-		return nil, fmt.Errorf("%s: %w", path, err)
+		f.Close()
+		return nil, 0, fmt.Errorf("%s: %w", path, err)
 	}
 	if st.IsDir() {
-		return nil, fmt.Errorf("%s: expected a .npz dataset file, found a folder", path)
+		f.Close()
+		return nil, 0, fmt.Errorf("%s: expected a .npz dataset file, found a folder", path)
 	}
-	return Decode(f, st.Size(), path, opt)
+	return f, st.Size(), nil
 }
 
 func unwrapPath(err error) error {
@@ -64,11 +75,45 @@ func unwrapPath(err error) error {
 // (BenchmarkDecode). Reading each entry to its end also makes archive/zip
 // verify the entry's CRC-32, so a corrupt file is reported.
 func Decode(r io.ReaderAt, size int64, name string, opt ReadOptions) (ds *Dataset, err error) {
-	defer func() {
-		if p := recover(); p != nil {
-			ds, err = nil, &ValidationError{File: name, Where: "archive", Expected: "a readable NumPy .npz archive", Found: fmt.Sprintf("corrupt content (%v)", p)}
-		}
-	}()
+	defer recoverCorrupt(name, &err)
+	h, err := openArchive(r, size, name, opt)
+	if err != nil {
+		return nil, err
+	}
+	defer h.close()
+	ds = h.ds
+	ds.States, err = h.readStates(name)
+	if err != nil {
+		return nil, err
+	}
+	if err := h.readParams(name); err != nil {
+		return nil, err
+	}
+	if err := ds.validate(name, !opt.Unlabelled); err != nil {
+		return nil, err
+	}
+	return ds, nil
+}
+
+// recoverCorrupt turns a panic of the NPY header parser into the error of a
+// corrupt archive.
+func recoverCorrupt(name string, err *error) {
+	if p := recover(); p != nil {
+		*err = &ValidationError{File: name, Where: "archive", Expected: "a readable NumPy .npz archive", Found: fmt.Sprintf("corrupt content (%v)", p)}
+	}
+}
+
+// archive is an opened dataset archive: its meta read, the header of its
+// states checked and the states entry open at the first byte of the body.
+type archive struct {
+	ds     *Dataset // M, N and Meta set; States and Params not read
+	params *zip.File
+	states *npyBody
+}
+
+// openArchive opens the .npz archive of the given size, reads its meta and
+// the header of its states; name is used in messages.
+func openArchive(r io.ReaderAt, size int64, name string, opt ReadOptions) (*archive, error) {
 	bad := func(where, expected, found string) error {
 		return &ValidationError{File: name, Where: where, Expected: expected, Found: found}
 	}
@@ -96,7 +141,7 @@ func Decode(r io.ReaderAt, size int64, name string, opt ReadOptions) (ds *Datase
 	if entry["params"] == nil && !opt.Unlabelled {
 		return nil, bad("archive", `an array named "params"`, fmt.Sprintf("arrays %v", keys))
 	}
-	ds = &Dataset{}
+	ds := &Dataset{}
 
 	// meta
 	mh, metaBytes, err := readNPY(entry["meta"], 1, func(h *npy.Header) string {
@@ -113,7 +158,7 @@ func Decode(r io.ReaderAt, size int64, name string, opt ReadOptions) (ds *Datase
 	}
 
 	// states
-	sh, states, err := readNPY(entry["states"], 1, func(h *npy.Header) string {
+	body, err := openNPY(entry["states"], 1, func(h *npy.Header) string {
 		switch {
 		case !isU1(h.Descr.Type) && !isB1(h.Descr.Type):
 			return "dtype uint8"
@@ -125,101 +170,183 @@ func Decode(r io.ReaderAt, size int64, name string, opt ReadOptions) (ds *Datase
 		return ""
 	})
 	if err != nil {
-		return nil, bad("states", err.Error(), describe(sh))
+		return nil, bad("states", err.Error(), describe(body.header()))
 	}
+	sh := body.h
 	ds.M, ds.N = sh.Descr.Shape[0], sh.Descr.Shape[1]
-	ds.States = states
 	if len(ds.Meta.Lattice) == 0 && ds.N > 0 {
 		ds.Meta.Lattice = []int{ds.N}
 	}
+	return &archive{ds: ds, params: entry["params"], states: body}, nil
+}
 
-	// params
-	if entry["params"] != nil {
-		ph, raw, err := readNPY(entry["params"], 8, func(h *npy.Header) string {
-			s := h.Descr.Shape
-			switch {
-			case !isF8(h.Descr.Type):
-				return "dtype float64 (little-endian)"
-			case len(s) != 1 && len(s) != 2:
-				return "a 2-D array (M × d)"
-			case s[0] != ds.M:
-				return fmt.Sprintf("%d rows, as many as states", ds.M)
-			case h.Descr.Fortran && len(s) == 2 && s[0] > 1 && s[1] > 1:
-				return "C (row-major) order, not Fortran order"
-			}
-			return ""
-		})
-		if err != nil {
-			return nil, bad("params", err.Error(), describe(ph))
+// close closes the states entry.
+func (a *archive) close() { a.states.close() }
+
+// readStates reads the whole body of the states entry.
+func (a *archive) readStates(name string) ([]byte, error) {
+	states, err := a.states.readAll()
+	if err != nil {
+		return nil, &ValidationError{File: name, Where: "states", Expected: err.Error(), Found: describe(a.states.h)}
+	}
+	return states, nil
+}
+
+// readParams reads the params entry, if there is one, into a.ds.
+func (a *archive) readParams(name string) error {
+	ds := a.ds
+	if a.params == nil {
+		return nil
+	}
+	ph, raw, err := readNPY(a.params, 8, func(h *npy.Header) string {
+		s := h.Descr.Shape
+		switch {
+		case !isF8(h.Descr.Type):
+			return "dtype float64 (little-endian)"
+		case len(s) != 1 && len(s) != 2:
+			return "a 2-D array (M × d)"
+		case s[0] != ds.M:
+			return fmt.Sprintf("%d rows, as many as states", ds.M)
+		case h.Descr.Fortran && len(s) == 2 && s[0] > 1 && s[1] > 1:
+			return "C (row-major) order, not Fortran order"
 		}
-		ds.D = 1
-		if len(ph.Descr.Shape) == 2 {
-			ds.D = ph.Descr.Shape[1]
-		}
-		if ds.D > 0 {
-			ds.Params = make([]float64, len(raw)/8)
-			for i := range ds.Params {
-				ds.Params[i] = math.Float64frombits(binary.LittleEndian.Uint64(raw[8*i:]))
-			}
+		return ""
+	})
+	if err != nil {
+		return &ValidationError{File: name, Where: "params", Expected: err.Error(), Found: describe(ph)}
+	}
+	ds.D = 1
+	if len(ph.Descr.Shape) == 2 {
+		ds.D = ph.Descr.Shape[1]
+	}
+	if ds.D > 0 {
+		ds.Params = make([]float64, len(raw)/8)
+		for i := range ds.Params {
+			ds.Params[i] = math.Float64frombits(binary.LittleEndian.Uint64(raw[8*i:]))
 		}
 	}
-	if err := ds.validate(name, !opt.Unlabelled); err != nil {
-		return nil, err
-	}
-	return ds, nil
+	return nil
 }
 
 // readNPY opens one archive entry, parses its NPY header, lets check reject
 // it (check returns what was expected, or ""), and reads the body of
 // elemSize-byte elements to the end of the entry.
 func readNPY(f *zip.File, elemSize int, check func(*npy.Header) string) (*npy.Header, []byte, error) {
+	b, err := openNPY(f, elemSize, check)
+	if err != nil {
+		return b.header(), nil, err
+	}
+	defer b.close()
+	body, err := b.readAll()
+	return b.h, body, err
+}
+
+// npyBody is an archive entry open at the first byte of its NPY body.
+type npyBody struct {
+	h    *npy.Header
+	rc   io.ReadCloser
+	n    uint64 // body bytes
+	read uint64 // body bytes read so far
+}
+
+// header returns the parsed header, or nil when there is none.
+func (b *npyBody) header() *npy.Header {
+	if b == nil {
+		return nil
+	}
+	return b.h
+}
+
+func (b *npyBody) close() {
+	if b != nil && b.rc != nil {
+		b.rc.Close()
+	}
+}
+
+// openNPY opens one archive entry, parses its NPY header, lets check reject
+// it (check returns what was expected, or "") and checks that the entry can
+// hold a body of the header's shape in elemSize-byte elements. On an error
+// the entry is closed and the returned body, if not nil, holds the header.
+func openNPY(f *zip.File, elemSize int, check func(*npy.Header) string) (*npyBody, error) {
 	rc, err := f.Open()
 	if err != nil {
-		return nil, nil, fmt.Errorf("a readable archive entry (%v)", err)
+		return nil, fmt.Errorf("a readable archive entry (%v)", err)
 	}
-	defer rc.Close()
+	fail := func(h *npy.Header, err error) (*npyBody, error) {
+		rc.Close()
+		if h == nil {
+			return nil, err
+		}
+		return &npyBody{h: h}, err
+	}
 	pre, err := npyPreamble(rc)
 	if err != nil {
-		return nil, nil, err
+		return fail(nil, err)
 	}
 	rp, err := npy.NewReader(io.MultiReader(bytes.NewReader(pre), rc))
 	if err != nil {
-		return nil, nil, fmt.Errorf("a NumPy .npy header (%v)", err)
+		return fail(nil, fmt.Errorf("a NumPy .npy header (%v)", err))
 	}
 	h := &rp.Header
 	if msg := check(h); msg != "" {
-		return h, nil, errors.New(msg)
+		return fail(h, errors.New(msg))
 	}
 	n := uint64(elemSize)
 	for _, s := range h.Descr.Shape {
 		if s < 0 || (s > 0 && n > math.MaxInt64/uint64(s)) {
-			return h, nil, errors.New("a valid shape")
+			return fail(h, errors.New("a valid shape"))
 		}
 		n *= uint64(s)
 	}
 	if n > f.UncompressedSize64 {
-		return h, nil, fmt.Errorf("%d data bytes (truncated entry of %d bytes)", n, f.UncompressedSize64)
+		return fail(h, fmt.Errorf("%d data bytes (truncated entry of %d bytes)", n, f.UncompressedSize64))
 	}
 	// Deflate expands data at most 1032:1 (zlib's technical notes; from
 	// memory), so a body larger than that of the compressed entry means a
 	// damaged size; refuse it before allocating the body, since a failed
 	// huge allocation ends the process (found with TestDecodeHugeClaimedSize).
 	if n/1032 > f.CompressedSize64 {
-		return h, nil, fmt.Errorf("%d data bytes (the entry holds only %d compressed bytes)", n, f.CompressedSize64)
+		return fail(h, fmt.Errorf("%d data bytes (the entry holds only %d compressed bytes)", n, f.CompressedSize64))
 	}
-	body := make([]byte, n)
-	if _, err := io.ReadFull(rc, body); err != nil {
-		return h, nil, fmt.Errorf("%d readable data bytes (%v)", n, err)
+	return &npyBody{h: h, rc: rc, n: n}, nil
+}
+
+// readAll reads the whole body and checks that the entry ends there.
+func (b *npyBody) readAll() ([]byte, error) {
+	body := make([]byte, b.n)
+	if err := b.readFull(body); err != nil {
+		return nil, err
 	}
-	// Read to the end so that archive/zip checks the CRC-32.
-	var one [1]byte
-	if k, err := rc.Read(one[:]); k != 0 || !errors.Is(err, io.EOF) {
-		if err == nil || errors.Is(err, io.EOF) {
-			return h, nil, fmt.Errorf("exactly %d data bytes", n)
+	if err := b.end(); err != nil {
+		return nil, err
+	}
+	return body, nil
+}
+
+// readFull reads the next len(dst) bytes of the body.
+func (b *npyBody) readFull(dst []byte) error {
+	if _, err := io.ReadFull(b.rc, dst); err != nil {
+		if errors.Is(err, io.EOF) && b.read > 0 {
+			// Reading the body at once would have ended within it.
+			err = io.ErrUnexpectedEOF
 		}
-		return h, nil, fmt.Errorf("intact data (%v)", err)
+		return fmt.Errorf("%d readable data bytes (%v)", b.n, err)
 	}
-	return h, body, nil
+	b.read += uint64(len(dst))
+	return nil
+}
+
+// end reads to the end of the entry, so that archive/zip checks the
+// CRC-32, and checks that the body was the whole entry.
+func (b *npyBody) end() error {
+	var one [1]byte
+	if k, err := b.rc.Read(one[:]); k != 0 || !errors.Is(err, io.EOF) {
+		if err == nil || errors.Is(err, io.EOF) {
+			return fmt.Errorf("exactly %d data bytes", b.n)
+		}
+		return fmt.Errorf("intact data (%v)", err)
+	}
+	return nil
 }
 
 // maxNPYHeader bounds the NPY header dictionary, so that a damaged length

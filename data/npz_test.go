@@ -125,14 +125,18 @@ func TestDecodeGood(t *testing.T) {
 
 // TestDecodeRejects checks that every kind of bad file gets one line that
 // names the file, the array and what was expected.
-func TestDecodeRejects(t *testing.T) {
+// rejectCase is a damaged dataset file and the message it must get.
+type rejectCase struct {
+	name  string
+	file  []byte
+	where string
+	want  string // substring of the message
+}
+
+// rejectCases returns damaged dataset files with one fault each.
+func rejectCases(t testing.TB) []rejectCase {
 	good := npzOf(t, true, goodEntries())
-	cases := []struct {
-		name  string
-		file  []byte
-		where string
-		want  string // substring of the message
-	}{
+	return []rejectCase{
 		{"missing states", npzOf(t, false, with(func(e map[string]arr) { delete(e, "states") })), "archive", `an array named "states"`},
 		{"missing params", npzOf(t, false, with(func(e map[string]arr) { delete(e, "params") })), "archive", `an array named "params"`},
 		{"missing meta", npzOf(t, false, with(func(e map[string]arr) { delete(e, "meta") })), "archive", `an array named "meta"`},
@@ -211,7 +215,10 @@ func TestDecodeRejects(t *testing.T) {
 		{"empty file", nil, "archive", "zip"},
 		{"corrupt entry", corrupt(good, []byte{0, 1, 0, 1, 1, 1, 0, 0}), "states", "checksum"},
 	}
-	for _, c := range cases {
+}
+
+func TestDecodeRejects(t *testing.T) {
+	for _, c := range rejectCases(t) {
 		t.Run(c.name, func(t *testing.T) {
 			ds, err := Decode(bytes.NewReader(c.file), int64(len(c.file)), "bad.npz", ReadOptions{})
 			if err == nil {

@@ -251,13 +251,14 @@ func (m *Model) gather(p *prep, w *workspace, xs []uint8, r int, flip bool, a0, 
 		}
 		if l0.f32 && (ld == nil || ld.f32) {
 			// Single precision: the float32 inputs of both products are
-			// written straight from the states.
-			for _, ml := range []*maskedLinear{l0, ld} {
-				if ml != nil {
-					ml.fx32 = grow32(ml.fx32, r*n)
-					vStates32(ml.fx32, xs[:r*n], flip)
-					ml.fxOK = true
-				}
+			// written straight from the states, once, and copied.
+			l0.fx32 = grow32(l0.fx32, r*n)
+			vStates32(l0.fx32, xs[:r*n], flip)
+			l0.fxOK = true
+			if ld != nil {
+				ld.fx32 = grow32(ld.fx32, r*n)
+				copy(ld.fx32, l0.fx32)
+				ld.fxOK = true
 			}
 			l0.forward(a0, nil, r, false)
 			if ld != nil {

@@ -71,6 +71,20 @@ func states32Go(dst []float32, xs []uint8, flip bool) {
 	}
 }
 
+// states32Bits is states32Go without a branch per site (random spins
+// defeat the branch predictor): the values of a q = 2 snapshot are 0 or 1,
+// so the input is the value, or 1 minus it when flip is set.
+func states32Bits(dst []float32, xs []uint8, flip bool) {
+	dst = dst[:len(xs)]
+	var fb uint8
+	if flip {
+		fb = 1
+	}
+	for k, v := range xs {
+		dst[k] = float32(v ^ fb)
+	}
+}
+
 // bernBwdGo is its gradient dz = g_i·(x − σ(z)), with σ(z) from the
 // forward pass's e = e^−|z|: 1/(1+e) for z ≥ 0, e/(1+e) below.
 func bernBwdGo(dz, x, z, e, g []float64, rows, n int) {

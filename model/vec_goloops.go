@@ -12,15 +12,65 @@ func vTo64(dst []float64, src []float32, acc bool) { to64Go(dst, src, acc) }
 func vBernFwd(lp, e, x, z []float64, rows, n int, scratch []float64) {
 	bernFwdGo(lp, e, x, z, rows, n, scratch)
 }
-func vStates32(dst []float32, xs []uint8, flip bool) { states32Go(dst, xs, flip) }
+func vStates32(dst []float32, xs []uint8, flip bool) { states32Bits(dst, xs, flip) }
 func vBernBwd(dz, x, z, e, g []float64, rows, n int) {
 	bernBwdGo(dz, x, z, e, g, rows, n)
 }
+
+// vRowLP2 sums the per-site terms x·z − softplus(z) of each row with the
+// softplus of model/vmath (a few ulp from rowLP2Go's terms, which take one
+// logarithm of a product per prodTerms sites; rowLP2Go's scalar exp and
+// log were a fifth of the CPU time of scoring at float32).
 func vRowLP2(dst, z []float64, zs int, xs []uint8, n, rows int, flip bool, scratch []float64) {
-	rowLP2Go(dst, z, zs, xs, n, rows, flip, scratch)
+	sp := scratch[:n]
+	var fb uint8
+	if flip {
+		fb = 1
+	}
+	for i := 0; i < rows; i++ {
+		x := xs[i*n : (i+1)*n]
+		zr := z[i*zs : i*zs+n]
+		vmath.Softplus(sp, zr)
+		s := 0.0
+		for j, v := range x {
+			s += float64(v^fb)*zr[j] - sp[j]
+		}
+		dst[i] = s
+	}
 }
+
+// vBiasAct32 runs softplus through the vectorised kernel of model/vmath,
+// in float64, before rounding to float32 (as the float64 path, vAct64);
+// ReLU through biasAct32Go.
 func vBiasAct32(dst []float32, src64 []float64, src32 []float32, b []float64, rows, w, act int) {
-	biasAct32Go(dst, src64, src32, b, rows, w, act)
+	if act != actSoftplus {
+		biasAct32Go(dst, src64, src32, b, rows, w, act)
+		return
+	}
+	b = b[:w]
+	var buf [256]float64
+	for i := 0; i < rows; i++ {
+		for lo := 0; lo < w; lo += len(buf) {
+			hi := min(w, lo+len(buf))
+			t := buf[:hi-lo]
+			if src64 != nil {
+				s := src64[i*w+lo : i*w+hi]
+				for k := range t {
+					t[k] = s[k] + b[lo+k]
+				}
+			} else {
+				s := src32[i*w+lo : i*w+hi]
+				for k := range t {
+					t[k] = float64(s[k]) + b[lo+k]
+				}
+			}
+			vmath.Softplus(t, t)
+			d := dst[i*w+lo : i*w+hi]
+			for k, v := range t {
+				d[k] = float32(v)
+			}
+		}
+	}
 }
 func vLogits32(z, dx []float64, y []float32, b []float64, rows, w int) {
 	logits32Go(z, dx, y, b, rows, w)

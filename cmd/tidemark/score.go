@@ -61,6 +61,12 @@ spacing. Groups are printed; .npz holds grid, log_posterior (M × K), map, lo68,
 hi68 (M × d) and the group_* arrays; .csv holds one row per snapshot (index,
 label, map_, lo68_, hi68_ per axis) and the groups go to SCORES.groups.csv.
 
+Scoring reads DATA in blocks of 16384 snapshots, scoring each while the
+next is read, so memory holds a few blocks of states and a few dozen bytes
+per snapshot for the results, not the whole file; --posterior reads DATA
+whole (M×N bytes of states). A damaged file is reported when its block is reached, and
+nothing is written then.
+
 DATA must match the model: the same number of sites, alphabet, lattice and
 parameter names. Scoring at a λ outside the range the model was trained on
 (printed by "tidemark inspect MODEL.ckpt") extrapolates and may mislead; so
@@ -125,7 +131,20 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 			return fmt.Errorf("--grid %q: expected at least 2 points, found %d", o.grid, len(grid))
 		}
 	}
-	ds, err := data.ReadWith(dataPath, data.ReadOptions{Unlabelled: at != nil || o.posterior})
+	// --posterior holds the whole dataset (it groups the snapshots by
+	// label); scoring reads the states block by block.
+	opt := data.ReadOptions{Unlabelled: at != nil || o.posterior}
+	var ds *data.Dataset
+	var st *data.Stream
+	if o.posterior {
+		ds, err = data.ReadWith(dataPath, opt)
+	} else {
+		st, err = data.OpenStream(dataPath, opt)
+		if st != nil {
+			defer st.Close()
+			ds = st.Head
+		}
+	}
 	if err != nil {
 		return err
 	}
@@ -156,9 +175,13 @@ func runScore(cmd *cobra.Command, ckPath, dataPath string, o *scoreOptions) erro
 		return runPosterior(cmd, m, ds, grid, names, ckPath, dataPath, ext, o)
 	}
 	bar := progress.New(ds.M, "score", o.quiet)
-	logp, params, err := scorestat.Score(m, ds, at, threadsOrDefault(o.threads), bar.Func())
+	logp, params, err := scorestat.ScoreStream(m, st, at, 0, threadsOrDefault(o.threads), bar.Func())
 	bar.Done()
 	if err != nil {
+		var ve *data.ValidationError
+		if errors.As(err, &ve) {
+			return err // a damaged file, reported as data.Read reports it
+		}
 		return fmt.Errorf("score: %w", err)
 	}
 	npts := 1

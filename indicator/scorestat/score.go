@@ -11,8 +11,10 @@ import (
 // scoreChunk is the largest number of snapshots scored in one job, so that
 // the copies of the jobs in flight stay small beside the dataset itself
 // (10^6 snapshots of 1024 sites at one point would otherwise be copied
-// whole).
-const scoreChunk = 1024
+// whole). It is large enough that the model's per-call preparation (its
+// float32 weights) costs little: at 1024 it was 5% of the CPU time of
+// scoring 1024-site snapshots at one λ.
+const scoreChunk = 4096
 
 // job is one batch of snapshots scored at one λ.
 type job struct {
