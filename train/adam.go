@@ -24,7 +24,20 @@ type Adam struct {
 	// M and V are the first- and second-moment estimates, one slice per
 	// weight slice.
 	M, V [][]float64
+	// active lists, per weight slice, the runs [lo, hi) of entries that can
+	// change (nil: all of them); see SetActive.
+	active [][][2]int
 }
+
+// SetActive tells the optimiser which entries of each weight slice can
+// change: the runs [lo, hi) of runs[i] (model.ActiveRuns), nil for a whole
+// slice. An entry outside them must have weight, gradient and moments 0
+// at every step, as the entries outside a MADE mask do; the step then
+// leaves it 0, so skipping it changes no bit of the result and saves its
+// memory traffic (the step is memory bound: about half of a MADE's
+// entries lie outside its masks). Slices with weight decay are updated
+// whole.
+func (a *Adam) SetActive(runs [][][2]int) { a.active = runs }
 
 // NewAdam returns an optimiser for weight slices of the given lengths with
 // zero moments.
@@ -81,6 +94,21 @@ const adamChunk = 4096
 func (a *Adam) update(w, g [][]float64, lr, bc1, bc2 float64, k, parts int) {
 	for i := range w {
 		decay := a.WeightDecay != 0 && (a.Decay == nil || a.Decay[i])
+		if i < len(a.active) && a.active[i] != nil && !decay {
+			// The runs are cut into pieces of at most adamChunk entries,
+			// dealt to the parts in turn.
+			p := 0
+			for _, r := range a.active[i] {
+				for lo := r[0]; lo < r[1]; lo += adamChunk {
+					if p%parts == k {
+						hi := min(lo+adamChunk, r[1])
+						adamSlice(w[i][lo:hi], g[i][lo:hi], a.M[i][lo:hi], a.V[i][lo:hi], a.Beta1, a.Beta2, a.Eps, lr, bc1, bc2, 0, false)
+					}
+					p++
+				}
+			}
+			continue
+		}
 		n := len(g[i])
 		size, stride := adamChunk, adamChunk*parts
 		if parts == 1 {

@@ -578,6 +578,7 @@ func (r *run) finishSetup(best [][]float64) error {
 	for i, t := range r.m.Weights {
 		r.adam.Decay[i] = len(t.Shape) >= 2
 	}
+	r.adam.SetActive(r.m.ActiveRuns())
 	if best == nil {
 		best = make([][]float64, len(r.w))
 		for i, w := range r.w {
