@@ -297,6 +297,7 @@ type run struct {
 	w        [][]float64 // views of m.Weights[i].Data
 	best     [][]float64
 	avg      [][]float64 // the moving average's accumulator (nil without Settings.Average)
+	keep     saved       // save's in-memory buffers, reused every epoch
 	decay    float64     // the moving average's decay per step
 	gsum     [][]float64 // gradient of the mean NLL per site of a minibatch
 	trainIdx []int
@@ -672,7 +673,20 @@ func (r *run) save() saved {
 			return saved{file: f, step: r.adam.Step}
 		}
 	}
-	return saved{w: clone2(r.w), m: clone2(r.adam.M), v: clone2(r.adam.V), avg: clone2(r.avg), step: r.adam.Step}
+	// The same buffers serve every epoch (only the last state before an
+	// epoch is ever restored): fresh 3×15 MB copies at N = 1024 cost
+	// 0.1 s an epoch in page faults.
+	if r.keep.w == nil {
+		r.keep = saved{w: clone2(r.w), m: clone2(r.adam.M), v: clone2(r.adam.V), avg: clone2(r.avg)}
+	} else {
+		copy2(r.keep.w, r.w)
+		copy2(r.keep.m, r.adam.M)
+		copy2(r.keep.v, r.adam.V)
+		copy2(r.keep.avg, r.avg)
+	}
+	s := r.keep
+	s.step = r.adam.Step
+	return s
 }
 
 func (r *run) restore(s saved) error {
