@@ -150,7 +150,9 @@ func Run(ctx context.Context, sources []density.Source, ds *data.Dataset, cfg Co
 				break
 			}
 		}
-	} else if cfg.Unseen != nil && cfg.Bootstrap > 0 && !cfg.ExactSums {
+	} else if cfg.Unseen != nil && cfg.Bootstrap > 0 && !cfg.ExactSums && res.Layout.K() == g.K() {
+		// (A refined layout reads model samples everywhere: there are no
+		// unseen snapshots to compare, and the refinement note says so.)
 		res.Notes = append(res.Notes, fmt.Sprintf("the curves were not compared on the snapshots the model did not train on: some grid point has fewer than %d of them", minUnseen))
 	}
 	res.Bootstrap = scanNotes(res, sources, cfg)

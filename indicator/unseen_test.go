@@ -1,10 +1,15 @@
 package indicator
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 	"strings"
 	"testing"
+
+	"tidemark/data"
+	"tidemark/data/density"
+	"tidemark/data/density/densitytest"
 )
 
 // curveWithPeak is a 1-D curve −(x − at)² on 17 points in [1.9, 2.7] with
@@ -103,6 +108,43 @@ func TestUnseenNoteOnlyForMaterialShifts(t *testing.T) {
 			notes := unseenNotes([]*Curve{&c}, nil, []string{"T"})
 			if (len(notes) > 0) != tc.noted {
 				t.Errorf("notes %q, want one: %v", notes, tc.noted)
+			}
+		})
+	}
+}
+
+// TestUnseenNoteSaysWhyNot checks the note of a scan that could not compare
+// its curves on unseen snapshots: it names too few of them on the data's
+// grid, and stays silent on a refined grid, whose points all read the
+// source's own samples.
+func TestUnseenNoteSaysWhyNot(t *testing.T) {
+	src := &densitytest.Logistic{N: 8, D: 1, A: 4, C: 1.0}
+	ds := bernoulliData(src, linspace(0, 2, 9), nil, 50, 3)
+	few := make([]bool, ds.M) // 5 unseen snapshots per point, fewer than minUnseen
+	for _, idx := range data.NewGrid(ds).Index {
+		for _, m := range idx[:5] {
+			few[m] = true
+		}
+	}
+	for _, tc := range []struct {
+		name   string
+		refine int
+		noted  bool
+	}{{"data grid", 1, true}, {"refined", 2, false}} {
+		t.Run(tc.name, func(t *testing.T) {
+			cfg := Config{Bootstrap: 5, Threads: 1, Seed: 1, ModelSamples: 50, Refine: tc.refine, Unseen: few, Indicators: []string{"lbc"}}
+			res, err := Run(context.Background(), []density.Source{src}, ds, cfg)
+			if err != nil {
+				t.Fatal(err)
+			}
+			noted := false
+			for _, n := range res.Notes {
+				if strings.Contains(n, "were not compared on the snapshots the model did not train on") {
+					noted = true
+				}
+			}
+			if noted != tc.noted {
+				t.Errorf("notes %q: the 'not compared' note present %v, want %v", res.Notes, noted, tc.noted)
 			}
 		})
 	}
