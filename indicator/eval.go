@@ -75,10 +75,23 @@ func ExactWeights(mx *Matrix) ([][]int, [][]float64) {
 // different points) are unaffected, since each point's resample is still a
 // resample of its own independent set.
 func BootstrapWeights(idx [][]int, seed uint64, b int) [][]float64 {
-	w := make([][]float64, len(idx))
+	return bootstrapWeightsInto(nil, idx, seed, b)
+}
+
+// bootstrapWeightsInto is BootstrapWeights writing into w when it has the
+// shape of idx (a buffer reused from replicate to replicate: 10^6 slots are
+// 8 MB a replicate), into new slices otherwise.
+func bootstrapWeightsInto(w [][]float64, idx [][]int, seed uint64, b int) [][]float64 {
+	if len(w) != len(idx) {
+		w = make([][]float64, len(idx))
+	}
 	for k, ix := range idx {
 		n := len(ix)
-		w[k] = make([]float64, n)
+		if len(w[k]) != n {
+			w[k] = make([]float64, n)
+		} else {
+			clear(w[k])
+		}
 		rng := rand.New(rand.NewPCG(seed^(0x9e3779b97f4a7c15*uint64(b+1)), 0))
 		for j := 0; j < n; j++ {
 			w[k][rng.IntN(n)] += 1 / float64(n)
