@@ -150,7 +150,7 @@ func Run(ctx context.Context, sources []density.Source, ds *data.Dataset, cfg Co
 				break
 			}
 		}
-	} else if cfg.Unseen != nil && cfg.Bootstrap > 0 && !cfg.ExactSums && res.Layout.K() == g.K() {
+	} else if cfg.Unseen != nil && cfg.Bootstrap > 0 && !cfg.ExactSums && onDataGrid(res.Layout, g, 0) {
 		// (A refined layout reads model samples everywhere: there are no
 		// unseen snapshots to compare, and the refinement note says so.)
 		res.Notes = append(res.Notes, fmt.Sprintf("the curves were not compared on the snapshots the model did not train on: some grid point has fewer than %d of them", minUnseen))
@@ -466,7 +466,7 @@ func evaluateSource(ctx context.Context, src density.Source, ds *data.Dataset, g
 			tick(1)
 		}
 	}
-	if cfg.Unseen != nil && pass == 0 && !refit && lo.K() == g.K() && ev.Mx.M == ds.M {
+	if cfg.Unseen != nil && !refit && onDataGrid(lo, g, pass) && ev.Mx.M == ds.M {
 		evalUnseen(sc, ev, cps, cfg, B, evD == ev)
 	}
 	return sc, nil
@@ -625,7 +625,7 @@ func buildEvalSet(ctx context.Context, src density.Source, ds *data.Dataset, g *
 		sampler, _ := src.(density.Sampler)
 		// On a refined or zoomed layout a sampler supplies every point (see
 		// Config.Refine); otherwise the data's snapshots serve their points.
-		everywhere := sampler != nil && !density.IsGridOnly(src) && (lo.K() != g.K() || pass > 0) && !cfg.DataAtGridPoints
+		everywhere := sampler != nil && !density.IsGridOnly(src) && !onDataGrid(lo, g, pass) && !cfg.DataAtGridPoints
 		if everywhere {
 			// No data snapshot is read: do not score them.
 			xs, rows = nil, 0
@@ -707,10 +707,19 @@ func contiguous(idx []int) bool {
 	return len(idx) > 0
 }
 
-// derivOnData reports that fisher_deriv reads the data's snapshots: the
-// first pass on the data's own grid, unrefined.
+// onDataGrid reports that a pass scans the data's own grid points: the
+// first pass, on a layout of the data grid's size (no refinement inserted
+// there), where the data's snapshots serve every point.
+func onDataGrid(lo Layout, g *data.Grid, pass int) bool {
+	return pass == 0 && lo.K() == g.K()
+}
+
+// derivOnData reports that fisher_deriv reads the data's snapshots: on the
+// data's grid, and only when no later pass refines it (a 2-D --refine adds
+// points after the first pass; its fisher_deriv reads model samples in
+// every pass, so that its curve is one estimator throughout).
 func derivOnData(lo Layout, g *data.Grid, pass int, cfg Config) bool {
-	return pass == 0 && lo.K() == g.K() && cfg.Refine <= 1
+	return onDataGrid(lo, g, pass) && cfg.Refine <= 1
 }
 
 func contains(s []string, x string) bool {
