@@ -45,7 +45,16 @@ was trained on.
 An Ising dataset at zero field with more than 24 sites cannot be enumerated;
 check then compares the model's NLL on the dataset's samples with the exact
 entropy from Kaufman's partition function of the finite periodic lattice
-(Phys. Rev. 76, 1232 (1949)): NLL − S estimates the KL divergence per site.`,
+(Phys. Rev. 76, 1232 (1949)): NLL − S estimates the KL divergence per site.
+
+Every report ends with the model's response to the parameters: between each
+pair of neighbouring grid points a and b, the least-squares slope of the
+model's log q(x|b) − log q(x|a) against the exact log p(x|b) − log p(x|a) over
+the snapshots of both points. A slope of 1 means the model's density changes
+with the parameters as fast as the exact one; below 1 it changes more slowly,
+and the indicators that compare neighbouring points (local, fisher,
+fisher_deriv) read low there, a bias that neither the bootstrap nor an
+ensemble's spread includes. A median slope below 0.9 prints a caution.`,
 		Example: `  tidemark check film.ckpt --data exact4.npz
   tidemark check film16.ckpt --data fresh16.npz
   tidemark check film.ckpt --data exact4.npz --json | jq .mean_kl_per_site`,

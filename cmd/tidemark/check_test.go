@@ -12,8 +12,9 @@ import (
 )
 
 // TestCheckLargeIsingUsesKaufman runs check on a 6×6 dataset (36 sites, too
-// many to enumerate): it reports NLL − S per point, and a model trained for
-// one epoch sits well above the exact entropy.
+// many to enumerate): it reports NLL − S per point, a model trained for one
+// epoch sits well above the exact entropy, and the response of its
+// log-likelihoods is measured between the 3 pairs of neighbouring points.
 func TestCheckLargeIsingUsesKaufman(t *testing.T) {
 	dir := t.TempDir()
 	ds := filepath.Join(dir, "six.npz")
@@ -51,6 +52,9 @@ func TestCheckLargeIsingUsesKaufman(t *testing.T) {
 	}
 	if want := math.Sqrt(sq) / 4; math.Abs(rep.MeanStdErr-want) > 1e-12 || !regexp.MustCompile(`mean NLL − S per site [+-][0-9.]+ ± [0-9.]+`).MatchString(text) {
 		t.Errorf("mean NLL − S standard error %v, want %v from the points' errors; text:\n%s", rep.MeanStdErr, want, text)
+	}
+	if rep.Response == nil || len(rep.Response.Pairs) != 3 || !regexp.MustCompile(`median slope [0-9.-]+ \(range`).MatchString(text) {
+		t.Errorf("response: %+v, want 3 neighbouring pairs in the JSON and a median slope in the text:\n%s", rep.Response, text)
 	}
 	if rep.MeanNLLMinusS < 0.01 {
 		t.Errorf("one epoch of training: mean NLL − S = %v nats per site, expected clearly positive", rep.MeanNLLMinusS)

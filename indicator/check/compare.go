@@ -45,6 +45,9 @@ func Compare(ck *checkpoints.Checkpoint, ckPath string, ds *data.Dataset, dataPa
 			}
 			if ok {
 				rep.Checkpoint, rep.Data, rep.SameData = ckPath, dataPath, sameData
+				if rep.Response, kerr = MeasureResponse(m, src, ds); kerr != nil {
+					return nil, kerr
+				}
 				return rep, nil
 			}
 		}
@@ -53,6 +56,9 @@ func Compare(ck *checkpoints.Checkpoint, ckPath string, ds *data.Dataset, dataPa
 			return nil, fmt.Errorf("%s: %w", dataPath, serr)
 		}
 		rep.Checkpoint, rep.Data, rep.SameData = ckPath, dataPath, sameData
+		if rep.Response, serr = MeasureResponse(m, src, ds); serr != nil {
+			return nil, fmt.Errorf("%s: %w", dataPath, serr)
+		}
 		return rep, nil
 	}
 	states := density.States(ds.Meta.Alphabet, ds.N)
@@ -72,5 +78,8 @@ func Compare(ck *checkpoints.Checkpoint, ckPath string, ds *data.Dataset, dataPa
 		return nil, err
 	}
 	rep.Checkpoint, rep.Data, rep.Generator, rep.SameData = ckPath, dataPath, ds.Meta.Generator(), sameData
+	if rep.Response, err = MeasureResponse(m, src, ds); err != nil {
+		return nil, err
+	}
 	return rep, nil
 }

@@ -40,6 +40,10 @@ type Report struct {
 	MeanKLHeldOut  *float64 `json:"mean_kl_per_site_held_out"`
 	MaxKLPerSite   *float64 `json:"max_kl_per_site"`
 	ModelMassError float64  `json:"max_model_mass_error"`
+	// Response is how the model's log-likelihoods respond to the
+	// parameters against the exact ones (MeasureResponse); nil without
+	// two neighbouring points with samples.
+	Response *Response `json:"response,omitempty"`
 }
 
 // finite returns &v, or nil for NaN and ±Inf (which JSON cannot hold).
@@ -195,5 +199,5 @@ func (r *Report) WriteText(w io.Writer) error {
 	if !r.SameData {
 		fmt.Fprintln(w, "note: this dataset is not the one the model was trained on (fingerprints differ); NLL − H uses its samples")
 	}
-	return nil
+	return r.Response.writeText(w)
 }

@@ -39,7 +39,11 @@ type KaufmanReport struct {
 	MeanStdErr     float64  `json:"mean_nll_minus_entropy_std_err"`
 	KLPerSite      *float64 `json:"mean_kl_per_site"`
 	KLNotAvailable string   `json:"kl_not_available"`
-	lattice        []int
+	// Response is how the model's log-likelihoods respond to the
+	// parameters against the exact ones (MeasureResponse); nil without
+	// two neighbouring points.
+	Response *Response `json:"response,omitempty"`
+	lattice  []int
 }
 
 // KaufmanEntropy returns the exact entropy per site of the periodic Ly×Lx
@@ -118,7 +122,7 @@ func (r *KaufmanReport) WriteText(w io.Writer) error {
 	} else {
 		fmt.Fprintln(w, "note: these are the training samples; a fresh dataset from the same settings (another --seed) gives an unbiased estimate")
 	}
-	return nil
+	return r.Response.writeText(w)
 }
 
 // averagePoints returns the mean of the points' NLL − S and its standard

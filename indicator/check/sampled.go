@@ -80,5 +80,5 @@ func (r *SampledReport) WriteText(w io.Writer) error {
 	if r.SameData {
 		fmt.Fprintln(w, "note: these are the training samples; a fresh dataset from the same settings (another --seed) gives an unbiased estimate")
 	}
-	return nil
+	return r.Response.writeText(w)
 }

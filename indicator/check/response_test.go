@@ -1,0 +1,117 @@
+package check
+
+import (
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+
+	"tidemark/data"
+	"tidemark/data/density"
+	"tidemark/data/ising"
+)
+
+// tempered is the exact Ising density read at a scaled temperature,
+// q(x|T) = p(x|s·T): since log p(x|T) = −E(x)/T − log Z(T) (the Boltzmann
+// form, common practice), log q(x|b) − log q(x|a) equals
+// (log p(x|b) − log p(x|a))/s plus a constant, so its response slope is
+// exactly 1/s on any snapshots.
+type tempered struct {
+	density.Source
+	s float64
+}
+
+func (t tempered) LogProb(dst []float64, xs []uint8, lambda []float64) error {
+	return t.Source.LogProb(dst, xs, []float64{lambda[0] * t.s})
+}
+
+// exactDataset draws n exact samples of the 3×3 Ising model at each T.
+func exactDataset(t *testing.T, src *ising.Source, n int, ts []float64) *data.Dataset {
+	t.Helper()
+	ds, err := data.New(n*len(ts), 9, []string{"T"}, 2, []int{3, 3}, map[string]any{"generator": "test"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(3, 4))
+	for k, T := range ts {
+		if err := src.Sample(ds.States[k*n*9:], n, []float64{T}, rng); err != nil {
+			t.Fatal(err)
+		}
+		for i := 0; i < n; i++ {
+			ds.Params[k*n+i] = T
+		}
+	}
+	return ds
+}
+
+// TestResponseOfTemperedExactDensity measures the response of the exact
+// 3×3 Ising density read at s·T against itself: every pair's slope must be
+// 1/s to rounding, with R² = 1, and the caution must appear exactly when
+// the median is below 0.9.
+func TestResponseOfTemperedExactDensity(t *testing.T) {
+	src, err := ising.NewSource(ising.Lattice{Ly: 3, Lx: 3}, []string{"T"}, ising.Couplings{Jx: 1, Jy: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ds := exactDataset(t, src, 300, []float64{2, 2.5, 3, 3.5})
+	for _, tc := range []struct {
+		s       float64
+		caution bool
+	}{{1, false}, {1.25, true}, {0.8, false}, {1.05, false}} {
+		rep, err := MeasureResponse(tempered{src, tc.s}, src, ds)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if rep == nil || len(rep.Pairs) != 3 {
+			t.Fatalf("s=%v: response %+v, want 3 pairs", tc.s, rep)
+		}
+		for _, p := range rep.Pairs {
+			if math.Abs(p.Slope-1/tc.s) > 1e-9 || math.Abs(p.R2-1) > 1e-9 || p.StdErr > 1e-6 || p.Samples != 600 {
+				t.Errorf("s=%v %s→%s: slope %v ± %v, R² %v, %d samples; want %v, R² 1, 600", tc.s, p.From, p.To, p.Slope, p.StdErr, p.R2, p.Samples, 1/tc.s)
+			}
+		}
+		if math.Abs(rep.Median-1/tc.s) > 1e-9 {
+			t.Errorf("s=%v: median %v, want %v", tc.s, rep.Median, 1/tc.s)
+		}
+		var b strings.Builder
+		if err := rep.writeText(&b); err != nil {
+			t.Fatal(err)
+		}
+		if got := containsCaution(b.String()); got != tc.caution {
+			t.Errorf("s=%v: caution printed %v, want %v:\n%s", tc.s, got, tc.caution, b.String())
+		}
+	}
+}
+
+// TestNeighbourPairs lists the neighbouring points of a 2×3 product grid
+// (2·2 pairs along the second axis, 3 along the first), of an L-shaped
+// grid and of a single point.
+func TestNeighbourPairs(t *testing.T) {
+	for _, tc := range []struct {
+		name   string
+		points [][]float64
+		want   int
+	}{
+		{"1-D", [][]float64{{1}, {2}, {3}}, 2},
+		{"2×3 product", [][]float64{{0, 1}, {0, 2}, {0, 3}, {1, 1}, {1, 2}, {1, 3}}, 7},
+		{"L-shaped", [][]float64{{0, 1}, {0, 2}, {1, 1}}, 2},
+		{"one point", [][]float64{{1}}, 0},
+	} {
+		d := len(tc.points[0])
+		ds, err := data.New(len(tc.points), 1, []string{"a", "b"}[:d], 2, nil, map[string]any{"generator": "test"})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i, p := range tc.points {
+			copy(ds.Params[i*d:], p)
+		}
+		if got := len(neighbourPairs(data.NewGrid(ds))); got != tc.want {
+			t.Errorf("%s: %d pairs, want %d", tc.name, got, tc.want)
+		}
+	}
+}
+
+// containsCaution reports whether a response section warns of a weak response.
+func containsCaution(s string) bool {
+	return strings.Contains(s, "caution: the model's density changes more slowly")
+}
