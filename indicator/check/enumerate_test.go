@@ -2,10 +2,8 @@ package check
 
 import (
 	"math"
-	"math/rand/v2"
 	"testing"
 
-	"tidemark/data"
 	"tidemark/data/ising"
 )
 
@@ -19,19 +17,7 @@ func TestEnumerateExactAgainstItself(t *testing.T) {
 		t.Fatal(err)
 	}
 	const n = 400
-	ds, err := data.New(2*n, 9, []string{"T"}, 2, []int{3, 3}, map[string]any{"generator": "test"})
-	if err != nil {
-		t.Fatal(err)
-	}
-	rng := rand.New(rand.NewPCG(1, 2))
-	for k, T := range []float64{2, 3} {
-		if err := src.Sample(ds.States[k*n*9:], n, []float64{T}, rng); err != nil {
-			t.Fatal(err)
-		}
-		for i := 0; i < n; i++ {
-			ds.Params[k*n+i] = T
-		}
-	}
+	ds := exactDataset(t, src, n, []float64{2, 3}, 1, 2)
 	rep, err := Enumerate(src, src, ds, [][]float64{{2.5}, {3}}, 2, nil)
 	if err != nil {
 		t.Fatal(err)

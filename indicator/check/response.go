@@ -7,8 +7,11 @@ import (
 	"slices"
 	"text/tabwriter"
 
+	"gonum.org/v1/gonum/stat"
+
 	"tidemark/data"
 	"tidemark/data/density"
+	"tidemark/indicator/scorestat"
 )
 
 // ResponsePair is the response of the model between two neighbouring grid
@@ -111,12 +114,7 @@ func MeasureResponse(mdl, ref density.Source, ds *data.Dataset) (*Response, erro
 		s[i] = p.Slope
 	}
 	slices.Sort(s)
-	rep.Min, rep.Max = s[0], s[len(s)-1]
-	if n := len(s); n%2 == 1 {
-		rep.Median = s[n/2]
-	} else {
-		rep.Median = (s[n/2-1] + s[n/2]) / 2
-	}
+	rep.Min, rep.Max, rep.Median = s[0], s[len(s)-1], scorestat.Quantile(s, 0.5)
 	return rep, nil
 }
 
@@ -152,38 +150,20 @@ func neighbourPairs(g *data.Grid) [][2]int {
 	return out
 }
 
-// olsSlope fits y = α + s·x by least squares and returns s, its standard
-// error, R² and whether x varies.
+// olsSlope fits y = α + s·x by least squares (gonum's stat.LinearRegression)
+// and returns s, its standard error √((1 − R²)/(n − 2))·σ_y/σ_x, R² and
+// whether x varies.
 func olsSlope(x, y []float64) (s, se, r2 float64, ok bool) {
-	n := float64(len(x))
-	if len(x) < 3 {
+	sx, sy := stat.StdDev(x, nil), stat.StdDev(y, nil)
+	if len(x) < 3 || !(sx > 0) || math.IsInf(sx, 0) {
 		return 0, 0, 0, false
 	}
-	var mx, my float64
-	for i := range x {
-		mx += x[i]
-		my += y[i]
+	alpha, s := stat.LinearRegression(x, y, nil, false)
+	r2 = 1
+	if sy > 0 {
+		r2 = stat.RSquared(x, y, nil, alpha, s)
 	}
-	mx /= n
-	my /= n
-	var sxx, sxy, syy float64
-	for i := range x {
-		dx, dy := x[i]-mx, y[i]-my
-		sxx += dx * dx
-		sxy += dx * dy
-		syy += dy * dy
-	}
-	if !(sxx > 0) || math.IsInf(sxx, 0) {
-		return 0, 0, 0, false
-	}
-	s = sxy / sxx
-	rss := max(syy-s*sxy, 0)
-	se = math.Sqrt(rss / (n - 2) / sxx)
-	if syy > 0 {
-		r2 = sxy * sxy / (sxx * syy)
-	} else {
-		r2 = 1
-	}
+	se = math.Sqrt(max(1-r2, 0)/float64(len(x)-2)) * sy / sx
 	return s, se, r2, true
 }
 
