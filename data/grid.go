@@ -160,3 +160,35 @@ func FormatPoint(names []string, p []float64) string {
 	}
 	return strings.Join(parts, ", ")
 }
+
+// NeighbourPairs lists the pairs (a, b) of grid points that differ in one
+// axis only, b holding the next larger value of that axis that occurs with
+// a's other values.
+func (g *Grid) NeighbourPairs() [][2]int {
+	var out [][2]int
+	D := len(g.Names)
+	for ax := 0; ax < D; ax++ {
+		for a, pa := range g.Points {
+			best := -1
+			for b, pb := range g.Points {
+				if pb[ax] <= pa[ax] {
+					continue
+				}
+				same := true
+				for d := 0; d < D; d++ {
+					if d != ax && pb[d] != pa[d] {
+						same = false
+						break
+					}
+				}
+				if same && (best < 0 || pb[ax] < g.Points[best][ax]) {
+					best = b
+				}
+			}
+			if best >= 0 {
+				out = append(out, [2]int{a, best})
+			}
+		}
+	}
+	return out
+}

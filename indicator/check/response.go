@@ -79,7 +79,7 @@ func MeasureResponse(mdl, ref density.Source, ds *data.Dataset) (*Response, erro
 		return v, nil
 	}
 	rep := &Response{Pairs: []ResponsePair{}}
-	for _, pr := range neighbourPairs(g) {
+	for _, pr := range g.NeighbourPairs() {
 		a, b := pr[0], pr[1]
 		if len(g.Index[a]) < 2 || len(g.Index[b]) < 2 {
 			continue
@@ -116,38 +116,6 @@ func MeasureResponse(mdl, ref density.Source, ds *data.Dataset) (*Response, erro
 	slices.Sort(s)
 	rep.Min, rep.Max, rep.Median = s[0], s[len(s)-1], scorestat.Quantile(s, 0.5)
 	return rep, nil
-}
-
-// neighbourPairs lists the pairs (a, b) of grid points that differ in one
-// axis only, b holding the next larger value of that axis that occurs with
-// a's other values.
-func neighbourPairs(g *data.Grid) [][2]int {
-	var out [][2]int
-	D := len(g.Names)
-	for ax := 0; ax < D; ax++ {
-		for a, pa := range g.Points {
-			best := -1
-			for b, pb := range g.Points {
-				if pb[ax] <= pa[ax] {
-					continue
-				}
-				same := true
-				for d := 0; d < D; d++ {
-					if d != ax && pb[d] != pa[d] {
-						same = false
-						break
-					}
-				}
-				if same && (best < 0 || pb[ax] < g.Points[best][ax]) {
-					best = b
-				}
-			}
-			if best >= 0 {
-				out = append(out, [2]int{a, best})
-			}
-		}
-	}
-	return out
 }
 
 // olsSlope fits y = α + s·x by least squares (gonum's stat.LinearRegression)

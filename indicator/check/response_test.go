@@ -84,34 +84,6 @@ func TestResponseOfTemperedExactDensity(t *testing.T) {
 	}
 }
 
-// TestNeighbourPairs lists the neighbouring points of a 2×3 product grid
-// (2·2 pairs along the second axis, 3 along the first), of an L-shaped
-// grid and of a single point.
-func TestNeighbourPairs(t *testing.T) {
-	for _, tc := range []struct {
-		name   string
-		points [][]float64
-		want   int
-	}{
-		{"1-D", [][]float64{{1}, {2}, {3}}, 2},
-		{"2×3 product", [][]float64{{0, 1}, {0, 2}, {0, 3}, {1, 1}, {1, 2}, {1, 3}}, 7},
-		{"L-shaped", [][]float64{{0, 1}, {0, 2}, {1, 1}}, 2},
-		{"one point", [][]float64{{1}}, 0},
-	} {
-		d := len(tc.points[0])
-		ds, err := data.New(len(tc.points), 1, []string{"a", "b"}[:d], 2, nil, map[string]any{"generator": "test"})
-		if err != nil {
-			t.Fatal(err)
-		}
-		for i, p := range tc.points {
-			copy(ds.Params[i*d:], p)
-		}
-		if got := len(neighbourPairs(data.NewGrid(ds))); got != tc.want {
-			t.Errorf("%s: %d pairs, want %d", tc.name, got, tc.want)
-		}
-	}
-}
-
 // containsCaution reports whether a response section warns of a weak response.
 func containsCaution(s string) bool {
 	return strings.Contains(s, "caution: the model's density changes more slowly")
