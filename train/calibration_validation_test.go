@@ -17,6 +17,7 @@ import (
 	"tidemark/data/density"
 	"tidemark/data/ising"
 	"tidemark/indicator"
+	"tidemark/model"
 )
 
 // calEnv reads an integer knob of TestErrorBarCalibration.
@@ -62,7 +63,7 @@ type calCount struct {
 // CAL_BAG=1 trains them on bootstrap resamples (train --bag).
 // Every configuration is reported without and with the unseen-snapshot
 // check (Config.Unseen). CAL_AUG=none trains without augmentation,
-// CAL_PRECISION sets the precision, CAL_K=1 trains the single model alone.
+// CAL_PRECISION sets the precision, CAL_ACT the activation, CAL_K=1 trains the single model alone.
 // The bar is 2σ coverage of at least 90% for every indicator; the
 // test holds the largest ensemble to it. Measured 2026-12-05 at the
 // command's defaults (augmentation, float32, 60 epochs; CAL_K=3; 17 min),
@@ -105,6 +106,9 @@ func TestErrorBarCalibration(t *testing.T) {
 		exact := calPeaks(t, []density.Source{ref}, ds, nil)
 		st := DefaultSettings()
 		st.Epochs, st.Arch.Kind = epochs, arch
+		if a := os.Getenv("CAL_ACT"); a != "" {
+			st.Arch.Activation = model.Activation(a)
+		}
 		if os.Getenv("CAL_AUG") != "none" {
 			// train's default (--augment auto): the symmetries the
 			// dataset's source record states.
@@ -194,7 +198,7 @@ func TestErrorBarCalibration(t *testing.T) {
 // nData datasets.
 func calTable(table map[string]map[string]*calCount, configs []calConfig, nData, samples, epochs int, arch ArchKind, took time.Duration) string {
 	var b strings.Builder
-	fmt.Fprintf(&b, "16×16 Ising, %d datasets × 17 temperatures × %d snapshots, %d epochs, arch %q, resampling %v, augment %q, precision %q, %v\n", nData, samples, epochs, arch, os.Getenv("CAL_BAG") == "1", os.Getenv("CAL_AUG"), calPrecision(), took.Round(time.Second))
+	fmt.Fprintf(&b, "16×16 Ising, %d datasets × 17 temperatures × %d snapshots, %d epochs, arch %q, resampling %v, augment %q, precision %q, activation %q, %v\n", nData, samples, epochs, arch, os.Getenv("CAL_BAG") == "1", os.Getenv("CAL_AUG"), calPrecision(), os.Getenv("CAL_ACT"), took.Round(time.Second))
 	fmt.Fprintf(&b, "%-13s %-12s %3s %7s %7s %7s %10s %10s\n", "indicator", "errors of", "n", "no peak", "in 1σ", "in 2σ", "mean |Δ|", "median σ")
 	for _, ind := range calIndicators {
 		for _, c := range configs {
