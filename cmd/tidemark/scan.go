@@ -9,6 +9,7 @@ import (
 	"tidemark/data"
 	"tidemark/data/density"
 	"tidemark/indicator"
+	"tidemark/indicator/check"
 	"tidemark/indicator/report"
 	"tidemark/indicator/report/inputs"
 	"tidemark/indicator/study"
@@ -57,7 +58,10 @@ Errors come from --bootstrap resamples of the snapshots at each point; the membe
 ensemble (train --ensemble; --model names its first file) or several --model files add their
 spread in quadrature, and the line "errors:" says which errors are included. Peaks are local maxima
 whose height above the neighbouring minimum exceeds two standard errors of that
-difference, refined by a parabola.
+difference, refined by a parabola. When a model scans a dataset whose generator has an exact
+reference, a note states the model's response (check's slope of its log-likelihood ratios between
+neighbouring points against the exact ones): below 0.9 local, fisher and fisher_deriv read low, a
+bias no error bar includes.
 On a 2-D product grid the curves become maps and the ridges of local and fisher become
 boundary lines; each indicator's boundary strength (for fisher the metric's largest
 eigenvalue, in the units of --metric-scale) is divided into phases with boundaries between
@@ -178,10 +182,45 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if note := study.ExactNote(kind, ds, o.data); note != "" {
 		res.Notes = append(res.Notes, note)
 	}
+	if kind == study.SourceModel {
+		notes, err := responseNotes(sources, ds)
+		if err != nil {
+			return fmt.Errorf("scan: %w", err)
+		}
+		res.Notes = append(res.Notes, notes...)
+	}
 	sum, err := report.Write(o.out, o.force, res, report.Info{Source: kind, Data: o.data, Models: o.models, Refine: o.refine, Seed: o.seed, Page: inputs.Page(o.data, o.models)})
 	if err != nil {
 		return fmt.Errorf("scan: %w", err)
 	}
 	study.WriteScan(w, o.out, res, sum)
 	return nil
+}
+
+// responseNotes measures, when the dataset's generator has an exact
+// reference, how each model's log-likelihood ratios between neighbouring
+// grid points respond against the exact ones (check.MeasureResponse), and
+// returns a note per model: a bias of the neighbour indicators that no
+// error bar of the scan includes. Without a reference it returns nil.
+func responseNotes(sources []density.Source, ds *data.Dataset) ([]string, error) {
+	ref, err := density.ReferenceFor(ds.Meta)
+	if err != nil {
+		return nil, nil
+	}
+	var notes []string
+	for i, src := range sources {
+		r, err := check.MeasureResponse(src, ref, ds)
+		if err != nil {
+			return nil, fmt.Errorf("measuring the response of model %d against the exact density: %w", i+1, err)
+		}
+		note := r.Note()
+		if note == "" {
+			continue
+		}
+		if len(sources) > 1 {
+			note = fmt.Sprintf("model %d of %d: %s", i+1, len(sources), note)
+		}
+		notes = append(notes, note)
+	}
+	return notes, nil
 }

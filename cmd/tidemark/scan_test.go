@@ -223,7 +223,7 @@ func TestScanCommandRefineZoom(t *testing.T) {
 
 // TestScanModelPointsToExact scans a model on an Ising dataset that has an
 // exact reference: the notes (printed and in summary.json) point to
-// scan --exact.
+// scan --exact and state the model's response against the exact density.
 func TestScanModelPointsToExact(t *testing.T) {
 	dir := t.TempDir()
 	ds := ckptTestData(t, dir, "d.npz", 1)
@@ -236,16 +236,17 @@ func TestScanModelPointsToExact(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	const want = "this dataset has an exact reference"
-	if !strings.Contains(msg, want) {
-		t.Errorf("output lacks %q:\n%s", want, msg)
-	}
 	b, err := os.ReadFile(filepath.Join(out, "summary.json"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !strings.Contains(string(b), want) {
-		t.Errorf("summary.json lacks %q", want)
+	for _, want := range []string{"this dataset has an exact reference", "response against the exact density on this dataset's snapshots: median slope"} {
+		if !strings.Contains(msg, want) {
+			t.Errorf("output lacks %q:\n%s", want, msg)
+		}
+		if !strings.Contains(string(b), want) {
+			t.Errorf("summary.json lacks %q", want)
+		}
 	}
 }
 

@@ -1,6 +1,7 @@
 package check
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"strings"
@@ -48,7 +49,8 @@ func exactDataset(t *testing.T, src *ising.Source, n int, ts []float64, seed1, s
 // TestResponseOfTemperedExactDensity measures the response of the exact
 // 3×3 Ising density read at s·T against itself: every pair's slope must be
 // 1/s to rounding, with R² = 1, and the caution must appear exactly when
-// the median is below 0.9.
+// the median is below 0.9 (reading low) or above 1.1 (reading high), in
+// check's section and in the scan's one-line note.
 func TestResponseOfTemperedExactDensity(t *testing.T) {
 	src, err := ising.NewSource(ising.Lattice{Ly: 3, Lx: 3}, []string{"T"}, ising.Couplings{Jx: 1, Jy: 1})
 	if err != nil {
@@ -57,8 +59,8 @@ func TestResponseOfTemperedExactDensity(t *testing.T) {
 	ds := exactDataset(t, src, 300, []float64{2, 2.5, 3, 3.5}, 3, 4)
 	for _, tc := range []struct {
 		s       float64
-		caution bool
-	}{{1, false}, {1.25, true}, {0.8, false}, {1.05, false}} {
+		caution string
+	}{{1, ""}, {1.25, "changes more slowly"}, {0.8, "changes faster"}, {1.05, ""}} {
 		rep, err := MeasureResponse(tempered{src, tc.s}, src, ds)
 		if err != nil {
 			t.Fatal(err)
@@ -78,13 +80,15 @@ func TestResponseOfTemperedExactDensity(t *testing.T) {
 		if err := rep.writeText(&b); err != nil {
 			t.Fatal(err)
 		}
-		if got := containsCaution(b.String()); got != tc.caution {
-			t.Errorf("s=%v: caution printed %v, want %v:\n%s", tc.s, got, tc.caution, b.String())
+		note := rep.Note()
+		for what, text := range map[string]string{"check": b.String(), "note": note} {
+			got := strings.Contains(text, "caution: the model's density") || strings.Contains(text, "; the model's density")
+			if got != (tc.caution != "") || (got && !strings.Contains(text, tc.caution)) {
+				t.Errorf("s=%v %s: want caution %q:\n%s", tc.s, what, tc.caution, text)
+			}
+		}
+		if want := fmt.Sprintf("median slope %.2f", 1/tc.s); !strings.Contains(note, want) || strings.Contains(note, "\n") {
+			t.Errorf("s=%v: note %q, want one line with %q", tc.s, note, want)
 		}
 	}
-}
-
-// containsCaution reports whether a response section warns of a weak response.
-func containsCaution(s string) bool {
-	return strings.Contains(s, "caution: the model's density changes more slowly")
 }
