@@ -183,11 +183,7 @@ func runScan(w io.Writer, o *scanOptions) error {
 		res.Notes = append(res.Notes, note)
 	}
 	if kind == study.SourceModel {
-		notes, err := responseNotes(sources, ds)
-		if err != nil {
-			return fmt.Errorf("scan: %w", err)
-		}
-		res.Notes = append(res.Notes, notes...)
+		res.Notes = append(res.Notes, responseNotes(sources, ds)...)
 	}
 	sum, err := report.Write(o.out, o.force, res, report.Info{Source: kind, Data: o.data, Models: o.models, Refine: o.refine, Seed: o.seed, Page: inputs.Page(o.data, o.models)})
 	if err != nil {
@@ -201,26 +197,28 @@ func runScan(w io.Writer, o *scanOptions) error {
 // reference, how each model's log-likelihood ratios between neighbouring
 // grid points respond against the exact ones (check.MeasureResponse), and
 // returns a note per model: a bias of the neighbour indicators that no
-// error bar of the scan includes. Without a reference it returns nil.
-func responseNotes(sources []density.Source, ds *data.Dataset) ([]string, error) {
+// error bar of the scan includes. Without a usable reference (none, or one
+// that cannot be built for this dataset) it returns nil; a measurement
+// that fails becomes a note saying so, since the scan itself succeeded.
+func responseNotes(sources []density.Source, ds *data.Dataset) []string {
 	ref, err := density.ReferenceFor(ds.Meta)
 	if err != nil {
-		return nil, nil
+		return nil
 	}
 	var notes []string
 	for i, src := range sources {
+		label := ""
+		if len(sources) > 1 {
+			label = fmt.Sprintf("model %d of %d: ", i+1, len(sources))
+		}
 		r, err := check.MeasureResponse(src, ref, ds)
 		if err != nil {
-			return nil, fmt.Errorf("measuring the response of model %d against the exact density: %w", i+1, err)
-		}
-		note := r.Note()
-		if note == "" {
+			notes = append(notes, fmt.Sprintf("%sthe response against the exact density was not measured: %v", label, err))
 			continue
 		}
-		if len(sources) > 1 {
-			note = fmt.Sprintf("model %d of %d: %s", i+1, len(sources), note)
+		if note := r.Note(); note != "" {
+			notes = append(notes, label+note)
 		}
-		notes = append(notes, note)
 	}
-	return notes, nil
+	return notes
 }

@@ -223,7 +223,8 @@ func TestScanCommandRefineZoom(t *testing.T) {
 
 // TestScanModelPointsToExact scans a model on an Ising dataset that has an
 // exact reference: the notes (printed and in summary.json) point to
-// scan --exact and state the model's response against the exact density.
+// scan --exact and state the model's response against the exact density,
+// one labelled note per model when there are several.
 func TestScanModelPointsToExact(t *testing.T) {
 	dir := t.TempDir()
 	ds := ckptTestData(t, dir, "d.npz", 1)
@@ -246,6 +247,16 @@ func TestScanModelPointsToExact(t *testing.T) {
 		}
 		if !strings.Contains(string(b), want) {
 			t.Errorf("summary.json lacks %q", want)
+		}
+	}
+	// Two models: one note each, labelled.
+	msg, err = execTidemark(t, "scan", "--model", ck, "--model", ck, "--data", ds, "--indicators", "lbc", "--bootstrap", "0", "-o", filepath.Join(dir, "scan2"), "--quiet")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"model 1 of 2: response against", "model 2 of 2: response against"} {
+		if !strings.Contains(msg, want) {
+			t.Errorf("two-model scan output lacks %q:\n%s", want, msg)
 		}
 	}
 }
