@@ -54,7 +54,8 @@ the snapshots of both points. A slope of 1 means the model's density changes
 with the parameters as fast as the exact one; below 1 it changes more slowly,
 and the indicators that compare neighbouring points (local, fisher,
 fisher_deriv) read low there, a bias that neither the bootstrap nor an
-ensemble's spread includes. A median slope below 0.9 prints a caution.`,
+ensemble's spread includes. A median slope below 0.9 (or above 1.1, where
+those indicators read high) prints a caution.`,
 		Example: `  tidemark check film.ckpt --data exact4.npz
   tidemark check film16.ckpt --data fresh16.npz
   tidemark check film.ckpt --data exact4.npz --json | jq .mean_kl_per_site`,

@@ -163,13 +163,15 @@ func (r *Response) writeText(w io.Writer) error {
 // caution says how the neighbour indicators are biased when the median
 // slope is below weakResponse or above strongResponse, and "" otherwise.
 func (r *Response) caution() string {
+	pace, read, where, move := "more slowly", "low", "small", "away from where it is smallest"
 	switch {
 	case r.Median < weakResponse:
-		return fmt.Sprintf("the model's density changes more slowly with the parameters than the exact one (median slope %.2f): the indicators that compare neighbouring points (local, fisher, fisher_deriv) read low where the slope is small, and their peaks move away from where it is smallest; neither the bootstrap nor an ensemble's spread includes this bias", r.Median)
 	case r.Median > strongResponse:
-		return fmt.Sprintf("the model's density changes faster with the parameters than the exact one (median slope %.2f): the indicators that compare neighbouring points (local, fisher, fisher_deriv) read high where the slope is large, and their peaks move towards where it is largest; neither the bootstrap nor an ensemble's spread includes this bias", r.Median)
+		pace, read, where, move = "faster", "high", "large", "towards where it is largest"
+	default:
+		return ""
 	}
-	return ""
+	return fmt.Sprintf("the model's density changes %s with the parameters than the exact one (median slope %.2f): the indicators that compare neighbouring points (local, fisher, fisher_deriv) read %s where the slope is %s, and their peaks move %s; neither the bootstrap nor an ensemble's spread includes this bias", pace, r.Median, read, where, move)
 }
 
 // Note is the response in one line for a scan's notes: the median slope,
