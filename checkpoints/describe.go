@@ -58,8 +58,11 @@ type ArchDescription struct {
 	Activation string `json:"activation"`
 	CondAct    string `json:"cond_activation"`
 	Direct     bool   `json:"direct"`
-	Order      string `json:"order"`
-	Symmetric  bool   `json:"symmetric"`
+	// DirectWindow is the direct connection's window on the lattice
+	// (model.Config.DirectWindow); absent when every earlier site is in.
+	DirectWindow int    `json:"direct_window,omitempty"`
+	Order        string `json:"order"`
+	Symmetric    bool   `json:"symmetric"`
 	// Conv is the convolutional network's lattice and window; absent for
 	// the dense MADE.
 	Conv    *model.ConvConfig `json:"conv,omitempty"`
@@ -83,7 +86,7 @@ func Describe(path string) (*Description, error) {
 	r := Description{
 		Kind: "checkpoint", File: path, FileBytes: st.Size(), Software: h.Software, Created: h.Created,
 		Architecture: ArchDescription{Hidden: c.Hidden, CondHidden: c.CondHidden, Fourier: c.Fourier, Activation: string(c.Activation), CondAct: condActivation(c),
-			Direct: c.Direct, Order: h.Training.OrderName, Symmetric: c.Symmetric, FiLM: c.FiLM, Conv: c.Conv, ParamLo: c.ParamLo, ParamHi: c.ParamHi},
+			Direct: c.Direct, DirectWindow: c.DirectWindow, Order: h.Training.OrderName, Symmetric: c.Symmetric, FiLM: c.FiLM, Conv: c.Conv, ParamLo: c.ParamLo, ParamHi: c.ParamHi},
 		Parameters: ck.NumParams(), Sites: c.Sites, Alphabet: c.Alphabet, Lattice: h.Lattice, ParamNames: h.ParamNames,
 		Dataset: h.Dataset, HeldOut: h.HeldOut, HoldoutSpec: h.HoldoutSpec,
 		BestEpoch: h.BestEpoch, BestValBitsPerSite: h.BestValBitsPerSite, BestValStdErr: h.BestValStdErrBitsPerSite, HeldOutBitsPerSite: h.HeldOutBitsPerSite,
@@ -128,8 +131,12 @@ func (r *Description) WriteText(w io.Writer) error {
 	if a.Conv != nil {
 		kind = fmt.Sprintf("masked convolution on %d×%d (periodic), window %d, channels", a.Conv.Height, a.Conv.Width, a.Conv.Window)
 	}
-	fmt.Fprintf(tw, "architecture\t%s %s, %s; conditioning net %s, %s, with %d Fourier %s, %s the layers; direct %v; order %s; symmetric %v\n",
-		kind, intsString(a.Hidden, ","), a.Activation, cond, a.CondAct, a.Fourier, freq, mod, a.Direct, a.Order, a.Symmetric)
+	direct := fmt.Sprint(a.Direct)
+	if a.Direct && a.DirectWindow > 0 {
+		direct = fmt.Sprintf("from earlier sites within %d on the lattice", a.DirectWindow)
+	}
+	fmt.Fprintf(tw, "architecture\t%s %s, %s; conditioning net %s, %s, with %d Fourier %s, %s the layers; direct %s; order %s; symmetric %v\n",
+		kind, intsString(a.Hidden, ","), a.Activation, cond, a.CondAct, a.Fourier, freq, mod, direct, a.Order, a.Symmetric)
 	fmt.Fprintf(tw, "parameters\t%d trainable values\n", r.Parameters)
 	fmt.Fprintf(tw, "sites\t%d (lattice %s), alphabet %d\n", r.Sites, intsString(r.Lattice, "×"), r.Alphabet)
 	for i, name := range r.ParamNames {

@@ -27,11 +27,20 @@ type Config struct {
 	// default) means the same as Activation. softplus and tanh make the
 	// biases smooth in λ; relu makes them piecewise linear.
 	CondActivation Activation `json:"cond_activation,omitempty"`
-	Direct         bool       `json:"direct"`    // direct masked input→output connection
-	Order          []int      `json:"order"`     // Order[i] = site at autoregressive position i (a permutation of 0..N-1)
-	Symmetric      bool       `json:"symmetric"` // q=2 only: log p_sym(x) = log((p(x)+p(1-x))/2)
-	ParamLo        []float64  `json:"param_lo"`  // per-axis range of the training data, mapped to [-1, 1]
-	ParamHi        []float64  `json:"param_hi"`
+	Direct         bool       `json:"direct"` // direct masked input→output connection
+	// DirectWindow, when positive, limits the direct connection of each
+	// site to the earlier sites within that distance on Lattice (the
+	// largest periodic distance along any axis, see Config.nearOnLattice);
+	// 0, the value of every older checkpoint, lets every earlier site in.
+	// The hidden layers still see every earlier site either way.
+	DirectWindow int `json:"direct_window,omitempty"`
+	// Lattice is the shape of the sites in row-major order (its product is
+	// Sites); DirectWindow needs it, and it is unused otherwise.
+	Lattice   []int     `json:"lattice,omitempty"`
+	Order     []int     `json:"order"`     // Order[i] = site at autoregressive position i (a permutation of 0..N-1)
+	Symmetric bool      `json:"symmetric"` // q=2 only: log p_sym(x) = log((p(x)+p(1-x))/2)
+	ParamLo   []float64 `json:"param_lo"`  // per-axis range of the training data, mapped to [-1, 1]
+	ParamHi   []float64 `json:"param_hi"`
 	// Precision is the arithmetic of the masked matrix products, where
 	// nearly all the work is: "" or "float64" (the default), or "float32"
 	// (products rounded to single precision, about 1e-6 relative; every
@@ -200,6 +209,9 @@ func (c Config) Validate() error {
 			return err
 		}
 	}
+	if err := c.validateDirectWindow(); err != nil {
+		return err
+	}
 	if c.Symmetric && c.Alphabet != 2 {
 		return fmt.Errorf("model config: symmetric needs alphabet 2, found %d", c.Alphabet)
 	}
@@ -305,4 +317,52 @@ func (c Config) approxParams() float64 {
 		n += in * out
 	}
 	return n
+}
+
+// validateDirectWindow checks DirectWindow against Direct and Lattice.
+func (c Config) validateDirectWindow() error {
+	switch {
+	case c.DirectWindow < 0:
+		return fmt.Errorf("model config: direct_window must be ≥ 0 (0: every earlier site), found %d", c.DirectWindow)
+	case c.DirectWindow == 0:
+		return nil
+	case !c.Direct:
+		return fmt.Errorf("model config: direct_window %d needs the direct connection, found direct false", c.DirectWindow)
+	case c.Conv != nil:
+		return fmt.Errorf("model config: direct_window is for the dense MADE; the conv network has its own window")
+	}
+	prod := 1
+	for _, l := range c.Lattice {
+		if l < 1 || l > c.Sites {
+			return fmt.Errorf("model config: lattice sizes must be in 1..%d, found %v", c.Sites, c.Lattice)
+		}
+		prod *= l
+	}
+	if len(c.Lattice) == 0 || prod != c.Sites {
+		return fmt.Errorf("model config: direct_window needs a lattice whose sizes multiply to the %d sites, found %v", c.Sites, c.Lattice)
+	}
+	return nil
+}
+
+// nearOnLattice reports whether sites a and b (row-major on Lattice) lie
+// within DirectWindow of each other: along every axis the distance, taken
+// the shorter way round a periodic axis, is at most the window. Treating
+// every axis as periodic includes, on an open lattice, a few far pairs
+// across the edge as well; it never drops a neighbour.
+func (c Config) nearOnLattice(a, b int) bool {
+	if c.DirectWindow <= 0 {
+		return true
+	}
+	for k := len(c.Lattice) - 1; k >= 0; k-- {
+		l := c.Lattice[k]
+		d := a%l - b%l
+		if d < 0 {
+			d = -d
+		}
+		if min(d, l-d) > c.DirectWindow {
+			return false
+		}
+		a, b = a/l, b/l
+	}
+	return true
 }

@@ -155,7 +155,7 @@ func (m *Model) build() {
 		md := Tensor{Name: "mask.direct", Shape: []int{m.lay.din, dout}, Data: make([]float64, m.lay.din*dout)}
 		for j, dj := range inDeg {
 			for o, do := range outDeg {
-				if do > dj {
+				if do > dj && c.nearOnLattice(j/qin, o/m.lay.per) {
 					md.Data[j*dout+o] = 1
 				}
 			}
@@ -308,6 +308,7 @@ func cloneConfig(c Config) Config {
 	c.Hidden = append([]int(nil), c.Hidden...)
 	c.CondHidden = append([]int(nil), c.CondHidden...)
 	c.Order = append([]int(nil), c.Order...)
+	c.Lattice = append([]int(nil), c.Lattice...)
 	c.ParamLo = append([]float64(nil), c.ParamLo...)
 	c.ParamHi = append([]float64(nil), c.ParamHi...)
 	if c.Conv != nil {

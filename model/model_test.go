@@ -64,6 +64,16 @@ func cases() []testCase {
 			c.FiLM, c.Direct = true, true
 			c.Activation = "tanh"
 		}), in1, 0.7},
+		{"N12q2film-direct-window1", smallConfig(12, 2, 1, func(c *Config) {
+			c.FiLM, c.Direct = true, true
+			c.Activation = "softplus"
+			c.Lattice, c.DirectWindow = []int{3, 4}, 1
+		}), in1, 0.7},
+		{"N6q3direct-window1-snake", smallConfig(6, 3, 1, func(c *Config) {
+			c.Direct = true
+			c.Order = SnakeOrder(3, 2)
+			c.Lattice, c.DirectWindow = []int{6}, 1
+		}), in1, 0.7},
 		{"N6q3film-direct-3hidden-nocond-d2", smallConfig(6, 3, 2, func(c *Config) {
 			c.FiLM, c.Direct = true, true
 			c.Hidden = []int{7, 8, 5}

@@ -16,11 +16,15 @@ func SavedSettings(ck *checkpoints.Checkpoint) Settings {
 	if m.Conv != nil {
 		kind, window = ArchConv, m.Conv.Window
 	}
+	directWindow := -1 // every earlier site
+	if m.DirectWindow > 0 {
+		directWindow = m.DirectWindow
+	}
 	return Settings{
 		Arch: Arch{
 			Kind: kind, Window: window,
 			Hidden: slices.Clone(m.Hidden), CondHidden: slices.Clone(m.CondHidden), Fourier: m.Fourier,
-			Activation: m.Activation, CondActivation: m.CondActivation, Direct: m.Direct, Order: Order(t.OrderName),
+			Activation: m.Activation, CondActivation: m.CondActivation, Direct: m.Direct, DirectWindow: directWindow, Order: Order(t.OrderName),
 			Symmetric: m.Symmetric, FiLM: m.FiLM, Precision: m.Precision,
 		},
 		Epochs: t.Epochs, Batch: t.Batch, LR: t.LR, MinLR: t.MinLR, Seed: t.Seed, ValFrac: t.ValFrac,
@@ -60,7 +64,13 @@ var setting = map[string]func(s Settings) any{
 		}
 		return s.Arch.CondActivation
 	},
-	"direct":    func(s Settings) any { return s.Arch.Direct },
+	"direct": func(s Settings) any { return s.Arch.Direct },
+	"direct-window": func(s Settings) any {
+		if !s.Arch.Direct || s.Arch.Kind == ArchConv || s.Arch.DirectWindow < 0 {
+			return 0
+		}
+		return s.Arch.DirectWindow
+	},
 	"order":     func(s Settings) any { return s.Arch.Order },
 	"symmetric": func(s Settings) any { return s.Arch.Symmetric },
 	"film":      func(s Settings) any { return s.Arch.FiLM },
@@ -84,7 +94,7 @@ var setting = map[string]func(s Settings) any{
 
 // FixedOnResume lists the settings, named as train's flags, that a resumed
 // run keeps from its checkpoint.
-var FixedOnResume = []string{"arch", "window", "hidden", "cond-hidden", "fourier", "activation", "cond-activation", "direct", "order", "symmetric", "film", "precision", "augment", "batch", "lr", "min-lr", "seed", "val-frac", "schedule", "weight-decay", "clip", "average"}
+var FixedOnResume = []string{"arch", "window", "hidden", "cond-hidden", "fourier", "activation", "cond-activation", "direct", "direct-window", "order", "symmetric", "film", "precision", "augment", "batch", "lr", "min-lr", "seed", "val-frac", "schedule", "weight-decay", "clip", "average"}
 
 // Differences returns those of the named settings (spelled as train's
 // flags, from FixedOnResume) whose values differ between a and b.
@@ -104,6 +114,12 @@ func Differences(a, b Settings, names []string) []string {
 // in ck: given holds the settings and holdout the holdout spec as the
 // command line states them. The error names the first flag that differs.
 func CheckResume(ck *checkpoints.Checkpoint, given Settings, holdout string, changed []string) error {
+	if given.Arch.DirectWindow == 0 { // the trainer's choice, made for the saved run's lattice
+		given.Arch.DirectWindow = DirectWindowFor(0, ck.Header.Lattice)
+		if given.Arch.DirectWindow == 0 {
+			given.Arch.DirectWindow = -1
+		}
+	}
 	diff := Differences(given, SavedSettings(ck), slices.DeleteFunc(slices.Clone(changed), func(n string) bool { return n == "holdout" }))
 	if slices.Contains(changed, "holdout") && holdout != ck.Header.HoldoutSpec {
 		diff = append(diff, "holdout")

@@ -23,3 +23,24 @@ func TestDifferences(t *testing.T) {
 		t.Errorf("Differences over batch, seed = %v, want [seed]", got)
 	}
 }
+
+// TestDirectWindowFor checks how the trainer resolves --direct-window.
+func TestDirectWindowFor(t *testing.T) {
+	for _, tc := range []struct {
+		name    string
+		w       int
+		lattice []int
+		want    int
+	}{
+		{"auto on a 2-D lattice", 0, []int{16, 16}, DefaultDirectWindow},
+		{"auto on a chain", 0, []int{32}, 0},
+		{"auto without a lattice", 0, nil, 0},
+		{"all on a 2-D lattice", -1, []int{16, 16}, 0},
+		{"given on a chain", 3, []int{32}, 3},
+		{"given on a 2-D lattice", 1, []int{8, 8}, 1},
+	} {
+		if got := DirectWindowFor(tc.w, tc.lattice); got != tc.want {
+			t.Errorf("%s: DirectWindowFor(%d, %v) = %d, want %d", tc.name, tc.w, tc.lattice, got, tc.want)
+		}
+	}
+}

@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -20,6 +21,7 @@ type trainOptions struct {
 	activation         string
 	condActivation     string
 	direct             bool
+	directWindow       string
 	order              string
 	symmetric          bool
 	film               bool
@@ -97,6 +99,7 @@ thread counts change results only by floating-point summation order.`,
 	f.StringVar(&o.activation, "activation", string(d.Arch.Activation), "activation of the masked hidden layers: softplus (smooth in the parameters), relu or tanh")
 	f.StringVar(&o.condActivation, "cond-activation", string(d.Arch.CondActivation), "activation of the conditioning net: softplus, relu or tanh; default: as --activation")
 	f.BoolVar(&o.direct, "direct", d.Arch.Direct, "add the masked direct input→output connection")
+	f.StringVar(&o.directWindow, "direct-window", "auto", fmt.Sprintf("sites the direct connection reads: an integer r (earlier sites within r rows and r columns on the dataset's lattice, wrapping round), all (every earlier site), or auto (%d on a 2-D lattice, all otherwise)", train.DefaultDirectWindow))
 	f.StringVar(&o.order, "order", string(d.Arch.Order), "autoregressive site order: rowmajor or snake (boustrophedon, 2-D lattices)")
 	f.BoolVar(&o.film, "film", d.Arch.FiLM, "let the conditioning net scale every masked layer's pre-activation as well as shift it (FiLM; --film=false for shifts only)")
 	f.BoolVar(&o.symmetric, "symmetric", false, "make the model invariant under flipping every spin (alphabet 2 only)")
@@ -151,6 +154,9 @@ func (o *trainOptions) settings() (train.Settings, error) {
 	st.Arch.Activation = model.Activation(o.activation)
 	st.Arch.CondActivation = model.Activation(o.condActivation)
 	st.Arch.Direct = o.direct
+	if st.Arch.DirectWindow, err = parseDirectWindow(o.directWindow); err != nil {
+		return st, err
+	}
 	st.Arch.Order = train.Order(o.order)
 	st.Arch.Symmetric = o.symmetric
 	st.Arch.FiLM = o.film
@@ -175,4 +181,19 @@ func (o *trainOptions) settings() (train.Settings, error) {
 		return st, fmt.Errorf("--%w", err)
 	}
 	return st, nil
+}
+
+// parseDirectWindow reads --direct-window: auto (0), all (−1) or r ≥ 1.
+func parseDirectWindow(v string) (int, error) {
+	switch v {
+	case "auto":
+		return 0, nil
+	case "all":
+		return -1, nil
+	}
+	r, err := strconv.Atoi(v)
+	if err != nil || r < 1 {
+		return 0, fmt.Errorf("--direct-window: expected auto, all or a whole number of sites ≥ 1, found %q", v)
+	}
+	return r, nil
 }

@@ -22,6 +22,7 @@ import (
 	"tidemark/data/ising"
 	"tidemark/data/safefile"
 	"tidemark/model"
+	"tidemark/train"
 )
 
 // ensureIsingExact registers the Ising enumeration as the exact reference
@@ -277,7 +278,15 @@ func TestTrainResumeCommand(t *testing.T) {
 	if _, err := execTidemark(t, "train", dsPath, "--resume", part, "--quiet", "--lr", "0.1"); err == nil || !strings.Contains(err.Error(), "--lr") {
 		t.Fatalf("resume with a changed --lr: %v", err)
 	}
-	if _, err := execTidemark(t, "train", dsPath, "--resume", part, "--quiet"); err != nil {
+	// The 3×3 lattice's direct connection got the default window: naming
+	// it again (or auto) is accepted, another window is refused.
+	if _, err := execTidemark(t, "train", dsPath, "--resume", part, "--quiet", "--direct-window", "all"); err == nil || !strings.Contains(err.Error(), "--direct-window") {
+		t.Fatalf("resume with a changed --direct-window: %v", err)
+	}
+	if _, err := execTidemark(t, "train", dsPath, "--resume", part, "--quiet", "--direct-window", "auto", "--stop-after", "1"); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := execTidemark(t, "train", dsPath, "--resume", part, "--quiet", "--direct-window", strconv.Itoa(train.DefaultDirectWindow)); err != nil {
 		t.Fatal(err)
 	}
 	a, err := checkpoints.Load(full)
@@ -287,6 +296,9 @@ func TestTrainResumeCommand(t *testing.T) {
 	b, err := checkpoints.Load(part)
 	if err != nil {
 		t.Fatal(err)
+	}
+	if m := b.Header.Model; m.DirectWindow != train.DefaultDirectWindow || !slices.Equal(m.Lattice, []int{3, 3}) {
+		t.Errorf("model of a 3×3 lattice: direct window %d on %v, want %d on [3 3]", m.DirectWindow, m.Lattice, train.DefaultDirectWindow)
 	}
 	if len(b.Header.Metrics) != 4 || b.Header.Metrics[3].ValBitsPerSite != a.Header.Metrics[3].ValBitsPerSite {
 		t.Fatalf("resumed: %d epochs, final val %v; uninterrupted %v", len(b.Header.Metrics), b.Header.Metrics[len(b.Header.Metrics)-1].ValBitsPerSite, a.Header.Metrics[3].ValBitsPerSite)
