@@ -18,7 +18,8 @@
 # Both sides: validation split 0.1 of every grid point, a validation pass
 # after every epoch, Adam at lr 2e-3, gradient clipping at 1, the hidden
 # widths train builds by default for N (model.DefaultHiddenWidth), FiLM,
-# softplus, 2 threads; the weights are saved at the end (ours also after
+# softplus, the direct connection within 4 rows and columns (train's default
+# on a 2-D lattice), 2 threads; the weights are saved at the end (ours also after
 # the first epoch). The peer reads the .npz with NumPy and trains in float32
 # with torch (Debian's python3-torch under /usr/bin/python3); ours are the
 # default build and, when OpenBLAS is installed, the openblas build
@@ -87,7 +88,7 @@ while [ $round -le "$rounds" ]; do
 			conv) /usr/bin/time -o "$t" -f "%e %U %S %M" "$tmp/tidemark" train "$tmp/d$L.npz" -o "$tmp/m.ckpt" --force --quiet \
 				--epochs "$epochs" --batch "$batch" --threads 2 --patience 1000 --arch conv ;;
 			peer) OMP_WAIT_POLICY=PASSIVE /usr/bin/time -o "$t" -f "%e %U %S %M" /usr/bin/python3 bench/peer/train_peer.py "$tmp/d$L.npz" \
-				--hidden "$h,$h" --epochs "$epochs" --batch "$batch" --threads 2 --out "$tmp/peer.pt" >"$tmp/peer.json" ;;
+				--hidden "$h,$h" --direct-window 4 --epochs "$epochs" --batch "$batch" --threads 2 --out "$tmp/peer.pt" >"$tmp/peer.json" ;;
 			esac
 			# The last epoch's samples per second inside the training loop.
 			if [ "$side" = peer ]; then

@@ -43,8 +43,19 @@ class MaskedLinear(nn.Module):
         return y + self.bias if self.bias is not None else y
 
 
+def near_on_square(n, r):
+    """Pairs of sites of a periodic L×L lattice (row-major, L² = n) within r
+    along both axes, the shorter way round: tidemark's --direct-window r."""
+    l = math.isqrt(n)
+    assert l * l == n, "a direct window needs a square lattice"
+    y, x = torch.arange(n) // l, torch.arange(n) % l
+    dy = (y[:, None] - y[None, :]).abs()
+    dx = (x[:, None] - x[None, :]).abs()
+    return (torch.minimum(dy, l - dy) <= r) & (torch.minimum(dx, l - dx) <= r)
+
+
 class CondMADE(nn.Module):
-    def __init__(self, n, hidden, cond_hidden=64, fourier=2, film=False, activation="softplus"):
+    def __init__(self, n, hidden, cond_hidden=64, fourier=2, film=False, activation="softplus", direct_window=0):
         super().__init__()
         self.n, self.fourier, self.film = n, fourier, film
         self.act = F.softplus if activation == "softplus" else F.relu
@@ -56,7 +67,10 @@ class CondMADE(nn.Module):
             prev = d
         masks.append(din[None, :] > prev[:, None])
         self.layers = nn.ModuleList(MaskedLinear(m) for m in masks)
-        self.direct = MaskedLinear(din[None, :] > din[:, None], bias=False)
+        dmask = din[None, :] > din[:, None]
+        if direct_window > 0:
+            dmask = dmask & near_on_square(n, direct_window)
+        self.direct = MaskedLinear(dmask, bias=False)
         feat = 1 + 2 * fourier
         self.cond = nn.Linear(feat, cond_hidden)
         self.heads = nn.ModuleList(nn.Linear(cond_hidden, m.shape[1], bias=False) for m in masks)

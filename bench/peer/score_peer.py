@@ -30,6 +30,7 @@ def main():
     ap.add_argument("--hidden", required=True)
     ap.add_argument("--batch", type=int, default=4096)
     ap.add_argument("--threads", type=int, default=2)
+    ap.add_argument("--direct-window", type=int, default=0, help="tidemark's --direct-window on a square lattice (0: every earlier site)")
     ap.add_argument("--out", required=True)
     a = ap.parse_args()
     torch.set_num_threads(a.threads)
@@ -37,7 +38,7 @@ def main():
     with np.load(a.data) as f:
         states = f["states"]
     m, n = states.shape
-    model = CondMADE(n, [int(h) for h in a.hidden.split(",")], fourier=1, film=True, activation="softplus")
+    model = CondMADE(n, [int(h) for h in a.hidden.split(",")], fourier=1, film=True, activation="softplus", direct_window=a.direct_window)
     model.eval()
     logp = np.empty(m, dtype=np.float64)
     t = time.perf_counter()

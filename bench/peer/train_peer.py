@@ -37,6 +37,7 @@ def main():
     ap.add_argument("--batch", type=int, default=128)
     ap.add_argument("--val-frac", type=float, default=0.1)
     ap.add_argument("--threads", type=int, default=2)
+    ap.add_argument("--direct-window", type=int, default=0, help="tidemark's --direct-window on a square lattice (0: every earlier site)")
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--out", default=None)
     a = ap.parse_args()
@@ -59,7 +60,7 @@ def main():
     train_idx, val_idx = np.concatenate(train_idx), np.concatenate(val_idx)
     x_all = torch.from_numpy(states.astype(np.float32))
     l_all = torch.from_numpy(lam.astype(np.float32))
-    model = CondMADE(n, [int(h) for h in a.hidden.split(",")], fourier=1, film=True, activation="softplus")
+    model = CondMADE(n, [int(h) for h in a.hidden.split(",")], fourier=1, film=True, activation="softplus", direct_window=a.direct_window)
     opt = torch.optim.Adam(model.parameters(), lr=2e-3)
     rates = []
     for epoch in range(a.epochs):
