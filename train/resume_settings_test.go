@@ -33,6 +33,9 @@ func TestDirectWindowFor(t *testing.T) {
 		want    int
 	}{
 		{"auto on a 2-D lattice", 0, []int{16, 16}, DefaultDirectWindow},
+		{"auto on 32×32", 0, []int{32, 32}, 4},
+		{"auto on 64×64", 0, []int{64, 64}, 8},
+		{"auto on 48×24", 0, []int{48, 24}, 6},
 		{"auto on a chain", 0, []int{32}, 0},
 		{"auto without a lattice", 0, nil, 0},
 		{"all on a 2-D lattice", -1, []int{16, 16}, 0},

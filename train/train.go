@@ -1034,22 +1034,24 @@ func (r *run) checkpoint() (*checkpoints.Checkpoint, error) {
 	return &checkpoints.Checkpoint{Header: h, Best: ck.Best, Last: ck.Last, AdamM: ck.AdamM, AdamV: ck.AdamV, Average: ck.Average}, nil
 }
 
-// DefaultDirectWindow is the direct connection's window on a 2-D lattice
-// when the settings leave it to the trainer: each site's logits read the
-// earlier sites up to four rows above and four columns either side
-// linearly, while the hidden layers still read every earlier site (on a
-// lattice of 8×8 or less the window holds every site, so nothing changes
-// there). Measured on 16×16 and 32×32 Ising data (bench/RESULTS.md, "A
-// local direct connection"): with every earlier site in the direct
-// connection the Fisher and local curves peaked up to 0.02 from the exact
-// density's peaks on the same snapshots; with this window they lay within
-// 0.01. A window of 2 broke the model in the ordered phase at 32×32 and
-// put extra Fisher peaks in at 16×16.
+// DefaultDirectWindow is the smallest window DirectWindowFor gives the
+// direct connection on a 2-D lattice when the settings leave it to the
+// trainer: each site's logits read the earlier sites up to four rows above
+// and four columns either side linearly, while the hidden layers still read
+// every earlier site (on a lattice of 9×9 or less the window holds every
+// site, so nothing changes there). Measured on Ising data
+// (bench/RESULTS.md, "A local direct connection"): with every earlier site
+// in the direct connection the lbc, pbm, local and Fisher curves of 32×32
+// lattices peaked up to 0.02 from the exact density's peaks on the same
+// snapshots; with a window of 4 they lay within 0.01. A window of 1/16 of
+// the lattice (2 on 32×32, 4 on 64×64) fitted the ordered phase badly, and
+// 2 put extra Fisher peaks in at 16×16.
 const DefaultDirectWindow = 4
 
 // DirectWindowFor resolves Arch.DirectWindow w for a dataset on lattice:
-// w > 0 is kept, w < 0 means no window (0), and w = 0 gives
-// DefaultDirectWindow on a 2-D lattice and no window otherwise (a chain, or
+// w > 0 is kept, w < 0 means no window (0), and w = 0 gives, on a 2-D
+// lattice, an eighth of its longer side but at least DefaultDirectWindow
+// (4 up to 32×32, 8 on 64×64), and no window otherwise (a chain, or
 // imported data whose geometry tidemark does not know).
 func DirectWindowFor(w int, lattice []int) int {
 	switch {
@@ -1058,7 +1060,7 @@ func DirectWindowFor(w int, lattice []int) int {
 	case w < 0 || len(lattice) != 2:
 		return 0
 	}
-	return DefaultDirectWindow
+	return max(DefaultDirectWindow, (max(lattice[0], lattice[1])+7)/8)
 }
 
 // DefaultConvWindow is the conv network's default window: the first layer

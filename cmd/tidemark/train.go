@@ -99,7 +99,7 @@ thread counts change results only by floating-point summation order.`,
 	f.StringVar(&o.activation, "activation", string(d.Arch.Activation), "activation of the masked hidden layers: softplus (smooth in the parameters), relu or tanh")
 	f.StringVar(&o.condActivation, "cond-activation", string(d.Arch.CondActivation), "activation of the conditioning net: softplus, relu or tanh; default: as --activation")
 	f.BoolVar(&o.direct, "direct", d.Arch.Direct, "add the masked direct input→output connection")
-	f.StringVar(&o.directWindow, "direct-window", "auto", fmt.Sprintf("sites the direct connection reads: an integer r (earlier sites within r rows and r columns on the dataset's lattice, wrapping round), all (every earlier site), or auto (%d on a 2-D lattice, all otherwise)", train.DefaultDirectWindow))
+	f.StringVar(&o.directWindow, "direct-window", "auto", fmt.Sprintf("sites the direct connection reads: an integer r (earlier sites within r rows and r columns on the dataset's lattice, wrapping round), all (every earlier site), or auto (on a 2-D lattice an eighth of its longer side, at least %d; all otherwise)", train.DefaultDirectWindow))
 	f.StringVar(&o.order, "order", string(d.Arch.Order), "autoregressive site order: rowmajor or snake (boustrophedon, 2-D lattices)")
 	f.BoolVar(&o.film, "film", d.Arch.FiLM, "let the conditioning net scale every masked layer's pre-activation as well as shift it (FiLM; --film=false for shifts only)")
 	f.BoolVar(&o.symmetric, "symmetric", false, "make the model invariant under flipping every spin (alphabet 2 only)")
