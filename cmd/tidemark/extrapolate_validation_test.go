@@ -110,15 +110,14 @@ func TestExtrapolateTransverseFieldChain(t *testing.T) {
 // and extrapolates with ν = 1, against Onsager's T_c = 2/ln(1+√2)
 // (L. Onsager, Phys. Rev. 65, 117 (1944)).
 //
-// Measured 2026-12-05 at the defaults (augmentation, float32; about 30
-// minutes on two cores shared with other jobs, most of it training): T_c =
-// 2.3090 ± 0.055, 1.8% above Onsager's, 0.72 errors (the exact density of
-// the same snapshots: 2.2677 ± 0.019). The issue asks for 1%; this is NOT
-// met: at L = 8 and 12 the models put local and fisher_deriv 0.05–0.07
-// below the exact peaks, and at L = 16 and 24 both densities' curves have
-// two near-equal maxima. (At the earlier defaults: 2.3218 ± 0.086.)
-// The check is what the extrapolation promises: the difference within one
-// error, and an error below 5%.
+// Measured 2026-12-05 at the defaults (augmentation, float32, the
+// direct-connection window; 23 minutes on two cores shared with other
+// jobs, most of it training): T_c = 2.2728 ± 0.039, 0.16% above Onsager's,
+// 0.09 errors. The combination leans on local (2.2671 ± 0.039); the other
+// indicators' extrapolations carry errors of 0.08–0.23 because at L = 16
+// and 24 their curves have two near-equal maxima. Before the window:
+// 2.3090 ± 0.055 (1.8% high); before augmentation: 2.3218 ± 0.086. The
+// check is the issue's: within 1% of Onsager's and within one error.
 func TestExtrapolateIsingModels(t *testing.T) {
 	dir := t.TempDir()
 	sizes := []int{8, 12, 16, 24}
@@ -145,7 +144,7 @@ func TestExtrapolateIsingModels(t *testing.T) {
 	tc := 2 / math.Log(1+math.Sqrt2)
 	v, e := combinedOf(t, filepath.Join(dir, "fss"), append(scans, "--nu", "1")...)
 	t.Logf("T_c = %.5f ± %.2g, Onsager %.5f: %.2f%%, %.2f errors", v, e, tc, 100*(v-tc)/tc, (v-tc)/e)
-	if math.Abs(v-tc) > e || e/tc > 0.05 {
-		t.Errorf("T_c = %v ± %v, Onsager %v: expected within one error, and an error below 5%%", v, e, tc)
+	if math.Abs(v-tc) > e || math.Abs(v-tc) > 0.01*tc {
+		t.Errorf("T_c = %v ± %v, Onsager %v: expected within one error and within 1%%", v, e, tc)
 	}
 }
