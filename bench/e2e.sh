@@ -71,6 +71,11 @@ width() { # train's default hidden width for N sites (model.DefaultHiddenWidth)
 	[ $w -gt 256 ] && w=256
 	echo $w
 }
+window() { # train's default direct-connection window on an L×L lattice (train.DirectWindowFor)
+	r=$(( ($1 + 7) / 8 ))
+	[ $r -lt 4 ] && r=4
+	echo $r
+}
 raw=$tmp/raw.txt
 round=1
 while [ $round -le "$rounds" ]; do
@@ -88,7 +93,7 @@ while [ $round -le "$rounds" ]; do
 			conv) /usr/bin/time -o "$t" -f "%e %U %S %M" "$tmp/tidemark" train "$tmp/d$L.npz" -o "$tmp/m.ckpt" --force --quiet \
 				--epochs "$epochs" --batch "$batch" --threads 2 --patience 1000 --arch conv ;;
 			peer) OMP_WAIT_POLICY=PASSIVE /usr/bin/time -o "$t" -f "%e %U %S %M" /usr/bin/python3 bench/peer/train_peer.py "$tmp/d$L.npz" \
-				--hidden "$h,$h" --direct-window 4 --epochs "$epochs" --batch "$batch" --threads 2 --out "$tmp/peer.pt" >"$tmp/peer.json" ;;
+				--hidden "$h,$h" --direct-window "$(window "$L")" --epochs "$epochs" --batch "$batch" --threads 2 --out "$tmp/peer.pt" >"$tmp/peer.json" ;;
 			esac
 			# The last epoch's samples per second inside the training loop.
 			if [ "$side" = peer ]; then
