@@ -18,8 +18,8 @@
 # Both sides: validation split 0.1 of every grid point, a validation pass
 # after every epoch, Adam at lr 2e-3, gradient clipping at 1, the hidden
 # widths train builds by default for N (model.DefaultHiddenWidth), FiLM,
-# softplus, the direct connection within 4 rows and columns (train's default
-# on a 2-D lattice), 2 threads; the weights are saved at the end (ours also after
+# softplus, the direct connection within r rows and columns (train's default
+# on a 2-D lattice: r = L/8, at least 4), 2 threads; the weights are saved at the end (ours also after
 # the first epoch). The peer reads the .npz with NumPy and trains in float32
 # with torch (Debian's python3-torch under /usr/bin/python3); ours are the
 # default build and, when OpenBLAS is installed, the openblas build
