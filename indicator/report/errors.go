@@ -37,10 +37,10 @@ const UnseenStatement = "each peak's shift between all snapshots and those the m
 const UnseenBiasWarning = "a misfit the model shows on seen and unseen snapshots alike (a bias) is not included (train --ensemble K adds the spread of members)"
 
 // CalibrationNote is what the error bars of one model measured against
-// exact peaks (bench/RESULTS.md, "Calibration with fisher_deriv over the
-// data's snapshots"): the part of a model scan's statement that says which
+// exact peaks (bench/RESULTS.md, "Calibration with the direct-connection
+// window"): the part of a model scan's statement that says which
 // indicators' bars were too small.
-const CalibrationNote = "measured over 10 independent 16×16 Ising datasets, one model's 2σ covered the exact density's peak in 90–100% of them for sl, pbm, fisher and fisher_deriv but in 70% for lbc and 80% for local, so read lbc's and local's errors as too small"
+const CalibrationNote = "measured over 10 independent 16×16 Ising datasets, one model's 2σ covered the exact density's peak in 90–100% of them for lbc, sl, pbm, fisher and fisher_deriv but in 70% for local, so read local's errors as too small"
 
 // ErrorStatement describes the errors of a scan with a source of the
 // given kind ("model", "exact" or "histogram"), bootstrap resamples and

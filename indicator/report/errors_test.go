@@ -17,8 +17,8 @@ func TestErrorStatement(t *testing.T) {
 		modelError bool
 		says       []string
 	}{
-		{"model", 100, 1, false, false, 1, false, []string{"(100 resamples) only", "exclude the model's own error", "--ensemble", "70% for lbc"}},
-		{"model", 100, 1, false, true, 1, true, []string{"(100 resamples)", "did not train on", "a bias", "--ensemble", "80% for local"}},
+		{"model", 100, 1, false, false, 1, false, []string{"(100 resamples) only", "exclude the model's own error", "--ensemble", "70% for local"}},
+		{"model", 100, 1, false, true, 1, true, []string{"(100 resamples)", "did not train on", "a bias", "--ensemble", "70% for local"}},
 		{"model", 100, 4, false, false, 4, true, []string{"spread of 4 models", "in quadrature"}},
 		{"model", 100, 4, false, true, 4, true, []string{"spread of 4 models", "did not train on"}},
 		{"model", 0, 3, false, false, 3, true, []string{"no bootstrap", "spread of 3 models"}},
