@@ -1,14 +1,17 @@
 package model
 
-// minRun is the shortest mean run for which ActiveRuns lists a weight's
-// runs: below it the bookkeeping would cost more than the skipped entries.
+// minRun is the number of skipped entries one run must save, on average,
+// for ActiveRuns to list a weight's runs: below it the bookkeeping would
+// cost more than the skipped entries.
 const minRun = 16
 
 // ActiveRuns returns, for each tensor of m.Weights, the runs [lo, hi) of
 // its entries inside the weight's mask, in increasing order, or nil when
 // every entry counts: an unmasked weight, a mask with no entry outside it,
-// or one whose runs are shorter than minRun on average (an autoregressive
-// order far from the sites' order scatters them). The entries outside a
+// or one whose gaps between runs are shorter than minRun on average (an
+// autoregressive order far from the sites' order scatters them). A direct
+// connection limited to a window of the lattice has short runs (one per
+// lattice row in the window) but long gaps, and is listed. The entries outside a
 // mask are zero and their gradient is always zero, so an optimiser that
 // skips them gives the same weights; with hidden units sorted by degree
 // (see tiling) each row of a MADE mask is one run, and about half of the
@@ -34,7 +37,7 @@ func (m *Model) ActiveRuns() [][][2]int {
 			runs = append(runs, [2]int{lo, j})
 			inside += j - lo
 		}
-		if inside == len(mask) || (len(runs) > 0 && inside < minRun*len(runs)) {
+		if inside == len(mask) || (len(runs) > 0 && len(mask)-inside < minRun*len(runs)) {
 			continue
 		}
 		if runs == nil {

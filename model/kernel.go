@@ -93,11 +93,12 @@ func blocks32(dst []float32, w []float64, t tiling) []float32 {
 }
 
 // masked32 writes float32(W⊙M) into dst inside the column blocks cols of
-// t (rows whose mask is all ones are only rounded).
+// t (rows whose mask is all ones are only rounded), band of rows by band
+// of rows (see rowBands).
 func masked32(dst []float32, w []float64, t tiling, cols []tile) {
-	for _, c := range cols {
+	rowBands(cols, func(c tile, _, _ int) {
 		vMasked32(dst, w, t.mask, c, t.out)
-	}
+	})
 }
 
 func mul(dst, a, b []float64) {
