@@ -254,3 +254,39 @@ func BenchmarkGroupedHeads(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkPrepareMasked32 rounds W⊙M to float32 for the direct connection
+// of a 64×64 lattice (4096 sites) with train's default window there (8),
+// as every training step does: "rowbands" is masked32 (band of rows by
+// band of rows), "blocks" walks each column block down its rows, the order
+// it replaced. The ratio of the two is the figure bench/RESULTS.md quotes.
+func BenchmarkPrepareMasked32(b *testing.B) {
+	cfg := Config{Direct: true, DirectWindow: 8, Lattice: []int{64, 64}}
+	n := 4096
+	mask := make([]float64, n*n)
+	for j := range n {
+		for k := j + 1; k < n; k++ {
+			if cfg.nearOnLattice(j, k) {
+				mask[j*n+k] = 1
+			}
+		}
+	}
+	t := newTiling(mask, n, n)
+	w := make([]float64, n*n)
+	for i := range w {
+		w[i] = float64(i%7) - 3
+	}
+	dst := make([]float32, n*n)
+	b.Run("rowbands", func(b *testing.B) {
+		for b.Loop() {
+			masked32(dst, w, t, t.cols)
+		}
+	})
+	b.Run("blocks", func(b *testing.B) {
+		for b.Loop() {
+			for _, c := range t.cols {
+				vMasked32(dst, w, t.mask, c, t.out)
+			}
+		}
+	})
+}
