@@ -96,7 +96,7 @@ func blocks32(dst []float32, w []float64, t tiling) []float32 {
 // t (rows whose mask is all ones are only rounded), band of rows by band
 // of rows (see rowBands).
 func masked32(dst []float32, w []float64, t tiling, cols []tile) {
-	rowBands(cols, func(c tile, _, _ int) {
+	rowBands(cols, func(c tile) {
 		vMasked32(dst, w, t.mask, c, t.out)
 	})
 }

@@ -59,7 +59,7 @@ const bandRows = 16
 // 5× slower than a row-major pass on a 64×64 lattice's windowed direct
 // connection, BenchmarkPrepareMasked32). The tile passed to f
 // holds the rows max(j0, c.lo)..min(j1, c.hi)−1 of c, with its own full.
-func rowBands(cols []tile, f func(c tile, j0, j1 int)) {
+func rowBands(cols []tile, f func(c tile)) {
 	lo, hi := math.MaxInt, 0
 	for _, c := range cols {
 		if c.hi > c.lo {
@@ -77,7 +77,7 @@ func rowBands(cols []tile, f func(c tile, j0, j1 int)) {
 			if c.full != nil {
 				s.full = c.full[a-c.lo : b-c.lo]
 			}
-			f(s, j0, j1)
+			f(s)
 		}
 	}
 }
@@ -257,7 +257,7 @@ func (ml *maskedLinear) prepareCols(w []float64, c0, c1 int) {
 	if ml.weff == nil {
 		ml.weff = make([]float64, n)
 	}
-	rowBands(ml.t.cols[c0:c1], func(c tile, _, _ int) {
+	rowBands(ml.t.cols[c0:c1], func(c tile) {
 		for j := c.lo; j < c.hi; j++ {
 			r := j * out
 			d, src, mk := ml.weff[r+c.a0:r+c.a1], w[r+c.a0:r+c.a1], mask[r+c.a0:r+c.a1]
@@ -429,7 +429,7 @@ func (ml *maskedLinear) gradW(dw, x, dy []float64, b int) {
 		if ml.defer32 {
 			return
 		}
-		rowBands(ml.t.cols, func(c tile, _, _ int) {
+		rowBands(ml.t.cols, func(c tile) {
 			for j := c.lo; j < c.hi; j++ {
 				r := j * out
 				d, g, mk := dw[r+c.a0:r+c.a1], w32[r+c.a0:r+c.a1], mask[r+c.a0:r+c.a1]
