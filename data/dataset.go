@@ -113,6 +113,11 @@ type Dataset struct {
 	Params []float64
 	// Meta is the dataset's meta object.
 	Meta Meta
+
+	// file and fileOpt name the file the states are read from, block by
+	// block, when States is nil (ReadHead).
+	file    string
+	fileOpt ReadOptions
 }
 
 // New returns a dataset with the given shape and names, alphabet q, lattice
