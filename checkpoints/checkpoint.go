@@ -3,12 +3,14 @@ package checkpoints
 import (
 	"bufio"
 	"bytes"
+	"context"
 	"crypto/sha256"
 	"encoding/binary"
 	"encoding/hex"
 	"encoding/json"
 	"errors"
 	"fmt"
+	"hash"
 	"io"
 	"math"
 	"os"
@@ -90,10 +92,31 @@ func (c *Checkpoint) NumParams() int {
 }
 
 // Fingerprint returns the hex SHA-256 of a dataset's states bytes followed
-// by its params as float64 little-endian.
+// by its params as float64 little-endian. ds must hold its states in
+// memory; FingerprintBlocks also reads them from a file.
 func Fingerprint(ds *data.Dataset) string {
 	h := sha256.New()
 	h.Write(ds.States)
+	return fingerprintParams(h, ds)
+}
+
+// FingerprintBlocks is Fingerprint of a dataset whose states may be read
+// from its file block by block (data.ReadHead); the error is the file's.
+func FingerprintBlocks(ctx context.Context, ds *data.Dataset) (string, error) {
+	h := sha256.New()
+	err := ds.EachBlock(ctx, 0, func(_ int, xs []uint8) error {
+		h.Write(xs)
+		return nil
+	})
+	if err != nil {
+		return "", err
+	}
+	return fingerprintParams(h, ds), nil
+}
+
+// fingerprintParams adds the params to h, which holds the states, and
+// returns the hex digest.
+func fingerprintParams(h hash.Hash, ds *data.Dataset) string {
 	buf := make([]byte, 0, 8*4096)
 	for i, v := range ds.Params {
 		buf = binary.LittleEndian.AppendUint64(buf, math.Float64bits(v))

@@ -1,6 +1,7 @@
 package checkpoints
 
 import (
+	"context"
 	"encoding/binary"
 	"errors"
 	"path/filepath"
@@ -195,4 +196,34 @@ func cloneTensors(ts []model.Tensor) []model.Tensor {
 		out[i] = model.Tensor{Name: t.Name, Shape: slices.Clone(t.Shape), Data: slices.Clone(t.Data)}
 	}
 	return out
+}
+
+// The fingerprint of a dataset read block by block from its file is that of
+// the same dataset in memory.
+func TestFingerprintBlocks(t *testing.T) {
+	ds, err := data.New(20000, 3, []string{"T"}, 2, nil, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range ds.States {
+		ds.States[i] = uint8(i * 7 % 5 % 2)
+	}
+	for i := range ds.Params {
+		ds.Params[i] = float64(i%4) / 3
+	}
+	path := filepath.Join(t.TempDir(), "d.npz")
+	if err := ds.Write(path, false); err != nil {
+		t.Fatal(err)
+	}
+	head, err := data.ReadHead(path, data.ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := Fingerprint(ds)
+	for _, d := range []*data.Dataset{ds, head} {
+		got, err := FingerprintBlocks(context.Background(), d)
+		if err != nil || got != want {
+			t.Errorf("in file %v: %s, %v; want %s", d.InFile(), got, err, want)
+		}
+	}
 }
