@@ -51,19 +51,38 @@ func ComputeMatrix(src density.Source, xs []uint8, n int, points [][]float64, op
 // computeMatrix is ComputeMatrix stopped early, with ctx's error, when ctx
 // is cancelled.
 func computeMatrix(ctx context.Context, src density.Source, xs []uint8, n int, points [][]float64, opt MatrixOptions) (*Matrix, error) {
+	if err := checkMatrixArgs(src, xs, n, points); err != nil {
+		return nil, err
+	}
+	mx := &Matrix{M: n, K: len(points), L: make([]float64, n*len(points)), Points: points}
+	if err := fillMatrix(ctx, src, xs, n, points, opt, mx.L); err != nil {
+		return nil, err
+	}
+	return mx, checkNaN(mx)
+}
+
+// checkMatrixArgs checks that xs holds n snapshots of the source's sites
+// and that every point has the source's number of parameters.
+func checkMatrixArgs(src density.Source, xs []uint8, n int, points [][]float64) error {
 	N := src.Sites()
 	if len(xs) != n*N {
-		return nil, fmt.Errorf("log-likelihood matrix: expected %d snapshot values (%d×%d), found %d", n*N, n, N, len(xs))
+		return fmt.Errorf("log-likelihood matrix: expected %d snapshot values (%d×%d), found %d", n*N, n, N, len(xs))
 	}
-	K := len(points)
 	for k, p := range points {
 		if len(p) != src.ParamDim() {
-			return nil, fmt.Errorf("log-likelihood matrix: point %d has %d parameters, the source expects %d", k, len(p), src.ParamDim())
+			return fmt.Errorf("log-likelihood matrix: point %d has %d parameters, the source expects %d", k, len(p), src.ParamDim())
 		}
 	}
-	mx := &Matrix{M: n, K: K, L: make([]float64, n*K), Points: points}
+	return nil
+}
+
+// fillMatrix scores the n snapshots xs at every point into L (n·K values,
+// row-major), without checking for NaN.
+func fillMatrix(ctx context.Context, src density.Source, xs []uint8, n int, points [][]float64, opt MatrixOptions, L []float64) error {
+	N := src.Sites()
+	K := len(points)
 	if n == 0 || K == 0 {
-		return mx, nil
+		return nil
 	}
 	threads := data.Threads(opt.Threads)
 	block := opt.Block
@@ -73,25 +92,25 @@ func computeMatrix(ctx context.Context, src density.Source, xs []uint8, n int, p
 	if ms, ok := src.(density.MatrixSource); ok {
 		for lo := 0; lo < n; lo += block {
 			if err := ctx.Err(); err != nil {
-				return nil, err
+				return err
 			}
 			hi := min(lo+block, n)
 			out, err := ms.LogProbMatrix(xs[lo*N:hi*N], hi-lo, points, threads)
 			if err != nil {
-				return nil, fmt.Errorf("log-likelihood matrix: %w", err)
+				return fmt.Errorf("log-likelihood matrix: %w", err)
 			}
 			if len(out) != (hi-lo)*K {
-				return nil, fmt.Errorf("log-likelihood matrix: source returned %d values, expected %d", len(out), (hi-lo)*K)
+				return fmt.Errorf("log-likelihood matrix: source returned %d values, expected %d", len(out), (hi-lo)*K)
 			}
-			copy(mx.L[lo*K:hi*K], out)
+			copy(L[lo*K:hi*K], out)
 			if opt.Progress != nil {
 				opt.Progress((hi - lo) * K)
 			}
 		}
-		return mx, checkNaN(mx)
+		return nil
 	}
 	blocks := (n + block - 1) / block
-	err := data.ForEachWith(ctx, blocks*K, threads, func() []float64 { return make([]float64, block) }, func(u int, buf []float64) error {
+	return data.ForEachWith(ctx, blocks*K, threads, func() []float64 { return make([]float64, block) }, func(u int, buf []float64) error {
 		lo, k := (u/K)*block, u%K
 		hi := min(lo+block, n)
 		d := buf[:hi-lo]
@@ -99,12 +118,30 @@ func computeMatrix(ctx context.Context, src density.Source, xs []uint8, n int, p
 			return fmt.Errorf("log-likelihood matrix at point %d: %w", k, err)
 		}
 		for i, v := range d {
-			mx.L[(lo+i)*K+k] = v
+			L[(lo+i)*K+k] = v
 		}
 		if opt.Progress != nil {
 			opt.Progress(len(d))
 		}
 		return nil
+	})
+}
+
+// streamMatrix is computeMatrix of a dataset's snapshots, in order, read
+// block by block (data.Dataset.EachBlock): from a file read by
+// data.ReadHead it never holds more than a few blocks of states.
+func streamMatrix(ctx context.Context, src density.Source, ds *data.Dataset, points [][]float64, opt MatrixOptions) (*Matrix, error) {
+	if src.Sites() != ds.N {
+		return nil, fmt.Errorf("log-likelihood matrix: the source has %d sites, the snapshots %d", src.Sites(), ds.N)
+	}
+	K := len(points)
+	mx := &Matrix{M: ds.M, K: K, L: make([]float64, ds.M*K), Points: points}
+	err := ds.EachBlock(ctx, 0, func(first int, xs []uint8) error {
+		n := len(xs) / ds.N
+		if err := checkMatrixArgs(src, xs, n, points); err != nil {
+			return err
+		}
+		return fillMatrix(ctx, src, xs, n, points, opt, mx.L[first*K:(first+n)*K])
 	})
 	if err != nil {
 		return nil, err

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"sort"
 
 	"tidemark/data/density"
@@ -71,6 +72,13 @@ type Config struct {
 	// Progress, if not nil, is called before each long stage with its name
 	// and number of steps and returns the callback that counts them.
 	Progress func(stage string, total int) func(n int)
+	// KeepDataLogLik keeps each source's log-likelihoods of the data's
+	// snapshots at the data's grid points, as the first pass computed
+	// them, for Result.DataLogLik (M·K values per source).
+	KeepDataLogLik bool
+
+	// keepLL receives them (set by Run).
+	keepLL func(s int, kept *keptLL)
 }
 
 // Result is the outcome of a scan.
@@ -102,6 +110,29 @@ type Result struct {
 	UnseenChecked bool
 	// Notes are warnings about how to read the results.
 	Notes []string
+
+	// dataLL[s] is source s's first-pass matrix when it scored the data's
+	// snapshots at the data's grid points (Config.KeepDataLogLik).
+	dataLL []*keptLL
+}
+
+// DataLogLik returns, when the scan kept them (Config.KeepDataLogLik),
+// source s's log-likelihood of the dataset's snapshot m at point k of
+// data.NewGrid(ds), as the scan computed it; nil when it did not keep them
+// (or scored model samples instead of the data).
+func (r *Result) DataLogLik(s int) func(m, k int) float64 {
+	if s >= len(r.dataLL) || r.dataLL[s] == nil {
+		return nil
+	}
+	kept := r.dataLL[s]
+	return func(m, k int) float64 { return kept.mx.At(m, kept.col[k]) }
+}
+
+// keptLL is a first-pass matrix over the data's snapshots and the column
+// of each data grid point in it.
+type keptLL struct {
+	mx  *Matrix
+	col []int
 }
 
 // ZoomResult is the second pass around one peak.
@@ -125,6 +156,10 @@ func Run(ctx context.Context, sources []density.Source, ds *data.Dataset, cfg Co
 		return nil, err
 	}
 	res := &Result{Names: g.Names, Data: Layout{Names: g.Names, Axes: g.Axes}, Sources: len(sources), ExactSums: cfg.ExactSums}
+	if cfg.KeepDataLogLik {
+		res.dataLL = make([]*keptLL, len(sources))
+		cfg.keepLL = func(s int, kept *keptLL) { res.dataLL[s] = kept }
+	}
 	res.Layout = res.Data
 	if g.Dim() == 1 {
 		res.Layout = refineLayout(res.Data, cfg.Refine)
@@ -399,6 +434,13 @@ func evaluateSource(ctx context.Context, src density.Source, ds *data.Dataset, g
 		return nil, fmt.Errorf("scan: %w", err)
 	}
 	sc := &sourceCurves{specs: sp}
+	if cfg.keepLL != nil && onDataGrid(lo, g, pass) && !ev.Exact && ev.Mx.M >= ds.M && sameRows(ev.Idx, g.Index, g, lo) {
+		col := make([]int, g.K())
+		for c, p := range ev.Mx.Points {
+			col[g.Find(p)] = c
+		}
+		cfg.keepLL(s, &keptLL{ev.Mx, col})
+	}
 	rs, refit := src.(density.Resampler)
 	var cps []*compiled
 	weights := func(c *curveSpec) [][]float64 {
@@ -599,6 +641,7 @@ func buildEvalSet(ctx context.Context, src density.Source, ds *data.Dataset, g *
 	pts := lo.Points()
 	ev := &EvalSet{}
 	var xs []uint8
+	dataInFile := false // ev's rows below ds.M are read from ds's file
 	if cfg.ExactSums {
 		q := src.Alphabet()
 		M := 1
@@ -619,7 +662,16 @@ func buildEvalSet(ctx context.Context, src density.Source, ds *data.Dataset, g *
 	} else {
 		// The data snapshots are used in place (no 256 MB copy for 10^6 snapshots
 		// of 256 sites); the capacity limit makes appending samples copy first.
-		xs = ds.States[:len(ds.States):len(ds.States)]
+		// A dataset read by data.ReadHead has its states in its file: they
+		// are read block by block (streamed), xs holds only the rows drawn
+		// here, numbered from ds.M on.
+		streamed := ds.InFile()
+		if _, refit := src.(density.Resampler); streamed && refit {
+			return nil, nil, errors.New("scan: a histogram of the snapshots needs them in memory (data.Read, not data.ReadHead)")
+		}
+		if !streamed {
+			xs = ds.States[:len(ds.States):len(ds.States)]
+		}
 		ev.Idx = make([][]int, K)
 		rows := ds.M
 		sampler, _ := src.(density.Sampler)
@@ -629,6 +681,7 @@ func buildEvalSet(ctx context.Context, src density.Source, ds *data.Dataset, g *
 		if everywhere {
 			// No data snapshot is read: do not score them.
 			xs, rows = nil, 0
+			streamed = false
 		}
 		var drawn []int // the points that draw their own snapshots
 		for k := 0; k < K; k++ {
@@ -657,12 +710,18 @@ func buildEvalSet(ctx context.Context, src density.Source, ds *data.Dataset, g *
 			}
 			rows += n
 		}
-		mx, err := computeWithProgress(ctx, src, xs, rows, pts, cfg, label)
+		var mx *Matrix
+		if streamed {
+			mx, err = streamWithProgress(ctx, src, ds, xs, pts, cfg, label)
+		} else {
+			mx, err = computeWithProgress(ctx, src, xs, rows, pts, cfg, label)
+		}
 		if err != nil {
 			return nil, nil, err
 		}
 		ev.Mx = mx
 		ev.W = SampleWeights(ev.Idx)
+		dataInFile = streamed
 	}
 	ev.xs = xs
 	if !contains(cfg.Indicators, Fisher) || density.IsGridOnly(src) {
@@ -689,12 +748,30 @@ func buildEvalSet(ctx context.Context, src density.Source, ds *data.Dataset, g *
 		}
 		evD.W = SampleWeights(evD.Idx)
 	}
-	grad, err := gradients(ctx, src, dxs, evD, lo, g.Axes, cfg)
+	var grad [][]float64
+	var err error
+	if evD == ev && dataInFile {
+		grad, err = streamGradients(ctx, src, ds, xs, evD, lo, g.Axes, cfg)
+	} else {
+		grad, err = gradients(ctx, src, dxs, evD, lo, g.Axes, cfg)
+	}
 	if err != nil {
 		return nil, nil, err
 	}
 	evD.Grad = grad
 	return ev, evD, nil
+}
+
+// sameRows reports that the slots of every layout point are the data
+// rows of its grid point: the evaluation set scored the data's snapshots.
+func sameRows(idx, dataIdx [][]int, g *data.Grid, lo Layout) bool {
+	for k, ix := range idx {
+		dk := g.Find(lo.Point(k))
+		if dk < 0 || !slices.Equal(ix, dataIdx[dk]) {
+			return false
+		}
+	}
+	return true
 }
 
 // contiguous reports that idx is a run of consecutive rows.
@@ -743,25 +820,37 @@ func computeWithProgress(ctx context.Context, src density.Source, xs []uint8, n 
 	return mx, nil
 }
 
+// streamWithProgress is computeWithProgress of the evaluation rows of a
+// dataset read by data.ReadHead: its snapshots, read block by block, and
+// then the rows extra drawn from the source.
+func streamWithProgress(ctx context.Context, src density.Source, ds *data.Dataset, extra []uint8, pts [][]float64, cfg Config, label string) (*Matrix, error) {
+	n := len(extra) / ds.N
+	opt := MatrixOptions{Threads: cfg.Threads}
+	if cfg.Progress != nil {
+		opt.Progress = cfg.Progress("log-likelihoods, "+label, (ds.M+n)*len(pts))
+	}
+	mx, err := streamMatrix(ctx, src, ds, pts, opt)
+	if err == nil && n > 0 {
+		var tail *Matrix
+		if tail, err = computeMatrix(ctx, src, extra, n, pts, opt); err == nil {
+			mx.M += n
+			mx.L = append(mx.L, tail.L...)
+		}
+	}
+	if err != nil {
+		return nil, fmt.Errorf("scan: %w", err)
+	}
+	return mx, nil
+}
+
 // gradients computes ∂_a log p(x|λ_k) for the slots of every point by a
 // central difference with step h_a = Δ_a/100 (Δ_a the smallest spacing of
 // axis a; error O(h²)). An axis with a single value in lo (a zoom window
 // along the other axis) takes its spacing from the data grid's axes.
 func gradients(ctx context.Context, src density.Source, xs []uint8, ev *EvalSet, lo Layout, dataAxes [][]float64, cfg Config) ([][]float64, error) {
 	N := src.Sites()
-	d := lo.Dim()
 	K := lo.K()
-	h := make([]float64, d)
-	for a, ax := range lo.Axes {
-		if len(ax) < 2 && a < len(dataAxes) {
-			ax = dataAxes[a]
-		}
-		dm := math.Inf(1)
-		for i := 1; i < len(ax); i++ {
-			dm = math.Min(dm, ax[i]-ax[i-1])
-		}
-		h[a] = dm / 100
-	}
+	h := gradientSteps(lo, dataAxes)
 	grad := make([][]float64, K)
 	var tick func(int)
 	if cfg.Progress != nil {
@@ -784,13 +873,99 @@ func gradients(ctx context.Context, src density.Source, xs []uint8, ev *EvalSet,
 	return grad, nil
 }
 
+// gradientSteps returns the central-difference step of each axis (see
+// gradients).
+func gradientSteps(lo Layout, dataAxes [][]float64) []float64 {
+	h := make([]float64, lo.Dim())
+	for a, ax := range lo.Axes {
+		if len(ax) < 2 && a < len(dataAxes) {
+			ax = dataAxes[a]
+		}
+		dm := math.Inf(1)
+		for i := 1; i < len(ax); i++ {
+			dm = math.Min(dm, ax[i]-ax[i-1])
+		}
+		h[a] = dm / 100
+	}
+	return h
+}
+
+// gradChunk is the most snapshots streamGradients differentiates in one
+// call.
+const gradChunk = 512
+
+// streamGradients is gradients for an evaluation set whose rows below
+// ds.M are the dataset's snapshots, read block by block
+// (data.Dataset.EachBlock), and whose rows from ds.M on are extra (rows
+// drawn from the source). Every row gets the value gradients gives it: the
+// derivative at its own point depends on its own snapshot only.
+func streamGradients(ctx context.Context, src density.Source, ds *data.Dataset, extra []uint8, ev *EvalSet, lo Layout, dataAxes [][]float64, cfg Config) ([][]float64, error) {
+	N, K, d := src.Sites(), lo.K(), lo.Dim()
+	h := gradientSteps(lo, dataAxes)
+	rows := ds.M + len(extra)/N
+	// The point and slot of each row (−1: no point reads the row).
+	point := make([]int32, rows)
+	slot := make([]int32, rows)
+	for i := range point {
+		point[i] = -1
+	}
+	grad := make([][]float64, K)
+	for k, idx := range ev.Idx {
+		grad[k] = make([]float64, len(idx)*d)
+		for i, m := range idx {
+			point[m], slot[m] = int32(k), int32(i)
+		}
+	}
+	var tick func(int)
+	if cfg.Progress != nil {
+		tick = cfg.Progress("derivatives in λ", rows)
+	}
+	type chunk struct{ lo, n, k, i int } // rows lo.. of the block: point k's slots i..
+	block := func(first int, xs []uint8) error {
+		var chunks []chunk
+		n := len(xs) / N
+		for r := 0; r < n; {
+			k, i := point[first+r], slot[first+r]
+			c := 1
+			for c < gradChunk && r+c < n && point[first+r+c] == k && slot[first+r+c] == i+int32(c) {
+				c++
+			}
+			if k >= 0 {
+				chunks = append(chunks, chunk{r, c, int(k), int(i)})
+			}
+			r += c
+		}
+		err := data.ForEachPoint(ctx, len(chunks), cfg.Threads, func(j int) error {
+			c := chunks[j]
+			g, err := gradientOf(src, xs[c.lo*N:(c.lo+c.n)*N], c.n, lo.Point(c.k), h)
+			if err != nil {
+				return fmt.Errorf("scan: derivative at %s: %w", data.FormatPoint(lo.Names, lo.Point(c.k)), err)
+			}
+			copy(grad[c.k][c.i*d:(c.i+c.n)*d], g)
+			return nil
+		})
+		if err == nil && tick != nil {
+			tick(n)
+		}
+		return err
+	}
+	if err := ds.EachBlock(ctx, 0, block); err != nil {
+		return nil, err
+	}
+	if len(extra) > 0 {
+		if err := block(ds.M, extra); err != nil {
+			return nil, err
+		}
+	}
+	return grad, nil
+}
+
 // pointGradient is ∂_a log p(x|λ) at p for the slots of point k of ev, by
 // central differences with steps h (see gradients). A MatrixSource scores
 // the snapshots at all 2d shifted points in one call, sharing the
 // λ-independent work. A state impossible at λ±h carries no weight at λ: its
 // derivative is 0.
 func pointGradient(src density.Source, xs []uint8, ev *EvalSet, k int, p, h []float64, N int) ([]float64, error) {
-	d := len(p)
 	idx := ev.Idx[k]
 	n := len(idx)
 	var sub []uint8
@@ -807,6 +982,13 @@ func pointGradient(src density.Source, xs []uint8, ev *EvalSet, k int, p, h []fl
 			copy(sub[i*N:(i+1)*N], xs[m*N:(m+1)*N])
 		}
 	}
+	return gradientOf(src, sub, n, p, h)
+}
+
+// gradientOf is ∂_a log p(x|λ) at p for the n snapshots sub, by central
+// differences with steps h, at g[i·d+a].
+func gradientOf(src density.Source, sub []uint8, n int, p, h []float64) ([]float64, error) {
+	d := len(p)
 	g := make([]float64, n*d)
 	finite := func(v float64) float64 {
 		if math.IsNaN(v) || math.IsInf(v, 0) {

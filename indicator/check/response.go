@@ -1,6 +1,7 @@
 package check
 
 import (
+	"context"
 	"fmt"
 	"io"
 	"math"
@@ -60,44 +61,101 @@ const strongResponse = 1.1
 // independent (Monte Carlo snapshots are correlated, so it is a lower
 // bound).
 func MeasureResponse(mdl, ref density.Source, ds *data.Dataset) (*Response, error) {
+	return MeasureResponseKnown(mdl, ref, ds, nil)
+}
+
+// MeasureResponseKnown is MeasureResponse with the model's log-likelihoods
+// already computed, when known is not nil: known(m, k) is log q of the
+// dataset's snapshot m at point k of data.NewGrid(ds) (a scan's, say), and
+// only the exact source scores the snapshots.
+func MeasureResponseKnown(mdl, ref density.Source, ds *data.Dataset, known func(m, k int) float64) (*Response, error) {
 	g := data.NewGrid(ds)
-	type key struct{ rows, at int }
-	cache := map[key][2][]float64{} // model, exact log p of point rows' snapshots at point at
-	logp := func(rows, at int) ([2][]float64, error) {
-		if v, ok := cache[key{rows, at}]; ok {
-			return v, nil
+	var pairs [][2]int
+	for _, pr := range g.NeighbourPairs() {
+		if len(g.Index[pr[0]]) >= 2 && len(g.Index[pr[1]]) >= 2 {
+			pairs = append(pairs, [2]int{pr[0], pr[1]})
 		}
-		idx := g.Index[rows]
-		xs := make([]uint8, 0, len(idx)*ds.N)
-		for _, r := range idx {
-			xs = append(xs, ds.Row(r)...)
+	}
+	if len(pairs) == 0 {
+		return nil, nil
+	}
+	// ats[r] are the points at which point r's snapshots are scored: r and
+	// its neighbours in pairs. lp[r][j][s] holds source s's log p of them,
+	// slot by slot, at ats[r][j].
+	ats := make([][]int, g.K())
+	add := func(r, at int) {
+		if !slices.Contains(ats[r], at) {
+			ats[r] = append(ats[r], at)
 		}
-		var v [2][]float64
-		for s, src := range []density.Source{mdl, ref} {
-			v[s] = make([]float64, len(idx))
-			if err := src.LogProb(v[s], xs, g.Points[at]); err != nil {
-				return v, fmt.Errorf("response: log p at %s: %w", g.Label(at), err)
+	}
+	for _, pr := range pairs {
+		a, b := pr[0], pr[1]
+		add(a, a)
+		add(a, b)
+		add(b, a)
+		add(b, b)
+	}
+	lp := make([][][2][]float64, g.K())
+	point := make([]int32, ds.M) // the point of each row that is scored, else −1
+	slot := make([]int32, ds.M)
+	for i := range point {
+		point[i] = -1
+	}
+	for r, at := range ats {
+		lp[r] = make([][2][]float64, len(at))
+		for j := range at {
+			lp[r][j] = [2][]float64{make([]float64, len(g.Index[r])), make([]float64, len(g.Index[r]))}
+		}
+		if len(at) > 0 {
+			for i, m := range g.Index[r] {
+				point[m], slot[m] = int32(r), int32(i)
 			}
 		}
-		cache[key{rows, at}] = v
-		return v, nil
+	}
+	// The snapshots are read block by block (a dataset read by
+	// data.ReadHead never holds them all); each run of rows of one point is
+	// scored in one call per point and source.
+	err := ds.EachBlock(context.Background(), 0, func(first int, xs []uint8) error {
+		n := len(xs) / ds.N
+		for lo := 0; lo < n; {
+			r, i := point[first+lo], slot[first+lo]
+			c := 1
+			for lo+c < n && point[first+lo+c] == r && slot[first+lo+c] == i+int32(c) {
+				c++
+			}
+			if r >= 0 {
+				sub := xs[lo*ds.N : (lo+c)*ds.N]
+				for j, at := range ats[r] {
+					for s, src := range []density.Source{mdl, ref} {
+						dst := lp[r][j][s][i : int(i)+c]
+						if s == 0 && known != nil {
+							for u := range dst {
+								dst[u] = known(first+lo+u, at)
+							}
+							continue
+						}
+						if err := src.LogProb(dst, sub, g.Points[at]); err != nil {
+							return fmt.Errorf("response: log p at %s: %w", g.Label(at), err)
+						}
+					}
+				}
+			}
+			lo += c
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	logp := func(rows, at int) [2][]float64 {
+		return lp[rows][slices.Index(ats[rows], at)]
 	}
 	rep := &Response{Pairs: []ResponsePair{}}
-	for _, pr := range g.NeighbourPairs() {
+	for _, pr := range pairs {
 		a, b := pr[0], pr[1]
-		if len(g.Index[a]) < 2 || len(g.Index[b]) < 2 {
-			continue
-		}
 		var dm, de []float64
 		for _, rows := range []int{a, b} {
-			la, err := logp(rows, a)
-			if err != nil {
-				return nil, err
-			}
-			lb, err := logp(rows, b)
-			if err != nil {
-				return nil, err
-			}
+			la, lb := logp(rows, a), logp(rows, b)
 			for i := range la[0] {
 				dm = append(dm, lb[0][i]-la[0][i])
 				de = append(de, lb[1][i]-la[1][i])
