@@ -134,11 +134,17 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if err := report.CheckDir(o.out, o.force); err != nil {
 		return fmt.Errorf("scan: %w", err)
 	}
-	ds, err := data.Read(o.data)
-	if err != nil {
-		return err
+	// Only a histogram needs every snapshot in memory. Other sources read
+	// them from the file block by block, each time a stage needs them, so
+	// that the scan of a file larger than memory holds a few blocks of it;
+	// a damaged value stops the scan when it is read, before any output.
+	var ds *data.Dataset
+	if kind == study.SourceHistogram {
+		ds, err = data.Read(o.data)
+	} else {
+		ds, err = data.ReadHead(o.data, data.ReadOptions{})
 	}
-	if err := ds.Validate(o.data); err != nil {
+	if err != nil {
 		return err
 	}
 	if k := data.NewGrid(ds).K(); k < 2 {
@@ -160,6 +166,9 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if err != nil {
 		return fmt.Errorf("scan --%s: %w", kind, err)
 	}
+	// The response note reads the model's log-likelihoods of the data from
+	// the scan instead of computing them again.
+	cfg.KeepDataLogLik = kind == study.SourceModel
 	// The scan writes nothing until it is complete, so a signal can simply
 	// stop it: nothing is lost and nothing half-written is left.
 	ctx, stop := signalContext()
@@ -183,7 +192,7 @@ func runScan(w io.Writer, o *scanOptions) error {
 		res.Notes = append(res.Notes, note)
 	}
 	if kind == study.SourceModel {
-		res.Notes = append(res.Notes, responseNotes(sources, ds)...)
+		res.Notes = append(res.Notes, responseNotes(sources, ds, res)...)
 	}
 	sum, err := report.Write(o.out, o.force, res, report.Info{Source: kind, Data: o.data, Models: o.models, Refine: o.refine, Seed: o.seed, Page: inputs.Page(o.data, o.models)})
 	if err != nil {
@@ -200,7 +209,9 @@ func runScan(w io.Writer, o *scanOptions) error {
 // error bar of the scan includes. Without a usable reference (none, or one
 // that cannot be built for this dataset) it returns nil; a measurement
 // that fails becomes a note saying so, since the scan itself succeeded.
-func responseNotes(sources []density.Source, ds *data.Dataset) []string {
+// The models' log-likelihoods of the snapshots come from res where it kept
+// them (indicator.Config.KeepDataLogLik).
+func responseNotes(sources []density.Source, ds *data.Dataset, res *indicator.Result) []string {
 	ref, err := density.ReferenceFor(ds.Meta)
 	if err != nil {
 		return nil
@@ -211,7 +222,7 @@ func responseNotes(sources []density.Source, ds *data.Dataset) []string {
 		if len(sources) > 1 {
 			label = fmt.Sprintf("model %d of %d: ", i+1, len(sources))
 		}
-		r, err := check.MeasureResponse(src, ref, ds)
+		r, err := check.MeasureResponseKnown(src, ref, ds, res.DataLogLik(i))
 		if err != nil {
 			notes = append(notes, fmt.Sprintf("%sthe response against the exact density was not measured: %v", label, err))
 			continue

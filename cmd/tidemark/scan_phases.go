@@ -18,7 +18,7 @@ func exactBeside(ctx context.Context, ds *data.Dataset, cfg indicator.Config, o 
 	if err != nil {
 		return nil, fmt.Errorf("scan --exact: %s: %w", o.data, err)
 	}
-	cfg.Refine, cfg.Zoom = 1, false
+	cfg.Refine, cfg.Zoom, cfg.KeepDataLogLik = 1, false, false
 	res, stopped, err := scanWithProgress(ctx, []density.Source{src}, ds, cfg, o.quiet)
 	if stopped {
 		return nil, fmt.Errorf("scan: stopped before any output was written: %w", errInterrupted)

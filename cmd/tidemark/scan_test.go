@@ -249,6 +249,31 @@ func TestScanModelPointsToExact(t *testing.T) {
 			t.Errorf("summary.json lacks %q", want)
 		}
 	}
+	// A damaged value in the last snapshot: the scan reads the states block
+	// by block, so it finds it late, but it stops with data.Read's message
+	// and leaves no output.
+	d, err := data.Read(ds)
+	if err != nil {
+		t.Fatal(err)
+	}
+	d.States[len(d.States)-1] = 7
+	bad := filepath.Join(dir, "bad.npz")
+	f, err := os.Create(bad)
+	if err == nil {
+		err = d.Encode(f)
+		f.Close()
+	}
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, rerr := data.Read(bad)
+	_, err = execTidemark(t, "scan", "--model", ck, "--data", bad, "--indicators", "lbc", "--bootstrap", "0", "-o", filepath.Join(dir, "bad"), "--quiet")
+	if rerr == nil || err == nil || !strings.Contains(err.Error(), rerr.Error()) {
+		t.Errorf("scan of a damaged file: %v; data.Read: %v", err, rerr)
+	}
+	if _, err := os.Stat(filepath.Join(dir, "bad")); err == nil {
+		t.Error("a failed scan left an output folder")
+	}
 	// Two models: one note each, labelled.
 	msg, err = execTidemark(t, "scan", "--model", ck, "--model", ck, "--data", ds, "--indicators", "lbc", "--bootstrap", "0", "-o", filepath.Join(dir, "scan2"), "--quiet")
 	if err != nil {

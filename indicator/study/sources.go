@@ -1,6 +1,7 @@
 package study
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"strconv"
@@ -74,7 +75,10 @@ func ModelSources(ds *data.Dataset, models []string) ([]density.Source, []bool, 
 	var sources []density.Source
 	var unseen []bool
 	moot := false // some model never saw ds: every row is unseen by it
-	fp := checkpoints.Fingerprint(ds)
+	fp, err := checkpoints.FingerprintBlocks(context.Background(), ds)
+	if err != nil {
+		return nil, nil, err
+	}
 	for _, name := range models {
 		cks, paths, err := checkpoints.LoadEnsemble(name)
 		if err != nil {

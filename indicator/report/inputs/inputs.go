@@ -56,7 +56,7 @@ func ModelSummary(path string, ck *checkpoints.Checkpoint) report.ModelInfo {
 func Page(dataPath string, models []string) *report.Page {
 	pg := &report.Page{}
 	if dataPath != "" {
-		if ds, err := data.Read(dataPath); err != nil {
+		if ds, err := data.ReadHead(dataPath, data.ReadOptions{}); err != nil {
 			pg.Problems = append(pg.Problems, fmt.Sprintf("dataset summary not available: %v", err))
 		} else {
 			pg.Dataset = report.DatasetSummary(dataPath, ds)
