@@ -191,6 +191,9 @@ func runScan(w io.Writer, o *scanOptions) error {
 	if note := study.ExactNote(kind, ds, o.data); note != "" {
 		res.Notes = append(res.Notes, note)
 	}
+	if note := study.SeveralMaximaNote(kind, len(sources), res); note != "" {
+		res.Notes = append(res.Notes, note)
+	}
 	if kind == study.SourceModel {
 		res.Notes = append(res.Notes, responseNotes(sources, ds, res)...)
 	}

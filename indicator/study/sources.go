@@ -129,6 +129,34 @@ func ExactNote(kind string, ds *data.Dataset, dataPath string) string {
 	return ""
 }
 
+// SeveralMaximaNote returns, for a 1-D scan by a single model (sources is
+// the number of models), a note naming every indicator with more than one
+// maximum above the noise: a lower maximum can be the one model's own
+// error, which its bootstrap errors do not include. It returns ""
+// otherwise (an ensemble's spread, or an exact density, has no such
+// blind spot).
+func SeveralMaximaNote(kind string, sources int, res *indicator.Result) string {
+	if kind != SourceModel || sources != 1 || len(res.Names) != 1 {
+		return ""
+	}
+	var parts []string
+	for _, c := range res.Curves {
+		var at []string
+		for _, p := range c.Peaks {
+			if p.Tested {
+				at = append(at, data.FormatPoint(res.Names, p.At))
+			}
+		}
+		if len(at) > 1 {
+			parts = append(parts, fmt.Sprintf("%s (%s)", c.Name, strings.Join(at, ", ")))
+		}
+	}
+	if len(parts) == 0 {
+		return ""
+	}
+	return fmt.Sprintf("one model found more than one maximum above the noise for %s: a lower maximum can be this model's own error rather than the data's, which its error bars do not include (on a 32×32 Ising dataset one of two models had a second pbm and fisher maximum in the ordered phase, and the ensemble of both had none; bench/RESULTS.md); train --ensemble 2 and scan again, or compare with --exact where it exists, before reading it as a second transition", strings.Join(parts, ", "))
+}
+
 // ParseIndicators parses a comma-separated list of indicator names; ""
 // and "all" give every indicator.
 func ParseIndicators(s string) ([]string, error) {
