@@ -126,3 +126,46 @@ func (ds *Dataset) EachBlock(ctx context.Context, rows int, fn func(first int, x
 	}
 	return nil
 }
+
+// Slots maps rows to the slots of groups: row m is slot i of group k when
+// idx[k][i] = m. It lets a walk over blocks of rows (EachBlock) hand each
+// run of rows to the group and slots they fill.
+type Slots struct {
+	group, slot []int32 // −1: the row is in no group
+}
+
+// NewSlots returns the slots of rows 0..m−1 in the groups idx (each row in
+// at most one group).
+func NewSlots(m int, idx [][]int) *Slots {
+	s := &Slots{group: make([]int32, m), slot: make([]int32, m)}
+	for i := range s.group {
+		s.group[i] = -1
+	}
+	for k, ix := range idx {
+		for i, r := range ix {
+			s.group[r], s.slot[r] = int32(k), int32(i)
+		}
+	}
+	return s
+}
+
+// Runs calls fn for every maximal run of the n rows from first on that
+// fill consecutive slots of one group, at most most rows long (no limit
+// when most ≤ 0): rows first+lo … first+lo+c−1 are slots i … i+c−1 of
+// group k. Rows in no group are skipped. The first error of fn ends it.
+func (s *Slots) Runs(first, n, most int, fn func(lo, c, k, i int) error) error {
+	for lo := 0; lo < n; {
+		k, i := s.group[first+lo], s.slot[first+lo]
+		c := 1
+		for lo+c < n && (most <= 0 || c < most) && s.group[first+lo+c] == k && s.slot[first+lo+c] == i+int32(c) {
+			c++
+		}
+		if k >= 0 {
+			if err := fn(lo, c, int(k), int(i)); err != nil {
+				return err
+			}
+		}
+		lo += c
+	}
+	return nil
+}

@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"context"
 	"errors"
-	"os"
 	"path/filepath"
 	"slices"
 	"testing"
@@ -60,30 +59,6 @@ func TestEachBlockMatchesRead(t *testing.T) {
 	}
 }
 
-// Every damaged file gets Read's message, from ReadHead or from EachBlock.
-func TestEachBlockRejectsAsRead(t *testing.T) {
-	dir := t.TempDir()
-	for _, c := range rejectCases(t) {
-		t.Run(c.name, func(t *testing.T) {
-			path := filepath.Join(dir, "bad.npz")
-			if err := os.WriteFile(path, c.file, 0o644); err != nil {
-				t.Fatal(err)
-			}
-			_, rerr := Read(path)
-			if rerr == nil {
-				t.Fatal("Read accepted it")
-			}
-			head, err := ReadHead(path, ReadOptions{})
-			if err == nil {
-				_, err = eachBlock(t, head, 3)
-			}
-			if err == nil || err.Error() != rerr.Error() {
-				t.Errorf("ReadHead and EachBlock say %v, Read %q", err, rerr)
-			}
-		})
-	}
-}
-
 // An error of fn ends the walk at once and is returned, in memory and from
 // the file.
 func TestEachBlockStopsAtError(t *testing.T) {
@@ -108,6 +83,30 @@ func TestEachBlockStopsAtError(t *testing.T) {
 		})
 		if !errors.Is(err, stop) || calls != 3 {
 			t.Errorf("in file %v: %d calls and %v, want 3 calls and the error of the third", d.InFile(), calls, err)
+		}
+	}
+}
+
+// Runs hands out the rows of a block grouped by group and consecutive
+// slots, split at the length limit, skipping rows in no group.
+func TestSlotsRuns(t *testing.T) {
+	// Rows 0..9: group 0 holds rows 1,2,3,7 (slots 0..3), group 1 rows 4,5,9.
+	s := NewSlots(10, [][]int{{1, 2, 3, 7}, {4, 5, 9}})
+	for _, tc := range []struct {
+		first, n, most int
+		want           [][4]int // lo, c, k, i
+	}{
+		{0, 10, 0, [][4]int{{1, 3, 0, 0}, {4, 2, 1, 0}, {7, 1, 0, 3}, {9, 1, 1, 2}}},
+		{0, 10, 2, [][4]int{{1, 2, 0, 0}, {3, 1, 0, 2}, {4, 2, 1, 0}, {7, 1, 0, 3}, {9, 1, 1, 2}}},
+		{2, 3, 0, [][4]int{{0, 2, 0, 1}, {2, 1, 1, 0}}},
+	} {
+		var got [][4]int
+		s.Runs(tc.first, tc.n, tc.most, func(lo, c, k, i int) error {
+			got = append(got, [4]int{lo, c, k, i})
+			return nil
+		})
+		if !slices.Equal(got, tc.want) {
+			t.Errorf("first %d n %d most %d: runs %v, want %v", tc.first, tc.n, tc.most, got, tc.want)
 		}
 	}
 }

@@ -62,7 +62,7 @@ func TestStreamMatchesRead(t *testing.T) {
 }
 
 // Every damaged file gets from a stream read to its end the message Read
-// gives it, whatever the block size.
+// gives it, whatever the block size, and so from ReadHead and EachBlock.
 func TestStreamRejectsAsRead(t *testing.T) {
 	dir := t.TempDir()
 	for _, c := range rejectCases(t) {
@@ -80,6 +80,14 @@ func TestStreamRejectsAsRead(t *testing.T) {
 				if err == nil || err.Error() != rerr.Error() {
 					t.Errorf("block %d: stream says %v, Read %q", block, err, rerr)
 				}
+			}
+			// ReadHead, or EachBlock after it, says what Read says.
+			head, err := ReadHead(path, ReadOptions{})
+			if err == nil {
+				_, err = eachBlock(t, head, 3)
+			}
+			if err == nil || err.Error() != rerr.Error() {
+				t.Errorf("ReadHead and EachBlock say %v, Read %q", err, rerr)
 			}
 		})
 	}

@@ -127,28 +127,6 @@ func fillMatrix(ctx context.Context, src density.Source, xs []uint8, n int, poin
 	})
 }
 
-// streamMatrix is computeMatrix of a dataset's snapshots, in order, read
-// block by block (data.Dataset.EachBlock): from a file read by
-// data.ReadHead it never holds more than a few blocks of states.
-func streamMatrix(ctx context.Context, src density.Source, ds *data.Dataset, points [][]float64, opt MatrixOptions) (*Matrix, error) {
-	if src.Sites() != ds.N {
-		return nil, fmt.Errorf("log-likelihood matrix: the source has %d sites, the snapshots %d", src.Sites(), ds.N)
-	}
-	K := len(points)
-	mx := &Matrix{M: ds.M, K: K, L: make([]float64, ds.M*K), Points: points}
-	err := ds.EachBlock(ctx, 0, func(first int, xs []uint8) error {
-		n := len(xs) / ds.N
-		if err := checkMatrixArgs(src, xs, n, points); err != nil {
-			return err
-		}
-		return fillMatrix(ctx, src, xs, n, points, opt, mx.L[first*K:(first+n)*K])
-	})
-	if err != nil {
-		return nil, err
-	}
-	return mx, checkNaN(mx)
-}
-
 var errNaN = errors.New("the source returned NaN")
 
 func checkNaN(mx *Matrix) error {

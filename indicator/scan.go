@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"slices"
 	"sort"
 
 	"tidemark/data/density"
@@ -434,7 +433,7 @@ func evaluateSource(ctx context.Context, src density.Source, ds *data.Dataset, g
 		return nil, fmt.Errorf("scan: %w", err)
 	}
 	sc := &sourceCurves{specs: sp}
-	if cfg.keepLL != nil && onDataGrid(lo, g, pass) && !ev.Exact && ev.Mx.M >= ds.M && sameRows(ev.Idx, g.Index, g, lo) {
+	if cfg.keepLL != nil && onDataGrid(lo, g, pass) && !ev.Exact {
 		col := make([]int, g.K())
 		for c, p := range ev.Mx.Points {
 			col[g.Find(p)] = c
@@ -641,7 +640,7 @@ func buildEvalSet(ctx context.Context, src density.Source, ds *data.Dataset, g *
 	pts := lo.Points()
 	ev := &EvalSet{}
 	var xs []uint8
-	dataInFile := false // ev's rows below ds.M are read from ds's file
+	var dataRows *data.Dataset // whose snapshots are ev's first rows (nil: none)
 	if cfg.ExactSums {
 		q := src.Alphabet()
 		M := 1
@@ -659,29 +658,24 @@ func buildEvalSet(ctx context.Context, src density.Source, ds *data.Dataset, g *
 		ev.Mx = mx
 		ev.Idx, ev.W = ExactWeights(mx)
 		ev.Exact = true
+		ev.xs = xs
 	} else {
-		// The data snapshots are used in place (no 256 MB copy for 10^6 snapshots
-		// of 256 sites); the capacity limit makes appending samples copy first.
-		// A dataset read by data.ReadHead has its states in its file: they
-		// are read block by block (streamed), xs holds only the rows drawn
-		// here, numbered from ds.M on.
-		streamed := ds.InFile()
-		if _, refit := src.(density.Resampler); streamed && refit {
+		// The data's snapshots are read block by block and never copied
+		// (data.Dataset.EachBlock: views of States, or blocks read from the
+		// file of a dataset read by data.ReadHead); xs holds only the rows
+		// drawn here, numbered after the data's.
+		_, refit := src.(density.Resampler)
+		if refit && ds.InFile() {
 			return nil, nil, errors.New("scan: a histogram of the snapshots needs them in memory (data.Read, not data.ReadHead)")
 		}
-		if !streamed {
-			xs = ds.States[:len(ds.States):len(ds.States)]
-		}
 		ev.Idx = make([][]int, K)
-		rows := ds.M
 		sampler, _ := src.(density.Sampler)
 		// On a refined or zoomed layout a sampler supplies every point (see
 		// Config.Refine); otherwise the data's snapshots serve their points.
 		everywhere := sampler != nil && !density.IsGridOnly(src) && !onDataGrid(lo, g, pass) && !cfg.DataAtGridPoints
-		if everywhere {
-			// No data snapshot is read: do not score them.
-			xs, rows = nil, 0
-			streamed = false
+		rows := 0
+		if !everywhere {
+			dataRows, rows = ds, ds.M
 		}
 		var drawn []int // the points that draw their own snapshots
 		for k := 0; k < K; k++ {
@@ -710,20 +704,14 @@ func buildEvalSet(ctx context.Context, src density.Source, ds *data.Dataset, g *
 			}
 			rows += n
 		}
-		var mx *Matrix
-		if streamed {
-			mx, err = streamWithProgress(ctx, src, ds, xs, pts, cfg, label)
-		} else {
-			mx, err = computeWithProgress(ctx, src, xs, rows, pts, cfg, label)
-		}
-		if err != nil {
+		if ev.Mx, err = rowsMatrix(ctx, src, dataRows, xs, pts, cfg, label); err != nil {
 			return nil, nil, err
 		}
-		ev.Mx = mx
 		ev.W = SampleWeights(ev.Idx)
-		dataInFile = streamed
+		if refit {
+			ev.xs = ds.States // a histogram serves grid points only: no drawn rows
+		}
 	}
-	ev.xs = xs
 	if !contains(cfg.Indicators, Fisher) || density.IsGridOnly(src) {
 		return ev, nil, nil
 	}
@@ -750,8 +738,8 @@ func buildEvalSet(ctx context.Context, src density.Source, ds *data.Dataset, g *
 	}
 	var grad [][]float64
 	var err error
-	if evD == ev && dataInFile {
-		grad, err = streamGradients(ctx, src, ds, xs, evD, lo, g.Axes, cfg)
+	if evD == ev && !ev.Exact {
+		grad, err = streamGradients(ctx, src, dataRows, xs, evD, lo, g.Axes, cfg)
 	} else {
 		grad, err = gradients(ctx, src, dxs, evD, lo, g.Axes, cfg)
 	}
@@ -760,18 +748,6 @@ func buildEvalSet(ctx context.Context, src density.Source, ds *data.Dataset, g *
 	}
 	evD.Grad = grad
 	return ev, evD, nil
-}
-
-// sameRows reports that the slots of every layout point are the data
-// rows of its grid point: the evaluation set scored the data's snapshots.
-func sameRows(idx, dataIdx [][]int, g *data.Grid, lo Layout) bool {
-	for k, ix := range idx {
-		dk := g.Find(lo.Point(k))
-		if dk < 0 || !slices.Equal(ix, dataIdx[dk]) {
-			return false
-		}
-	}
-	return true
 }
 
 // contiguous reports that idx is a run of consecutive rows.
@@ -820,22 +796,36 @@ func computeWithProgress(ctx context.Context, src density.Source, xs []uint8, n 
 	return mx, nil
 }
 
-// streamWithProgress is computeWithProgress of the evaluation rows of a
-// dataset read by data.ReadHead: its snapshots, read block by block, and
-// then the rows extra drawn from the source.
-func streamWithProgress(ctx context.Context, src density.Source, ds *data.Dataset, extra []uint8, pts [][]float64, cfg Config, label string) (*Matrix, error) {
-	n := len(extra) / ds.N
+// rowsMatrix is computeWithProgress of the evaluation rows of a pass: the
+// snapshots of ds, when it is not nil, read block by block
+// (data.Dataset.EachBlock), then the rows extra drawn from the source.
+func rowsMatrix(ctx context.Context, src density.Source, ds *data.Dataset, extra []uint8, pts [][]float64, cfg Config, label string) (*Matrix, error) {
+	N, K := src.Sites(), len(pts)
+	m, n := 0, len(extra)/N
+	if ds != nil {
+		m = ds.M
+	}
 	opt := MatrixOptions{Threads: cfg.Threads}
 	if cfg.Progress != nil {
-		opt.Progress = cfg.Progress("log-likelihoods, "+label, (ds.M+n)*len(pts))
+		opt.Progress = cfg.Progress("log-likelihoods, "+label, (m+n)*K)
 	}
-	mx, err := streamMatrix(ctx, src, ds, pts, opt)
-	if err == nil && n > 0 {
-		var tail *Matrix
-		if tail, err = computeMatrix(ctx, src, extra, n, pts, opt); err == nil {
-			mx.M += n
-			mx.L = append(mx.L, tail.L...)
+	mx := &Matrix{M: m + n, K: K, L: make([]float64, (m+n)*K), Points: pts}
+	fill := func(first int, xs []uint8) error {
+		c := len(xs) / N
+		if err := checkMatrixArgs(src, xs, c, pts); err != nil {
+			return err
 		}
+		return fillMatrix(ctx, src, xs, c, pts, opt, mx.L[first*K:(first+c)*K])
+	}
+	var err error
+	if ds != nil {
+		err = ds.EachBlock(ctx, 0, fill)
+	}
+	if err == nil && n > 0 {
+		err = fill(m, extra)
+	}
+	if err == nil {
+		err = checkNaN(mx)
 	}
 	if err != nil {
 		return nil, fmt.Errorf("scan: %w", err)
@@ -894,47 +884,34 @@ func gradientSteps(lo Layout, dataAxes [][]float64) []float64 {
 // call.
 const gradChunk = 512
 
-// streamGradients is gradients for an evaluation set whose rows below
-// ds.M are the dataset's snapshots, read block by block
-// (data.Dataset.EachBlock), and whose rows from ds.M on are extra (rows
-// drawn from the source). Every row gets the value gradients gives it: the
-// derivative at its own point depends on its own snapshot only.
+// streamGradients is gradients for an evaluation set whose first rows are
+// the snapshots of ds (none when ds is nil), read block by block
+// (data.Dataset.EachBlock), and whose other rows are extra (rows drawn from
+// the source). Every row gets the value gradients gives it: the derivative
+// at its own point depends on its own snapshot only.
 func streamGradients(ctx context.Context, src density.Source, ds *data.Dataset, extra []uint8, ev *EvalSet, lo Layout, dataAxes [][]float64, cfg Config) ([][]float64, error) {
 	N, K, d := src.Sites(), lo.K(), lo.Dim()
 	h := gradientSteps(lo, dataAxes)
-	rows := ds.M + len(extra)/N
-	// The point and slot of each row (−1: no point reads the row).
-	point := make([]int32, rows)
-	slot := make([]int32, rows)
-	for i := range point {
-		point[i] = -1
+	m := 0
+	if ds != nil {
+		m = ds.M
 	}
+	slots := data.NewSlots(m+len(extra)/N, ev.Idx)
 	grad := make([][]float64, K)
 	for k, idx := range ev.Idx {
 		grad[k] = make([]float64, len(idx)*d)
-		for i, m := range idx {
-			point[m], slot[m] = int32(k), int32(i)
-		}
 	}
 	var tick func(int)
 	if cfg.Progress != nil {
-		tick = cfg.Progress("derivatives in λ", rows)
+		tick = cfg.Progress("derivatives in λ", m+len(extra)/N)
 	}
 	type chunk struct{ lo, n, k, i int } // rows lo.. of the block: point k's slots i..
 	block := func(first int, xs []uint8) error {
 		var chunks []chunk
-		n := len(xs) / N
-		for r := 0; r < n; {
-			k, i := point[first+r], slot[first+r]
-			c := 1
-			for c < gradChunk && r+c < n && point[first+r+c] == k && slot[first+r+c] == i+int32(c) {
-				c++
-			}
-			if k >= 0 {
-				chunks = append(chunks, chunk{r, c, int(k), int(i)})
-			}
-			r += c
-		}
+		slots.Runs(first, len(xs)/N, gradChunk, func(lo, c, k, i int) error {
+			chunks = append(chunks, chunk{lo, c, k, i})
+			return nil
+		})
 		err := data.ForEachPoint(ctx, len(chunks), cfg.Threads, func(j int) error {
 			c := chunks[j]
 			g, err := gradientOf(src, xs[c.lo*N:(c.lo+c.n)*N], c.n, lo.Point(c.k), h)
@@ -945,15 +922,17 @@ func streamGradients(ctx context.Context, src density.Source, ds *data.Dataset, 
 			return nil
 		})
 		if err == nil && tick != nil {
-			tick(n)
+			tick(len(xs) / N)
 		}
 		return err
 	}
-	if err := ds.EachBlock(ctx, 0, block); err != nil {
-		return nil, err
+	if ds != nil {
+		if err := ds.EachBlock(ctx, 0, block); err != nil {
+			return nil, err
+		}
 	}
 	if len(extra) > 0 {
-		if err := block(ds.M, extra); err != nil {
+		if err := block(m, extra); err != nil {
 			return nil, err
 		}
 	}
@@ -966,23 +945,14 @@ func streamGradients(ctx context.Context, src density.Source, ds *data.Dataset, 
 // λ-independent work. A state impossible at λ±h carries no weight at λ: its
 // derivative is 0.
 func pointGradient(src density.Source, xs []uint8, ev *EvalSet, k int, p, h []float64, N int) ([]float64, error) {
+	// The sets gradients serves (all states, or the model's own samples)
+	// hold each point's slots in one run of rows: read them in place.
 	idx := ev.Idx[k]
-	n := len(idx)
-	var sub []uint8
-	if ev.Exact {
-		sub = xs[:n*N]
-	} else if contiguous(idx) {
-		// A grid point's data snapshots usually lie in one block of the
-		// dataset: read them in place (no 12 MB copy per point for 10^6
-		// snapshots of 256 sites).
-		sub = xs[idx[0]*N : (idx[0]+n)*N]
-	} else {
-		sub = make([]uint8, n*N)
-		for i, m := range idx {
-			copy(sub[i*N:(i+1)*N], xs[m*N:(m+1)*N])
-		}
+	if !contiguous(idx) {
+		return nil, errors.New("the slots of a point are not one run of rows")
 	}
-	return gradientOf(src, sub, n, p, h)
+	n := len(idx)
+	return gradientOf(src, xs[idx[0]*N:(idx[0]+n)*N], n, p, h)
 }
 
 // gradientOf is ∂_a log p(x|λ) at p for the n snapshots sub, by central

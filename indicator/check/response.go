@@ -96,53 +96,39 @@ func MeasureResponseKnown(mdl, ref density.Source, ds *data.Dataset, known func(
 		add(b, b)
 	}
 	lp := make([][][2][]float64, g.K())
-	point := make([]int32, ds.M) // the point of each row that is scored, else −1
-	slot := make([]int32, ds.M)
-	for i := range point {
-		point[i] = -1
-	}
+	scored := make([][]int, g.K()) // the rows of the points that are scored
 	for r, at := range ats {
 		lp[r] = make([][2][]float64, len(at))
 		for j := range at {
 			lp[r][j] = [2][]float64{make([]float64, len(g.Index[r])), make([]float64, len(g.Index[r]))}
 		}
 		if len(at) > 0 {
-			for i, m := range g.Index[r] {
-				point[m], slot[m] = int32(r), int32(i)
-			}
+			scored[r] = g.Index[r]
 		}
 	}
+	slots := data.NewSlots(ds.M, scored)
 	// The snapshots are read block by block (a dataset read by
 	// data.ReadHead never holds them all); each run of rows of one point is
 	// scored in one call per point and source.
 	err := ds.EachBlock(context.Background(), 0, func(first int, xs []uint8) error {
-		n := len(xs) / ds.N
-		for lo := 0; lo < n; {
-			r, i := point[first+lo], slot[first+lo]
-			c := 1
-			for lo+c < n && point[first+lo+c] == r && slot[first+lo+c] == i+int32(c) {
-				c++
-			}
-			if r >= 0 {
-				sub := xs[lo*ds.N : (lo+c)*ds.N]
-				for j, at := range ats[r] {
-					for s, src := range []density.Source{mdl, ref} {
-						dst := lp[r][j][s][i : int(i)+c]
-						if s == 0 && known != nil {
-							for u := range dst {
-								dst[u] = known(first+lo+u, at)
-							}
-							continue
+		return slots.Runs(first, len(xs)/ds.N, 0, func(lo, c, r, i int) error {
+			sub := xs[lo*ds.N : (lo+c)*ds.N]
+			for j, at := range ats[r] {
+				for s, src := range []density.Source{mdl, ref} {
+					dst := lp[r][j][s][i : i+c]
+					if s == 0 && known != nil {
+						for u := range dst {
+							dst[u] = known(first+lo+u, at)
 						}
-						if err := src.LogProb(dst, sub, g.Points[at]); err != nil {
-							return fmt.Errorf("response: log p at %s: %w", g.Label(at), err)
-						}
+						continue
+					}
+					if err := src.LogProb(dst, sub, g.Points[at]); err != nil {
+						return fmt.Errorf("response: log p at %s: %w", g.Label(at), err)
 					}
 				}
 			}
-			lo += c
-		}
-		return nil
+			return nil
+		})
 	})
 	if err != nil {
 		return nil, err
